@@ -1,0 +1,221 @@
+//! Command-line interface: argument definitions (clap) and the non-interactive commands.
+//!
+//! Every command that takes PATH uses the bundled sample scenario when none is given.
+
+use std::io::Write;
+use std::path::PathBuf;
+
+use clap::{Args, Parser, Subcommand};
+
+use crate::config::Config;
+use crate::error::{Error, Result};
+use crate::ingest::{self, dates, mapping, table::ReadOptions, Input, LoadOptions};
+use crate::{report, sample, summary, synth};
+
+/// hubwatch: see who to reach first in a contact-tracing export.
+#[derive(Debug, Parser)]
+#[command(name = "hubwatch", version, about, args_conflicts_with_subcommands = true)]
+#[command(after_help = "Exit codes: 0 success, 2 usage or configuration error, 3 file not found or unreadable, \
+4 input that cannot be read as a tracing export. Outputs support, and do not replace, the judgement of \
+public-health staff; treat every export as sensitive personal data.")]
+pub struct Cli {
+    /// What to do (default: the summary of PATH).
+    #[command(subcommand)]
+    pub command: Option<Command>,
+    /// Loading options and paths, for the default action.
+    #[command(flatten)]
+    pub load: LoadArgs,
+}
+
+/// The commands.
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Account for every input row: used, merged or quarantined, and every field problem.
+    Check {
+        /// Loading options and paths.
+        #[command(flatten)]
+        load: LoadArgs,
+        /// Write every quarantined row and field problem, with its reason and line, to FILE (CSV).
+        #[arg(long, value_name = "FILE")]
+        quarantine: Option<PathBuf>,
+        /// Print one JSON object instead of text.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Headline figures of the contact network.
+    Summary {
+        /// Loading options and paths.
+        #[command(flatten)]
+        load: LoadArgs,
+        /// Print one JSON object (keys documented in the README).
+        #[arg(long)]
+        json: bool,
+    },
+    /// Write an invented outbreak export (people.csv, exposures.csv, manifest.json).
+    Synth {
+        /// Number of people.
+        #[arg(long, default_value_t = 1000)]
+        people: usize,
+        /// Random seed: the same seed gives the same files.
+        #[arg(long, default_value_t = 1)]
+        seed: u64,
+        /// Folder to write into (created if needed).
+        #[arg(long, value_name = "DIR")]
+        out: PathBuf,
+        /// Last day of the scenario (YYYY-MM-DD; default: today).
+        #[arg(long, value_name = "DATE")]
+        end: Option<String>,
+    },
+}
+
+/// Options shared by every command that loads an export.
+#[derive(Debug, Args, Clone, Default)]
+pub struct LoadArgs {
+    /// Export files, or a folder holding them (default: the bundled sample scenario).
+    #[arg(value_name = "PATH")]
+    pub paths: Vec<PathBuf>,
+    /// Configuration file laid over the defaults (see config/default.toml).
+    #[arg(long, value_name = "FILE", global = true)]
+    pub config: Option<PathBuf>,
+    /// Map a field to a header or a 1-based column number: source_id=Reporter, source_id=2.
+    #[arg(long = "column", value_name = "FIELD=HEADER", global = true)]
+    pub columns: Vec<String>,
+    /// Date layout for non-ISO dates, e.g. "%d/%m/%Y".
+    #[arg(long, value_name = "LAYOUT", global = true)]
+    pub date_format: Option<String>,
+    /// Separator: auto, ",", ";", "\t" (or tab), "|", " " (or space), whitespace.
+    #[arg(long, value_name = "SEP", global = true)]
+    pub separator: Option<String>,
+    /// Whether the first line is a header: auto, yes or no.
+    #[arg(long, value_name = "WHEN", global = true)]
+    pub header: Option<String>,
+    /// Comment-line prefix ("" for none).
+    #[arg(long, value_name = "PREFIX", global = true)]
+    pub comment_prefix: Option<String>,
+    /// Reference date for future dates and monitoring windows (YYYY-MM-DD; default: today).
+    #[arg(long, value_name = "DATE", global = true)]
+    pub as_of: Option<String>,
+    /// Worksheet to read from a spreadsheet (default: the first).
+    #[arg(long, value_name = "NAME", global = true)]
+    pub sheet: Option<String>,
+    /// Treat IDs that differ only in letter case as the same person.
+    #[arg(long, global = true)]
+    pub ids_ignore_case: bool,
+}
+
+/// Today's local date as a day number.
+pub fn today() -> i32 {
+    dates::to_days(chrono::Local::now().date_naive())
+}
+
+/// Parse a `YYYY-MM-DD` argument.
+pub fn parse_day(flag: &str, v: &str) -> Result<i32> {
+    dates::parse_iso(v.trim()).map_err(|_| Error::Usage(format!("{flag} {v}: expected a date as YYYY-MM-DD")))
+}
+
+impl LoadArgs {
+    /// The effective configuration: defaults, the config file, then command-line options.
+    pub fn config(&self) -> Result<Config> {
+        let mut c = Config::load(self.config.as_deref())?;
+        if let Some(f) = &self.date_format {
+            c.dates.format = f.clone();
+        }
+        if let Some(s) = &self.separator {
+            c.csv.separator = s.clone();
+        }
+        if let Some(h) = &self.header {
+            c.csv.header = h.clone();
+        }
+        if let Some(p) = &self.comment_prefix {
+            c.csv.comment_prefix = p.clone();
+        }
+        if self.ids_ignore_case {
+            c.ids.case_sensitive = false;
+        }
+        c.validate()?;
+        Ok(c)
+    }
+
+    /// Load options from the flags.
+    pub fn options(&self, progress: bool) -> Result<LoadOptions> {
+        let overrides = self.columns.iter().map(|c| mapping::parse_override(c)).collect::<Result<_>>()?;
+        let as_of = match &self.as_of {
+            Some(v) => parse_day("--as-of", v)?,
+            None => today(),
+        };
+        Ok(LoadOptions { overrides, as_of, read: ReadOptions { sheet: self.sheet.clone(), chunk_rows: 0 }, progress })
+    }
+
+    /// The inputs: the paths given, or the bundled sample.
+    pub fn inputs(&self) -> Vec<Input> {
+        if self.paths.is_empty() {
+            sample::inputs()
+        } else {
+            self.paths.iter().map(|p| Input::Path(p.clone())).collect()
+        }
+    }
+
+    /// Load the export described by these arguments.
+    pub fn load(&self) -> Result<ingest::Dataset> {
+        let config = self.config()?;
+        ingest::load(&self.inputs(), &config, &self.options(true)?)
+    }
+}
+
+/// Write to stdout; a closed pipe (`hubwatch … | head`) ends quietly.
+fn emit(text: &str) -> Result<()> {
+    let mut out = std::io::stdout().lock();
+    match out.write_all(text.as_bytes()).and_then(|_| out.flush()) {
+        Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => std::process::exit(0),
+        r => r.map_err(|e| Error::io("<stdout>", e)),
+    }
+}
+
+fn to_json<T: serde::Serialize>(v: &T) -> Result<String> {
+    serde_json::to_string_pretty(v).map(|s| s + "\n").map_err(|e| Error::Usage(format!("JSON output failed: {e}")))
+}
+
+/// Run the parsed command line.
+pub fn run(cli: Cli) -> Result<()> {
+    match cli.command {
+        None => {
+            let d = cli.load.load()?;
+            emit(&report::summary_text(&summary::summarise(&d), &d))
+        }
+        Some(Command::Summary { load, json }) => {
+            let d = load.load()?;
+            let s = summary::summarise(&d);
+            emit(&if json { to_json(&s)? } else { report::summary_text(&s, &d) })
+        }
+        Some(Command::Check { load, quarantine, json }) => {
+            let d = load.load()?;
+            if let Some(path) = &quarantine {
+                report::write_quarantine(path, &d.ledger)?;
+            }
+            let r = report::check_report(&d.ledger);
+            emit(&if json { to_json(&r)? } else { report::check_text(&r, &dates::iso(d.as_of)) })
+        }
+        Some(Command::Synth { people, seed, out, end }) => {
+            let end = match end {
+                Some(v) => parse_day("--end", &v)?,
+                None => today(),
+            };
+            let m = synth::generate(&out, &synth::SynthOptions::new(people, seed, end))?;
+            emit(&format!(
+                "wrote {} people rows and {} exposure rows ({} distinct pairs, {} cases) to {}\n\
+                 planted: {} self-exposures, {} blank targets, {} bad dates, {} bad durations, {} repeated people, {} blank person IDs\n",
+                m.people_rows,
+                m.exposure_rows,
+                m.pairs,
+                m.cases,
+                out.display(),
+                m.self_exposures,
+                m.blank_targets,
+                m.bad_dates,
+                m.bad_durations,
+                m.repeated_people,
+                m.blank_people
+            ))
+        }
+    }
+}

@@ -1,0 +1,178 @@
+//! Settings: the column synonyms, CSV reading options, date layout and ID rules.
+//!
+//! Defaults live in `config/default.toml`, compiled into the binary, so the file the user
+//! copies and the behaviour they get never drift apart. A user file is laid over the defaults
+//! key by key; unknown keys are rejected.
+
+use std::collections::BTreeMap;
+use std::path::Path;
+
+use serde::Deserialize;
+
+use crate::error::{Error, Result};
+
+/// The default configuration, as shipped in `config/default.toml`.
+pub const DEFAULT_TOML: &str = include_str!("../config/default.toml");
+
+/// Every canonical field hubwatch understands, people fields first.
+pub const PEOPLE_FIELDS: [&str; 8] = [
+    "person_id",
+    "role",
+    "onset_date",
+    "report_date",
+    "status",
+    "area",
+    "age_group",
+    "followup_status",
+];
+
+/// Canonical fields of the exposures table.
+pub const EXPOSURE_FIELDS: [&str; 6] = [
+    "source_id",
+    "target_id",
+    "exposure_date",
+    "first_exposure_date",
+    "setting",
+    "duration_min",
+];
+
+/// The complete configuration.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Config {
+    /// Canonical field name -> header synonyms, in order of preference.
+    pub columns: BTreeMap<String, Vec<String>>,
+    /// Delimited-text options.
+    pub csv: CsvConfig,
+    /// Date layout.
+    pub dates: DatesConfig,
+    /// ID handling.
+    pub ids: IdsConfig,
+}
+
+/// How delimited text is read.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct CsvConfig {
+    /// "auto", a one-character separator, or "whitespace".
+    pub separator: String,
+    /// Comment prefix; empty for none.
+    pub comment_prefix: String,
+    /// "auto", "yes" or "no".
+    pub header: String,
+}
+
+/// How dates are parsed.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct DatesConfig {
+    /// strftime layout, or empty for ISO 8601.
+    pub format: String,
+}
+
+/// How person IDs are compared.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct IdsConfig {
+    /// Whether "p01" and "P01" are different people.
+    pub case_sensitive: bool,
+}
+
+impl Default for Config {
+    fn default() -> Self {
+        // The shipped file is checked by a unit test, so this cannot fail at run time.
+        toml::from_str(DEFAULT_TOML).expect("config/default.toml is valid")
+    }
+}
+
+impl Config {
+    /// Load the defaults, then lay the user's file (if any) over them.
+    pub fn load(user_file: Option<&Path>) -> Result<Config> {
+        let mut merged: toml::Table = toml::from_str(DEFAULT_TOML)
+            .map_err(|e| Error::Config(format!("built-in defaults: {e}")))?;
+        if let Some(path) = user_file {
+            let text = std::fs::read_to_string(path).map_err(|e| Error::io(path, e))?;
+            let user: toml::Table = toml::from_str(&text)
+                .map_err(|e| Error::Config(format!("{}: {e}", path.display())))?;
+            overlay(&mut merged, user);
+        }
+        let config: Config = toml::Value::Table(merged).try_into().map_err(|e| {
+            let file = user_file.map(|p| p.display().to_string()).unwrap_or_default();
+            Error::Config(format!("{file}: {e}"))
+        })?;
+        config.validate()?;
+        Ok(config)
+    }
+
+    /// Check values that serde cannot: known field names, separator spelling.
+    pub fn validate(&self) -> Result<()> {
+        for field in self.columns.keys() {
+            if !PEOPLE_FIELDS.contains(&field.as_str()) && !EXPOSURE_FIELDS.contains(&field.as_str()) {
+                return Err(Error::Config(format!(
+                    "[columns] has unknown field `{field}`; known fields: {}, {}",
+                    PEOPLE_FIELDS.join(", "),
+                    EXPOSURE_FIELDS.join(", ")
+                )));
+            }
+        }
+        crate::ingest::sniff::Separator::parse_setting(&self.csv.separator)?;
+        if !matches!(self.csv.header.as_str(), "auto" | "yes" | "no") {
+            return Err(Error::Config(format!(
+                "[csv] header = \"{}\": use \"auto\", \"yes\" or \"no\"",
+                self.csv.header
+            )));
+        }
+        Ok(())
+    }
+
+    /// The synonyms of one canonical field (empty if none are configured).
+    pub fn synonyms(&self, field: &str) -> &[String] {
+        self.columns.get(field).map(Vec::as_slice).unwrap_or(&[])
+    }
+}
+
+/// Lay `user` over `base`: tables merge key by key, any other value replaces.
+fn overlay(base: &mut toml::Table, user: toml::Table) {
+    for (key, value) in user {
+        match (base.get_mut(&key), value) {
+            (Some(toml::Value::Table(b)), toml::Value::Table(u)) => overlay(b, u),
+            (_, v) => {
+                base.insert(key, v);
+            }
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn shipped_defaults_parse_and_validate() {
+        let c = Config::load(None).unwrap();
+        assert!(c.synonyms("person_id").iter().any(|s| s == "person_id"));
+        for f in PEOPLE_FIELDS.iter().chain(EXPOSURE_FIELDS.iter()) {
+            assert!(!c.synonyms(f).is_empty(), "no synonyms for {f}");
+        }
+    }
+
+    #[test]
+    fn user_file_overrides_one_key_and_rejects_unknown_keys() {
+        let dir = tempfile::tempdir().unwrap();
+        let good = dir.path().join("good.toml");
+        std::fs::write(&good, "[dates]\nformat = \"%d/%m/%Y\"\n").unwrap();
+        let c = Config::load(Some(&good)).unwrap();
+        assert_eq!(c.dates.format, "%d/%m/%Y");
+        assert!(c.ids.case_sensitive);
+
+        let bad = dir.path().join("bad.toml");
+        std::fs::write(&bad, "[dates]\nfromat = \"%d\"\n").unwrap();
+        let err = Config::load(Some(&bad)).unwrap_err().to_string();
+        assert!(err.contains("bad.toml") && err.contains("fromat"), "{err}");
+
+        let badfield = dir.path().join("badfield.toml");
+        std::fs::write(&badfield, "[columns]\nperson = [\"x\"]\n").unwrap();
+        let err = Config::load(Some(&badfield)).unwrap_err().to_string();
+        assert!(err.contains("unknown field `person`"), "{err}");
+    }
+}

@@ -1,0 +1,182 @@
+//! Exposure rows -> one undirected simple graph over all people.
+//!
+//! Repeated pairs (in either order) collapse into one edge that keeps what the rows said:
+//! how many rows, first and last date, total minutes, the settings, and who named whom.
+//! The adjacency is a petgraph [`Csr`] (compressed sparse rows): one offsets array and one
+//! neighbours array, sorted, which is the most compact of petgraph's graph types and gives
+//! neighbour slices without pointer chasing (see DEVELOPERS.md for the measurement).
+//! This module opens no files.
+
+use petgraph::csr::Csr;
+use petgraph::Undirected;
+
+use crate::ingest::reconcile::{ExposureRows, NO_DATE};
+use crate::sort::radix_sort_pairs;
+
+/// The adjacency: node weights unused, edge weight = index into [`Edges`].
+pub type Adjacency = Csr<(), u32, Undirected, u32>;
+
+/// One entry per distinct unordered pair, `a < b`.
+#[derive(Debug, Clone, Default)]
+pub struct Edges {
+    /// Smaller node of the pair.
+    pub a: Vec<u32>,
+    /// Larger node of the pair.
+    pub b: Vec<u32>,
+    /// Exposure rows merged into the pair.
+    pub rows: Vec<u32>,
+    /// Rows in which `a` was the source (named `b`).
+    pub a_named_b: Vec<u32>,
+    /// Earliest date seen (first exposure, else last exposure), or NO_DATE.
+    pub first: Vec<i32>,
+    /// Latest last-exposure date, or NO_DATE.
+    pub last: Vec<i32>,
+    /// Total minutes over rows that gave a duration (NaN when none did).
+    pub minutes: Vec<f64>,
+    /// Offsets into `setting_codes`: edge e has `setting_codes[setting_off[e]..setting_off[e+1]]`.
+    pub setting_off: Vec<u32>,
+    /// Setting codes (1-based into the settings list), sorted, distinct per edge.
+    pub setting_codes: Vec<u16>,
+}
+
+impl Edges {
+    /// Number of distinct pairs.
+    pub fn len(&self) -> usize {
+        self.a.len()
+    }
+
+    /// True when there is no pair.
+    pub fn is_empty(&self) -> bool {
+        self.a.is_empty()
+    }
+
+    /// Setting codes of edge `e`.
+    pub fn settings(&self, e: usize) -> &[u16] {
+        if self.setting_off.is_empty() {
+            return &[];
+        }
+        &self.setting_codes[self.setting_off[e] as usize..self.setting_off[e + 1] as usize]
+    }
+}
+
+/// For each usable row, in input order: true when it was the first row of its pair.
+pub struct Aggregated {
+    /// The pairs.
+    pub edges: Edges,
+    /// Per input row (usable rows only): true if it created its pair, false if merged.
+    pub first_of_pair: Vec<bool>,
+}
+
+/// Collapse rows into pairs. Rows are sorted by pair with a stable radix sort, so the first
+/// row of a pair in input order is the one counted as used.
+pub fn aggregate(rows: &ExposureRows) -> Aggregated {
+    let mut order: Vec<(u64, u32)> = rows.keys.iter().enumerate().map(|(i, &k)| (k, i as u32)).collect();
+    radix_sort_pairs(&mut order);
+    let mut e = Edges::default();
+    let mut first_of_pair = vec![false; rows.keys.len()];
+    let has_settings = !rows.setting.is_empty();
+    if has_settings {
+        e.setting_off.push(0);
+    }
+    let mut i = 0;
+    while i < order.len() {
+        let key = order[i].0;
+        let mut j = i;
+        let (mut first, mut last, mut minutes, mut named) = (NO_DATE, NO_DATE, f64::NAN, 0u32);
+        let mut codes: Vec<u16> = Vec::new();
+        while j < order.len() && order[j].0 == key {
+            let r = order[j].1 as usize;
+            if rows.forward[r] {
+                named += 1;
+            }
+            let l = rows.last.get(r).copied().unwrap_or(NO_DATE);
+            let f = rows.first.get(r).copied().unwrap_or(NO_DATE);
+            if l != NO_DATE {
+                last = last.max(l);
+            }
+            for d in [f, l] {
+                if d != NO_DATE && (first == NO_DATE || d < first) {
+                    first = d;
+                }
+            }
+            if let Some(&m) = rows.minutes.get(r) {
+                if !m.is_nan() {
+                    minutes = if minutes.is_nan() { f64::from(m) } else { minutes + f64::from(m) };
+                }
+            }
+            if let Some(&c) = rows.setting.get(r) {
+                if c != 0 && !codes.contains(&c) {
+                    codes.push(c);
+                }
+            }
+            j += 1;
+        }
+        first_of_pair[order[i].1 as usize] = true;
+        e.a.push((key >> 32) as u32);
+        e.b.push(key as u32);
+        e.rows.push((j - i) as u32);
+        e.a_named_b.push(named);
+        e.first.push(first);
+        e.last.push(last);
+        e.minutes.push(minutes);
+        if has_settings {
+            codes.sort_unstable();
+            e.setting_codes.extend_from_slice(&codes);
+            e.setting_off.push(e.setting_codes.len() as u32);
+        }
+        i = j;
+    }
+    Aggregated { edges: e, first_of_pair }
+}
+
+/// Build the adjacency over `nodes` people (isolated ones included).
+pub fn adjacency(nodes: usize, edges: &Edges) -> Adjacency {
+    let mut dir: Vec<(u64, u32)> = Vec::with_capacity(edges.len() * 2);
+    for (i, (&a, &b)) in edges.a.iter().zip(&edges.b).enumerate() {
+        dir.push((u64::from(a) << 32 | u64::from(b), i as u32));
+        dir.push((u64::from(b) << 32 | u64::from(a), i as u32));
+    }
+    radix_sort_pairs(&mut dir);
+    let list: Vec<(u32, u32, u32)> = dir.iter().map(|&(k, e)| ((k >> 32) as u32, k as u32, e)).collect();
+    drop(dir);
+    // Sorted and unique by construction, so this cannot fail.
+    let mut g: Adjacency = Csr::from_sorted_edges(&list).unwrap_or_else(|_| Csr::new());
+    while g.node_count() < nodes {
+        g.add_node(());
+    }
+    g
+}
+
+/// Degree of every node.
+pub fn degrees(g: &Adjacency) -> Vec<u32> {
+    (0..g.node_count() as u32).map(|n| g.out_degree(n) as u32).collect()
+}
+
+/// Connected components: a label per node (0-based, by order of first node) and sizes.
+pub fn components(g: &Adjacency) -> (Vec<u32>, Vec<u32>) {
+    let n = g.node_count();
+    let mut label = vec![u32::MAX; n];
+    let mut sizes = Vec::new();
+    let mut stack = Vec::new();
+    for s in 0..n {
+        if label[s] != u32::MAX {
+            continue;
+        }
+        let c = sizes.len() as u32;
+        let mut size = 0u32;
+        label[s] = c;
+        stack.push(s as u32);
+        while let Some(v) = stack.pop() {
+            size += 1;
+            for &w in g.neighbors_slice(v) {
+                let w = w as usize;
+                if label[w] == u32::MAX {
+                    label[w] = c;
+                    stack.push(w as u32);
+                }
+            }
+        }
+        sizes.push(size);
+    }
+    (label, sizes)
+}

@@ -1,0 +1,135 @@
+//! Person IDs <-> dense node indices, in one pass.
+//!
+//! Names are stored once in an arena; a `hashbrown::HashTable` of indices finds them. Node
+//! indices are handed out in order of first sight (people table first, then exposures), so
+//! the map is stable for a given input and the reverse lookup is a slice.
+
+use std::hash::BuildHasher;
+
+use hashbrown::HashTable;
+
+/// A two-way map between person IDs and node indices `0..len()`.
+#[derive(Debug, Default, Clone)]
+pub struct IdMap {
+    /// The IDs as compared (case-folded when IDs are case-insensitive), concatenated.
+    arena: String,
+    /// End offset in `arena` of each ID.
+    ends: Vec<usize>,
+    /// Display spelling for case-insensitive maps (first spelling seen); empty otherwise.
+    display: Vec<Box<str>>,
+    table: HashTable<u32>,
+    hasher: foldhash::fast::FixedState,
+    case_sensitive: bool,
+}
+
+impl IdMap {
+    /// An empty map; `case_sensitive = false` folds IDs to lower case for comparison.
+    pub fn new(case_sensitive: bool) -> IdMap {
+        IdMap { case_sensitive, hasher: foldhash::fast::FixedState::with_seed(0x5eed_1d5), ..IdMap::default() }
+    }
+
+    /// Number of IDs.
+    pub fn len(&self) -> usize {
+        self.ends.len()
+    }
+
+    /// True when no ID has been added.
+    pub fn is_empty(&self) -> bool {
+        self.ends.is_empty()
+    }
+
+    fn key_of(&self, i: u32) -> &str {
+        let i = i as usize;
+        let start = if i == 0 { 0 } else { self.ends[i - 1] };
+        &self.arena[start..self.ends[i]]
+    }
+
+    /// The ID of node `i`, as first written in the input (trimmed).
+    pub fn name(&self, i: u32) -> &str {
+        if self.case_sensitive {
+            self.key_of(i)
+        } else {
+            &self.display[i as usize]
+        }
+    }
+
+    /// Node index of an ID (already trimmed), if known.
+    pub fn get(&self, id: &str) -> Option<u32> {
+        if self.case_sensitive {
+            self.find(id)
+        } else {
+            self.find(&id.to_lowercase())
+        }
+    }
+
+    fn find(&self, key: &str) -> Option<u32> {
+        let h = self.hasher.hash_one(key);
+        self.table.find(h, |&i| self.key_of(i) == key).copied()
+    }
+
+    /// Node index of an ID, adding it if new; the flag says whether it was new.
+    pub fn intern(&mut self, id: &str) -> (u32, bool) {
+        if self.case_sensitive {
+            self.intern_key(id, None)
+        } else {
+            let key = id.to_lowercase();
+            self.intern_key(&key, Some(id))
+        }
+    }
+
+    fn intern_key(&mut self, key: &str, display: Option<&str>) -> (u32, bool) {
+        let h = self.hasher.hash_one(key);
+        let IdMap { arena, ends, table, hasher, .. } = self;
+        let key_at = |i: u32| {
+            let i = i as usize;
+            let start = if i == 0 { 0 } else { ends[i - 1] };
+            &arena[start..ends[i]]
+        };
+        if let Some(&i) = table.find(h, |&i| key_at(i) == key) {
+            return (i, false);
+        }
+        let i = ends.len() as u32;
+        arena.push_str(key);
+        ends.push(arena.len());
+        let (arena, ends) = (&*arena, &*ends);
+        table.insert_unique(h, i, |&j| {
+            let j = j as usize;
+            let start = if j == 0 { 0 } else { ends[j - 1] };
+            hasher.hash_one(&arena[start..ends[j]])
+        });
+        if let Some(d) = display {
+            self.display.push(d.into());
+        }
+        (i, true)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn two_way_and_stable() {
+        let mut m = IdMap::new(true);
+        assert_eq!(m.intern("P01"), (0, true));
+        assert_eq!(m.intern("P02"), (1, true));
+        assert_eq!(m.intern("P01"), (0, false));
+        assert_eq!(m.get("P02"), Some(1));
+        assert_eq!(m.get("p02"), None);
+        assert_eq!(m.name(1), "P02");
+        for k in 0..10_000 {
+            m.intern(&format!("X{k}"));
+        }
+        assert_eq!(m.get("X9999"), Some(10_001));
+        assert_eq!(m.name(10_001), "X9999");
+    }
+
+    #[test]
+    fn case_insensitive_keeps_first_spelling() {
+        let mut m = IdMap::new(false);
+        assert_eq!(m.intern("Ab-1"), (0, true));
+        assert_eq!(m.intern("AB-1"), (0, false));
+        assert_eq!(m.name(0), "Ab-1");
+        assert_eq!(m.get("ab-1"), Some(0));
+    }
+}

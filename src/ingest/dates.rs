@@ -1,0 +1,181 @@
+//! Dates: ISO 8601 unless a layout is configured, spreadsheet serial numbers where the file is
+//! a workbook, and a refusal to guess between day-first and month-first.
+//!
+//! Dates are held as days since 0001-01-01 (chrono's `num_days_from_ce`) in an `i32`.
+
+use chrono::{Datelike, NaiveDate, NaiveDateTime};
+
+/// Why a date value was not accepted.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum DateProblem {
+    /// The value has the right shape but names no real day (2024-02-30).
+    Impossible,
+    /// The value is not in the expected layout at all.
+    Unreadable,
+}
+
+/// Parses date values of one column.
+#[derive(Debug, Clone)]
+pub struct DateParser {
+    format: Option<String>,
+    excel_serials: bool,
+}
+
+/// Days since 0001-01-01 of a calendar date.
+pub fn to_days(d: NaiveDate) -> i32 {
+    d.num_days_from_ce()
+}
+
+/// The calendar date of a day number produced by [`to_days`].
+pub fn from_days(days: i32) -> Option<NaiveDate> {
+    NaiveDate::from_num_days_from_ce_opt(days)
+}
+
+/// Format a day number as ISO 8601.
+pub fn iso(days: i32) -> String {
+    from_days(days).map(|d| d.format("%Y-%m-%d").to_string()).unwrap_or_default()
+}
+
+impl DateParser {
+    /// `format` empty means ISO 8601.
+    pub fn new(format: &str, excel_serials: bool) -> DateParser {
+        DateParser { format: (!format.is_empty()).then(|| format.to_string()), excel_serials }
+    }
+
+    /// The layout shown in messages.
+    pub fn layout(&self) -> &str {
+        self.format.as_deref().unwrap_or("YYYY-MM-DD (ISO 8601)")
+    }
+
+    /// Parse one trimmed, non-empty value.
+    pub fn parse(&self, v: &str) -> Result<i32, DateProblem> {
+        if self.excel_serials {
+            if let Ok(serial) = v.parse::<f64>() {
+                let base = NaiveDate::from_ymd_opt(1899, 12, 30).ok_or(DateProblem::Unreadable)?;
+                if !(1.0..=2_958_465.0).contains(&serial) {
+                    return Err(DateProblem::Unreadable);
+                }
+                let d = base
+                    .checked_add_signed(chrono::TimeDelta::days(serial.floor() as i64))
+                    .ok_or(DateProblem::Unreadable)?;
+                return Ok(to_days(d));
+            }
+        }
+        match &self.format {
+            None => parse_iso(v),
+            Some(f) => match NaiveDate::parse_from_str(v, f) {
+                Ok(d) => Ok(to_days(d)),
+                Err(_) => match NaiveDateTime::parse_from_str(v, f) {
+                    Ok(dt) => Ok(to_days(dt.date())),
+                    Err(e) if matches!(e.kind(), chrono::format::ParseErrorKind::OutOfRange) => {
+                        Err(DateProblem::Impossible)
+                    }
+                    Err(_) => Err(DateProblem::Unreadable),
+                },
+            },
+        }
+    }
+}
+
+fn digits(b: &[u8]) -> Option<u32> {
+    if b.is_empty() || !b.iter().all(u8::is_ascii_digit) {
+        return None;
+    }
+    Some(b.iter().fold(0u32, |a, d| a * 10 + u32::from(d - b'0')))
+}
+
+/// `YYYY-MM-DD`, optionally followed by `T` or a space and a time (ignored).
+pub fn parse_iso(v: &str) -> Result<i32, DateProblem> {
+    let b = v.as_bytes();
+    if b.len() < 10 || b[4] != b'-' || b[7] != b'-' || (b.len() > 10 && !matches!(b[10], b'T' | b't' | b' ')) {
+        return Err(DateProblem::Unreadable);
+    }
+    let (Some(y), Some(m), Some(d)) = (digits(&b[0..4]), digits(&b[5..7]), digits(&b[8..10])) else {
+        return Err(DateProblem::Unreadable);
+    };
+    NaiveDate::from_ymd_opt(y as i32, m, d).map(to_days).ok_or(DateProblem::Impossible)
+}
+
+/// True for values shaped like `a/b/yyyy`, `a.b.yyyy` or `a-b-yyyy` (day and month in some order).
+fn looks_numeric_dmy(v: &str) -> Option<(u32, u32)> {
+    let parts: Vec<&str> = v.split(['/', '.', '-']).collect();
+    if parts.len() != 3 || parts[2].len() < 2 || parts[0].len() > 2 || parts[1].len() > 2 {
+        return None;
+    }
+    let p2 = parts[2].split([' ', 'T']).next().unwrap_or("");
+    match (digits(parts[0].as_bytes()), digits(parts[1].as_bytes()), digits(p2.as_bytes())) {
+        (Some(a), Some(b), Some(_)) => Some((a, b)),
+        _ => None,
+    }
+}
+
+/// Look at sample values of a date column read as ISO: if most of them are day/month/year
+/// numbers, return the message that stops the load, with examples and the setting to add.
+pub fn ambiguity_message(sample: &[&str]) -> Option<String> {
+    let non_empty: Vec<&str> = sample.iter().copied().filter(|v| !v.trim().is_empty()).collect();
+    let dmy: Vec<(&str, (u32, u32))> =
+        non_empty.iter().filter_map(|v| looks_numeric_dmy(v.trim()).map(|p| (*v, p))).collect();
+    if dmy.is_empty() || dmy.len() * 2 < non_empty.len() {
+        return None;
+    }
+    let examples: Vec<String> = dmy.iter().take(3).map(|(v, _)| format!("\"{v}\"")).collect();
+    let sep = dmy[0].0.trim().chars().find(|c| matches!(c, '/' | '.' | '-')).unwrap_or('/');
+    let day_first_only = dmy.iter().find(|(_, (a, _))| *a > 12).map(|(v, _)| *v);
+    let month_first_only = dmy.iter().find(|(_, (_, b))| *b > 12).map(|(v, _)| *v);
+    let evidence = match (day_first_only, month_first_only) {
+        (Some(v), None) => format!(" \"{v}\" fits only day-first."),
+        (None, Some(v)) => format!(" \"{v}\" fits only month-first."),
+        (Some(a), Some(b)) => format!(" \"{a}\" fits only day-first but \"{b}\" only month-first: check the column."),
+        (None, None) => " Every value seen fits both orders.".to_string(),
+    };
+    Some(format!(
+        "dates such as {} are not ISO 8601 (YYYY-MM-DD) and could be day-first or month-first; \
+         hubwatch does not guess. Set the layout with --date-format \"%d{sep}%m{sep}%Y\" (day first) \
+         or --date-format \"%m{sep}%d{sep}%Y\" (month first), or in a config file: [dates] format = \"%d{sep}%m{sep}%Y\".{evidence}",
+        examples.join(", ")
+    ))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn iso_dates_and_impossible_ones() {
+        let d = parse_iso("2024-03-01").unwrap();
+        assert_eq!(iso(d), "2024-03-01");
+        assert_eq!(parse_iso("2024-03-01T10:00:00").unwrap(), d);
+        assert_eq!(parse_iso("2024-02-30"), Err(DateProblem::Impossible));
+        // 2024 is a leap year, 2023 is not (Gregorian rule; common practice, no source).
+        assert!(parse_iso("2024-02-29").is_ok());
+        assert_eq!(parse_iso("2023-02-29"), Err(DateProblem::Impossible));
+        assert_eq!(parse_iso("01/03/2024"), Err(DateProblem::Unreadable));
+        assert_eq!(parse_iso("yesterday"), Err(DateProblem::Unreadable));
+    }
+
+    #[test]
+    fn configured_layout() {
+        let p = DateParser::new("%d/%m/%Y", false);
+        assert_eq!(iso(p.parse("13/04/2024").unwrap()), "2024-04-13");
+        assert_eq!(p.parse("31/02/2024"), Err(DateProblem::Impossible));
+        assert_eq!(p.parse("2024-04-13"), Err(DateProblem::Unreadable));
+    }
+
+    #[test]
+    fn spreadsheet_serials() {
+        let p = DateParser::new("", true);
+        assert_eq!(iso(p.parse("45352").unwrap()), "2024-03-01");
+        assert_eq!(iso(p.parse("2024-03-01").unwrap()), "2024-03-01");
+    }
+
+    #[test]
+    fn ambiguous_columns_stop_with_examples() {
+        let m = ambiguity_message(&["03/04/2024", "13/04/2024", ""]).unwrap();
+        assert!(m.contains("\"03/04/2024\""), "{m}");
+        assert!(m.contains("--date-format \"%d/%m/%Y\""), "{m}");
+        assert!(m.contains("\"13/04/2024\" fits only day-first"), "{m}");
+        assert!(ambiguity_message(&["2024-04-03", "2024-04-13"]).is_none());
+        // One stray value among ISO dates is a field problem, not an ambiguous column.
+        assert!(ambiguity_message(&["2024-04-03", "2024-04-13", "03/04/2024"]).is_none());
+    }
+}

@@ -1,0 +1,213 @@
+//! The row ledger: every input row ends in exactly one bucket (used, merged, quarantined), and
+//! every bad optional value is a field problem. Nothing is dropped or changed silently.
+
+use std::collections::BTreeMap;
+use std::path::PathBuf;
+
+use serde::Serialize;
+
+/// Which table a file played.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, PartialOrd, Ord)]
+#[serde(rename_all = "lowercase")]
+pub enum Role {
+    /// The people table.
+    People,
+    /// The exposures table.
+    Exposures,
+}
+
+impl Role {
+    /// Lower-case name used in messages and JSON.
+    pub fn name(self) -> &'static str {
+        match self {
+            Role::People => "people",
+            Role::Exposures => "exposures",
+        }
+    }
+}
+
+/// Row counts of one table (or one file).
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq, Serialize)]
+pub struct Counts {
+    /// Data rows read (header, comment and blank lines are not rows).
+    pub read: u64,
+    /// Rows that made a person or an exposure pair.
+    pub used: u64,
+    /// Rows that repeated a person or a pair already seen and were aggregated into it.
+    pub merged: u64,
+    /// Rows that could make nothing, each with its reason.
+    pub quarantined: u64,
+    /// Bad optional values (the row was still used or merged).
+    pub field_problems: u64,
+}
+
+impl Counts {
+    /// `read = used + merged + quarantined`.
+    pub fn balanced(&self) -> bool {
+        self.read == self.used + self.merged + self.quarantined
+    }
+
+    /// Add another file's counts.
+    pub fn add(&mut self, o: &Counts) {
+        self.read += o.read;
+        self.used += o.used;
+        self.merged += o.merged;
+        self.quarantined += o.quarantined;
+        self.field_problems += o.field_problems;
+    }
+}
+
+/// Why a row could not be used at all.
+#[derive(Debug, Clone, PartialEq, Eq, PartialOrd, Ord, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum QuarantineReason {
+    /// A required ID is missing or blank.
+    MissingId {
+        /// The canonical field (person_id, source_id, target_id).
+        field: String,
+    },
+    /// Both ends of an exposure are the same person.
+    SelfExposure,
+    /// The line does not split into the table's columns.
+    WrongFieldCount {
+        /// Description from the reader.
+        detail: String,
+    },
+}
+
+impl QuarantineReason {
+    /// A stable short code, for counting and filtering.
+    pub fn code(&self) -> &'static str {
+        match self {
+            QuarantineReason::MissingId { .. } => "missing_id",
+            QuarantineReason::SelfExposure => "self_exposure",
+            QuarantineReason::WrongFieldCount { .. } => "wrong_field_count",
+        }
+    }
+
+    /// A sentence for people.
+    pub fn describe(&self) -> String {
+        match self {
+            QuarantineReason::MissingId { field } => format!("{field} is missing or blank"),
+            QuarantineReason::SelfExposure => "source and target are the same person".to_string(),
+            QuarantineReason::WrongFieldCount { detail } => detail.clone(),
+        }
+    }
+}
+
+/// One quarantined row.
+#[derive(Debug, Clone, Serialize)]
+pub struct QuarantinedRow {
+    /// Index into [`crate::ingest::Dataset::files`].
+    pub file: usize,
+    /// 1-based line (or record) in that file.
+    pub line: u64,
+    /// Why.
+    pub reason: QuarantineReason,
+    /// The row's values as read, comma-joined (or the raw line for shape errors).
+    pub raw: String,
+}
+
+/// Kinds of field problem.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize, Hash)]
+#[serde(rename_all = "snake_case")]
+pub enum ProblemKind {
+    /// Not a date in the expected layout.
+    UnreadableDate,
+    /// A date that does not exist (2024-02-30).
+    ImpossibleDate,
+    /// A date after the as-of date.
+    FutureDate,
+    /// First exposure after the last exposure.
+    DateOrder,
+    /// Duration is not a number.
+    UnreadableNumber,
+    /// Duration below zero.
+    NegativeNumber,
+    /// A repeated person row disagrees with the first.
+    ConflictingValue,
+}
+
+impl ProblemKind {
+    /// A stable short code.
+    pub fn code(self) -> &'static str {
+        match self {
+            ProblemKind::UnreadableDate => "unreadable_date",
+            ProblemKind::ImpossibleDate => "impossible_date",
+            ProblemKind::FutureDate => "future_date",
+            ProblemKind::DateOrder => "first_after_last_exposure",
+            ProblemKind::UnreadableNumber => "unreadable_number",
+            ProblemKind::NegativeNumber => "negative_number",
+            ProblemKind::ConflictingValue => "conflicting_value",
+        }
+    }
+}
+
+/// One bad optional value; the row itself was kept.
+#[derive(Debug, Clone, Serialize)]
+pub struct FieldProblem {
+    /// Index into the dataset's files.
+    pub file: usize,
+    /// 1-based line (or record).
+    pub line: u64,
+    /// Column header as in the file.
+    pub column: String,
+    /// The value as read.
+    pub value: String,
+    /// The kind.
+    pub kind: ProblemKind,
+    /// A sentence saying what was done.
+    pub reason: String,
+}
+
+/// A file that took part in the load.
+#[derive(Debug, Clone, Serialize)]
+pub struct FileReport {
+    /// Path as given (or the name of the built-in sample).
+    pub path: PathBuf,
+    /// Role it played.
+    pub role: Role,
+    /// Format and separator, in words.
+    pub format: String,
+    /// Whether it had a header line.
+    pub header: bool,
+    /// Canonical field -> header used.
+    pub mapping: BTreeMap<String, String>,
+    /// Row counts of this file.
+    pub counts: Counts,
+}
+
+/// Everything the load has to say about the rows.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct Ledger {
+    /// Files in the order read.
+    pub files: Vec<FileReport>,
+    /// Totals of the people files.
+    pub people: Counts,
+    /// Totals of the exposures files.
+    pub exposures: Counts,
+    /// Every quarantined row.
+    pub quarantined: Vec<QuarantinedRow>,
+    /// Every field problem.
+    pub problems: Vec<FieldProblem>,
+}
+
+impl Ledger {
+    /// Quarantined rows per reason code, sorted by code.
+    pub fn quarantine_counts(&self, role: Role) -> BTreeMap<&'static str, u64> {
+        let mut m = BTreeMap::new();
+        for q in self.quarantined.iter().filter(|q| self.files[q.file].role == role) {
+            *m.entry(q.reason.code()).or_insert(0) += 1;
+        }
+        m
+    }
+
+    /// Field problems per kind code, sorted by code.
+    pub fn problem_counts(&self, role: Role) -> BTreeMap<&'static str, u64> {
+        let mut m = BTreeMap::new();
+        for p in self.problems.iter().filter(|p| self.files[p.file].role == role) {
+            *m.entry(p.kind.code()).or_insert(0) += 1;
+        }
+        m
+    }
+}

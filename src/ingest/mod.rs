@@ -1,0 +1,280 @@
+//! Files -> checked frames -> people, contact pairs and the row ledger.
+//!
+//! `load` takes the paths the user gave (files or a folder), decides which file is the people
+//! table and which the exposures table *by their columns*, reads each in bounded chunks, and
+//! returns a [`Dataset`]: the ID map, people's attributes, aggregated pairs, the adjacency and
+//! the ledger that accounts for every row.
+
+pub mod dates;
+pub mod formats;
+pub mod ledger;
+pub mod mapping;
+pub mod reconcile;
+pub mod sniff;
+pub mod table;
+
+use std::collections::BTreeMap;
+use std::io::IsTerminal;
+use std::path::{Path, PathBuf};
+
+use crate::config::{Config, EXPOSURE_FIELDS, PEOPLE_FIELDS};
+use crate::error::{Error, Result};
+use crate::graph::{self, Adjacency, Edges};
+use crate::ids::IdMap;
+use ledger::{Counts, FileReport, Ledger, QuarantineReason, QuarantinedRow, Role};
+use mapping::{ColumnRef, Mapping};
+use reconcile::{Attributes, ExposureRows, FieldChecker, FileCtx, PeopleBuilder};
+use table::{ReadOptions, Table};
+
+/// Options of one load.
+#[derive(Debug, Clone)]
+pub struct LoadOptions {
+    /// `--column` overrides.
+    pub overrides: Vec<(String, ColumnRef)>,
+    /// Reference date (days since 0001-01-01) for "future" dates.
+    pub as_of: i32,
+    /// Reading options (sheet name, chunk size).
+    pub read: ReadOptions,
+    /// Show a progress indicator on stderr (only if it is a terminal).
+    pub progress: bool,
+}
+
+/// A source of table bytes: a path, or a table compiled into the binary.
+#[derive(Debug, Clone)]
+pub enum Input {
+    /// A file or folder on disk.
+    Path(PathBuf),
+    /// Built-in bytes with a display name.
+    Builtin {
+        /// Shown in reports.
+        name: PathBuf,
+        /// File contents (CSV).
+        bytes: &'static [u8],
+    },
+}
+
+/// Everything loaded: people, pairs, adjacency and the ledger.
+pub struct Dataset {
+    /// Person ID <-> node index.
+    pub ids: IdMap,
+    /// Nodes `0..people_in_table` came from a people table; the rest are implied.
+    pub people_in_table: u32,
+    /// People's attributes.
+    pub attrs: Attributes,
+    /// Aggregated contact pairs.
+    pub edges: Edges,
+    /// Setting labels (code c is `settings[c - 1]`).
+    pub settings: Vec<String>,
+    /// The graph.
+    pub graph: Adjacency,
+    /// The ledger of rows and problems.
+    pub ledger: Ledger,
+    /// The as-of date used.
+    pub as_of: i32,
+}
+
+impl Dataset {
+    /// Number of people (nodes), implied ones included.
+    pub fn people(&self) -> usize {
+        self.ids.len()
+    }
+
+    /// People known only from exposures.
+    pub fn implied(&self) -> usize {
+        self.ids.len() - self.people_in_table as usize
+    }
+
+    /// True when a node came only from the exposures table.
+    pub fn is_implied(&self, node: u32) -> bool {
+        node >= self.people_in_table
+    }
+}
+
+/// An opened table with its role and mapping.
+struct Planned {
+    table: Table,
+    role: Role,
+    mapping: Mapping,
+}
+
+fn open_input(input: &Input, config: &Config, read: &ReadOptions) -> Result<Vec<Table>> {
+    match input {
+        Input::Builtin { name, bytes } => Ok(vec![Table::open_bytes(name, bytes.to_vec(), config)?]),
+        Input::Path(p) if p.is_dir() => {
+            let mut files: Vec<PathBuf> = std::fs::read_dir(p)
+                .map_err(|e| Error::io(p, e))?
+                .filter_map(|e| e.ok().map(|e| e.path()))
+                .filter(|f| f.is_file() && table::FileKind::is_table_file(f))
+                .collect();
+            files.sort();
+            if files.is_empty() {
+                return Err(Error::format(p, "the folder holds no table files (.csv, .tsv, .txt, .dat, .parquet, .ndjson, .jsonl, .xlsx, optionally .gz)"));
+            }
+            files.iter().map(|f| Table::open(f, config, read)).collect()
+        }
+        Input::Path(p) => Ok(vec![Table::open(p, config, read)?]),
+    }
+}
+
+/// Decide each table's role by its columns: exposures if it has source and target, people if
+/// it has a person ID. A table with neither is an error naming the closest headers.
+fn plan(tables: Vec<Table>, config: &Config, overrides: &[(String, ColumnRef)]) -> Result<Vec<Planned>> {
+    let mut out = Vec::new();
+    let several = tables.len() > 1;
+    for table in tables {
+        let cols = &table.meta.columns;
+        let exp = mapping::resolve(cols, config, overrides, &EXPOSURE_FIELDS);
+        if exp.get("source_id").is_some() && exp.get("target_id").is_some() {
+            out.push(Planned { table, role: Role::Exposures, mapping: exp });
+            continue;
+        }
+        let ppl = mapping::resolve(cols, config, overrides, &PEOPLE_FIELDS);
+        if ppl.get("person_id").is_some() && (several || exp.get("source_id").is_none()) {
+            out.push(Planned { table, role: Role::People, mapping: ppl });
+            continue;
+        }
+        let missing = if exp.get("source_id").is_none() { "source_id" } else { "target_id" };
+        return Err(mapping::missing_field_error(&table.meta.path, cols, missing, config, table.meta.headerless));
+    }
+    if !out.iter().any(|p| p.role == Role::Exposures) {
+        let first = &out[0].table.meta;
+        return Err(Error::format(
+            &first.path,
+            format!(
+                "no exposures table found: every file given looks like a people table. Give a file with \
+                 source and target columns (headers found here: {}), or map them with --column source_id=… --column target_id=…",
+                first.columns.join(", ")
+            ),
+        ));
+    }
+    // People first, so that the people table fixes the first node indices.
+    out.sort_by_key(|p| p.role);
+    Ok(out)
+}
+
+fn describe_format(meta: &table::TableMeta) -> String {
+    match (meta.kind, meta.separator) {
+        (table::FileKind::Text, Some(s)) => format!("delimited text ({})", s.describe()),
+        (table::FileKind::Text, None) => "delimited text".into(),
+        (table::FileKind::Parquet, _) => "Parquet".into(),
+        (table::FileKind::NdJson, _) => "newline-delimited JSON".into(),
+        (table::FileKind::Excel, _) => "spreadsheet".into(),
+    }
+}
+
+/// Load the inputs: read, check, reconcile, aggregate, and build the graph.
+pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dataset> {
+    let mut tables = Vec::new();
+    for input in inputs {
+        tables.extend(open_input(input, config, &opts.read)?);
+    }
+    if tables.is_empty() {
+        return Err(Error::Usage("no input given".into()));
+    }
+    let planned = plan(tables, config, &opts.overrides)?;
+    let progress = Progress::new(opts.progress);
+    let mut ledger = Ledger::default();
+    let mut people = PeopleBuilder::new(config.ids.case_sensitive);
+    let mut rows = ExposureRows::new();
+    let mut problems = Vec::new();
+    let mut people_in_table = 0u32;
+    for Planned { table, role, mapping } in planned {
+        let file = ledger.files.len();
+        let meta = table.meta.clone();
+        let mut checker = FieldChecker::new(&config.dates.format, meta.excel_serials, opts.as_of);
+        let mut ctx = FileCtx { file, meta: &meta, mapping: &mapping, counts: Counts::default() };
+        if role == Role::Exposures && people_in_table == 0 {
+            people_in_table = people.ids.len() as u32;
+        }
+        let rejected = table.read(&opts.read, |chunk| {
+            match role {
+                Role::People => people.add_chunk(&mut ctx, &chunk, &mut checker)?,
+                Role::Exposures => rows.add_chunk(&mut ctx, &chunk, &mut people.ids, &mut checker)?,
+            }
+            progress.tick(&meta.path, ctx.counts.read);
+            Ok(())
+        })?;
+        let sink = if role == Role::People { &mut people.quarantined } else { &mut rows.quarantined };
+        for r in rejected {
+            ctx.counts.read += 1;
+            ctx.counts.quarantined += 1;
+            sink.push(QuarantinedRow { file, line: r.line, reason: QuarantineReason::WrongFieldCount { detail: r.reason }, raw: r.raw });
+        }
+        problems.append(&mut checker.problems);
+        let named: BTreeMap<String, String> =
+            mapping.fields.iter().map(|(f, &i)| (f.clone(), meta.columns[i].clone())).collect();
+        ledger.files.push(FileReport {
+            path: meta.path.clone(),
+            role,
+            format: describe_format(&meta),
+            header: !meta.headerless,
+            mapping: named,
+            counts: ctx.counts,
+        });
+    }
+    progress.finish();
+    if !ledger.files.iter().any(|f| f.role == Role::People) {
+        people_in_table = 0;
+    }
+    rows.pad();
+    let agg = graph::aggregate(&rows);
+    // Exposure rows that were usable are used (first of their pair) or merged.
+    let mut start = 0;
+    for &(file, n) in &rows.per_file {
+        let used = agg.first_of_pair[start..start + n].iter().filter(|&&f| f).count() as u64;
+        let c = &mut ledger.files[file].counts;
+        c.used += used;
+        c.merged += n as u64 - used;
+        start += n;
+    }
+    for f in &ledger.files {
+        let total = if f.role == Role::People { &mut ledger.people } else { &mut ledger.exposures };
+        total.add(&f.counts);
+    }
+    ledger.quarantined = people.quarantined;
+    ledger.quarantined.append(&mut rows.quarantined);
+    ledger.problems = problems;
+    let mut attrs = people.attrs;
+    let n = people.ids.len();
+    for v in attrs.values.iter_mut() {
+        v.resize(n, None);
+    }
+    let settings = (0..rows.settings.len() as u32).map(|i| rows.settings.name(i).to_string()).collect();
+    let graph = graph::adjacency(n, &agg.edges);
+    Ok(Dataset {
+        ids: people.ids,
+        people_in_table,
+        attrs,
+        edges: agg.edges,
+        settings,
+        graph,
+        ledger,
+        as_of: opts.as_of,
+    })
+}
+
+/// A spinner with the row count, shown only on a terminal.
+struct Progress(Option<indicatif::ProgressBar>);
+
+impl Progress {
+    fn new(wanted: bool) -> Progress {
+        if !wanted || !std::io::stderr().is_terminal() {
+            return Progress(None);
+        }
+        let bar = indicatif::ProgressBar::new_spinner();
+        bar.enable_steady_tick(std::time::Duration::from_millis(120));
+        Progress(Some(bar))
+    }
+
+    fn tick(&self, path: &Path, rows: u64) {
+        if let Some(b) = &self.0 {
+            b.set_message(format!("reading {}: {rows} rows", path.display()));
+        }
+    }
+
+    fn finish(&self) {
+        if let Some(b) = &self.0 {
+            b.finish_and_clear();
+        }
+    }
+}

@@ -1,0 +1,421 @@
+//! Frames -> people, exposure rows and aggregated contact pairs, filling the ledger.
+//!
+//! People rows are interned first, so the people table fixes the first node indices; exposure
+//! rows are checked for usable IDs *before* their IDs are interned, so a quarantined row adds
+//! neither its pair nor its people.
+
+use polars::prelude::*;
+
+use super::dates::{self, DateParser, DateProblem};
+use super::ledger::{Counts, FieldProblem, ProblemKind, QuarantineReason, QuarantinedRow};
+use super::mapping::Mapping;
+use super::table::{Chunk, TableMeta};
+use crate::error::{Error, Result};
+use crate::ids::IdMap;
+
+/// Marks a missing date in the day-number arrays.
+pub const NO_DATE: i32 = i32::MIN;
+
+/// Attributes of people, one value per node per column (implied people have none).
+#[derive(Debug, Clone, Default)]
+pub struct Attributes {
+    /// Column names: canonical field names where mapped, the file's header otherwise.
+    pub names: Vec<String>,
+    /// `values[c][node]`.
+    pub values: Vec<Vec<Option<Box<str>>>>,
+}
+
+impl Attributes {
+    /// Column index by name.
+    pub fn column(&self, name: &str) -> Option<usize> {
+        self.names.iter().position(|n| n == name)
+    }
+
+    /// Value of a column for a node.
+    pub fn get(&self, name: &str, node: u32) -> Option<&str> {
+        let c = self.column(name)?;
+        self.values[c].get(node as usize)?.as_deref()
+    }
+
+    fn ensure_column(&mut self, name: &str, nodes: usize) -> usize {
+        match self.column(name) {
+            Some(c) => c,
+            None => {
+                self.names.push(name.to_string());
+                self.values.push(vec![None; nodes]);
+                self.names.len() - 1
+            }
+        }
+    }
+}
+
+/// Shared context of one file while its rows are processed.
+pub struct FileCtx<'a> {
+    /// Index of the file in the ledger.
+    pub file: usize,
+    /// Its metadata.
+    pub meta: &'a TableMeta,
+    /// Its field mapping.
+    pub mapping: &'a Mapping,
+    /// Its counts (updated as rows are processed).
+    pub counts: Counts,
+}
+
+fn text_column<'a>(frame: &'a DataFrame, idx: Option<usize>, path: &std::path::Path) -> Result<Option<&'a StringChunked>> {
+    match idx {
+        None => Ok(None),
+        Some(i) => frame.columns()[i]
+            .str()
+            .map(Some)
+            .map_err(|e| Error::Polars { path: path.to_path_buf(), source: e }),
+    }
+}
+
+/// Values of an optional column as an iterator of `Option<&str>` (all `None` if unmapped).
+fn values<'a>(col: Option<&'a StringChunked>, n: usize) -> Box<dyn Iterator<Item = Option<&'a str>> + 'a> {
+    match col {
+        Some(c) => Box::new(c.iter()),
+        None => Box::new(std::iter::repeat_n(None, n)),
+    }
+}
+
+fn trimmed(v: Option<&str>) -> Option<&str> {
+    v.map(str::trim).filter(|s| !s.is_empty())
+}
+
+/// The row's values comma-joined, for the quarantine report.
+fn raw_row(frame: &DataFrame, row: usize) -> String {
+    frame
+        .columns()
+        .iter()
+        .map(|c| c.str().ok().and_then(|s| s.get(row)).unwrap_or("").to_string())
+        .collect::<Vec<_>>()
+        .join(",")
+}
+
+/// Checks dates, durations and records field problems.
+pub struct FieldChecker {
+    parser: DateParser,
+    as_of: i32,
+    /// Every field problem seen.
+    pub problems: Vec<FieldProblem>,
+}
+
+impl FieldChecker {
+    /// Dates in `format` (empty = ISO), none after `as_of`.
+    pub fn new(format: &str, excel_serials: bool, as_of: i32) -> FieldChecker {
+        FieldChecker { parser: DateParser::new(format, excel_serials), as_of, problems: Vec::new() }
+    }
+
+    fn problem(&mut self, ctx: &mut FileCtx, line: u64, column: usize, value: &str, kind: ProblemKind, reason: String) {
+        ctx.counts.field_problems += 1;
+        self.problems.push(FieldProblem {
+            file: ctx.file,
+            line,
+            column: ctx.meta.columns[column].clone(),
+            value: value.to_string(),
+            kind,
+            reason,
+        });
+    }
+
+    /// A date value: the day number, or `NO_DATE` with a field problem recorded.
+    pub fn date(&mut self, ctx: &mut FileCtx, line: u64, column: Option<usize>, v: Option<&str>) -> i32 {
+        let (Some(c), Some(v)) = (column, trimmed(v)) else { return NO_DATE };
+        match self.parser.parse(v) {
+            Ok(d) if d > self.as_of => {
+                let msg = format!("after the as-of date {}; left empty", dates::iso(self.as_of));
+                self.problem(ctx, line, c, v, ProblemKind::FutureDate, msg);
+                NO_DATE
+            }
+            Ok(d) => d,
+            Err(DateProblem::Impossible) => {
+                self.problem(ctx, line, c, v, ProblemKind::ImpossibleDate, "no such calendar day; left empty".into());
+                NO_DATE
+            }
+            Err(DateProblem::Unreadable) => {
+                let msg = format!("not a date in the layout {}; left empty", self.parser.layout());
+                self.problem(ctx, line, c, v, ProblemKind::UnreadableDate, msg);
+                NO_DATE
+            }
+        }
+    }
+
+    /// A duration in minutes: the value, or NaN with a field problem recorded.
+    pub fn minutes(&mut self, ctx: &mut FileCtx, line: u64, column: Option<usize>, v: Option<&str>) -> f32 {
+        let (Some(c), Some(v)) = (column, trimmed(v)) else { return f32::NAN };
+        match v.parse::<f64>() {
+            Ok(x) if x.is_finite() && x >= 0.0 => x as f32,
+            Ok(x) if x < 0.0 => {
+                self.problem(ctx, line, c, v, ProblemKind::NegativeNumber, "negative duration; left empty".into());
+                f32::NAN
+            }
+            _ => {
+                self.problem(ctx, line, c, v, ProblemKind::UnreadableNumber, "not a number of minutes; left empty".into());
+                f32::NAN
+            }
+        }
+    }
+
+    /// Stop the load if a date column is day/month ambiguous (ISO layout only).
+    pub fn check_ambiguity(&self, meta: &TableMeta, frame: &DataFrame, columns: &[Option<usize>]) -> Result<()> {
+        if !self.parser.layout().starts_with("YYYY") {
+            return Ok(());
+        }
+        for &c in columns.iter().flatten() {
+            let col = text_column(frame, Some(c), &meta.path)?.into_iter().flat_map(|s| s.iter().take(2000));
+            let sample: Vec<&str> = col.flatten().collect();
+            if let Some(message) = dates::ambiguity_message(&sample) {
+                return Err(Error::Dates { path: meta.path.clone(), column: meta.columns[c].clone(), message });
+            }
+        }
+        Ok(())
+    }
+}
+
+/// Builds people and their attributes from people-table chunks.
+pub struct PeopleBuilder {
+    /// Node of each person.
+    pub ids: IdMap,
+    /// Attributes per node.
+    pub attrs: Attributes,
+    /// Source line of the row that created each node from the people table.
+    pub first_line: Vec<(usize, u64)>,
+    /// Rows quarantined.
+    pub quarantined: Vec<QuarantinedRow>,
+}
+
+/// Fields of the people table whose values are dates.
+const PEOPLE_DATE_FIELDS: [&str; 2] = ["onset_date", "report_date"];
+
+impl PeopleBuilder {
+    /// Start with an empty ID map.
+    pub fn new(case_sensitive: bool) -> PeopleBuilder {
+        PeopleBuilder { ids: IdMap::new(case_sensitive), attrs: Attributes::default(), first_line: Vec::new(), quarantined: Vec::new() }
+    }
+
+    /// Process one chunk of a people file.
+    pub fn add_chunk(&mut self, ctx: &mut FileCtx, chunk: &Chunk, checker: &mut FieldChecker) -> Result<()> {
+        let frame = &chunk.frame;
+        let meta = ctx.meta;
+        let id_col = ctx.mapping.get("person_id").ok_or_else(|| Error::format(&meta.path, "person_id is not mapped"))?;
+        let date_cols: Vec<Option<usize>> = PEOPLE_DATE_FIELDS.iter().map(|f| ctx.mapping.get(f)).collect();
+        if ctx.counts.read == 0 {
+            checker.check_ambiguity(meta, frame, &date_cols)?;
+        }
+        // Attribute column of each file column (canonical name where mapped).
+        let names: Vec<String> = (0..meta.columns.len())
+            .map(|c| {
+                ctx.mapping.fields.iter().find(|(_, &i)| i == c).map(|(f, _)| f.clone()).unwrap_or_else(|| meta.columns[c].clone())
+            })
+            .collect();
+        let nodes = self.ids.len();
+        let attr_of: Vec<usize> = names.iter().map(|n| self.attrs.ensure_column(n, nodes)).collect();
+        let cols: Vec<&StringChunked> = (0..meta.columns.len())
+            .map(|c| text_column(frame, Some(c), &meta.path).map(|o| o.expect("some")))
+            .collect::<Result<_>>()?;
+        for row in 0..frame.height() {
+            let line = chunk.lines.line(row);
+            ctx.counts.read += 1;
+            let Some(id) = trimmed(cols[id_col].get(row)) else {
+                ctx.counts.quarantined += 1;
+                self.quarantined.push(QuarantinedRow {
+                    file: ctx.file,
+                    line,
+                    reason: QuarantineReason::MissingId { field: "person_id".into() },
+                    raw: raw_row(frame, row),
+                });
+                continue;
+            };
+            let (node, new) = self.ids.intern(id);
+            if new {
+                ctx.counts.used += 1;
+                self.first_line.push((ctx.file, line));
+                for v in self.attrs.values.iter_mut() {
+                    v.push(None);
+                }
+            } else {
+                ctx.counts.merged += 1;
+            }
+            for (c, col) in cols.iter().enumerate() {
+                if c == id_col {
+                    continue;
+                }
+                let raw = trimmed(col.get(row));
+                let value: Option<String> = if date_cols.contains(&Some(c)) {
+                    let d = checker.date(ctx, line, Some(c), raw);
+                    (d != NO_DATE).then(|| dates::iso(d))
+                } else {
+                    raw.map(str::to_string)
+                };
+                let Some(value) = value else { continue };
+                let slot = &mut self.attrs.values[attr_of[c]][node as usize];
+                match slot {
+                    None => *slot = Some(value.into()),
+                    Some(old) if **old != *value => {
+                        let (f, l) = self.first_line[node as usize];
+                        let at = if f == ctx.file { format!("line {l}") } else { format!("file {} line {l}", f + 1) };
+                        let msg = format!("person {id} repeated; kept \"{old}\" from {at}");
+                        checker.problem(ctx, line, c, &value, ProblemKind::ConflictingValue, msg);
+                    }
+                    Some(_) => {}
+                }
+            }
+        }
+        Ok(())
+    }
+}
+
+/// Exposure rows kept for aggregation, in input order.
+#[derive(Debug, Default)]
+pub struct ExposureRows {
+    /// `min(a, b) << 32 | max(a, b)` for each usable row.
+    pub keys: Vec<u64>,
+    /// True when the row named the smaller node as source.
+    pub forward: Vec<bool>,
+    /// Last exposure date (day number or NO_DATE), if the field is mapped anywhere.
+    pub last: Vec<i32>,
+    /// First exposure date.
+    pub first: Vec<i32>,
+    /// Minutes (NaN when missing).
+    pub minutes: Vec<f32>,
+    /// Setting code (0 = none; `settings.name(code - 1)` otherwise).
+    pub setting: Vec<u16>,
+    /// Distinct setting labels.
+    pub settings: IdMap,
+    /// (file index, number of usable rows) in read order.
+    pub per_file: Vec<(usize, usize)>,
+    /// Rows quarantined.
+    pub quarantined: Vec<QuarantinedRow>,
+}
+
+impl ExposureRows {
+    /// An empty store; setting labels compare case-insensitively.
+    pub fn new() -> ExposureRows {
+        ExposureRows { settings: IdMap::new(false), ..ExposureRows::default() }
+    }
+
+    /// Process one chunk of an exposures file, interning IDs into `ids`.
+    pub fn add_chunk(&mut self, ctx: &mut FileCtx, chunk: &Chunk, ids: &mut IdMap, checker: &mut FieldChecker) -> Result<()> {
+        let frame = &chunk.frame;
+        let meta = ctx.meta;
+        let m = ctx.mapping;
+        let (src_c, tgt_c) = (m.get("source_id"), m.get("target_id"));
+        let (last_c, first_c, set_c, min_c) =
+            (m.get("exposure_date"), m.get("first_exposure_date"), m.get("setting"), m.get("duration_min"));
+        if ctx.counts.read == 0 {
+            checker.check_ambiguity(meta, frame, &[last_c, first_c])?;
+        }
+        let n = frame.height();
+        let src = text_column(frame, src_c, &meta.path)?;
+        let tgt = text_column(frame, tgt_c, &meta.path)?;
+        let (Some(src), Some(tgt)) = (src, tgt) else {
+            return Err(Error::format(&meta.path, "source_id and target_id must be mapped"));
+        };
+        let last = values(text_column(frame, last_c, &meta.path)?, n);
+        let first = values(text_column(frame, first_c, &meta.path)?, n);
+        let setting = values(text_column(frame, set_c, &meta.path)?, n);
+        let minutes = values(text_column(frame, min_c, &meta.path)?, n);
+        if self.per_file.last().is_none_or(|(f, _)| *f != ctx.file) {
+            self.per_file.push((ctx.file, 0));
+        }
+        // A field this file maps but an earlier file did not: pad the earlier rows first.
+        let done = self.keys.len();
+        if last_c.is_some() && self.last.len() < done {
+            self.last.resize(done, NO_DATE);
+        }
+        if first_c.is_some() && self.first.len() < done {
+            self.first.resize(done, NO_DATE);
+        }
+        if min_c.is_some() && self.minutes.len() < done {
+            self.minutes.resize(done, f32::NAN);
+        }
+        if set_c.is_some() && self.setting.len() < done {
+            self.setting.resize(done, 0);
+        }
+        let rows = src.iter().zip(tgt.iter()).zip(last.zip(first)).zip(setting.zip(minutes));
+        for (row, (((s, t), (l, f)), (st, mi))) in rows.enumerate() {
+            let line = chunk.lines.line(row);
+            ctx.counts.read += 1;
+            let (s, t) = (trimmed(s), trimmed(t));
+            let reason = match (s, t) {
+                (None, _) => Some(QuarantineReason::MissingId { field: "source_id".into() }),
+                (_, None) => Some(QuarantineReason::MissingId { field: "target_id".into() }),
+                (Some(a), Some(b)) if a == b || (ids.get(a).is_some() && ids.get(a) == ids.get(b)) => {
+                    Some(QuarantineReason::SelfExposure)
+                }
+                _ => None,
+            };
+            if let Some(reason) = reason {
+                ctx.counts.quarantined += 1;
+                self.quarantined.push(QuarantinedRow { file: ctx.file, line, reason, raw: raw_row(frame, row) });
+                continue;
+            }
+            let (Some(s), Some(t)) = (s, t) else { continue };
+            let (a, _) = ids.intern(s);
+            let (b, _) = ids.intern(t);
+            if a == b {
+                // Same person under two spellings of a case-insensitive map, first seen here.
+                ctx.counts.quarantined += 1;
+                self.quarantined.push(QuarantinedRow {
+                    file: ctx.file,
+                    line,
+                    reason: QuarantineReason::SelfExposure,
+                    raw: raw_row(frame, row),
+                });
+                continue;
+            }
+            let (lo, hi) = if a < b { (a, b) } else { (b, a) };
+            self.keys.push(u64::from(lo) << 32 | u64::from(hi));
+            self.forward.push(a < b);
+            let ld = checker.date(ctx, line, last_c, l);
+            let mut fd = checker.date(ctx, line, first_c, f);
+            if ld != NO_DATE && fd != NO_DATE && fd > ld {
+                let v = f.unwrap_or("").trim().to_string();
+                let msg = format!("first exposure after the last exposure ({}); left empty", dates::iso(ld));
+                checker.problem(ctx, line, first_c.unwrap_or(0), &v, ProblemKind::DateOrder, msg);
+                fd = NO_DATE;
+            }
+            if last_c.is_some() {
+                self.last.push(ld);
+            }
+            if first_c.is_some() {
+                self.first.push(fd);
+            }
+            if min_c.is_some() {
+                self.minutes.push(checker.minutes(ctx, line, min_c, mi));
+            }
+            if set_c.is_some() {
+                let code = match trimmed(st) {
+                    None => 0,
+                    Some(label) => {
+                        let (i, _) = self.settings.intern(label);
+                        u16::try_from(i + 1).unwrap_or(u16::MAX)
+                    }
+                };
+                self.setting.push(code);
+            }
+            if let Some(last) = self.per_file.last_mut() {
+                last.1 += 1;
+            }
+        }
+        Ok(())
+    }
+
+    /// Pad attribute arrays when files differ in which optional fields they map, so that
+    /// every array has one entry per usable row.
+    pub fn pad(&mut self) {
+        let n = self.keys.len();
+        for v in [&mut self.last, &mut self.first] {
+            if !v.is_empty() && v.len() < n {
+                v.resize(n, NO_DATE);
+            }
+        }
+        if !self.minutes.is_empty() && self.minutes.len() < n {
+            self.minutes.resize(n, f32::NAN);
+        }
+        if !self.setting.is_empty() && self.setting.len() < n {
+            self.setting.resize(n, 0);
+        }
+    }
+}

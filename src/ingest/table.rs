@@ -1,0 +1,458 @@
+//! One input file opened as a table: its columns, and its rows delivered as polars frames of
+//! text columns in bounded chunks, each row tied to its 1-based source line (or record).
+//!
+//! Rows that cannot be split into the table's columns (wrong number of fields) never reach a
+//! frame: they are returned as [`Rejected`] with their line, so that nothing is lost.
+
+use std::fs::File;
+use std::io::Read;
+use std::path::{Path, PathBuf};
+
+use polars::prelude::*;
+
+use super::sniff::{self, Separator};
+use crate::config::Config;
+use crate::error::{Error, Result};
+
+/// The file formats hubwatch reads.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum FileKind {
+    /// Delimited text, possibly gzip-compressed.
+    Text,
+    /// Apache Parquet.
+    Parquet,
+    /// Newline-delimited JSON, one object per line.
+    NdJson,
+    /// Excel workbook (.xlsx, .xlsm, .xls, .ods through calamine).
+    Excel,
+}
+
+impl FileKind {
+    /// Choose by file name (ignoring a trailing `.gz`) and, for text, by content later.
+    pub fn from_path(path: &Path) -> FileKind {
+        let name = path.file_name().map(|n| n.to_string_lossy().to_lowercase()).unwrap_or_default();
+        let name = name.strip_suffix(".gz").unwrap_or(&name);
+        if name.ends_with(".parquet") || name.ends_with(".pq") {
+            FileKind::Parquet
+        } else if name.ends_with(".ndjson") || name.ends_with(".jsonl") || name.ends_with(".json") {
+            FileKind::NdJson
+        } else if [".xlsx", ".xlsm", ".xls", ".ods"].iter().any(|e| name.ends_with(e)) {
+            FileKind::Excel
+        } else {
+            FileKind::Text
+        }
+    }
+
+    /// True for file names hubwatch would pick up from a folder.
+    pub fn is_table_file(path: &Path) -> bool {
+        let name = path.file_name().map(|n| n.to_string_lossy().to_lowercase()).unwrap_or_default();
+        let name = name.strip_suffix(".gz").unwrap_or(&name);
+        [
+            ".csv", ".tsv", ".txt", ".dat", ".tab", ".parquet", ".pq", ".ndjson", ".jsonl", ".json",
+            ".xlsx", ".xlsm", ".xls", ".ods",
+        ]
+        .iter()
+        .any(|e| name.ends_with(e))
+    }
+}
+
+/// Maps a frame row to the line (text, NDJSON, spreadsheet) or record (Parquet) it came from.
+#[derive(Debug, Clone)]
+pub enum LineMap {
+    /// Row r came from line `first + r`.
+    Contiguous {
+        /// Line of row 0.
+        first: u64,
+    },
+    /// Row r came from line `lines[r]`.
+    Explicit(Vec<u64>),
+}
+
+impl LineMap {
+    /// The 1-based source line of frame row `row`.
+    pub fn line(&self, row: usize) -> u64 {
+        match self {
+            LineMap::Contiguous { first } => first + row as u64,
+            LineMap::Explicit(v) => v[row],
+        }
+    }
+}
+
+/// A row rejected before it could become a frame row.
+#[derive(Debug, Clone)]
+pub struct Rejected {
+    /// 1-based source line.
+    pub line: u64,
+    /// Why it was set aside.
+    pub reason: String,
+    /// The raw text of the line (shortened if very long).
+    pub raw: String,
+}
+
+/// A batch of rows, all columns as text.
+pub struct Chunk {
+    /// Columns named as in [`TableMeta::columns`], all of dtype String.
+    pub frame: DataFrame,
+    /// Source line of each row.
+    pub lines: LineMap,
+}
+
+/// What is known about a table before its rows are read.
+#[derive(Debug, Clone)]
+pub struct TableMeta {
+    /// The file.
+    pub path: PathBuf,
+    /// Its format.
+    pub kind: FileKind,
+    /// Column names (from the header, or `column_1`, `column_2`… without one).
+    pub columns: Vec<String>,
+    /// True when the file had no header line.
+    pub headerless: bool,
+    /// Separator used (delimited text only).
+    pub separator: Option<Separator>,
+    /// "line" or "record": how to name a position in this file.
+    pub unit: &'static str,
+    /// True for spreadsheets, whose numeric cells in date columns are serial dates.
+    pub excel_serials: bool,
+}
+
+/// Options from the command line that affect reading.
+#[derive(Debug, Clone, Default)]
+pub struct ReadOptions {
+    /// Worksheet name for spreadsheets (first sheet if none).
+    pub sheet: Option<String>,
+    /// Rows per chunk handed to the consumer (0 = default).
+    pub chunk_rows: usize,
+}
+
+/// An opened table: its metadata and what is needed to produce its rows.
+pub struct Table {
+    /// Columns and format.
+    pub meta: TableMeta,
+    body: Body,
+}
+
+enum Body {
+    Text(TextBody),
+    Frame(DataFrame, LineMap, Vec<Rejected>),
+}
+
+struct TextBody {
+    bytes: Bytes,
+    /// Offset of the first data line (after the header, if any).
+    data_start: usize,
+    /// 1-based line number of the first data line.
+    data_line: u64,
+    sep: Separator,
+    comment: Vec<u8>,
+}
+
+/// File contents: memory-mapped, or decompressed into memory.
+enum Bytes {
+    Mapped(memmap2::Mmap),
+    Owned(Vec<u8>),
+}
+
+impl std::ops::Deref for Bytes {
+    type Target = [u8];
+    fn deref(&self) -> &[u8] {
+        match self {
+            Bytes::Mapped(m) => m,
+            Bytes::Owned(v) => v,
+        }
+    }
+}
+
+/// Default number of bytes of text handed to polars at once (bounds peak memory).
+const CHUNK_BYTES: usize = 48 << 20;
+
+impl Table {
+    /// Open a file and read its header (cheap: the body is parsed by [`Table::read`]).
+    pub fn open(path: &Path, config: &Config, opts: &ReadOptions) -> Result<Table> {
+        if !path.exists() {
+            return Err(Error::NotFound { path: path.to_path_buf() });
+        }
+        match FileKind::from_path(path) {
+            FileKind::Text => open_text(path, config),
+            FileKind::Parquet => super::formats::read_parquet(path),
+            FileKind::NdJson => super::formats::read_ndjson(path),
+            FileKind::Excel => super::formats::read_excel(path, opts.sheet.as_deref()),
+        }
+    }
+
+    /// Build a table from a frame already in memory (used by the other formats).
+    pub(super) fn from_frame(meta: TableMeta, frame: DataFrame, lines: LineMap, rejected: Vec<Rejected>) -> Table {
+        Table { meta, body: Body::Frame(frame, lines, rejected) }
+    }
+
+    /// Deliver every row in chunks; return the rows rejected for their shape.
+    pub fn read(self, opts: &ReadOptions, mut sink: impl FnMut(Chunk) -> Result<()>) -> Result<Vec<Rejected>> {
+        match self.body {
+            Body::Frame(frame, lines, rejected) => {
+                sink(Chunk { frame, lines })?;
+                Ok(rejected)
+            }
+            Body::Text(body) => read_text(&self.meta, body, opts, &mut sink),
+        }
+    }
+}
+
+fn load_bytes(path: &Path) -> Result<Bytes> {
+    let file = File::open(path).map_err(|e| Error::io(path, e))?;
+    let mut magic = [0u8; 2];
+    let gz = (&file).read(&mut magic).map_err(|e| Error::io(path, e))? == 2 && magic == [0x1f, 0x8b];
+    if gz {
+        let file = File::open(path).map_err(|e| Error::io(path, e))?;
+        let mut out = Vec::new();
+        flate2::read::MultiGzDecoder::new(std::io::BufReader::new(file))
+            .read_to_end(&mut out)
+            .map_err(|e| Error::format(path, format!("not a readable gzip file: {e}")))?;
+        return Ok(Bytes::Owned(out));
+    }
+    let len = file.metadata().map_err(|e| Error::io(path, e))?.len();
+    if len == 0 {
+        return Ok(Bytes::Owned(Vec::new()));
+    }
+    // SAFETY: the map is read-only and private to this process; a file truncated underneath a
+    // running load is outside what hubwatch can defend against (as for any mmap reader).
+    let map = unsafe { memmap2::Mmap::map(&file) }.map_err(|e| Error::io(path, e))?;
+    Ok(Bytes::Mapped(map))
+}
+
+impl Table {
+    /// Open delimited text held in memory (the built-in sample), shown under `name`.
+    pub fn open_bytes(name: &Path, bytes: Vec<u8>, config: &Config) -> Result<Table> {
+        open_text_bytes(name, Bytes::Owned(bytes), config)
+    }
+}
+
+fn open_text(path: &Path, config: &Config) -> Result<Table> {
+    open_text_bytes(path, load_bytes(path)?, config)
+}
+
+fn open_text_bytes(path: &Path, bytes: Bytes, config: &Config) -> Result<Table> {
+    let start = if bytes.starts_with(sniff::BOM) { sniff::BOM.len() } else { 0 };
+    let comment = config.csv.comment_prefix.as_bytes().to_vec();
+    // Skip blank and comment lines before the first content line, and take a sample.
+    let mut first: Option<(usize, u64, &[u8])> = None;
+    let mut sample: Vec<&[u8]> = Vec::new();
+    for (i, (off, line)) in sniff::lines(&bytes[start..]).enumerate() {
+        if sniff::is_blank(line) || sniff::is_comment(line, &comment) {
+            continue;
+        }
+        if first.is_none() {
+            first = Some((start + off, i as u64 + 1, line));
+        }
+        sample.push(line);
+        if sample.len() >= 64 {
+            break;
+        }
+    }
+    let Some((first_off, first_line, first_text)) = first else {
+        return Err(Error::format(path, "the file is empty (no header and no rows)"));
+    };
+    if std::str::from_utf8(first_text).is_err() {
+        return Err(Error::format(
+            path,
+            format!("line {first_line} is not valid UTF-8; save the file as UTF-8 and try again"),
+        ));
+    }
+    let sep = match Separator::parse_setting(&config.csv.separator)? {
+        Some(s) => s,
+        None => sniff::detect_separator(&sample),
+    };
+    let first_fields = sniff::split_fields(first_text, sep);
+    let has_header = sniff::detect_header(&config.csv.header, &first_fields);
+    let columns: Vec<String> = if has_header {
+        first_fields.iter().map(|f| f.trim().to_string()).collect()
+    } else {
+        (1..=first_fields.len()).map(|i| format!("column_{i}")).collect()
+    };
+    check_unique_columns(path, &columns)?;
+    let (data_start, data_line) = if has_header {
+        let end = memchr::memchr(b'\n', &bytes[first_off..]).map_or(bytes.len(), |i| first_off + i + 1);
+        (end, first_line + 1)
+    } else {
+        (first_off, first_line)
+    };
+    let meta = TableMeta {
+        path: path.to_path_buf(),
+        kind: FileKind::Text,
+        columns,
+        headerless: !has_header,
+        separator: Some(sep),
+        unit: "line",
+        excel_serials: false,
+    };
+    Ok(Table { meta, body: Body::Text(TextBody { bytes, data_start, data_line, sep, comment }) })
+}
+
+/// Two columns with one name would make the mapping ambiguous: refuse with both positions.
+pub(super) fn check_unique_columns(path: &Path, columns: &[String]) -> Result<()> {
+    for (i, c) in columns.iter().enumerate() {
+        if let Some(j) = columns[..i].iter().position(|d| d == c) {
+            if c.is_empty() {
+                continue;
+            }
+            return Err(Error::format(
+                path,
+                format!("columns {} and {} are both named \"{c}\"; rename one", j + 1, i + 1),
+            ));
+        }
+    }
+    Ok(())
+}
+
+/// Result of scanning the data lines once.
+struct Scan {
+    /// Clean bytes to parse (None: the original region is already clean).
+    clean: Option<Vec<u8>>,
+    /// Source line of each clean row (None: contiguous from the first data line).
+    lines: Option<Vec<u64>>,
+    rejected: Vec<Rejected>,
+    /// True when a quote character occurs (chunks may then not be split at any newline).
+    quoted: bool,
+}
+
+fn read_text(meta: &TableMeta, body: TextBody, opts: &ReadOptions, sink: &mut dyn FnMut(Chunk) -> Result<()>) -> Result<Vec<Rejected>> {
+    let region = &body.bytes[body.data_start.min(body.bytes.len())..];
+    let ncols = meta.columns.len();
+    let scan = scan_lines(region, body.data_line, ncols, body.sep, &body.comment);
+    let data: &[u8] = scan.clean.as_deref().unwrap_or(region);
+    let sep_byte = match body.sep {
+        Separator::Byte(b) => b,
+        Separator::Whitespace => b'\t',
+    };
+    let schema: Schema = meta.columns.iter().map(|c| Field::new(c.as_str().into(), DataType::String)).collect();
+    let schema = Arc::new(schema);
+    let chunk_bytes = if opts.chunk_rows > 0 { opts.chunk_rows * 40 } else { CHUNK_BYTES };
+    let mut rows_done = 0usize;
+    let mut pos = 0usize;
+    while pos < data.len() {
+        let end = if scan.quoted || data.len() - pos <= chunk_bytes {
+            data.len()
+        } else {
+            memchr::memchr(b'\n', &data[pos + chunk_bytes..]).map_or(data.len(), |i| pos + chunk_bytes + i + 1)
+        };
+        let piece = &data[pos..end];
+        let frame = CsvReadOptions::default()
+            .with_has_header(false)
+            .with_schema(Some(schema.clone()))
+            .with_rechunk(false)
+            .map_parse_options(|p| {
+                p.with_separator(sep_byte)
+                    .with_quote_char(if body.sep == Separator::Whitespace { None } else { Some(b'"') })
+                    .with_missing_is_null(true)
+            })
+            .into_reader_with_file_handle(std::io::Cursor::new(piece))
+            .finish()
+            .map_err(|e| Error::Polars { path: meta.path.clone(), source: e })?;
+        let n = frame.height();
+        let lines = match &scan.lines {
+            None => LineMap::Contiguous { first: body.data_line + rows_done as u64 },
+            Some(v) => {
+                let slice = v.get(rows_done..rows_done + n).ok_or_else(|| {
+                    Error::format(&meta.path, "internal error: row count differs from the line scan; please report")
+                })?;
+                LineMap::Explicit(slice.to_vec())
+            }
+        };
+        rows_done += n;
+        sink(Chunk { frame, lines })?;
+        pos = end;
+    }
+    Ok(scan.rejected)
+}
+
+/// Scan the data region: find comment lines, blank lines and lines with the wrong number of
+/// fields. When any is found (or separators are whitespace runs), build a clean copy holding
+/// only good rows, with the source line of each.
+fn scan_lines(region: &[u8], first_line: u64, ncols: usize, sep: Separator, comment: &[u8]) -> Scan {
+    let quoted = sep != Separator::Whitespace && memchr::memchr(b'"', region).is_some();
+    let needs_rewrite = sep == Separator::Whitespace;
+    if !quoted && !needs_rewrite && fast_region_is_clean(region, ncols, sep, comment) {
+        return Scan { clean: None, lines: None, rejected: Vec::new(), quoted };
+    }
+    let mut clean = Vec::with_capacity(region.len());
+    let mut lines = Vec::new();
+    let mut rejected = Vec::new();
+    let mut line_no = first_line;
+    let mut pos = 0;
+    while pos < region.len() {
+        // A record ends at a newline outside quotes.
+        let (end, spanned) = record_end(region, pos, quoted);
+        let raw = sniff::trim_cr(&region[pos..end]);
+        let next = (end + 1).min(region.len().max(end + 1));
+        if !(sniff::is_blank(raw) || sniff::is_comment(raw, comment)) {
+            let n = sniff::count_fields(raw, sep);
+            if n == ncols {
+                lines.push(line_no);
+                if sep == Separator::Whitespace {
+                    let mut first = true;
+                    for f in raw.split(|b| *b == b' ' || *b == b'\t').filter(|f| !f.is_empty()) {
+                        if !first {
+                            clean.push(b'\t');
+                        }
+                        clean.extend_from_slice(f);
+                        first = false;
+                    }
+                } else {
+                    clean.extend_from_slice(raw);
+                }
+                clean.push(b'\n');
+            } else {
+                let text = String::from_utf8_lossy(&raw[..raw.len().min(200)]).into_owned();
+                rejected.push(Rejected {
+                    line: line_no,
+                    reason: format!("wrong number of fields: {n}, expected {ncols}"),
+                    raw: text,
+                });
+            }
+        }
+        line_no += 1 + spanned;
+        pos = next;
+    }
+    Scan { clean: Some(clean), lines: Some(lines), rejected, quoted }
+}
+
+/// End offset of the record starting at `pos`, and how many extra newlines it spans.
+fn record_end(region: &[u8], pos: usize, quoted: bool) -> (usize, u64) {
+    if !quoted {
+        return (memchr::memchr(b'\n', &region[pos..]).map_or(region.len(), |i| pos + i), 0);
+    }
+    let mut in_quotes = false;
+    let mut spanned = 0;
+    for (i, &b) in region[pos..].iter().enumerate() {
+        match b {
+            b'"' => in_quotes = !in_quotes,
+            b'\n' if !in_quotes => return (pos + i, spanned),
+            b'\n' => spanned += 1,
+            _ => {}
+        }
+    }
+    (region.len(), spanned)
+}
+
+/// The fast check for the common case (no quotes): every line non-blank, not a comment, with
+/// the right number of separators. Runs on two threads over the two halves of the region.
+fn fast_region_is_clean(region: &[u8], ncols: usize, sep: Separator, comment: &[u8]) -> bool {
+    let Separator::Byte(s) = sep else { return false };
+    let check = |part: &[u8]| -> bool {
+        sniff::lines(part).all(|(_, l)| {
+            !l.is_empty()
+                && !sniff::is_comment(l, comment)
+                && memchr::memchr_iter(s, l).count() + 1 == ncols
+                && !sniff::is_blank(l)
+        })
+    };
+    if region.len() < (4 << 20) {
+        return check(region);
+    }
+    let mid = memchr::memchr(b'\n', &region[region.len() / 2..]).map_or(region.len(), |i| region.len() / 2 + i + 1);
+    let (a, b) = region.split_at(mid);
+    std::thread::scope(|sc| {
+        let h = sc.spawn(|| check(b));
+        let ra = check(a);
+        ra && h.join().unwrap_or(false)
+    })
+}

@@ -1,0 +1,226 @@
+//! Text and JSON renderings of the ledger (`hubwatch check`) and the summary, and the
+//! quarantine file. Only formatting here: every figure comes from `ingest` or `summary`.
+
+use std::collections::BTreeMap;
+use std::fmt::Write as _;
+use std::io::Write;
+use std::path::Path;
+
+use serde::Serialize;
+
+use crate::error::{Error, Result};
+use crate::ingest::ledger::{Counts, Ledger, Role};
+use crate::ingest::Dataset;
+use crate::summary::Summary;
+
+/// How many examples of each reason `check` shows.
+pub const EXAMPLES: usize = 3;
+
+/// One example row for a reason.
+#[derive(Debug, Serialize)]
+pub struct Example {
+    /// File path.
+    pub file: String,
+    /// 1-based line or record.
+    pub line: u64,
+    /// Column (field problems only).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub column: Option<String>,
+    /// Value or raw row.
+    pub value: String,
+    /// What happened.
+    pub reason: String,
+}
+
+/// The JSON form of `hubwatch check`.
+#[derive(Debug, Serialize)]
+pub struct CheckReport<'a> {
+    /// Files with role, format, mapping and counts.
+    pub files: &'a [crate::ingest::ledger::FileReport],
+    /// Totals per table.
+    pub rows: BTreeMap<&'static str, Counts>,
+    /// Quarantined rows per table and reason code.
+    pub quarantined: BTreeMap<&'static str, BTreeMap<&'static str, u64>>,
+    /// Field problems per table and kind code.
+    pub field_problems: BTreeMap<&'static str, BTreeMap<&'static str, u64>>,
+    /// The first examples per reason code.
+    pub examples: BTreeMap<String, Vec<Example>>,
+    /// Whether read = used + merged + quarantined holds for every file.
+    pub balanced: bool,
+}
+
+/// Build the check report.
+pub fn check_report(ledger: &Ledger) -> CheckReport<'_> {
+    let mut examples: BTreeMap<String, Vec<Example>> = BTreeMap::new();
+    for q in &ledger.quarantined {
+        let f = &ledger.files[q.file];
+        let v = examples.entry(format!("{}.{}", f.role.name(), q.reason.code())).or_default();
+        if v.len() < EXAMPLES {
+            v.push(Example { file: f.path.display().to_string(), line: q.line, column: None, value: q.raw.clone(), reason: q.reason.describe() });
+        }
+    }
+    for p in &ledger.problems {
+        let f = &ledger.files[p.file];
+        let v = examples.entry(format!("{}.{}", f.role.name(), p.kind.code())).or_default();
+        if v.len() < EXAMPLES {
+            v.push(Example {
+                file: f.path.display().to_string(),
+                line: p.line,
+                column: Some(p.column.clone()),
+                value: p.value.clone(),
+                reason: p.reason.clone(),
+            });
+        }
+    }
+    CheckReport {
+        files: &ledger.files,
+        rows: BTreeMap::from([("people", ledger.people), ("exposures", ledger.exposures)]),
+        quarantined: BTreeMap::from([
+            ("people", ledger.quarantine_counts(Role::People)),
+            ("exposures", ledger.quarantine_counts(Role::Exposures)),
+        ]),
+        field_problems: BTreeMap::from([
+            ("people", ledger.problem_counts(Role::People)),
+            ("exposures", ledger.problem_counts(Role::Exposures)),
+        ]),
+        examples,
+        balanced: ledger.files.iter().all(|f| f.counts.balanced()),
+    }
+}
+
+/// Plain-text rendering of the check report.
+pub fn check_text(r: &CheckReport, as_of: &str) -> String {
+    let mut s = String::new();
+    let _ = writeln!(s, "hubwatch check (as of {as_of})\n\nFiles:");
+    for f in r.files {
+        let map: Vec<String> = f.mapping.iter().map(|(k, v)| format!("{k}=\"{v}\"")).collect();
+        let _ = writeln!(
+            s,
+            "  {:<9} {}\n            {}, {}; columns: {}",
+            f.role.name(),
+            f.path.display(),
+            f.format,
+            if f.header { "header line" } else { "no header line" },
+            map.join(" ")
+        );
+    }
+    let _ = writeln!(s, "\nRows            read       used     merged  quarantined  field problems");
+    for (name, c) in &r.rows {
+        let _ = writeln!(s, "  {name:<9} {:>10} {:>10} {:>10} {:>12} {:>15}", c.read, c.used, c.merged, c.quarantined, c.field_problems);
+    }
+    let _ = writeln!(
+        s,
+        "  read = used + merged + quarantined: {}",
+        if r.balanced { "holds for every file" } else { "DOES NOT HOLD (please report this)" }
+    );
+    for (title, table) in [("Quarantined rows", &r.quarantined), ("Field problems (row kept, value left empty)", &r.field_problems)] {
+        let total: u64 = table.values().flat_map(|m| m.values()).sum();
+        let _ = writeln!(s, "\n{title}: {total}");
+        for (role, m) in table.iter() {
+            for (code, n) in m {
+                let _ = writeln!(s, "  {role} {code}: {n}");
+                for e in r.examples.get(&format!("{role}.{code}")).into_iter().flatten() {
+                    let col = e.column.as_ref().map(|c| format!(" column \"{c}\"")).unwrap_or_default();
+                    let _ = writeln!(s, "    {} line {}{col}: \"{}\" ({})", e.file, e.line, e.value, e.reason);
+                }
+            }
+        }
+    }
+    s
+}
+
+/// Plain-text rendering of the summary.
+pub fn summary_text(sum: &Summary, d: &Dataset) -> String {
+    let mut s = String::new();
+    let _ = writeln!(s, "hubwatch summary (as of {})", sum.as_of);
+    for f in &d.ledger.files {
+        let _ = writeln!(s, "  {:<9} {}", f.role.name(), f.path.display());
+    }
+    let _ = writeln!(s);
+    let share = sum.components.largest_share.map(|x| format!("{:.1}%", 100.0 * x)).unwrap_or_else(|| "-".into());
+    let rows = [
+        ("people", sum.people.to_string()),
+        ("  of which implied (only in exposures)", sum.implied.to_string()),
+        ("  of which isolated (no contact)", sum.isolated.to_string()),
+        ("distinct contact pairs", sum.contacts.to_string()),
+        ("highest number of contacts", sum.max_degree.to_string()),
+        ("clusters (connected components)", sum.components.count.to_string()),
+        ("largest cluster", format!("{} people ({share})", sum.components.largest)),
+        (
+            "exposure rows read / used / merged / quarantined",
+            format!("{} / {} / {} / {}", sum.rows.exposures.read, sum.rows.exposures.used, sum.rows.exposures.merged, sum.rows.exposures.quarantined),
+        ),
+        ("field problems (see `hubwatch check`)", (sum.rows.exposures.field_problems + sum.rows.people.field_problems).to_string()),
+    ];
+    for (k, v) in rows {
+        let _ = writeln!(s, "  {k:<50} {v}");
+    }
+    let _ = writeln!(s, "\n{}", crate::CAUTION);
+    s
+}
+
+/// Quote a CSV field when needed.
+fn csv_field(v: &str) -> String {
+    if v.contains([',', '"', '\n', '\r']) {
+        format!("\"{}\"", v.replace('"', "\"\""))
+    } else {
+        v.to_string()
+    }
+}
+
+/// Write every quarantined row and field problem to `path` (CSV, created private).
+pub fn write_quarantine(path: &Path, ledger: &Ledger) -> Result<()> {
+    let mut out = String::from("kind,file,line,column,value,reason\n");
+    for q in &ledger.quarantined {
+        let f = &ledger.files[q.file];
+        let _ = writeln!(
+            out,
+            "quarantined,{},{},,{},{}",
+            csv_field(&f.path.display().to_string()),
+            q.line,
+            csv_field(&q.raw),
+            csv_field(&format!("{}: {}", q.reason.code(), q.reason.describe()))
+        );
+    }
+    for p in &ledger.problems {
+        let f = &ledger.files[p.file];
+        let _ = writeln!(
+            out,
+            "field_problem,{},{},{},{},{}",
+            csv_field(&f.path.display().to_string()),
+            p.line,
+            csv_field(&p.column),
+            csv_field(&p.value),
+            csv_field(&format!("{}: {}", p.kind.code(), p.reason))
+        );
+    }
+    write_private(path, out.as_bytes())
+}
+
+/// Write a file atomically (temporary file in the same folder, fsync, rename), mode 0600.
+pub fn write_private(path: &Path, bytes: &[u8]) -> Result<()> {
+    let dir = path.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
+    let name = path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_else(|| "out".into());
+    let tmp = dir.join(format!(".{name}.{}.tmp", std::process::id()));
+    let mut opts = std::fs::OpenOptions::new();
+    opts.write(true).create_new(true);
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::OpenOptionsExt;
+        opts.mode(0o600);
+    }
+    let result = (|| {
+        let mut f = opts.open(&tmp)?;
+        f.write_all(bytes)?;
+        f.sync_all()?;
+        std::fs::rename(&tmp, path)?;
+        if let Ok(d) = std::fs::File::open(dir) {
+            let _ = d.sync_all();
+        }
+        Ok(())
+    })();
+    result.map_err(|e| {
+        let _ = std::fs::remove_file(&tmp);
+        Error::io(path, e)
+    })
+}

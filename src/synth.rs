@@ -1,0 +1,265 @@
+//! `hubwatch synth`: an invented outbreak export for demos, tests and benchmarks.
+//!
+//! The scenario is our own: people live in households (everyone in a household meets everyone
+//! else), most go to a workplace or school (each meets a few colleagues), and everyone has
+//! community contacts wired by the configuration model on a negative-binomial degree sequence
+//! (heavy-tailed: a few people meet many). Exposures spread over six weeks before the as-of
+//! date; an infection runs along exposures in date order from a few index cases, so cases carry
+//! onset dates and infector -> infectee rows exist. A small, stated share of dirty rows is
+//! planted and counted in `manifest.json`.
+//!
+//! Memory is O(people + pairs): pairs are held as compact integers, exposure rows are streamed
+//! straight to disk.
+
+use std::fs::File;
+use std::io::{BufWriter, Write};
+use std::path::Path;
+
+use rand::seq::SliceRandom;
+use rand::{Rng, SeedableRng};
+use rand_chacha::ChaCha8Rng;
+use rand_distr::{Distribution, Gamma, Poisson};
+use serde::Serialize;
+
+use crate::error::{Error, Result};
+
+/// Generator settings.
+#[derive(Debug, Clone)]
+pub struct SynthOptions {
+    /// Number of people.
+    pub people: usize,
+    /// Random seed (same seed, same files).
+    pub seed: u64,
+    /// Last day of the scenario (day number since 0001-01-01).
+    pub end_day: i32,
+    /// Mean community degree of the negative-binomial sequence.
+    pub community_mean: f64,
+    /// Dispersion k of the community degrees (smaller = more heavy-tailed).
+    pub community_k: f64,
+}
+
+impl SynthOptions {
+    /// Defaults for `people` people: community mean 2.5, k = 0.4.
+    pub fn new(people: usize, seed: u64, end_day: i32) -> SynthOptions {
+        SynthOptions { people, seed, end_day, community_mean: 2.5, community_k: 0.4 }
+    }
+}
+
+/// What was written, including every dirty row planted on purpose.
+#[derive(Debug, Clone, Default, Serialize, PartialEq, Eq)]
+pub struct Manifest {
+    /// People rows written (including planted repeats and blank IDs).
+    pub people_rows: u64,
+    /// Distinct people.
+    pub people: u64,
+    /// Exposure rows written.
+    pub exposure_rows: u64,
+    /// Distinct contact pairs among valid rows.
+    pub pairs: u64,
+    /// Cases (index cases and infected contacts).
+    pub cases: u64,
+    /// Planted: exposure rows whose two IDs are the same person.
+    pub self_exposures: u64,
+    /// Planted: exposure rows with a blank target ID.
+    pub blank_targets: u64,
+    /// Planted: exposure rows with an impossible or unreadable date.
+    pub bad_dates: u64,
+    /// Planted: exposure rows with a negative or non-numeric duration.
+    pub bad_durations: u64,
+    /// Planted: people rows repeating an ID with a conflicting area.
+    pub repeated_people: u64,
+    /// Planted: people rows with a blank ID.
+    pub blank_people: u64,
+}
+
+const SETTINGS: [&str; 5] = ["household", "workplace", "school", "community", "healthcare"];
+const AREAS: [&str; 6] = ["Brackenford", "Hollins Cross", "Saltmere", "Wyndle Green", "Corran Heights", "Mossbank"];
+const AGES: [&str; 5] = ["0-4", "5-17", "18-34", "35-59", "60+"];
+const WEEKS: i32 = 6;
+
+/// A contact pair with its setting and first day (offset from the scenario start).
+#[derive(Clone, Copy)]
+struct Pair {
+    a: u32,
+    b: u32,
+    setting: u8,
+    day: u16,
+}
+
+/// Write `people.csv`, `exposures.csv` and `manifest.json` into `dir`.
+pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
+    if opts.people < 2 {
+        return Err(Error::Usage("synth needs at least 2 people".into()));
+    }
+    std::fs::create_dir_all(dir).map_err(|e| Error::io(dir, e))?;
+    let mut rng = ChaCha8Rng::seed_from_u64(opts.seed);
+    let n = opts.people;
+    let span = WEEKS * 7;
+    let start = opts.end_day - span;
+    let dates: Vec<String> = (0..=span + 14).map(|d| crate::ingest::dates::iso(start + d)).collect();
+
+    // People: household, age group, area, workplace/school.
+    let mut household = vec![0u32; n];
+    let mut age = vec![0u8; n];
+    let mut area = vec![0u8; n];
+    let mut pairs: Vec<Pair> = Vec::with_capacity(n * 3);
+    let mut i = 0usize;
+    let mut hh = 0u32;
+    while i < n {
+        let size = [1, 1, 2, 2, 2, 3, 3, 4, 4, 5, 6][rng.random_range(0..11)].min(n - i);
+        let a = rng.random_range(0..AREAS.len()) as u8;
+        for p in i..i + size {
+            household[p] = hh;
+            area[p] = a;
+            age[p] = rng.random_range(0..AGES.len()) as u8;
+            for q in i..p {
+                pairs.push(Pair { a: q as u32, b: p as u32, setting: 0, day: rng.random_range(0..span as u16) });
+            }
+        }
+        hh += 1;
+        i += size;
+    }
+    // Workplaces (adults) and schools (children): groups of 8..40, each member meets 3 others.
+    for (setting, ages) in [(1u8, [2u8, 3]), (2u8, [1u8, 1])] {
+        let mut members: Vec<u32> =
+            (0..n as u32).filter(|&p| ages.contains(&age[p as usize]) && rng.random_bool(0.8)).collect();
+        members.shuffle(&mut rng);
+        for group in members.chunks(rng.random_range(8..40)) {
+            if group.len() < 2 {
+                continue;
+            }
+            for &p in group {
+                for _ in 0..3 {
+                    let q = group[rng.random_range(0..group.len())];
+                    if q != p {
+                        pairs.push(Pair { a: p, b: q, setting, day: rng.random_range(0..span as u16) });
+                    }
+                }
+            }
+        }
+    }
+    // Community: configuration model on a negative-binomial degree sequence.
+    let gamma = Gamma::new(opts.community_k, opts.community_mean / opts.community_k)
+        .map_err(|e| Error::Usage(format!("synth: bad community parameters: {e}")))?;
+    let mut stubs: Vec<u32> = Vec::new();
+    for p in 0..n as u32 {
+        let lambda: f64 = gamma.sample(&mut rng);
+        let k = if lambda > 0.0 { Poisson::new(lambda).map(|d| d.sample(&mut rng) as u64).unwrap_or(0) } else { 0 };
+        for _ in 0..k.min(500) {
+            stubs.push(p);
+        }
+    }
+    stubs.shuffle(&mut rng);
+    for s in stubs.chunks_exact(2) {
+        if s[0] != s[1] {
+            let setting = if rng.random_bool(0.05) { 4 } else { 3 };
+            pairs.push(Pair { a: s[0], b: s[1], setting, day: rng.random_range(0..span as u16) });
+        }
+    }
+    drop(stubs);
+
+    // Infection along pairs in date order from a few index cases.
+    pairs.sort_unstable_by_key(|p| p.day);
+    let mut onset = vec![u16::MAX; n];
+    let seeds = (n / 200).max(2);
+    for _ in 0..seeds {
+        let p = rng.random_range(0..n);
+        onset[p] = rng.random_range(0..7);
+    }
+    let risk = [0.25, 0.06, 0.05, 0.03, 0.08];
+    for pr in pairs.iter_mut() {
+        let (a, b) = (pr.a as usize, pr.b as usize);
+        let infectious = |x: usize| onset[x] != u16::MAX && pr.day + 2 >= onset[x] && pr.day <= onset[x] + 7;
+        let (src, dst) = if infectious(a) && onset[b] == u16::MAX {
+            (a, b)
+        } else if infectious(b) && onset[a] == u16::MAX {
+            (b, a)
+        } else {
+            continue;
+        };
+        if rng.random_bool(risk[pr.setting as usize]) {
+            let o = pr.day + rng.random_range(2..10);
+            if i32::from(o) <= span {
+                onset[dst] = o;
+                // Name the infector as the source of the row.
+                pr.a = src as u32;
+                pr.b = dst as u32;
+            }
+        }
+    }
+
+    let mut m = Manifest::default();
+    let id = |p: usize| format!("P{p:07}");
+    // People table.
+    let path = dir.join("people.csv");
+    let mut w = BufWriter::with_capacity(1 << 20, File::create(&path).map_err(|e| Error::io(&path, e))?);
+    let io = |e| Error::io(dir.join("people.csv"), e);
+    writeln!(w, "person_id,role,onset_date,status,area,age_group,followup_status,household_id").map_err(io)?;
+    let planted_people = (n / 500).max(1);
+    for p in 0..n {
+        let case = onset[p] != u16::MAX;
+        m.cases += u64::from(case);
+        let on = if case { dates[onset[p] as usize].as_str() } else { "" };
+        let (role, status) = if case { ("case", "confirmed") } else { ("contact", "") };
+        let follow = ["to call", "reached", "", "unreachable"][rng.random_range(0..4)];
+        writeln!(w, "{},{role},{on},{status},{},{},{follow},H{:06}", id(p), AREAS[area[p] as usize], AGES[age[p] as usize], household[p])
+            .map_err(io)?;
+        m.people_rows += 1;
+        if p % (n / planted_people).max(1) == 1 && m.repeated_people < planted_people as u64 {
+            let other = AREAS[(area[p] as usize + 1) % AREAS.len()];
+            writeln!(w, "{},{role},{on},{status},{other},{},{follow},H{:06}", id(p), AGES[age[p] as usize], household[p])
+                .map_err(io)?;
+            m.repeated_people += 1;
+            m.people_rows += 1;
+        }
+    }
+    writeln!(w, " ,contact,,,Saltmere,18-34,,").map_err(io)?;
+    m.blank_people = 1;
+    m.people_rows += 1;
+    m.people = n as u64;
+    w.flush().map_err(io)?;
+
+    // Exposures: each pair gives 1..4 rows on nearby days, some written in reverse order.
+    let path = dir.join("exposures.csv");
+    let io = |e| Error::io(dir.join("exposures.csv"), e);
+    let mut w = BufWriter::with_capacity(1 << 20, File::create(&path).map_err(|e| Error::io(&path, e))?);
+    writeln!(w, "source_id,target_id,exposure_date,setting,duration_min").map_err(io)?;
+    let dirty_every = (pairs.len() / 200).max(60);
+    let mut keys: Vec<u64> = Vec::with_capacity(pairs.len());
+    for (k, pr) in pairs.iter().enumerate() {
+        keys.push(u64::from(pr.a.min(pr.b)) << 32 | u64::from(pr.a.max(pr.b)));
+        let reps = 1 + (rng.random::<u32>() % 8).saturating_sub(4).min(3);
+        for r in 0..reps {
+            let day = (i32::from(pr.day) + r as i32).min(span) as usize;
+            let (s, t) = if r > 0 && rng.random_bool(0.3) { (pr.b, pr.a) } else { (pr.a, pr.b) };
+            let minutes: u32 = match pr.setting {
+                0 => rng.random_range(60..600),
+                1 | 2 => rng.random_range(15..240),
+                _ => rng.random_range(5..120),
+            };
+            writeln!(w, "{},{},{},{},{minutes}", id(s as usize), id(t as usize), dates[day], SETTINGS[pr.setting as usize])
+                .map_err(io)?;
+            m.exposure_rows += 1;
+        }
+        if k % dirty_every == dirty_every / 2 {
+            let (a, b) = (id(pr.a as usize), id(pr.b as usize));
+            let d = &dates[pr.day as usize];
+            writeln!(w, "{a},{a},{d},community,10").map_err(io)?;
+            writeln!(w, "{a}, ,{d},community,10").map_err(io)?;
+            writeln!(w, "{a},{b},2024-02-30,community,10").map_err(io)?;
+            writeln!(w, "{b},{a},{d},community,-15").map_err(io)?;
+            m.self_exposures += 1;
+            m.blank_targets += 1;
+            m.bad_dates += 1;
+            m.bad_durations += 1;
+            m.exposure_rows += 4;
+        }
+    }
+    w.flush().map_err(io)?;
+    keys.sort_unstable();
+    keys.dedup();
+    m.pairs = keys.len() as u64;
+    let manifest = serde_json::to_string_pretty(&m).unwrap_or_default();
+    std::fs::write(dir.join("manifest.json"), manifest + "\n").map_err(|e| Error::io(dir.join("manifest.json"), e))?;
+    Ok(m)
+}
