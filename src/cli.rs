@@ -203,7 +203,7 @@ pub fn run(cli: Cli) -> Result<()> {
             let m = synth::generate(&out, &synth::SynthOptions::new(people, seed, end))?;
             emit(&format!(
                 "wrote {} people rows and {} exposure rows ({} distinct pairs, {} cases) to {}\n\
-                 planted: {} self-exposures, {} blank targets, {} bad dates, {} bad durations, {} repeated people, {} blank person IDs\n",
+                 planted: {} self-exposures, {} blank targets, {} bad dates, {} bad durations, {} implied people, {} repeated people, {} blank person IDs\n",
                 m.people_rows,
                 m.exposure_rows,
                 m.pairs,
@@ -213,6 +213,7 @@ pub fn run(cli: Cli) -> Result<()> {
                 m.blank_targets,
                 m.bad_dates,
                 m.bad_durations,
+                m.implied_people,
                 m.repeated_people,
                 m.blank_people
             ))

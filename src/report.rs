@@ -47,6 +47,8 @@ pub struct CheckReport<'a> {
     pub examples: BTreeMap<String, Vec<Example>>,
     /// Whether read = used + merged + quarantined holds for every file.
     pub balanced: bool,
+    /// Files of a folder that were not used, with the reason.
+    pub ignored: Vec<(String, String)>,
 }
 
 /// Build the check report.
@@ -85,6 +87,7 @@ pub fn check_report(ledger: &Ledger) -> CheckReport<'_> {
         ]),
         examples,
         balanced: ledger.files.iter().all(|f| f.counts.balanced()),
+        ignored: ledger.ignored.iter().map(|(p, w)| (p.display().to_string(), w.clone())).collect(),
     }
 }
 
@@ -103,6 +106,9 @@ pub fn check_text(r: &CheckReport, as_of: &str) -> String {
             if f.header { "header line" } else { "no header line" },
             map.join(" ")
         );
+    }
+    for (p, why) in &r.ignored {
+        let _ = writeln!(s, "  ignored   {p}\n            {why}");
     }
     let _ = writeln!(s, "\nRows            read       used     merged  quarantined  field problems");
     for (name, c) in &r.rows {

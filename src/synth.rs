@@ -66,6 +66,8 @@ pub struct Manifest {
     pub bad_dates: u64,
     /// Planted: exposure rows with a negative or non-numeric duration.
     pub bad_durations: u64,
+    /// Planted: people named only in the exposures table (one valid row each).
+    pub implied_people: u64,
     /// Planted: people rows repeating an ID with a conflicting area.
     pub repeated_people: u64,
     /// Planted: people rows with a blank ID.
@@ -161,15 +163,15 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
     // Infection along pairs in date order from a few index cases.
     pairs.sort_unstable_by_key(|p| p.day);
     let mut onset = vec![u16::MAX; n];
-    let seeds = (n / 200).max(2);
+    let seeds = (n / 100).max(3);
     for _ in 0..seeds {
         let p = rng.random_range(0..n);
         onset[p] = rng.random_range(0..7);
     }
-    let risk = [0.25, 0.06, 0.05, 0.03, 0.08];
+    let risk = [0.5, 0.2, 0.2, 0.12, 0.2];
     for pr in pairs.iter_mut() {
         let (a, b) = (pr.a as usize, pr.b as usize);
-        let infectious = |x: usize| onset[x] != u16::MAX && pr.day + 2 >= onset[x] && pr.day <= onset[x] + 7;
+        let infectious = |x: usize| onset[x] != u16::MAX && pr.day + 2 >= onset[x] && pr.day <= onset[x] + 10;
         let (src, dst) = if infectious(a) && onset[b] == u16::MAX {
             (a, b)
         } else if infectious(b) && onset[a] == u16::MAX {
@@ -224,7 +226,9 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
     let io = |e| Error::io(dir.join("exposures.csv"), e);
     let mut w = BufWriter::with_capacity(1 << 20, File::create(&path).map_err(|e| Error::io(&path, e))?);
     writeln!(w, "source_id,target_id,exposure_date,setting,duration_min").map_err(io)?;
-    let dirty_every = (pairs.len() / 200).max(60);
+    // About 0.2% of rows are dirty (4 per group), at least two groups.
+    let groups = (pairs.len() / 1000).max(2);
+    let dirty_every = (pairs.len() / groups).max(1);
     let mut keys: Vec<u64> = Vec::with_capacity(pairs.len());
     for (k, pr) in pairs.iter().enumerate() {
         keys.push(u64::from(pr.a.min(pr.b)) << 32 | u64::from(pr.a.max(pr.b)));
@@ -248,11 +252,16 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
             writeln!(w, "{a}, ,{d},community,10").map_err(io)?;
             writeln!(w, "{a},{b},2024-02-30,community,10").map_err(io)?;
             writeln!(w, "{b},{a},{d},community,-15").map_err(io)?;
+            // A contact named by a case but not (yet) registered in the people table.
+            let unregistered = id(n + m.implied_people as usize);
+            writeln!(w, "{a},{unregistered},{d},community,20").map_err(io)?;
+            keys.push(u64::MAX - m.implied_people);
             m.self_exposures += 1;
             m.blank_targets += 1;
             m.bad_dates += 1;
             m.bad_durations += 1;
-            m.exposure_rows += 4;
+            m.implied_people += 1;
+            m.exposure_rows += 5;
         }
     }
     w.flush().map_err(io)?;

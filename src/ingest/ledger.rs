@@ -190,6 +190,8 @@ pub struct Ledger {
     pub quarantined: Vec<QuarantinedRow>,
     /// Every field problem.
     pub problems: Vec<FieldProblem>,
+    /// Files in a folder that were not used, with the reason.
+    pub ignored: Vec<(PathBuf, String)>,
 }
 
 impl Ledger {

@@ -97,9 +97,17 @@ struct Planned {
     mapping: Mapping,
 }
 
-fn open_input(input: &Input, config: &Config, read: &ReadOptions) -> Result<Vec<Table>> {
+/// A table opened from the inputs; `in_folder` tables may be skipped when unrecognised.
+struct Opened {
+    table: Table,
+    in_folder: bool,
+}
+
+fn open_input(input: &Input, config: &Config, read: &ReadOptions, ignored: &mut Vec<(PathBuf, String)>) -> Result<Vec<Opened>> {
     match input {
-        Input::Builtin { name, bytes } => Ok(vec![Table::open_bytes(name, bytes.to_vec(), config)?]),
+        Input::Builtin { name, bytes } => {
+            Ok(vec![Opened { table: Table::open_bytes(name, bytes.to_vec(), config)?, in_folder: false }])
+        }
         Input::Path(p) if p.is_dir() => {
             let mut files: Vec<PathBuf> = std::fs::read_dir(p)
                 .map_err(|e| Error::io(p, e))?
@@ -110,18 +118,30 @@ fn open_input(input: &Input, config: &Config, read: &ReadOptions) -> Result<Vec<
             if files.is_empty() {
                 return Err(Error::format(p, "the folder holds no table files (.csv, .tsv, .txt, .dat, .parquet, .ndjson, .jsonl, .xlsx, optionally .gz)"));
             }
-            files.iter().map(|f| Table::open(f, config, read)).collect()
+            let mut out = Vec::new();
+            for f in files {
+                match Table::open(&f, config, read) {
+                    Ok(table) => out.push(Opened { table, in_folder: true }),
+                    Err(e) => ignored.push((f, format!("not read: {e}"))),
+                }
+            }
+            Ok(out)
         }
-        Input::Path(p) => Ok(vec![Table::open(p, config, read)?]),
+        Input::Path(p) => Ok(vec![Opened { table: Table::open(p, config, read)?, in_folder: false }]),
     }
 }
 
 /// Decide each table's role by its columns: exposures if it has source and target, people if
 /// it has a person ID. A table with neither is an error naming the closest headers.
-fn plan(tables: Vec<Table>, config: &Config, overrides: &[(String, ColumnRef)]) -> Result<Vec<Planned>> {
+fn plan(
+    tables: Vec<Opened>,
+    config: &Config,
+    overrides: &[(String, ColumnRef)],
+    ignored: &mut Vec<(PathBuf, String)>,
+) -> Result<Vec<Planned>> {
     let mut out = Vec::new();
     let several = tables.len() > 1;
-    for table in tables {
+    for Opened { table, in_folder } in tables {
         let cols = &table.meta.columns;
         let exp = mapping::resolve(cols, config, overrides, &EXPOSURE_FIELDS);
         if exp.get("source_id").is_some() && exp.get("target_id").is_some() {
@@ -134,10 +154,18 @@ fn plan(tables: Vec<Table>, config: &Config, overrides: &[(String, ColumnRef)]) 
             continue;
         }
         let missing = if exp.get("source_id").is_none() { "source_id" } else { "target_id" };
+        if in_folder {
+            let err = mapping::missing_field_error(&table.meta.path, cols, missing, config, table.meta.headerless);
+            ignored.push((table.meta.path.clone(), format!("neither a people nor an exposures table: {err}")));
+            continue;
+        }
         return Err(mapping::missing_field_error(&table.meta.path, cols, missing, config, table.meta.headerless));
     }
     if !out.iter().any(|p| p.role == Role::Exposures) {
-        let first = &out[0].table.meta;
+        let Some(first) = out.first().map(|p| &p.table.meta) else {
+            let why: Vec<String> = ignored.iter().map(|(p, w)| format!("{}: {w}", p.display())).collect();
+            return Err(Error::Usage(format!("no table could be used. {}", why.join("; "))));
+        };
         return Err(Error::format(
             &first.path,
             format!(
@@ -165,15 +193,16 @@ fn describe_format(meta: &table::TableMeta) -> String {
 /// Load the inputs: read, check, reconcile, aggregate, and build the graph.
 pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dataset> {
     let mut tables = Vec::new();
+    let mut ignored = Vec::new();
     for input in inputs {
-        tables.extend(open_input(input, config, &opts.read)?);
+        tables.extend(open_input(input, config, &opts.read, &mut ignored)?);
     }
-    if tables.is_empty() {
+    if tables.is_empty() && ignored.is_empty() {
         return Err(Error::Usage("no input given".into()));
     }
-    let planned = plan(tables, config, &opts.overrides)?;
+    let planned = plan(tables, config, &opts.overrides, &mut ignored)?;
     let progress = Progress::new(opts.progress);
-    let mut ledger = Ledger::default();
+    let mut ledger = Ledger { ignored, ..Ledger::default() };
     let mut people = PeopleBuilder::new(config.ids.case_sensitive);
     let mut rows = ExposureRows::new();
     let mut problems = Vec::new();

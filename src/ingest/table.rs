@@ -43,12 +43,13 @@ impl FileKind {
         }
     }
 
-    /// True for file names hubwatch would pick up from a folder.
+    /// True for file names hubwatch would pick up from a folder (`.json` only when named
+    /// explicitly: in a folder it is more often a manifest than a table).
     pub fn is_table_file(path: &Path) -> bool {
         let name = path.file_name().map(|n| n.to_string_lossy().to_lowercase()).unwrap_or_default();
         let name = name.strip_suffix(".gz").unwrap_or(&name);
         [
-            ".csv", ".tsv", ".txt", ".dat", ".tab", ".parquet", ".pq", ".ndjson", ".jsonl", ".json",
+            ".csv", ".tsv", ".txt", ".dat", ".tab", ".parquet", ".pq", ".ndjson", ".jsonl",
             ".xlsx", ".xlsm", ".xls", ".ods",
         ]
         .iter()
