@@ -143,20 +143,23 @@ pub fn count_fields(line: &[u8], sep: Separator) -> usize {
 
 /// Pick the separator from sample lines (comments and blank lines already removed).
 ///
-/// A byte separator wins when it appears the same number of times (at least once) on every
-/// sample line; among those the most frequent wins. Otherwise spaces decide between a single
-/// space and whitespace runs; a file with none of these has one column.
+/// A byte separator qualifies when at least 80% of the sample lines hold the same number of
+/// fields (at least two), so that one broken line cannot hide the separator; among those the
+/// best agreement, then the most fields, wins. Otherwise spaces decide between a single space
+/// and whitespace runs; a file with none of these has one column.
 pub fn detect_separator(sample: &[&[u8]]) -> Separator {
-    let mut best: Option<(u8, usize)> = None;
+    let mut best: Option<(u8, usize, usize)> = None;
     for cand in [b',', b'\t', b';', b'|'] {
-        let counts: Vec<usize> =
-            sample.iter().map(|l| count_fields(l, Separator::Byte(cand)) - 1).collect();
-        let Some(&first) = counts.first() else { continue };
-        if first > 0 && counts.iter().all(|&c| c == first) && best.is_none_or(|(_, n)| first > n) {
-            best = Some((cand, first));
+        let mut freq: std::collections::HashMap<usize, usize> = std::collections::HashMap::new();
+        for l in sample {
+            *freq.entry(count_fields(l, Separator::Byte(cand))).or_insert(0) += 1;
+        }
+        let Some((&fields, &agree)) = freq.iter().max_by_key(|(f, n)| (**n, **f)) else { continue };
+        if fields >= 2 && agree * 5 >= sample.len() * 4 && best.is_none_or(|(_, a, f)| (agree, fields) > (a, f)) {
+            best = Some((cand, agree, fields));
         }
     }
-    if let Some((b, _)) = best {
+    if let Some((b, _, _)) = best {
         return Separator::Byte(b);
     }
     let has_space = sample.iter().any(|l| l.contains(&b' ') || l.contains(&b'\t'));
@@ -209,6 +212,10 @@ mod tests {
         assert_eq!(det(&["1 2 3", "4 5 6"]), Separator::Byte(b' '));
         assert_eq!(det(&["1  2 3", " 4 5 6"]), Separator::Whitespace);
         assert_eq!(det(&["\"x,y\",b", "1,2"]), Separator::Byte(b','));
+        // One ragged line among many does not hide the separator.
+        let mut lines = vec!["a,b,c"; 9];
+        lines.push("a,b,c,d,e");
+        assert_eq!(det(&lines), Separator::Byte(b','));
     }
 
     #[test]
