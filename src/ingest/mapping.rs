@@ -125,8 +125,14 @@ pub fn missing_field_error(path: &Path, columns: &[String], field: &str, config:
 fn closest<'a>(columns: &'a [String], field: &str, config: &Config) -> Option<&'a str> {
     let mut targets: Vec<String> = config.synonyms(field).iter().map(|s| fold_header(s)).collect();
     targets.push(fold_header(field));
+    // A header that already names another field is never the suggestion.
+    let taken = |c: &str| {
+        let f = fold_header(c);
+        config.columns.iter().any(|(other, syns)| other != field && syns.iter().any(|s| fold_header(s) == f))
+    };
     columns
         .iter()
+        .filter(|c| !taken(c))
         .map(|c| {
             let f = fold_header(c);
             let score = targets
