@@ -14,10 +14,17 @@ use crate::{report, sample, summary, synth};
 
 /// hubwatch: see who to reach first in a contact-tracing export.
 #[derive(Debug, Parser)]
-#[command(name = "hubwatch", version, about, args_conflicts_with_subcommands = true)]
-#[command(after_help = "Exit codes: 0 success, 2 usage or configuration error, 3 file not found or unreadable, \
+#[command(
+    name = "hubwatch",
+    version,
+    about,
+    args_conflicts_with_subcommands = true
+)]
+#[command(
+    after_help = "Exit codes: 0 success, 2 usage or configuration error, 3 file not found or unreadable, \
 4 input that cannot be read as a tracing export. Outputs support, and do not replace, the judgement of \
-public-health staff; treat every export as sensitive personal data.")]
+public-health staff; treat every export as sensitive personal data."
+)]
 pub struct Cli {
     /// What to do (default: the summary of PATH).
     #[command(subcommand)]
@@ -110,7 +117,8 @@ pub fn today() -> i32 {
 
 /// Parse a `YYYY-MM-DD` argument.
 pub fn parse_day(flag: &str, v: &str) -> Result<i32> {
-    dates::parse_iso(v.trim()).map_err(|_| Error::Usage(format!("{flag} {v}: expected a date as YYYY-MM-DD")))
+    dates::parse_iso(v.trim())
+        .map_err(|_| Error::Usage(format!("{flag} {v}: expected a date as YYYY-MM-DD")))
 }
 
 impl LoadArgs {
@@ -138,12 +146,24 @@ impl LoadArgs {
 
     /// Load options from the flags.
     pub fn options(&self, progress: bool) -> Result<LoadOptions> {
-        let overrides = self.columns.iter().map(|c| mapping::parse_override(c)).collect::<Result<_>>()?;
+        let overrides = self
+            .columns
+            .iter()
+            .map(|c| mapping::parse_override(c))
+            .collect::<Result<_>>()?;
         let as_of = match &self.as_of {
             Some(v) => parse_day("--as-of", v)?,
             None => today(),
         };
-        Ok(LoadOptions { overrides, as_of, read: ReadOptions { sheet: self.sheet.clone(), chunk_rows: 0 }, progress })
+        Ok(LoadOptions {
+            overrides,
+            as_of,
+            read: ReadOptions {
+                sheet: self.sheet.clone(),
+                chunk_rows: 0,
+            },
+            progress,
+        })
     }
 
     /// The inputs: the paths given, or the bundled sample.
@@ -172,7 +192,9 @@ fn emit(text: &str) -> Result<()> {
 }
 
 fn to_json<T: serde::Serialize>(v: &T) -> Result<String> {
-    serde_json::to_string_pretty(v).map(|s| s + "\n").map_err(|e| Error::Usage(format!("JSON output failed: {e}")))
+    serde_json::to_string_pretty(v)
+        .map(|s| s + "\n")
+        .map_err(|e| Error::Usage(format!("JSON output failed: {e}")))
 }
 
 /// Run the parsed command line.
@@ -185,17 +207,34 @@ pub fn run(cli: Cli) -> Result<()> {
         Some(Command::Summary { load, json }) => {
             let d = load.load()?;
             let s = summary::summarise(&d);
-            emit(&if json { to_json(&s)? } else { report::summary_text(&s, &d) })
+            emit(&if json {
+                to_json(&s)?
+            } else {
+                report::summary_text(&s, &d)
+            })
         }
-        Some(Command::Check { load, quarantine, json }) => {
+        Some(Command::Check {
+            load,
+            quarantine,
+            json,
+        }) => {
             let d = load.load()?;
             if let Some(path) = &quarantine {
                 report::write_quarantine(path, &d.ledger)?;
             }
             let r = report::check_report(&d.ledger);
-            emit(&if json { to_json(&r)? } else { report::check_text(&r, &dates::iso(d.as_of)) })
+            emit(&if json {
+                to_json(&r)?
+            } else {
+                report::check_text(&r, &dates::iso(d.as_of))
+            })
         }
-        Some(Command::Synth { people, seed, out, end }) => {
+        Some(Command::Synth {
+            people,
+            seed,
+            out,
+            end,
+        }) => {
             let end = match end {
                 Some(v) => parse_day("--end", &v)?,
                 None => today(),

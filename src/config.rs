@@ -97,7 +97,9 @@ impl Config {
             overlay(&mut merged, user);
         }
         let config: Config = toml::Value::Table(merged).try_into().map_err(|e| {
-            let file = user_file.map(|p| p.display().to_string()).unwrap_or_default();
+            let file = user_file
+                .map(|p| p.display().to_string())
+                .unwrap_or_default();
             Error::Config(format!("{file}: {e}"))
         })?;
         config.validate()?;
@@ -107,7 +109,9 @@ impl Config {
     /// Check values that serde cannot: known field names, separator spelling.
     pub fn validate(&self) -> Result<()> {
         for field in self.columns.keys() {
-            if !PEOPLE_FIELDS.contains(&field.as_str()) && !EXPOSURE_FIELDS.contains(&field.as_str()) {
+            if !PEOPLE_FIELDS.contains(&field.as_str())
+                && !EXPOSURE_FIELDS.contains(&field.as_str())
+            {
                 return Err(Error::Config(format!(
                     "[columns] has unknown field `{field}`; known fields: {}, {}",
                     PEOPLE_FIELDS.join(", "),

@@ -76,12 +76,18 @@ pub enum Error {
 impl Error {
     /// Wrap an I/O error with the path it concerns.
     pub fn io(path: impl Into<PathBuf>, source: std::io::Error) -> Self {
-        Error::Io { path: path.into(), source }
+        Error::Io {
+            path: path.into(),
+            source,
+        }
     }
 
     /// A format problem in a file.
     pub fn format(path: impl Into<PathBuf>, message: impl Into<String>) -> Self {
-        Error::Format { path: path.into(), message: message.into() }
+        Error::Format {
+            path: path.into(),
+            message: message.into(),
+        }
     }
 
     /// The process exit code documented in the README for this kind of error.

@@ -70,7 +70,12 @@ pub struct Aggregated {
 /// Collapse rows into pairs. Rows are sorted by pair with a stable radix sort, so the first
 /// row of a pair in input order is the one counted as used.
 pub fn aggregate(rows: &ExposureRows) -> Aggregated {
-    let mut order: Vec<(u64, u32)> = rows.keys.iter().enumerate().map(|(i, &k)| (k, i as u32)).collect();
+    let mut order: Vec<(u64, u32)> = rows
+        .keys
+        .iter()
+        .enumerate()
+        .map(|(i, &k)| (k, i as u32))
+        .collect();
     radix_sort_pairs(&mut order);
     let mut e = Edges::default();
     let mut first_of_pair = vec![false; rows.keys.len()];
@@ -101,7 +106,11 @@ pub fn aggregate(rows: &ExposureRows) -> Aggregated {
             }
             if let Some(&m) = rows.minutes.get(r) {
                 if !m.is_nan() {
-                    minutes = if minutes.is_nan() { f64::from(m) } else { minutes + f64::from(m) };
+                    minutes = if minutes.is_nan() {
+                        f64::from(m)
+                    } else {
+                        minutes + f64::from(m)
+                    };
                 }
             }
             if let Some(&c) = rows.setting.get(r) {
@@ -126,7 +135,10 @@ pub fn aggregate(rows: &ExposureRows) -> Aggregated {
         }
         i = j;
     }
-    Aggregated { edges: e, first_of_pair }
+    Aggregated {
+        edges: e,
+        first_of_pair,
+    }
 }
 
 /// Build the adjacency over `nodes` people (isolated ones included).
@@ -137,7 +149,10 @@ pub fn adjacency(nodes: usize, edges: &Edges) -> Adjacency {
         dir.push((u64::from(b) << 32 | u64::from(a), i as u32));
     }
     radix_sort_pairs(&mut dir);
-    let list: Vec<(u32, u32, u32)> = dir.iter().map(|&(k, e)| ((k >> 32) as u32, k as u32, e)).collect();
+    let list: Vec<(u32, u32, u32)> = dir
+        .iter()
+        .map(|&(k, e)| ((k >> 32) as u32, k as u32, e))
+        .collect();
     drop(dir);
     // Sorted and unique by construction, so this cannot fail.
     let mut g: Adjacency = Csr::from_sorted_edges(&list).unwrap_or_else(|_| Csr::new());
@@ -149,7 +164,9 @@ pub fn adjacency(nodes: usize, edges: &Edges) -> Adjacency {
 
 /// Degree of every node.
 pub fn degrees(g: &Adjacency) -> Vec<u32> {
-    (0..g.node_count() as u32).map(|n| g.out_degree(n) as u32).collect()
+    (0..g.node_count() as u32)
+        .map(|n| g.out_degree(n) as u32)
+        .collect()
 }
 
 /// Connected components: a label per node (0-based, by order of first node) and sizes.

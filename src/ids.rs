@@ -25,7 +25,11 @@ pub struct IdMap {
 impl IdMap {
     /// An empty map; `case_sensitive = false` folds IDs to lower case for comparison.
     pub fn new(case_sensitive: bool) -> IdMap {
-        IdMap { case_sensitive, hasher: foldhash::fast::FixedState::with_seed(0x5eed_1d5), ..IdMap::default() }
+        IdMap {
+            case_sensitive,
+            hasher: foldhash::fast::FixedState::with_seed(0x9e37_79b9),
+            ..IdMap::default()
+        }
     }
 
     /// Number of IDs.
@@ -79,7 +83,13 @@ impl IdMap {
 
     fn intern_key(&mut self, key: &str, display: Option<&str>) -> (u32, bool) {
         let h = self.hasher.hash_one(key);
-        let IdMap { arena, ends, table, hasher, .. } = self;
+        let IdMap {
+            arena,
+            ends,
+            table,
+            hasher,
+            ..
+        } = self;
         let key_at = |i: u32| {
             let i = i as usize;
             let start = if i == 0 { 0 } else { ends[i - 1] };

@@ -56,14 +56,24 @@ pub fn check_report(ledger: &Ledger) -> CheckReport<'_> {
     let mut examples: BTreeMap<String, Vec<Example>> = BTreeMap::new();
     for q in &ledger.quarantined {
         let f = &ledger.files[q.file];
-        let v = examples.entry(format!("{}.{}", f.role.name(), q.reason.code())).or_default();
+        let v = examples
+            .entry(format!("{}.{}", f.role.name(), q.reason.code()))
+            .or_default();
         if v.len() < EXAMPLES {
-            v.push(Example { file: f.path.display().to_string(), line: q.line, column: None, value: q.raw.clone(), reason: q.reason.describe() });
+            v.push(Example {
+                file: f.path.display().to_string(),
+                line: q.line,
+                column: None,
+                value: q.raw.clone(),
+                reason: q.reason.describe(),
+            });
         }
     }
     for p in &ledger.problems {
         let f = &ledger.files[p.file];
-        let v = examples.entry(format!("{}.{}", f.role.name(), p.kind.code())).or_default();
+        let v = examples
+            .entry(format!("{}.{}", f.role.name(), p.kind.code()))
+            .or_default();
         if v.len() < EXAMPLES {
             v.push(Example {
                 file: f.path.display().to_string(),
@@ -87,7 +97,11 @@ pub fn check_report(ledger: &Ledger) -> CheckReport<'_> {
         ]),
         examples,
         balanced: ledger.files.iter().all(|f| f.counts.balanced()),
-        ignored: ledger.ignored.iter().map(|(p, w)| (p.display().to_string(), w.clone())).collect(),
+        ignored: ledger
+            .ignored
+            .iter()
+            .map(|(p, w)| (p.display().to_string(), w.clone()))
+            .collect(),
     }
 }
 
@@ -96,38 +110,76 @@ pub fn check_text(r: &CheckReport, as_of: &str) -> String {
     let mut s = String::new();
     let _ = writeln!(s, "hubwatch check (as of {as_of})\n\nFiles:");
     for f in r.files {
-        let map: Vec<String> = f.mapping.iter().map(|(k, v)| format!("{k}=\"{v}\"")).collect();
+        let map: Vec<String> = f
+            .mapping
+            .iter()
+            .map(|(k, v)| format!("{k}=\"{v}\""))
+            .collect();
         let _ = writeln!(
             s,
             "  {:<9} {}\n            {}, {}; columns: {}",
             f.role.name(),
             f.path.display(),
             f.format,
-            if f.header { "header line" } else { "no header line" },
+            if f.header {
+                "header line"
+            } else {
+                "no header line"
+            },
             map.join(" ")
         );
     }
     for (p, why) in &r.ignored {
         let _ = writeln!(s, "  ignored   {p}\n            {why}");
     }
-    let _ = writeln!(s, "\nRows            read       used     merged  quarantined  field problems");
+    let _ = writeln!(
+        s,
+        "\nRows            read       used     merged  quarantined  field problems"
+    );
     for (name, c) in &r.rows {
-        let _ = writeln!(s, "  {name:<9} {:>10} {:>10} {:>10} {:>12} {:>15}", c.read, c.used, c.merged, c.quarantined, c.field_problems);
+        let _ = writeln!(
+            s,
+            "  {name:<9} {:>10} {:>10} {:>10} {:>12} {:>15}",
+            c.read, c.used, c.merged, c.quarantined, c.field_problems
+        );
     }
     let _ = writeln!(
         s,
         "  read = used + merged + quarantined: {}",
-        if r.balanced { "holds for every file" } else { "DOES NOT HOLD (please report this)" }
+        if r.balanced {
+            "holds for every file"
+        } else {
+            "DOES NOT HOLD (please report this)"
+        }
     );
-    for (title, table) in [("Quarantined rows", &r.quarantined), ("Field problems (row kept, value left empty)", &r.field_problems)] {
+    for (title, table) in [
+        ("Quarantined rows", &r.quarantined),
+        (
+            "Field problems (row kept, value left empty)",
+            &r.field_problems,
+        ),
+    ] {
         let total: u64 = table.values().flat_map(|m| m.values()).sum();
         let _ = writeln!(s, "\n{title}: {total}");
         for (role, m) in table.iter() {
             for (code, n) in m {
                 let _ = writeln!(s, "  {role} {code}: {n}");
-                for e in r.examples.get(&format!("{role}.{code}")).into_iter().flatten() {
-                    let col = e.column.as_ref().map(|c| format!(" column \"{c}\"")).unwrap_or_default();
-                    let _ = writeln!(s, "    {} line {}{col}: \"{}\" ({})", e.file, e.line, e.value, e.reason);
+                for e in r
+                    .examples
+                    .get(&format!("{role}.{code}"))
+                    .into_iter()
+                    .flatten()
+                {
+                    let col = e
+                        .column
+                        .as_ref()
+                        .map(|c| format!(" column \"{c}\""))
+                        .unwrap_or_default();
+                    let _ = writeln!(
+                        s,
+                        "    {} line {}{col}: \"{}\" ({})",
+                        e.file, e.line, e.value, e.reason
+                    );
                 }
             }
         }
@@ -143,20 +195,42 @@ pub fn summary_text(sum: &Summary, d: &Dataset) -> String {
         let _ = writeln!(s, "  {:<9} {}", f.role.name(), f.path.display());
     }
     let _ = writeln!(s);
-    let share = sum.components.largest_share.map(|x| format!("{:.1}%", 100.0 * x)).unwrap_or_else(|| "-".into());
+    let share = sum
+        .components
+        .largest_share
+        .map(|x| format!("{:.1}%", 100.0 * x))
+        .unwrap_or_else(|| "-".into());
     let rows = [
         ("people", sum.people.to_string()),
-        ("  of which implied (only in exposures)", sum.implied.to_string()),
+        (
+            "  of which implied (only in exposures)",
+            sum.implied.to_string(),
+        ),
         ("  of which isolated (no contact)", sum.isolated.to_string()),
         ("distinct contact pairs", sum.contacts.to_string()),
         ("highest number of contacts", sum.max_degree.to_string()),
-        ("clusters (connected components)", sum.components.count.to_string()),
-        ("largest cluster", format!("{} people ({share})", sum.components.largest)),
+        (
+            "clusters (connected components)",
+            sum.components.count.to_string(),
+        ),
+        (
+            "largest cluster",
+            format!("{} people ({share})", sum.components.largest),
+        ),
         (
             "exposure rows read / used / merged / quarantined",
-            format!("{} / {} / {} / {}", sum.rows.exposures.read, sum.rows.exposures.used, sum.rows.exposures.merged, sum.rows.exposures.quarantined),
+            format!(
+                "{} / {} / {} / {}",
+                sum.rows.exposures.read,
+                sum.rows.exposures.used,
+                sum.rows.exposures.merged,
+                sum.rows.exposures.quarantined
+            ),
         ),
-        ("field problems (see `hubwatch check`)", (sum.rows.exposures.field_problems + sum.rows.people.field_problems).to_string()),
+        (
+            "field problems (see `hubwatch check`)",
+            (sum.rows.exposures.field_problems + sum.rows.people.field_problems).to_string(),
+        ),
     ];
     for (k, v) in rows {
         let _ = writeln!(s, "  {k:<50} {v}");
@@ -205,8 +279,14 @@ pub fn write_quarantine(path: &Path, ledger: &Ledger) -> Result<()> {
 
 /// Write a file atomically (temporary file in the same folder, fsync, rename), mode 0600.
 pub fn write_private(path: &Path, bytes: &[u8]) -> Result<()> {
-    let dir = path.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
-    let name = path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_else(|| "out".into());
+    let dir = path
+        .parent()
+        .filter(|p| !p.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    let name = path
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "out".into());
     let tmp = dir.join(format!(".{name}.{}.tmp", std::process::id()));
     let mut opts = std::fs::OpenOptions::new();
     opts.write(true).create_new(true);

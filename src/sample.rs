@@ -13,7 +13,13 @@ pub const EXPOSURES: &[u8] = include_bytes!("../sample-contacts/exposures.csv");
 /// The sample as load inputs.
 pub fn inputs() -> Vec<Input> {
     vec![
-        Input::Builtin { name: PathBuf::from("sample-contacts/people.csv (built in)"), bytes: PEOPLE },
-        Input::Builtin { name: PathBuf::from("sample-contacts/exposures.csv (built in)"), bytes: EXPOSURES },
+        Input::Builtin {
+            name: PathBuf::from("sample-contacts/people.csv (built in)"),
+            bytes: PEOPLE,
+        },
+        Input::Builtin {
+            name: PathBuf::from("sample-contacts/exposures.csv (built in)"),
+            bytes: EXPOSURES,
+        },
     ]
 }

@@ -66,7 +66,10 @@ pub fn summarise(d: &Dataset) -> Summary {
             largest,
             largest_share: (n > 0).then(|| f64::from(largest) / n as f64),
         },
-        rows: Rows { exposures: d.ledger.exposures, people: d.ledger.people },
+        rows: Rows {
+            exposures: d.ledger.exposures,
+            people: d.ledger.people,
+        },
         as_of: crate::ingest::dates::iso(d.as_of),
     }
 }

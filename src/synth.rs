@@ -41,7 +41,13 @@ pub struct SynthOptions {
 impl SynthOptions {
     /// Defaults for `people` people: community mean 2.5, k = 0.4.
     pub fn new(people: usize, seed: u64, end_day: i32) -> SynthOptions {
-        SynthOptions { people, seed, end_day, community_mean: 2.5, community_k: 0.4 }
+        SynthOptions {
+            people,
+            seed,
+            end_day,
+            community_mean: 2.5,
+            community_k: 0.4,
+        }
     }
 }
 
@@ -74,8 +80,21 @@ pub struct Manifest {
     pub blank_people: u64,
 }
 
-const SETTINGS: [&str; 5] = ["household", "workplace", "school", "community", "healthcare"];
-const AREAS: [&str; 6] = ["Brackenford", "Hollins Cross", "Saltmere", "Wyndle Green", "Corran Heights", "Mossbank"];
+const SETTINGS: [&str; 5] = [
+    "household",
+    "workplace",
+    "school",
+    "community",
+    "healthcare",
+];
+const AREAS: [&str; 6] = [
+    "Brackenford",
+    "Hollins Cross",
+    "Saltmere",
+    "Wyndle Green",
+    "Corran Heights",
+    "Mossbank",
+];
 const AGES: [&str; 5] = ["0-4", "5-17", "18-34", "35-59", "60+"];
 const WEEKS: i32 = 6;
 
@@ -98,7 +117,9 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
     let n = opts.people;
     let span = WEEKS * 7;
     let start = opts.end_day - span;
-    let dates: Vec<String> = (0..=span + 14).map(|d| crate::ingest::dates::iso(start + d)).collect();
+    let dates: Vec<String> = (0..=span + 14)
+        .map(|d| crate::ingest::dates::iso(start + d))
+        .collect();
 
     // People: household, age group, area, workplace/school.
     let mut household = vec![0u32; n];
@@ -115,7 +136,12 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
             area[p] = a;
             age[p] = rng.random_range(0..AGES.len()) as u8;
             for q in i..p {
-                pairs.push(Pair { a: q as u32, b: p as u32, setting: 0, day: rng.random_range(0..span as u16) });
+                pairs.push(Pair {
+                    a: q as u32,
+                    b: p as u32,
+                    setting: 0,
+                    day: rng.random_range(0..span as u16),
+                });
             }
         }
         hh += 1;
@@ -123,8 +149,9 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
     }
     // Workplaces (adults) and schools (children): groups of 8..40, each member meets 3 others.
     for (setting, ages) in [(1u8, [2u8, 3]), (2u8, [1u8, 1])] {
-        let mut members: Vec<u32> =
-            (0..n as u32).filter(|&p| ages.contains(&age[p as usize]) && rng.random_bool(0.8)).collect();
+        let mut members: Vec<u32> = (0..n as u32)
+            .filter(|&p| ages.contains(&age[p as usize]) && rng.random_bool(0.8))
+            .collect();
         members.shuffle(&mut rng);
         for group in members.chunks(rng.random_range(8..40)) {
             if group.len() < 2 {
@@ -134,7 +161,12 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
                 for _ in 0..3 {
                     let q = group[rng.random_range(0..group.len())];
                     if q != p {
-                        pairs.push(Pair { a: p, b: q, setting, day: rng.random_range(0..span as u16) });
+                        pairs.push(Pair {
+                            a: p,
+                            b: q,
+                            setting,
+                            day: rng.random_range(0..span as u16),
+                        });
                     }
                 }
             }
@@ -146,7 +178,13 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
     let mut stubs: Vec<u32> = Vec::new();
     for p in 0..n as u32 {
         let lambda: f64 = gamma.sample(&mut rng);
-        let k = if lambda > 0.0 { Poisson::new(lambda).map(|d| d.sample(&mut rng) as u64).unwrap_or(0) } else { 0 };
+        let k = if lambda > 0.0 {
+            Poisson::new(lambda)
+                .map(|d| d.sample(&mut rng) as u64)
+                .unwrap_or(0)
+        } else {
+            0
+        };
         for _ in 0..k.min(500) {
             stubs.push(p);
         }
@@ -155,7 +193,12 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
     for s in stubs.chunks_exact(2) {
         if s[0] != s[1] {
             let setting = if rng.random_bool(0.05) { 4 } else { 3 };
-            pairs.push(Pair { a: s[0], b: s[1], setting, day: rng.random_range(0..span as u16) });
+            pairs.push(Pair {
+                a: s[0],
+                b: s[1],
+                setting,
+                day: rng.random_range(0..span as u16),
+            });
         }
     }
     drop(stubs);
@@ -171,7 +214,8 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
     let risk = [0.5, 0.2, 0.2, 0.12, 0.2];
     for pr in pairs.iter_mut() {
         let (a, b) = (pr.a as usize, pr.b as usize);
-        let infectious = |x: usize| onset[x] != u16::MAX && pr.day + 2 >= onset[x] && pr.day <= onset[x] + 10;
+        let infectious =
+            |x: usize| onset[x] != u16::MAX && pr.day + 2 >= onset[x] && pr.day <= onset[x] + 10;
         let (src, dst) = if infectious(a) && onset[b] == u16::MAX {
             (a, b)
         } else if infectious(b) && onset[a] == u16::MAX {
@@ -194,23 +238,51 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
     let id = |p: usize| format!("P{p:07}");
     // People table.
     let path = dir.join("people.csv");
-    let mut w = BufWriter::with_capacity(1 << 20, File::create(&path).map_err(|e| Error::io(&path, e))?);
+    let mut w = BufWriter::with_capacity(
+        1 << 20,
+        File::create(&path).map_err(|e| Error::io(&path, e))?,
+    );
     let io = |e| Error::io(dir.join("people.csv"), e);
-    writeln!(w, "person_id,role,onset_date,status,area,age_group,followup_status,household_id").map_err(io)?;
+    writeln!(
+        w,
+        "person_id,role,onset_date,status,area,age_group,followup_status,household_id"
+    )
+    .map_err(io)?;
     let planted_people = (n / 500).max(1);
     for p in 0..n {
         let case = onset[p] != u16::MAX;
         m.cases += u64::from(case);
-        let on = if case { dates[onset[p] as usize].as_str() } else { "" };
-        let (role, status) = if case { ("case", "confirmed") } else { ("contact", "") };
+        let on = if case {
+            dates[onset[p] as usize].as_str()
+        } else {
+            ""
+        };
+        let (role, status) = if case {
+            ("case", "confirmed")
+        } else {
+            ("contact", "")
+        };
         let follow = ["to call", "reached", "", "unreachable"][rng.random_range(0..4)];
-        writeln!(w, "{},{role},{on},{status},{},{},{follow},H{:06}", id(p), AREAS[area[p] as usize], AGES[age[p] as usize], household[p])
-            .map_err(io)?;
+        writeln!(
+            w,
+            "{},{role},{on},{status},{},{},{follow},H{:06}",
+            id(p),
+            AREAS[area[p] as usize],
+            AGES[age[p] as usize],
+            household[p]
+        )
+        .map_err(io)?;
         m.people_rows += 1;
         if p % (n / planted_people).max(1) == 1 && m.repeated_people < planted_people as u64 {
             let other = AREAS[(area[p] as usize + 1) % AREAS.len()];
-            writeln!(w, "{},{role},{on},{status},{other},{},{follow},H{:06}", id(p), AGES[age[p] as usize], household[p])
-                .map_err(io)?;
+            writeln!(
+                w,
+                "{},{role},{on},{status},{other},{},{follow},H{:06}",
+                id(p),
+                AGES[age[p] as usize],
+                household[p]
+            )
+            .map_err(io)?;
             m.repeated_people += 1;
             m.people_rows += 1;
         }
@@ -224,7 +296,10 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
     // Exposures: each pair gives 1..4 rows on nearby days, some written in reverse order.
     let path = dir.join("exposures.csv");
     let io = |e| Error::io(dir.join("exposures.csv"), e);
-    let mut w = BufWriter::with_capacity(1 << 20, File::create(&path).map_err(|e| Error::io(&path, e))?);
+    let mut w = BufWriter::with_capacity(
+        1 << 20,
+        File::create(&path).map_err(|e| Error::io(&path, e))?,
+    );
     writeln!(w, "source_id,target_id,exposure_date,setting,duration_min").map_err(io)?;
     // About 0.2% of rows are dirty (4 per group), at least two groups.
     let groups = (pairs.len() / 1000).max(2);
@@ -235,14 +310,25 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
         let reps = 1 + (rng.random::<u32>() % 8).saturating_sub(4).min(3);
         for r in 0..reps {
             let day = (i32::from(pr.day) + r as i32).min(span) as usize;
-            let (s, t) = if r > 0 && rng.random_bool(0.3) { (pr.b, pr.a) } else { (pr.a, pr.b) };
+            let (s, t) = if r > 0 && rng.random_bool(0.3) {
+                (pr.b, pr.a)
+            } else {
+                (pr.a, pr.b)
+            };
             let minutes: u32 = match pr.setting {
                 0 => rng.random_range(60..600),
                 1 | 2 => rng.random_range(15..240),
                 _ => rng.random_range(5..120),
             };
-            writeln!(w, "{},{},{},{},{minutes}", id(s as usize), id(t as usize), dates[day], SETTINGS[pr.setting as usize])
-                .map_err(io)?;
+            writeln!(
+                w,
+                "{},{},{},{},{minutes}",
+                id(s as usize),
+                id(t as usize),
+                dates[day],
+                SETTINGS[pr.setting as usize]
+            )
+            .map_err(io)?;
             m.exposure_rows += 1;
         }
         if k % dirty_every == dirty_every / 2 {
@@ -269,6 +355,7 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
     keys.dedup();
     m.pairs = keys.len() as u64;
     let manifest = serde_json::to_string_pretty(&m).unwrap_or_default();
-    std::fs::write(dir.join("manifest.json"), manifest + "\n").map_err(|e| Error::io(dir.join("manifest.json"), e))?;
+    std::fs::write(dir.join("manifest.json"), manifest + "\n")
+        .map_err(|e| Error::io(dir.join("manifest.json"), e))?;
     Ok(m)
 }

@@ -20,18 +20,28 @@ const ROWS: [(&str, &str, &str, &str); 6] = [
 ];
 
 fn delimited(sep: &str, eol: &str, bom: bool, comments: bool, quote_all: bool) -> Vec<u8> {
-    let q = |v: &str| if quote_all || v.contains(sep) { format!("\"{v}\"") } else { v.to_string() };
+    let q = |v: &str| {
+        if quote_all || v.contains(sep) {
+            format!("\"{v}\"")
+        } else {
+            v.to_string()
+        }
+    };
     let mut s = String::new();
     if bom {
         s.push('\u{feff}');
     }
     if comments {
-        s.push_str("# exported by an invented system" );
+        s.push_str("# exported by an invented system");
         s.push_str(eol);
         s.push_str("# second comment line");
         s.push_str(eol);
     }
-    s.push_str(&["source_id", "target_id", "exposure_date", "setting"].map(q).join(sep));
+    s.push_str(
+        &["source_id", "target_id", "exposure_date", "setting"]
+            .map(q)
+            .join(sep),
+    );
     s.push_str(eol);
     for (a, b, d, st) in ROWS {
         s.push_str(&[a, b, d, st].map(q).join(sep));
@@ -41,9 +51,7 @@ fn delimited(sep: &str, eol: &str, bom: bool, comments: bool, quote_all: bool) -
 }
 
 fn frame() -> DataFrame {
-    let col = |i: usize| -> Vec<&str> {
-        ROWS.iter().map(|r| [r.0, r.1, r.2, r.3][i]).collect()
-    };
+    let col = |i: usize| -> Vec<&str> { ROWS.iter().map(|r| [r.0, r.1, r.2, r.3][i]).collect() };
     df!(
         "source_id" => col(0),
         "target_id" => col(1),
@@ -62,37 +70,61 @@ fn write(dir: &Path, name: &str, bytes: &[u8]) -> PathBuf {
 fn variants(dir: &Path) -> Vec<PathBuf> {
     let mut v = vec![
         write(dir, "comma.csv", &delimited(",", "\n", false, false, false)),
-        write(dir, "semicolon.csv", &delimited(";", "\n", false, false, false)),
+        write(
+            dir,
+            "semicolon.csv",
+            &delimited(";", "\n", false, false, false),
+        ),
         write(dir, "tab.tsv", &delimited("\t", "\n", false, false, false)),
         write(dir, "pipe.txt", &delimited("|", "\n", false, false, false)),
-        write(dir, "bom_crlf.csv", &delimited(",", "\r\n", true, false, false)),
-        write(dir, "comments.csv", &delimited(",", "\n", false, true, false)),
+        write(
+            dir,
+            "bom_crlf.csv",
+            &delimited(",", "\r\n", true, false, false),
+        ),
+        write(
+            dir,
+            "comments.csv",
+            &delimited(",", "\n", false, true, false),
+        ),
         write(dir, "quoted.csv", &delimited(",", "\r\n", true, true, true)),
     ];
     // Whitespace runs: the setting has a space inside, so quote-free layout needs a token
     // without spaces; use a separate file where settings are single words.
     let mut ws = String::from("source_id   target_id exposure_date  setting\n");
     for (a, b, d, st) in ROWS {
-        ws.push_str(&format!("  {a}\t {b}  {d}   {}\n", st.replace(", class 2", "")));
+        ws.push_str(&format!(
+            "  {a}\t {b}  {d}   {}\n",
+            st.replace(", class 2", "")
+        ));
     }
     v.push(write(dir, "spaces.dat", ws.as_bytes()));
     // gzip of the comma file.
     let mut gz = flate2::write::GzEncoder::new(Vec::new(), flate2::Compression::default());
-    gz.write_all(&delimited(",", "\n", false, false, false)).unwrap();
+    gz.write_all(&delimited(",", "\n", false, false, false))
+        .unwrap();
     v.push(write(dir, "comma.csv.gz", &gz.finish().unwrap()));
     // Parquet and NDJSON through polars.
     let pq = dir.join("table.parquet");
-    ParquetWriter::new(fs::File::create(&pq).unwrap()).finish(&mut frame()).unwrap();
+    ParquetWriter::new(fs::File::create(&pq).unwrap())
+        .finish(&mut frame())
+        .unwrap();
     v.push(pq);
     let nd = dir.join("table.ndjson");
-    JsonWriter::new(fs::File::create(&nd).unwrap()).with_json_format(JsonFormat::JsonLines).finish(&mut frame()).unwrap();
+    JsonWriter::new(fs::File::create(&nd).unwrap())
+        .with_json_format(JsonFormat::JsonLines)
+        .finish(&mut frame())
+        .unwrap();
     v.push(nd);
     // A spreadsheet, with dates as real date cells (Excel serial numbers).
     let xl = dir.join("table.xlsx");
     let mut book = rust_xlsxwriter::Workbook::new();
     let sheet = book.add_worksheet();
     let datefmt = rust_xlsxwriter::Format::new().set_num_format("yyyy-mm-dd");
-    for (c, h) in ["source_id", "target_id", "exposure_date", "setting"].iter().enumerate() {
+    for (c, h) in ["source_id", "target_id", "exposure_date", "setting"]
+        .iter()
+        .enumerate()
+    {
         sheet.write_string(0, c as u16, *h).unwrap();
     }
     for (r, (a, b, d, st)) in ROWS.iter().enumerate() {
@@ -100,7 +132,9 @@ fn variants(dir: &Path) -> Vec<PathBuf> {
         sheet.write_string(r, 0, *a).unwrap();
         sheet.write_string(r, 1, *b).unwrap();
         let dt = rust_xlsxwriter::ExcelDateTime::parse_from_str(d).unwrap();
-        sheet.write_datetime_with_format(r, 2, &dt, &datefmt).unwrap();
+        sheet
+            .write_datetime_with_format(r, 2, &dt, &datefmt)
+            .unwrap();
         sheet.write_string(r, 3, *st).unwrap();
     }
     book.save(&xl).unwrap();
@@ -117,7 +151,9 @@ fn every_format_gives_the_same_graph_and_ledger() {
     assert_eq!(pairs.len(), 4);
     assert_eq!(reference.people(), 6);
     let dates_of = |d: &hubwatch::ingest::Dataset| -> Vec<(i32, i32)> {
-        let mut v: Vec<(i32, i32)> = (0..d.edges.len()).map(|e| (d.edges.first[e], d.edges.last[e])).collect();
+        let mut v: Vec<(i32, i32)> = (0..d.edges.len())
+            .map(|e| (d.edges.first[e], d.edges.last[e]))
+            .collect();
         v.sort();
         v
     };
@@ -127,7 +163,11 @@ fn every_format_gives_the_same_graph_and_ledger() {
         assert_eq!(edge_set(&d), pairs, "{name}");
         assert_eq!(d.ledger.exposures, reference.ledger.exposures, "{name}");
         assert_eq!(dates_of(&d), dates_of(&reference), "{name}: dates differ");
-        assert!(d.ledger.problems.is_empty(), "{name}: {:?}", d.ledger.problems);
+        assert!(
+            d.ledger.problems.is_empty(),
+            "{name}: {:?}",
+            d.ledger.problems
+        );
         assert_eq!(d.settings.len(), 4, "{name}: {:?}", d.settings);
         // The self-exposure is quarantined on the same line or record in every format.
         let q = &d.ledger.quarantined[0];
@@ -145,25 +185,55 @@ fn every_format_gives_the_same_graph_and_ledger() {
 fn a_folder_is_sorted_by_columns_not_names() {
     let dir = tempfile::tempdir().unwrap();
     write(dir.path(), "a.csv", b"from,to,date\nX1,X2,2024-01-01\n");
-    write(dir.path(), "b.csv", b"ID,role\nX1,case\nX2,contact\nX3,contact\n");
-    write(dir.path(), "notes.txt", b"just some notes\nnothing tabular here\n");
+    write(
+        dir.path(),
+        "b.csv",
+        b"ID,role\nX1,case\nX2,contact\nX3,contact\n",
+    );
+    write(
+        dir.path(),
+        "notes.txt",
+        b"just some notes\nnothing tabular here\n",
+    );
     let d = load(&[dir.path()], &[]);
     let roles: Vec<(String, &str)> = d
         .ledger
         .files
         .iter()
-        .map(|f| (f.path.file_name().unwrap().to_string_lossy().into_owned(), f.role.name()))
+        .map(|f| {
+            (
+                f.path.file_name().unwrap().to_string_lossy().into_owned(),
+                f.role.name(),
+            )
+        })
         .collect();
-    assert_eq!(roles, [("b.csv".to_string(), "people"), ("a.csv".to_string(), "exposures")]);
-    assert_eq!(d.ledger.ignored.len(), 1, "notes.txt is reported as ignored");
+    assert_eq!(
+        roles,
+        [
+            ("b.csv".to_string(), "people"),
+            ("a.csv".to_string(), "exposures")
+        ]
+    );
+    assert_eq!(
+        d.ledger.ignored.len(),
+        1,
+        "notes.txt is reported as ignored"
+    );
     assert_eq!((d.people(), d.implied(), d.edges.len()), (3, 0, 1));
 }
 
 #[test]
 fn quoted_fields_may_hold_newlines_and_lines_stay_exact() {
     let dir = tempfile::tempdir().unwrap();
-    let f = write(dir.path(), "q.csv", b"source_id,target_id,setting\nA,B,\"two\nlines\"\nA,A,x\nB,C,\"a, b\"\n");
+    let f = write(
+        dir.path(),
+        "q.csv",
+        b"source_id,target_id,setting\nA,B,\"two\nlines\"\nA,A,x\nB,C,\"a, b\"\n",
+    );
     let d = load(&[&f], &[]);
     assert_eq!(d.edges.len(), 2);
-    assert_eq!(d.ledger.quarantined[0].line, 4, "line numbers count the embedded newline");
+    assert_eq!(
+        d.ledger.quarantined[0].line, 4,
+        "line numbers count the embedded newline"
+    );
 }

@@ -12,20 +12,37 @@ use hubwatch::ingest::ledger::{ProblemKind, QuarantineReason};
 fn toy_export_gives_the_reference_network() {
     // Source: ../shared/reference/methods.md §0 and check-inputs/expected-values.csv rows
     // `toy.clean` ([13 rows, 1 self-loop, 2 repeats, 10 people, 10 edges]) and `toy.degrees`.
-    let (Some(p), Some(e)) = (check_input("toy-people.csv"), check_input("toy-exposures.csv")) else {
+    let (Some(p), Some(e)) = (
+        check_input("toy-people.csv"),
+        check_input("toy-exposures.csv"),
+    ) else {
         eprintln!("SKIP: ../shared/reference/check-inputs not found");
         return;
     };
     let d = load(&[&p, &e], &[]);
     assert_eq!(d.people(), 10);
     assert_eq!(d.edges.len(), 10);
-    let expected = [("P01", 4), ("P02", 2), ("P03", 2), ("P04", 2), ("P05", 2), ("P06", 2), ("P07", 3), ("P08", 2), ("P09", 1), ("P10", 0)];
+    let expected = [
+        ("P01", 4),
+        ("P02", 2),
+        ("P03", 2),
+        ("P04", 2),
+        ("P05", 2),
+        ("P06", 2),
+        ("P07", 3),
+        ("P08", 2),
+        ("P09", 1),
+        ("P10", 0),
+    ];
     for (id, k) in expected {
         assert_eq!(degree(&d, id), k, "degree of {id}");
     }
     let x = &d.ledger.exposures;
     assert_eq!((x.read, x.used, x.merged, x.quarantined), (13, 10, 2, 1));
-    assert_eq!(d.ledger.quarantined[0].reason, QuarantineReason::SelfExposure);
+    assert_eq!(
+        d.ledger.quarantined[0].reason,
+        QuarantineReason::SelfExposure
+    );
     // Multiplicity (expected-values.csv `toy.multiplicity`): P01-P02 twice, P04-P06 twice.
     let pairs = common::edge_set(&d);
     assert!(pairs.contains(&("P01".into(), "P02".into(), 2)));
@@ -61,7 +78,10 @@ A4,A3,extra,field,here,1,2
 #[test]
 fn every_row_lands_in_one_bucket_with_its_reason() {
     let dir = tempfile::tempdir().unwrap();
-    let (p, e) = (dir.path().join("people.csv"), dir.path().join("exposures.csv"));
+    let (p, e) = (
+        dir.path().join("people.csv"),
+        dir.path().join("exposures.csv"),
+    );
     fs::write(&p, PEOPLE).unwrap();
     fs::write(&e, EXPOSURES).unwrap();
     let d = load(&[&p, &e], &[]);
@@ -75,7 +95,12 @@ fn every_row_lands_in_one_bucket_with_its_reason() {
     let xc = d.ledger.exposures;
     assert_eq!((xc.read, xc.used, xc.merged, xc.quarantined), (10, 4, 2, 4));
 
-    let reasons: Vec<(u64, &str)> = d.ledger.quarantined.iter().map(|q| (q.line, q.reason.code())).collect();
+    let reasons: Vec<(u64, &str)> = d
+        .ledger
+        .quarantined
+        .iter()
+        .map(|q| (q.line, q.reason.code()))
+        .collect();
     assert!(reasons.contains(&(5, "missing_id")), "{reasons:?}"); // people line 5: blank person_id
     assert!(reasons.contains(&(6, "self_exposure")), "{reasons:?}");
     assert!(reasons.contains(&(7, "missing_id")), "{reasons:?}");
@@ -87,8 +112,12 @@ fn every_row_lands_in_one_bucket_with_its_reason() {
     assert!(d.is_implied(d.ids.get("B9").unwrap()));
     assert_eq!(d.people(), 6);
 
-    let problems: Vec<(u64, &str, ProblemKind)> =
-        d.ledger.problems.iter().map(|p| (p.line, p.column.as_str(), p.kind)).collect();
+    let problems: Vec<(u64, &str, ProblemKind)> = d
+        .ledger
+        .problems
+        .iter()
+        .map(|p| (p.line, p.column.as_str(), p.kind))
+        .collect();
     let expect = [
         (4, "area", ProblemKind::ConflictingValue),
         (6, "onset_date", ProblemKind::ImpossibleDate),
@@ -106,14 +135,31 @@ fn every_row_lands_in_one_bucket_with_its_reason() {
 
     // The merged pair keeps what its rows said.
     let a1 = d.ids.get("A1").unwrap();
-    let e = (0..d.edges.len()).find(|&e| d.edges.a[e] == a1 && d.ids.name(d.edges.b[e]) == "A2").unwrap();
+    let e = (0..d.edges.len())
+        .find(|&e| d.edges.a[e] == a1 && d.ids.name(d.edges.b[e]) == "A2")
+        .unwrap();
     assert_eq!(d.edges.rows[e], 3);
-    assert_eq!(d.edges.a_named_b[e], 2, "A1 named A2 twice, A2 named A1 once");
-    assert_eq!(d.edges.minutes[e], 45.0, "the unreadable duration adds nothing");
+    assert_eq!(
+        d.edges.a_named_b[e], 2,
+        "A1 named A2 twice, A2 named A1 once"
+    );
+    assert_eq!(
+        d.edges.minutes[e], 45.0,
+        "the unreadable duration adds nothing"
+    );
     assert_eq!(hubwatch::ingest::dates::iso(d.edges.first[e]), "2024-03-01");
     assert_eq!(hubwatch::ingest::dates::iso(d.edges.last[e]), "2024-03-04");
-    let settings: Vec<&str> = d.edges.settings(e).iter().map(|&c| d.settings[c as usize - 1].as_str()).collect();
-    assert_eq!(settings, ["household", "workplace"], "settings compare without case");
+    let settings: Vec<&str> = d
+        .edges
+        .settings(e)
+        .iter()
+        .map(|&c| d.settings[c as usize - 1].as_str())
+        .collect();
+    assert_eq!(
+        settings,
+        ["household", "workplace"],
+        "settings compare without case"
+    );
     // Attributes: the first value is kept.
     assert_eq!(d.attrs.get("area", d.ids.get("A2").unwrap()), Some("North"));
 }
@@ -131,7 +177,10 @@ fn ids_are_trimmed_and_case_is_a_setting() {
     let d = load_with(&[&e], &[], &c).unwrap();
     assert_eq!(d.people(), 2);
     assert_eq!(d.edges.len(), 1);
-    assert_eq!(d.ledger.exposures.quarantined, 1, "b2-B2 is a self-exposure when case is ignored");
+    assert_eq!(
+        d.ledger.exposures.quarantined, 1,
+        "b2-B2 is a self-exposure when case is ignored"
+    );
     assert_eq!(d.ids.name(0), "a1", "first spelling kept, trimmed");
 }
 
@@ -149,7 +198,11 @@ fn synth_manifest_matches_the_ledger() {
     // The generator states what it planted; the ledger must find exactly that.
     let dir = tempfile::tempdir().unwrap();
     let end = hubwatch::ingest::dates::parse_iso("2026-11-27").unwrap();
-    let m = hubwatch::synth::generate(dir.path(), &hubwatch::synth::SynthOptions::new(3000, 11, end)).unwrap();
+    let m = hubwatch::synth::generate(
+        dir.path(),
+        &hubwatch::synth::SynthOptions::new(3000, 11, end),
+    )
+    .unwrap();
     let d = load(&[dir.path()], &[]);
     assert_balanced(&d);
     let (x, p) = (d.ledger.exposures, d.ledger.people);
@@ -164,8 +217,15 @@ fn synth_manifest_matches_the_ledger() {
     assert_eq!(d.people() as u64, m.people + m.implied_people);
     // Same seed, same bytes.
     let dir2 = tempfile::tempdir().unwrap();
-    hubwatch::synth::generate(dir2.path(), &hubwatch::synth::SynthOptions::new(3000, 11, end)).unwrap();
+    hubwatch::synth::generate(
+        dir2.path(),
+        &hubwatch::synth::SynthOptions::new(3000, 11, end),
+    )
+    .unwrap();
     for f in ["people.csv", "exposures.csv"] {
-        assert_eq!(fs::read(dir.path().join(f)).unwrap(), fs::read(dir2.path().join(f)).unwrap());
+        assert_eq!(
+            fs::read(dir.path().join(f)).unwrap(),
+            fs::read(dir2.path().join(f)).unwrap()
+        );
     }
 }

@@ -33,13 +33,18 @@ pub fn from_days(days: i32) -> Option<NaiveDate> {
 
 /// Format a day number as ISO 8601.
 pub fn iso(days: i32) -> String {
-    from_days(days).map(|d| d.format("%Y-%m-%d").to_string()).unwrap_or_default()
+    from_days(days)
+        .map(|d| d.format("%Y-%m-%d").to_string())
+        .unwrap_or_default()
 }
 
 impl DateParser {
     /// `format` empty means ISO 8601.
     pub fn new(format: &str, excel_serials: bool) -> DateParser {
-        DateParser { format: (!format.is_empty()).then(|| format.to_string()), excel_serials }
+        DateParser {
+            format: (!format.is_empty()).then(|| format.to_string()),
+            excel_serials,
+        }
     }
 
     /// The layout shown in messages.
@@ -87,13 +92,20 @@ fn digits(b: &[u8]) -> Option<u32> {
 /// `YYYY-MM-DD`, optionally followed by `T` or a space and a time (ignored).
 pub fn parse_iso(v: &str) -> Result<i32, DateProblem> {
     let b = v.as_bytes();
-    if b.len() < 10 || b[4] != b'-' || b[7] != b'-' || (b.len() > 10 && !matches!(b[10], b'T' | b't' | b' ')) {
+    if b.len() < 10
+        || b[4] != b'-'
+        || b[7] != b'-'
+        || (b.len() > 10 && !matches!(b[10], b'T' | b't' | b' '))
+    {
         return Err(DateProblem::Unreadable);
     }
-    let (Some(y), Some(m), Some(d)) = (digits(&b[0..4]), digits(&b[5..7]), digits(&b[8..10])) else {
+    let (Some(y), Some(m), Some(d)) = (digits(&b[0..4]), digits(&b[5..7]), digits(&b[8..10]))
+    else {
         return Err(DateProblem::Unreadable);
     };
-    NaiveDate::from_ymd_opt(y as i32, m, d).map(to_days).ok_or(DateProblem::Impossible)
+    NaiveDate::from_ymd_opt(y as i32, m, d)
+        .map(to_days)
+        .ok_or(DateProblem::Impossible)
 }
 
 /// True for values shaped like `a/b/yyyy`, `a.b.yyyy` or `a-b-yyyy` (day and month in some order).
@@ -103,7 +115,11 @@ fn looks_numeric_dmy(v: &str) -> Option<(u32, u32)> {
         return None;
     }
     let p2 = parts[2].split([' ', 'T']).next().unwrap_or("");
-    match (digits(parts[0].as_bytes()), digits(parts[1].as_bytes()), digits(p2.as_bytes())) {
+    match (
+        digits(parts[0].as_bytes()),
+        digits(parts[1].as_bytes()),
+        digits(p2.as_bytes()),
+    ) {
         (Some(a), Some(b), Some(_)) => Some((a, b)),
         _ => None,
     }
@@ -112,20 +128,37 @@ fn looks_numeric_dmy(v: &str) -> Option<(u32, u32)> {
 /// Look at sample values of a date column read as ISO: if most of them are day/month/year
 /// numbers, return the message that stops the load, with examples and the setting to add.
 pub fn ambiguity_message(sample: &[&str]) -> Option<String> {
-    let non_empty: Vec<&str> = sample.iter().copied().filter(|v| !v.trim().is_empty()).collect();
-    let dmy: Vec<(&str, (u32, u32))> =
-        non_empty.iter().filter_map(|v| looks_numeric_dmy(v.trim()).map(|p| (*v, p))).collect();
+    let non_empty: Vec<&str> = sample
+        .iter()
+        .copied()
+        .filter(|v| !v.trim().is_empty())
+        .collect();
+    let dmy: Vec<(&str, (u32, u32))> = non_empty
+        .iter()
+        .filter_map(|v| looks_numeric_dmy(v.trim()).map(|p| (*v, p)))
+        .collect();
     if dmy.is_empty() || dmy.len() * 2 < non_empty.len() {
         return None;
     }
-    let examples: Vec<String> = dmy.iter().take(3).map(|(v, _)| format!("\"{v}\"")).collect();
-    let sep = dmy[0].0.trim().chars().find(|c| matches!(c, '/' | '.' | '-')).unwrap_or('/');
+    let examples: Vec<String> = dmy
+        .iter()
+        .take(3)
+        .map(|(v, _)| format!("\"{v}\""))
+        .collect();
+    let sep = dmy[0]
+        .0
+        .trim()
+        .chars()
+        .find(|c| matches!(c, '/' | '.' | '-'))
+        .unwrap_or('/');
     let day_first_only = dmy.iter().find(|(_, (a, _))| *a > 12).map(|(v, _)| *v);
     let month_first_only = dmy.iter().find(|(_, (_, b))| *b > 12).map(|(v, _)| *v);
     let evidence = match (day_first_only, month_first_only) {
         (Some(v), None) => format!(" \"{v}\" fits only day-first."),
         (None, Some(v)) => format!(" \"{v}\" fits only month-first."),
-        (Some(a), Some(b)) => format!(" \"{a}\" fits only day-first but \"{b}\" only month-first: check the column."),
+        (Some(a), Some(b)) => {
+            format!(" \"{a}\" fits only day-first but \"{b}\" only month-first: check the column.")
+        }
         (None, None) => " Every value seen fits both orders.".to_string(),
     };
     Some(format!(

@@ -10,7 +10,10 @@ use super::table::{check_unique_columns, FileKind, LineMap, Rejected, Table, Tab
 use crate::error::{Error, Result};
 
 fn polars_err(path: &Path) -> impl Fn(PolarsError) -> Error + '_ {
-    move |e| Error::Polars { path: path.to_path_buf(), source: e }
+    move |e| Error::Polars {
+        path: path.to_path_buf(),
+        source: e,
+    }
 }
 
 /// Turn every column to text (dates print as ISO 8601, numbers as written by polars).
@@ -20,7 +23,14 @@ fn to_text_columns(path: &Path, frame: DataFrame) -> Result<DataFrame> {
         .iter()
         .map(|c| {
             c.cast(&DataType::String).map_err(|e| {
-                Error::format(path, format!("column \"{}\" ({}) cannot be read as text: {e}", c.name(), c.dtype()))
+                Error::format(
+                    path,
+                    format!(
+                        "column \"{}\" ({}) cannot be read as text: {e}",
+                        c.name(),
+                        c.dtype()
+                    ),
+                )
             })
         })
         .collect::<Result<Vec<_>>>()?;
@@ -28,7 +38,11 @@ fn to_text_columns(path: &Path, frame: DataFrame) -> Result<DataFrame> {
 }
 
 fn meta(path: &Path, kind: FileKind, frame: &DataFrame, unit: &'static str) -> Result<TableMeta> {
-    let columns: Vec<String> = frame.get_column_names().iter().map(|s| s.to_string()).collect();
+    let columns: Vec<String> = frame
+        .get_column_names()
+        .iter()
+        .map(|s| s.to_string())
+        .collect();
     check_unique_columns(path, &columns)?;
     Ok(TableMeta {
         path: path.to_path_buf(),
@@ -44,10 +58,17 @@ fn meta(path: &Path, kind: FileKind, frame: &DataFrame, unit: &'static str) -> R
 /// Read a Parquet file; positions are 1-based record numbers.
 pub fn read_parquet(path: &Path) -> Result<Table> {
     let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
-    let frame = ParquetReader::new(file).finish().map_err(polars_err(path))?;
+    let frame = ParquetReader::new(file)
+        .finish()
+        .map_err(polars_err(path))?;
     let frame = to_text_columns(path, frame)?;
     let meta = meta(path, FileKind::Parquet, &frame, "record")?;
-    Ok(Table::from_frame(meta, frame, LineMap::Contiguous { first: 1 }, Vec::new()))
+    Ok(Table::from_frame(
+        meta,
+        frame,
+        LineMap::Contiguous { first: 1 },
+        Vec::new(),
+    ))
 }
 
 /// Read newline-delimited JSON; blank lines are skipped and positions are source lines.
@@ -82,7 +103,12 @@ pub fn read_ndjson(path: &Path) -> Result<Table> {
         .map_err(polars_err(path))?;
     let frame = to_text_columns(path, frame)?;
     let meta = meta(path, FileKind::NdJson, &frame, "line")?;
-    Ok(Table::from_frame(meta, frame, LineMap::Explicit(lines), Vec::new()))
+    Ok(Table::from_frame(
+        meta,
+        frame,
+        LineMap::Explicit(lines),
+        Vec::new(),
+    ))
 }
 
 /// Excel's day zero for serial dates after February 1900 (the 1900 leap-year quirk).
@@ -116,32 +142,65 @@ pub fn read_excel(path: &Path, sheet: Option<&str>) -> Result<Table> {
         .map_err(|e| Error::format(path, format!("not a readable spreadsheet: {e}")))?;
     let names = book.sheet_names().to_vec();
     let name = match sheet {
-        Some(s) => names.iter().find(|n| n.as_str() == s).cloned().ok_or_else(|| {
-            Error::format(path, format!("no worksheet named \"{s}\"; the workbook has: {}", names.join(", ")))
-        })?,
-        None => names.first().cloned().ok_or_else(|| Error::format(path, "the workbook has no worksheet"))?,
+        Some(s) => names
+            .iter()
+            .find(|n| n.as_str() == s)
+            .cloned()
+            .ok_or_else(|| {
+                Error::format(
+                    path,
+                    format!(
+                        "no worksheet named \"{s}\"; the workbook has: {}",
+                        names.join(", ")
+                    ),
+                )
+            })?,
+        None => names
+            .first()
+            .cloned()
+            .ok_or_else(|| Error::format(path, "the workbook has no worksheet"))?,
     };
     let range = book
         .worksheet_range(&name)
         .map_err(|e| Error::format(path, format!("worksheet \"{name}\": {e}")))?;
     let row0 = range.start().map_or(0, |(r, _)| r as u64);
-    let mut rows = range.rows().enumerate().filter(|(_, r)| r.iter().any(|c| !matches!(c, Data::Empty)));
+    let mut rows = range
+        .rows()
+        .enumerate()
+        .filter(|(_, r)| r.iter().any(|c| !matches!(c, Data::Empty)));
     let Some((hdr_idx, header)) = rows.next() else {
-        return Err(Error::format(path, format!("worksheet \"{name}\" is empty")));
+        return Err(Error::format(
+            path,
+            format!("worksheet \"{name}\" is empty"),
+        ));
     };
     let _ = hdr_idx;
-    let columns: Vec<String> = header.iter().map(|c| cell_text(c).unwrap_or_default().trim().to_string()).collect();
+    let columns: Vec<String> = header
+        .iter()
+        .map(|c| cell_text(c).unwrap_or_default().trim().to_string())
+        .collect();
     check_unique_columns(path, &columns)?;
     let mut values: Vec<Vec<Option<String>>> = vec![Vec::new(); columns.len()];
     let mut lines = Vec::new();
     let mut rejected = Vec::new();
     for (i, row) in rows {
         let line = row0 + i as u64 + 1;
-        if row.len() > columns.len() && row[columns.len()..].iter().any(|c| !matches!(c, Data::Empty)) {
+        if row.len() > columns.len()
+            && row[columns.len()..]
+                .iter()
+                .any(|c| !matches!(c, Data::Empty))
+        {
             rejected.push(Rejected {
                 line,
-                reason: format!("wrong number of fields: values beyond the {} named columns", columns.len()),
-                raw: row.iter().filter_map(cell_text).collect::<Vec<_>>().join(" | "),
+                reason: format!(
+                    "wrong number of fields: values beyond the {} named columns",
+                    columns.len()
+                ),
+                raw: row
+                    .iter()
+                    .filter_map(cell_text)
+                    .collect::<Vec<_>>()
+                    .join(" | "),
             });
             continue;
         }
@@ -157,7 +216,12 @@ pub fn read_excel(path: &Path, sheet: Option<&str>) -> Result<Table> {
         .collect();
     let frame = DataFrame::new(lines.len(), cols).map_err(polars_err(path))?;
     let meta = meta(path, FileKind::Excel, &frame, "row")?;
-    Ok(Table::from_frame(meta, frame, LineMap::Explicit(lines), rejected))
+    Ok(Table::from_frame(
+        meta,
+        frame,
+        LineMap::Explicit(lines),
+        rejected,
+    ))
 }
 
 #[cfg(test)]

@@ -198,7 +198,11 @@ impl Ledger {
     /// Quarantined rows per reason code, sorted by code.
     pub fn quarantine_counts(&self, role: Role) -> BTreeMap<&'static str, u64> {
         let mut m = BTreeMap::new();
-        for q in self.quarantined.iter().filter(|q| self.files[q.file].role == role) {
+        for q in self
+            .quarantined
+            .iter()
+            .filter(|q| self.files[q.file].role == role)
+        {
             *m.entry(q.reason.code()).or_insert(0) += 1;
         }
         m
@@ -207,7 +211,11 @@ impl Ledger {
     /// Field problems per kind code, sorted by code.
     pub fn problem_counts(&self, role: Role) -> BTreeMap<&'static str, u64> {
         let mut m = BTreeMap::new();
-        for p in self.problems.iter().filter(|p| self.files[p.file].role == role) {
+        for p in self
+            .problems
+            .iter()
+            .filter(|p| self.files[p.file].role == role)
+        {
             *m.entry(p.kind.code()).or_insert(0) += 1;
         }
         m

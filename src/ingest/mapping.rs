@@ -31,7 +31,11 @@ pub fn parse_override(arg: &str) -> Result<(String, ColumnRef)> {
     }
     let col = col.trim();
     let r = match col.parse::<usize>() {
-        Ok(0) => return Err(Error::Usage(format!("--column {arg}: column numbers start at 1"))),
+        Ok(0) => {
+            return Err(Error::Usage(format!(
+                "--column {arg}: column numbers start at 1"
+            )))
+        }
         Ok(n) => ColumnRef::Position(n),
         Err(_) => ColumnRef::Name(col.to_string()),
     };
@@ -63,7 +67,12 @@ impl Mapping {
 /// Resolve every field of `fields` that this table has. Overrides win; a name override that
 /// matches no header is an error for required fields only when the table plays that role,
 /// which the caller decides, so here it is simply left unmapped.
-pub fn resolve(columns: &[String], config: &Config, overrides: &[(String, ColumnRef)], fields: &[&str]) -> Mapping {
+pub fn resolve(
+    columns: &[String],
+    config: &Config,
+    overrides: &[(String, ColumnRef)],
+    fields: &[&str],
+) -> Mapping {
     let folded: Vec<String> = columns.iter().map(|c| fold_header(c)).collect();
     let mut out = Mapping::default();
     let mut taken = vec![false; columns.len()];
@@ -91,7 +100,11 @@ pub fn resolve(columns: &[String], config: &Config, overrides: &[(String, Column
         }
         for syn in config.synonyms(field) {
             let f = fold_header(syn);
-            if let Some(i) = folded.iter().enumerate().position(|(i, c)| *c == f && !taken[i]) {
+            if let Some(i) = folded
+                .iter()
+                .enumerate()
+                .position(|(i, c)| *c == f && !taken[i])
+            {
                 out.fields.insert(field.to_string(), i);
                 taken[i] = true;
                 break;
@@ -102,11 +115,21 @@ pub fn resolve(columns: &[String], config: &Config, overrides: &[(String, Column
 }
 
 /// The error for a required field with no column: lists the headers and suggests the closest.
-pub fn missing_field_error(path: &Path, columns: &[String], field: &str, config: &Config, headerless: bool) -> Error {
+pub fn missing_field_error(
+    path: &Path,
+    columns: &[String],
+    field: &str,
+    config: &Config,
+    headerless: bool,
+) -> Error {
     let found = if columns.is_empty() {
         "(none)".to_string()
     } else {
-        columns.iter().map(|c| format!("\"{c}\"")).collect::<Vec<_>>().join(", ")
+        columns
+            .iter()
+            .map(|c| format!("\"{c}\""))
+            .collect::<Vec<_>>()
+            .join(", ")
     };
     let hint = if headerless {
         format!(
@@ -119,16 +142,28 @@ pub fn missing_field_error(path: &Path, columns: &[String], field: &str, config:
             None => format!(" Map it with --column {field}=HEADER, or add the header to [columns] {field} in a config file."),
         }
     };
-    Error::MissingField { path: path.to_path_buf(), field: field.to_string(), found, hint }
+    Error::MissingField {
+        path: path.to_path_buf(),
+        field: field.to_string(),
+        found,
+        hint,
+    }
 }
 
 fn closest<'a>(columns: &'a [String], field: &str, config: &Config) -> Option<&'a str> {
-    let mut targets: Vec<String> = config.synonyms(field).iter().map(|s| fold_header(s)).collect();
+    let mut targets: Vec<String> = config
+        .synonyms(field)
+        .iter()
+        .map(|s| fold_header(s))
+        .collect();
     targets.push(fold_header(field));
     // A header that already names another field is never the suggestion.
     let taken = |c: &str| {
         let f = fold_header(c);
-        config.columns.iter().any(|(other, syns)| other != field && syns.iter().any(|s| fold_header(s) == f))
+        config
+            .columns
+            .iter()
+            .any(|(other, syns)| other != field && syns.iter().any(|s| fold_header(s) == f))
     };
     columns
         .iter()
@@ -160,7 +195,12 @@ mod tests {
     #[test]
     fn synonyms_match_ignoring_case_space_underscore() {
         let c = Config::default();
-        let m = resolve(&cols(&["Person A", "PERSON-B", "Exposure Date"]), &c, &[], &EXPOSURE_FIELDS);
+        let m = resolve(
+            &cols(&["Person A", "PERSON-B", "Exposure Date"]),
+            &c,
+            &[],
+            &EXPOSURE_FIELDS,
+        );
         assert_eq!(m.get("source_id"), Some(0));
         assert_eq!(m.get("target_id"), Some(1));
         assert_eq!(m.get("exposure_date"), Some(2));
@@ -173,7 +213,12 @@ mod tests {
             parse_override("source_id=2").unwrap(),
             parse_override("target_id=3").unwrap(),
         ];
-        let m = resolve(&cols(&["column_1", "column_2", "column_3"]), &c, &o, &EXPOSURE_FIELDS);
+        let m = resolve(
+            &cols(&["column_1", "column_2", "column_3"]),
+            &c,
+            &o,
+            &EXPOSURE_FIELDS,
+        );
         assert_eq!(m.get("source_id"), Some(1));
         assert_eq!(m.get("target_id"), Some(2));
         assert!(parse_override("nonsense=1").is_err());
@@ -184,7 +229,13 @@ mod tests {
     #[test]
     fn missing_field_suggests_closest_header() {
         let c = Config::default();
-        let e = missing_field_error(Path::new("x.csv"), &cols(&["src_id", "tgt"]), "source_id", &c, false);
+        let e = missing_field_error(
+            Path::new("x.csv"),
+            &cols(&["src_id", "tgt"]),
+            "source_id",
+            &c,
+            false,
+        );
         let s = e.to_string();
         assert!(s.contains("Closest header: \"src_id\""), "{s}");
         assert!(s.contains("--column source_id=\"src_id\""), "{s}");

@@ -103,11 +103,17 @@ struct Opened {
     in_folder: bool,
 }
 
-fn open_input(input: &Input, config: &Config, read: &ReadOptions, ignored: &mut Vec<(PathBuf, String)>) -> Result<Vec<Opened>> {
+fn open_input(
+    input: &Input,
+    config: &Config,
+    read: &ReadOptions,
+    ignored: &mut Vec<(PathBuf, String)>,
+) -> Result<Vec<Opened>> {
     match input {
-        Input::Builtin { name, bytes } => {
-            Ok(vec![Opened { table: Table::open_bytes(name, bytes.to_vec(), config)?, in_folder: false }])
-        }
+        Input::Builtin { name, bytes } => Ok(vec![Opened {
+            table: Table::open_bytes(name, bytes.to_vec(), config)?,
+            in_folder: false,
+        }]),
         Input::Path(p) if p.is_dir() => {
             let mut files: Vec<PathBuf> = std::fs::read_dir(p)
                 .map_err(|e| Error::io(p, e))?
@@ -121,13 +127,19 @@ fn open_input(input: &Input, config: &Config, read: &ReadOptions, ignored: &mut 
             let mut out = Vec::new();
             for f in files {
                 match Table::open(&f, config, read) {
-                    Ok(table) => out.push(Opened { table, in_folder: true }),
+                    Ok(table) => out.push(Opened {
+                        table,
+                        in_folder: true,
+                    }),
                     Err(e) => ignored.push((f, format!("not read: {e}"))),
                 }
             }
             Ok(out)
         }
-        Input::Path(p) => Ok(vec![Opened { table: Table::open(p, config, read)?, in_folder: false }]),
+        Input::Path(p) => Ok(vec![Opened {
+            table: Table::open(p, config, read)?,
+            in_folder: false,
+        }]),
     }
 }
 
@@ -145,26 +157,59 @@ fn plan(
         let cols = &table.meta.columns;
         let exp = mapping::resolve(cols, config, overrides, &EXPOSURE_FIELDS);
         if exp.get("source_id").is_some() && exp.get("target_id").is_some() {
-            out.push(Planned { table, role: Role::Exposures, mapping: exp });
+            out.push(Planned {
+                table,
+                role: Role::Exposures,
+                mapping: exp,
+            });
             continue;
         }
         let ppl = mapping::resolve(cols, config, overrides, &PEOPLE_FIELDS);
         if ppl.get("person_id").is_some() && (several || exp.get("source_id").is_none()) {
-            out.push(Planned { table, role: Role::People, mapping: ppl });
+            out.push(Planned {
+                table,
+                role: Role::People,
+                mapping: ppl,
+            });
             continue;
         }
-        let missing = if exp.get("source_id").is_none() { "source_id" } else { "target_id" };
+        let missing = if exp.get("source_id").is_none() {
+            "source_id"
+        } else {
+            "target_id"
+        };
         if in_folder {
-            let err = mapping::missing_field_error(&table.meta.path, cols, missing, config, table.meta.headerless);
-            ignored.push((table.meta.path.clone(), format!("neither a people nor an exposures table: {err}")));
+            let err = mapping::missing_field_error(
+                &table.meta.path,
+                cols,
+                missing,
+                config,
+                table.meta.headerless,
+            );
+            ignored.push((
+                table.meta.path.clone(),
+                format!("neither a people nor an exposures table: {err}"),
+            ));
             continue;
         }
-        return Err(mapping::missing_field_error(&table.meta.path, cols, missing, config, table.meta.headerless));
+        return Err(mapping::missing_field_error(
+            &table.meta.path,
+            cols,
+            missing,
+            config,
+            table.meta.headerless,
+        ));
     }
     if !out.iter().any(|p| p.role == Role::Exposures) {
         let Some(first) = out.first().map(|p| &p.table.meta) else {
-            let why: Vec<String> = ignored.iter().map(|(p, w)| format!("{}: {w}", p.display())).collect();
-            return Err(Error::Usage(format!("no table could be used. {}", why.join("; "))));
+            let why: Vec<String> = ignored
+                .iter()
+                .map(|(p, w)| format!("{}: {w}", p.display()))
+                .collect();
+            return Err(Error::Usage(format!(
+                "no table could be used. {}",
+                why.join("; ")
+            )));
         };
         return Err(Error::format(
             &first.path,
@@ -202,36 +247,63 @@ pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dat
     }
     let planned = plan(tables, config, &opts.overrides, &mut ignored)?;
     let progress = Progress::new(opts.progress);
-    let mut ledger = Ledger { ignored, ..Ledger::default() };
+    let mut ledger = Ledger {
+        ignored,
+        ..Ledger::default()
+    };
     let mut people = PeopleBuilder::new(config.ids.case_sensitive);
     let mut rows = ExposureRows::new();
     let mut problems = Vec::new();
     let mut people_in_table = 0u32;
-    for Planned { table, role, mapping } in planned {
+    for Planned {
+        table,
+        role,
+        mapping,
+    } in planned
+    {
         let file = ledger.files.len();
         let meta = table.meta.clone();
         let mut checker = FieldChecker::new(&config.dates.format, meta.excel_serials, opts.as_of);
-        let mut ctx = FileCtx { file, meta: &meta, mapping: &mapping, counts: Counts::default() };
+        let mut ctx = FileCtx {
+            file,
+            meta: &meta,
+            mapping: &mapping,
+            counts: Counts::default(),
+        };
         if role == Role::Exposures && people_in_table == 0 {
             people_in_table = people.ids.len() as u32;
         }
         let rejected = table.read(&opts.read, |chunk| {
             match role {
                 Role::People => people.add_chunk(&mut ctx, &chunk, &mut checker)?,
-                Role::Exposures => rows.add_chunk(&mut ctx, &chunk, &mut people.ids, &mut checker)?,
+                Role::Exposures => {
+                    rows.add_chunk(&mut ctx, &chunk, &mut people.ids, &mut checker)?
+                }
             }
             progress.tick(&meta.path, ctx.counts.read);
             Ok(())
         })?;
-        let sink = if role == Role::People { &mut people.quarantined } else { &mut rows.quarantined };
+        let sink = if role == Role::People {
+            &mut people.quarantined
+        } else {
+            &mut rows.quarantined
+        };
         for r in rejected {
             ctx.counts.read += 1;
             ctx.counts.quarantined += 1;
-            sink.push(QuarantinedRow { file, line: r.line, reason: QuarantineReason::WrongFieldCount { detail: r.reason }, raw: r.raw });
+            sink.push(QuarantinedRow {
+                file,
+                line: r.line,
+                reason: QuarantineReason::WrongFieldCount { detail: r.reason },
+                raw: r.raw,
+            });
         }
         problems.append(&mut checker.problems);
-        let named: BTreeMap<String, String> =
-            mapping.fields.iter().map(|(f, &i)| (f.clone(), meta.columns[i].clone())).collect();
+        let named: BTreeMap<String, String> = mapping
+            .fields
+            .iter()
+            .map(|(f, &i)| (f.clone(), meta.columns[i].clone()))
+            .collect();
         ledger.files.push(FileReport {
             path: meta.path.clone(),
             role,
@@ -250,14 +322,21 @@ pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dat
     // Exposure rows that were usable are used (first of their pair) or merged.
     let mut start = 0;
     for &(file, n) in &rows.per_file {
-        let used = agg.first_of_pair[start..start + n].iter().filter(|&&f| f).count() as u64;
+        let used = agg.first_of_pair[start..start + n]
+            .iter()
+            .filter(|&&f| f)
+            .count() as u64;
         let c = &mut ledger.files[file].counts;
         c.used += used;
         c.merged += n as u64 - used;
         start += n;
     }
     for f in &ledger.files {
-        let total = if f.role == Role::People { &mut ledger.people } else { &mut ledger.exposures };
+        let total = if f.role == Role::People {
+            &mut ledger.people
+        } else {
+            &mut ledger.exposures
+        };
         total.add(&f.counts);
     }
     ledger.quarantined = people.quarantined;
@@ -268,7 +347,9 @@ pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dat
     for v in attrs.values.iter_mut() {
         v.resize(n, None);
     }
-    let settings = (0..rows.settings.len() as u32).map(|i| rows.settings.name(i).to_string()).collect();
+    let settings = (0..rows.settings.len() as u32)
+        .map(|i| rows.settings.name(i).to_string())
+        .collect();
     let graph = graph::adjacency(n, &agg.edges);
     Ok(Dataset {
         ids: people.ids,

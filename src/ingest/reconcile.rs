@@ -61,18 +61,28 @@ pub struct FileCtx<'a> {
     pub counts: Counts,
 }
 
-fn text_column<'a>(frame: &'a DataFrame, idx: Option<usize>, path: &std::path::Path) -> Result<Option<&'a StringChunked>> {
+fn text_column<'a>(
+    frame: &'a DataFrame,
+    idx: Option<usize>,
+    path: &std::path::Path,
+) -> Result<Option<&'a StringChunked>> {
     match idx {
         None => Ok(None),
         Some(i) => frame.columns()[i]
             .str()
             .map(Some)
-            .map_err(|e| Error::Polars { path: path.to_path_buf(), source: e }),
+            .map_err(|e| Error::Polars {
+                path: path.to_path_buf(),
+                source: e,
+            }),
     }
 }
 
 /// Values of an optional column as an iterator of `Option<&str>` (all `None` if unmapped).
-fn values<'a>(col: Option<&'a StringChunked>, n: usize) -> Box<dyn Iterator<Item = Option<&'a str>> + 'a> {
+fn values<'a>(
+    col: Option<&'a StringChunked>,
+    n: usize,
+) -> Box<dyn Iterator<Item = Option<&'a str>> + 'a> {
     match col {
         Some(c) => Box::new(c.iter()),
         None => Box::new(std::iter::repeat_n(None, n)),
@@ -88,7 +98,13 @@ fn raw_row(frame: &DataFrame, row: usize) -> String {
     frame
         .columns()
         .iter()
-        .map(|c| c.str().ok().and_then(|s| s.get(row)).unwrap_or("").to_string())
+        .map(|c| {
+            c.str()
+                .ok()
+                .and_then(|s| s.get(row))
+                .unwrap_or("")
+                .to_string()
+        })
         .collect::<Vec<_>>()
         .join(",")
 }
@@ -104,10 +120,22 @@ pub struct FieldChecker {
 impl FieldChecker {
     /// Dates in `format` (empty = ISO), none after `as_of`.
     pub fn new(format: &str, excel_serials: bool, as_of: i32) -> FieldChecker {
-        FieldChecker { parser: DateParser::new(format, excel_serials), as_of, problems: Vec::new() }
+        FieldChecker {
+            parser: DateParser::new(format, excel_serials),
+            as_of,
+            problems: Vec::new(),
+        }
     }
 
-    fn problem(&mut self, ctx: &mut FileCtx, line: u64, column: usize, value: &str, kind: ProblemKind, reason: String) {
+    fn problem(
+        &mut self,
+        ctx: &mut FileCtx,
+        line: u64,
+        column: usize,
+        value: &str,
+        kind: ProblemKind,
+        reason: String,
+    ) {
         ctx.counts.field_problems += 1;
         self.problems.push(FieldProblem {
             file: ctx.file,
@@ -120,21 +148,42 @@ impl FieldChecker {
     }
 
     /// A date value: the day number, or `NO_DATE` with a field problem recorded.
-    pub fn date(&mut self, ctx: &mut FileCtx, line: u64, column: Option<usize>, v: Option<&str>) -> i32 {
-        let (Some(c), Some(v)) = (column, trimmed(v)) else { return NO_DATE };
+    pub fn date(
+        &mut self,
+        ctx: &mut FileCtx,
+        line: u64,
+        column: Option<usize>,
+        v: Option<&str>,
+    ) -> i32 {
+        let (Some(c), Some(v)) = (column, trimmed(v)) else {
+            return NO_DATE;
+        };
         match self.parser.parse(v) {
             Ok(d) if d > self.as_of => {
-                let msg = format!("after the as-of date {}; left empty", dates::iso(self.as_of));
+                let msg = format!(
+                    "after the as-of date {}; left empty",
+                    dates::iso(self.as_of)
+                );
                 self.problem(ctx, line, c, v, ProblemKind::FutureDate, msg);
                 NO_DATE
             }
             Ok(d) => d,
             Err(DateProblem::Impossible) => {
-                self.problem(ctx, line, c, v, ProblemKind::ImpossibleDate, "no such calendar day; left empty".into());
+                self.problem(
+                    ctx,
+                    line,
+                    c,
+                    v,
+                    ProblemKind::ImpossibleDate,
+                    "no such calendar day; left empty".into(),
+                );
                 NO_DATE
             }
             Err(DateProblem::Unreadable) => {
-                let msg = format!("not a date in the layout {}; left empty", self.parser.layout());
+                let msg = format!(
+                    "not a date in the layout {}; left empty",
+                    self.parser.layout()
+                );
                 self.problem(ctx, line, c, v, ProblemKind::UnreadableDate, msg);
                 NO_DATE
             }
@@ -142,31 +191,64 @@ impl FieldChecker {
     }
 
     /// A duration in minutes: the value, or NaN with a field problem recorded.
-    pub fn minutes(&mut self, ctx: &mut FileCtx, line: u64, column: Option<usize>, v: Option<&str>) -> f32 {
-        let (Some(c), Some(v)) = (column, trimmed(v)) else { return f32::NAN };
+    pub fn minutes(
+        &mut self,
+        ctx: &mut FileCtx,
+        line: u64,
+        column: Option<usize>,
+        v: Option<&str>,
+    ) -> f32 {
+        let (Some(c), Some(v)) = (column, trimmed(v)) else {
+            return f32::NAN;
+        };
         match v.parse::<f64>() {
             Ok(x) if x.is_finite() && x >= 0.0 => x as f32,
             Ok(x) if x < 0.0 => {
-                self.problem(ctx, line, c, v, ProblemKind::NegativeNumber, "negative duration; left empty".into());
+                self.problem(
+                    ctx,
+                    line,
+                    c,
+                    v,
+                    ProblemKind::NegativeNumber,
+                    "negative duration; left empty".into(),
+                );
                 f32::NAN
             }
             _ => {
-                self.problem(ctx, line, c, v, ProblemKind::UnreadableNumber, "not a number of minutes; left empty".into());
+                self.problem(
+                    ctx,
+                    line,
+                    c,
+                    v,
+                    ProblemKind::UnreadableNumber,
+                    "not a number of minutes; left empty".into(),
+                );
                 f32::NAN
             }
         }
     }
 
     /// Stop the load if a date column is day/month ambiguous (ISO layout only).
-    pub fn check_ambiguity(&self, meta: &TableMeta, frame: &DataFrame, columns: &[Option<usize>]) -> Result<()> {
+    pub fn check_ambiguity(
+        &self,
+        meta: &TableMeta,
+        frame: &DataFrame,
+        columns: &[Option<usize>],
+    ) -> Result<()> {
         if !self.parser.layout().starts_with("YYYY") {
             return Ok(());
         }
         for &c in columns.iter().flatten() {
-            let col = text_column(frame, Some(c), &meta.path)?.into_iter().flat_map(|s| s.iter().take(2000));
+            let col = text_column(frame, Some(c), &meta.path)?
+                .into_iter()
+                .flat_map(|s| s.iter().take(2000));
             let sample: Vec<&str> = col.flatten().collect();
             if let Some(message) = dates::ambiguity_message(&sample) {
-                return Err(Error::Dates { path: meta.path.clone(), column: meta.columns[c].clone(), message });
+                return Err(Error::Dates {
+                    path: meta.path.clone(),
+                    column: meta.columns[c].clone(),
+                    message,
+                });
             }
         }
         Ok(())
@@ -191,26 +273,50 @@ const PEOPLE_DATE_FIELDS: [&str; 2] = ["onset_date", "report_date"];
 impl PeopleBuilder {
     /// Start with an empty ID map.
     pub fn new(case_sensitive: bool) -> PeopleBuilder {
-        PeopleBuilder { ids: IdMap::new(case_sensitive), attrs: Attributes::default(), first_line: Vec::new(), quarantined: Vec::new() }
+        PeopleBuilder {
+            ids: IdMap::new(case_sensitive),
+            attrs: Attributes::default(),
+            first_line: Vec::new(),
+            quarantined: Vec::new(),
+        }
     }
 
     /// Process one chunk of a people file.
-    pub fn add_chunk(&mut self, ctx: &mut FileCtx, chunk: &Chunk, checker: &mut FieldChecker) -> Result<()> {
+    pub fn add_chunk(
+        &mut self,
+        ctx: &mut FileCtx,
+        chunk: &Chunk,
+        checker: &mut FieldChecker,
+    ) -> Result<()> {
         let frame = &chunk.frame;
         let meta = ctx.meta;
-        let id_col = ctx.mapping.get("person_id").ok_or_else(|| Error::format(&meta.path, "person_id is not mapped"))?;
-        let date_cols: Vec<Option<usize>> = PEOPLE_DATE_FIELDS.iter().map(|f| ctx.mapping.get(f)).collect();
+        let id_col = ctx
+            .mapping
+            .get("person_id")
+            .ok_or_else(|| Error::format(&meta.path, "person_id is not mapped"))?;
+        let date_cols: Vec<Option<usize>> = PEOPLE_DATE_FIELDS
+            .iter()
+            .map(|f| ctx.mapping.get(f))
+            .collect();
         if ctx.counts.read == 0 {
             checker.check_ambiguity(meta, frame, &date_cols)?;
         }
         // Attribute column of each file column (canonical name where mapped).
         let names: Vec<String> = (0..meta.columns.len())
             .map(|c| {
-                ctx.mapping.fields.iter().find(|(_, &i)| i == c).map(|(f, _)| f.clone()).unwrap_or_else(|| meta.columns[c].clone())
+                ctx.mapping
+                    .fields
+                    .iter()
+                    .find(|(_, &i)| i == c)
+                    .map(|(f, _)| f.clone())
+                    .unwrap_or_else(|| meta.columns[c].clone())
             })
             .collect();
         let nodes = self.ids.len();
-        let attr_of: Vec<usize> = names.iter().map(|n| self.attrs.ensure_column(n, nodes)).collect();
+        let attr_of: Vec<usize> = names
+            .iter()
+            .map(|n| self.attrs.ensure_column(n, nodes))
+            .collect();
         let cols: Vec<&StringChunked> = (0..meta.columns.len())
             .map(|c| text_column(frame, Some(c), &meta.path).map(|o| o.expect("some")))
             .collect::<Result<_>>()?;
@@ -222,7 +328,9 @@ impl PeopleBuilder {
                 self.quarantined.push(QuarantinedRow {
                     file: ctx.file,
                     line,
-                    reason: QuarantineReason::MissingId { field: "person_id".into() },
+                    reason: QuarantineReason::MissingId {
+                        field: "person_id".into(),
+                    },
                     raw: raw_row(frame, row),
                 });
                 continue;
@@ -254,7 +362,11 @@ impl PeopleBuilder {
                     None => *slot = Some(value.into()),
                     Some(old) if **old != *value => {
                         let (f, l) = self.first_line[node as usize];
-                        let at = if f == ctx.file { format!("line {l}") } else { format!("file {} line {l}", f + 1) };
+                        let at = if f == ctx.file {
+                            format!("line {l}")
+                        } else {
+                            format!("file {} line {l}", f + 1)
+                        };
                         let msg = format!("person {id} repeated; kept \"{old}\" from {at}");
                         checker.problem(ctx, line, c, &value, ProblemKind::ConflictingValue, msg);
                     }
@@ -292,17 +404,30 @@ pub struct ExposureRows {
 impl ExposureRows {
     /// An empty store; setting labels compare case-insensitively.
     pub fn new() -> ExposureRows {
-        ExposureRows { settings: IdMap::new(false), ..ExposureRows::default() }
+        ExposureRows {
+            settings: IdMap::new(false),
+            ..ExposureRows::default()
+        }
     }
 
     /// Process one chunk of an exposures file, interning IDs into `ids`.
-    pub fn add_chunk(&mut self, ctx: &mut FileCtx, chunk: &Chunk, ids: &mut IdMap, checker: &mut FieldChecker) -> Result<()> {
+    pub fn add_chunk(
+        &mut self,
+        ctx: &mut FileCtx,
+        chunk: &Chunk,
+        ids: &mut IdMap,
+        checker: &mut FieldChecker,
+    ) -> Result<()> {
         let frame = &chunk.frame;
         let meta = ctx.meta;
         let m = ctx.mapping;
         let (src_c, tgt_c) = (m.get("source_id"), m.get("target_id"));
-        let (last_c, first_c, set_c, min_c) =
-            (m.get("exposure_date"), m.get("first_exposure_date"), m.get("setting"), m.get("duration_min"));
+        let (last_c, first_c, set_c, min_c) = (
+            m.get("exposure_date"),
+            m.get("first_exposure_date"),
+            m.get("setting"),
+            m.get("duration_min"),
+        );
         if ctx.counts.read == 0 {
             checker.check_ambiguity(meta, frame, &[last_c, first_c])?;
         }
@@ -310,7 +435,10 @@ impl ExposureRows {
         let src = text_column(frame, src_c, &meta.path)?;
         let tgt = text_column(frame, tgt_c, &meta.path)?;
         let (Some(src), Some(tgt)) = (src, tgt) else {
-            return Err(Error::format(&meta.path, "source_id and target_id must be mapped"));
+            return Err(Error::format(
+                &meta.path,
+                "source_id and target_id must be mapped",
+            ));
         };
         let last = values(text_column(frame, last_c, &meta.path)?, n);
         let first = values(text_column(frame, first_c, &meta.path)?, n);
@@ -333,22 +461,37 @@ impl ExposureRows {
         if set_c.is_some() && self.setting.len() < done {
             self.setting.resize(done, 0);
         }
-        let rows = src.iter().zip(tgt.iter()).zip(last.zip(first)).zip(setting.zip(minutes));
+        let rows = src
+            .iter()
+            .zip(tgt.iter())
+            .zip(last.zip(first))
+            .zip(setting.zip(minutes));
         for (row, (((s, t), (l, f)), (st, mi))) in rows.enumerate() {
             let line = chunk.lines.line(row);
             ctx.counts.read += 1;
             let (s, t) = (trimmed(s), trimmed(t));
             let reason = match (s, t) {
-                (None, _) => Some(QuarantineReason::MissingId { field: "source_id".into() }),
-                (_, None) => Some(QuarantineReason::MissingId { field: "target_id".into() }),
-                (Some(a), Some(b)) if a == b || (ids.get(a).is_some() && ids.get(a) == ids.get(b)) => {
+                (None, _) => Some(QuarantineReason::MissingId {
+                    field: "source_id".into(),
+                }),
+                (_, None) => Some(QuarantineReason::MissingId {
+                    field: "target_id".into(),
+                }),
+                (Some(a), Some(b))
+                    if a == b || (ids.get(a).is_some() && ids.get(a) == ids.get(b)) =>
+                {
                     Some(QuarantineReason::SelfExposure)
                 }
                 _ => None,
             };
             if let Some(reason) = reason {
                 ctx.counts.quarantined += 1;
-                self.quarantined.push(QuarantinedRow { file: ctx.file, line, reason, raw: raw_row(frame, row) });
+                self.quarantined.push(QuarantinedRow {
+                    file: ctx.file,
+                    line,
+                    reason,
+                    raw: raw_row(frame, row),
+                });
                 continue;
             }
             let (Some(s), Some(t)) = (s, t) else { continue };
@@ -372,8 +515,18 @@ impl ExposureRows {
             let mut fd = checker.date(ctx, line, first_c, f);
             if ld != NO_DATE && fd != NO_DATE && fd > ld {
                 let v = f.unwrap_or("").trim().to_string();
-                let msg = format!("first exposure after the last exposure ({}); left empty", dates::iso(ld));
-                checker.problem(ctx, line, first_c.unwrap_or(0), &v, ProblemKind::DateOrder, msg);
+                let msg = format!(
+                    "first exposure after the last exposure ({}); left empty",
+                    dates::iso(ld)
+                );
+                checker.problem(
+                    ctx,
+                    line,
+                    first_c.unwrap_or(0),
+                    &v,
+                    ProblemKind::DateOrder,
+                    msg,
+                );
                 fd = NO_DATE;
             }
             if last_c.is_some() {

@@ -152,22 +152,32 @@ pub fn detect_separator(sample: &[&[u8]]) -> Separator {
     for cand in [b',', b'\t', b';', b'|'] {
         let mut freq: std::collections::HashMap<usize, usize> = std::collections::HashMap::new();
         for l in sample {
-            *freq.entry(count_fields(l, Separator::Byte(cand))).or_insert(0) += 1;
+            *freq
+                .entry(count_fields(l, Separator::Byte(cand)))
+                .or_insert(0) += 1;
         }
-        let Some((&fields, &agree)) = freq.iter().max_by_key(|(f, n)| (**n, **f)) else { continue };
-        if fields >= 2 && agree * 5 >= sample.len() * 4 && best.is_none_or(|(_, a, f)| (agree, fields) > (a, f)) {
+        let Some((&fields, &agree)) = freq.iter().max_by_key(|(f, n)| (**n, **f)) else {
+            continue;
+        };
+        if fields >= 2
+            && agree * 5 >= sample.len() * 4
+            && best.is_none_or(|(_, a, f)| (agree, fields) > (a, f))
+        {
             best = Some((cand, agree, fields));
         }
     }
     if let Some((b, _, _)) = best {
         return Separator::Byte(b);
     }
-    let has_space = sample.iter().any(|l| l.contains(&b' ') || l.contains(&b'\t'));
+    let has_space = sample
+        .iter()
+        .any(|l| l.contains(&b' ') || l.contains(&b'\t'));
     if !has_space {
         return Separator::Byte(b',');
     }
     let irregular = sample.iter().any(|l| {
-        l.windows(2).any(|w| matches!(w, [b' ' | b'\t', b' ' | b'\t']))
+        l.windows(2)
+            .any(|w| matches!(w, [b' ' | b'\t', b' ' | b'\t']))
             || l.first().is_some_and(|b| *b == b' ' || *b == b'\t')
             || l.last().is_some_and(|b| *b == b' ' || *b == b'\t')
             || l.contains(&b'\t')
@@ -223,7 +233,10 @@ mod tests {
         let f = split_fields(b"\"a,b\",\"say \"\"hi\"\"\",c", Separator::Byte(b','));
         assert_eq!(f, vec!["a,b", "say \"hi\"", "c"]);
         assert_eq!(count_fields(b"\"a,b\",c", Separator::Byte(b',')), 2);
-        assert_eq!(split_fields(b"  1\t 2  3 ", Separator::Whitespace), vec!["1", "2", "3"]);
+        assert_eq!(
+            split_fields(b"  1\t 2  3 ", Separator::Whitespace),
+            vec!["1", "2", "3"]
+        );
     }
 
     #[test]

@@ -30,13 +30,19 @@ pub enum FileKind {
 impl FileKind {
     /// Choose by file name (ignoring a trailing `.gz`) and, for text, by content later.
     pub fn from_path(path: &Path) -> FileKind {
-        let name = path.file_name().map(|n| n.to_string_lossy().to_lowercase()).unwrap_or_default();
+        let name = path
+            .file_name()
+            .map(|n| n.to_string_lossy().to_lowercase())
+            .unwrap_or_default();
         let name = name.strip_suffix(".gz").unwrap_or(&name);
         if name.ends_with(".parquet") || name.ends_with(".pq") {
             FileKind::Parquet
         } else if name.ends_with(".ndjson") || name.ends_with(".jsonl") || name.ends_with(".json") {
             FileKind::NdJson
-        } else if [".xlsx", ".xlsm", ".xls", ".ods"].iter().any(|e| name.ends_with(e)) {
+        } else if [".xlsx", ".xlsm", ".xls", ".ods"]
+            .iter()
+            .any(|e| name.ends_with(e))
+        {
             FileKind::Excel
         } else {
             FileKind::Text
@@ -46,7 +52,10 @@ impl FileKind {
     /// True for file names hubwatch would pick up from a folder (`.json` only when named
     /// explicitly: in a folder it is more often a manifest than a table).
     pub fn is_table_file(path: &Path) -> bool {
-        let name = path.file_name().map(|n| n.to_string_lossy().to_lowercase()).unwrap_or_default();
+        let name = path
+            .file_name()
+            .map(|n| n.to_string_lossy().to_lowercase())
+            .unwrap_or_default();
         let name = name.strip_suffix(".gz").unwrap_or(&name);
         [
             ".csv", ".tsv", ".txt", ".dat", ".tab", ".parquet", ".pq", ".ndjson", ".jsonl",
@@ -171,7 +180,9 @@ impl Table {
     /// Open a file and read its header (cheap: the body is parsed by [`Table::read`]).
     pub fn open(path: &Path, config: &Config, opts: &ReadOptions) -> Result<Table> {
         if !path.exists() {
-            return Err(Error::NotFound { path: path.to_path_buf() });
+            return Err(Error::NotFound {
+                path: path.to_path_buf(),
+            });
         }
         match FileKind::from_path(path) {
             FileKind::Text => open_text(path, config),
@@ -182,12 +193,24 @@ impl Table {
     }
 
     /// Build a table from a frame already in memory (used by the other formats).
-    pub(super) fn from_frame(meta: TableMeta, frame: DataFrame, lines: LineMap, rejected: Vec<Rejected>) -> Table {
-        Table { meta, body: Body::Frame(frame, lines, rejected) }
+    pub(super) fn from_frame(
+        meta: TableMeta,
+        frame: DataFrame,
+        lines: LineMap,
+        rejected: Vec<Rejected>,
+    ) -> Table {
+        Table {
+            meta,
+            body: Body::Frame(frame, lines, rejected),
+        }
     }
 
     /// Deliver every row in chunks; return the rows rejected for their shape.
-    pub fn read(self, opts: &ReadOptions, mut sink: impl FnMut(Chunk) -> Result<()>) -> Result<Vec<Rejected>> {
+    pub fn read(
+        self,
+        opts: &ReadOptions,
+        mut sink: impl FnMut(Chunk) -> Result<()>,
+    ) -> Result<Vec<Rejected>> {
         match self.body {
             Body::Frame(frame, lines, rejected) => {
                 sink(Chunk { frame, lines })?;
@@ -201,7 +224,8 @@ impl Table {
 fn load_bytes(path: &Path) -> Result<Bytes> {
     let file = File::open(path).map_err(|e| Error::io(path, e))?;
     let mut magic = [0u8; 2];
-    let gz = (&file).read(&mut magic).map_err(|e| Error::io(path, e))? == 2 && magic == [0x1f, 0x8b];
+    let gz =
+        (&file).read(&mut magic).map_err(|e| Error::io(path, e))? == 2 && magic == [0x1f, 0x8b];
     if gz {
         let file = File::open(path).map_err(|e| Error::io(path, e))?;
         let mut out = Vec::new();
@@ -232,7 +256,11 @@ fn open_text(path: &Path, config: &Config) -> Result<Table> {
 }
 
 fn open_text_bytes(path: &Path, bytes: Bytes, config: &Config) -> Result<Table> {
-    let start = if bytes.starts_with(sniff::BOM) { sniff::BOM.len() } else { 0 };
+    let start = if bytes.starts_with(sniff::BOM) {
+        sniff::BOM.len()
+    } else {
+        0
+    };
     let comment = config.csv.comment_prefix.as_bytes().to_vec();
     // Skip blank and comment lines before the first content line, and take a sample.
     let mut first: Option<(usize, u64, &[u8])> = None;
@@ -250,7 +278,10 @@ fn open_text_bytes(path: &Path, bytes: Bytes, config: &Config) -> Result<Table> 
         }
     }
     let Some((first_off, first_line, first_text)) = first else {
-        return Err(Error::format(path, "the file is empty (no header and no rows)"));
+        return Err(Error::format(
+            path,
+            "the file is empty (no header and no rows)",
+        ));
     };
     if std::str::from_utf8(first_text).is_err() {
         return Err(Error::format(
@@ -267,11 +298,14 @@ fn open_text_bytes(path: &Path, bytes: Bytes, config: &Config) -> Result<Table> 
     let columns: Vec<String> = if has_header {
         first_fields.iter().map(|f| f.trim().to_string()).collect()
     } else {
-        (1..=first_fields.len()).map(|i| format!("column_{i}")).collect()
+        (1..=first_fields.len())
+            .map(|i| format!("column_{i}"))
+            .collect()
     };
     check_unique_columns(path, &columns)?;
     let (data_start, data_line) = if has_header {
-        let end = memchr::memchr(b'\n', &bytes[first_off..]).map_or(bytes.len(), |i| first_off + i + 1);
+        let end =
+            memchr::memchr(b'\n', &bytes[first_off..]).map_or(bytes.len(), |i| first_off + i + 1);
         (end, first_line + 1)
     } else {
         (first_off, first_line)
@@ -285,7 +319,16 @@ fn open_text_bytes(path: &Path, bytes: Bytes, config: &Config) -> Result<Table> 
         unit: "line",
         excel_serials: false,
     };
-    Ok(Table { meta, body: Body::Text(TextBody { bytes, data_start, data_line, sep, comment }) })
+    Ok(Table {
+        meta,
+        body: Body::Text(TextBody {
+            bytes,
+            data_start,
+            data_line,
+            sep,
+            comment,
+        }),
+    })
 }
 
 /// Two columns with one name would make the mapping ambiguous: refuse with both positions.
@@ -297,7 +340,11 @@ pub(super) fn check_unique_columns(path: &Path, columns: &[String]) -> Result<()
             }
             return Err(Error::format(
                 path,
-                format!("columns {} and {} are both named \"{c}\"; rename one", j + 1, i + 1),
+                format!(
+                    "columns {} and {} are both named \"{c}\"; rename one",
+                    j + 1,
+                    i + 1
+                ),
             ));
         }
     }
@@ -315,7 +362,12 @@ struct Scan {
     quoted: bool,
 }
 
-fn read_text(meta: &TableMeta, body: TextBody, opts: &ReadOptions, sink: &mut dyn FnMut(Chunk) -> Result<()>) -> Result<Vec<Rejected>> {
+fn read_text(
+    meta: &TableMeta,
+    body: TextBody,
+    opts: &ReadOptions,
+    sink: &mut dyn FnMut(Chunk) -> Result<()>,
+) -> Result<Vec<Rejected>> {
     let region = &body.bytes[body.data_start.min(body.bytes.len())..];
     let ncols = meta.columns.len();
     let scan = scan_lines(region, body.data_line, ncols, body.sep, &body.comment);
@@ -324,16 +376,25 @@ fn read_text(meta: &TableMeta, body: TextBody, opts: &ReadOptions, sink: &mut dy
         Separator::Byte(b) => b,
         Separator::Whitespace => b'\t',
     };
-    let schema: Schema = meta.columns.iter().map(|c| Field::new(c.as_str().into(), DataType::String)).collect();
+    let schema: Schema = meta
+        .columns
+        .iter()
+        .map(|c| Field::new(c.as_str().into(), DataType::String))
+        .collect();
     let schema = Arc::new(schema);
-    let chunk_bytes = if opts.chunk_rows > 0 { opts.chunk_rows * 40 } else { CHUNK_BYTES };
+    let chunk_bytes = if opts.chunk_rows > 0 {
+        opts.chunk_rows * 40
+    } else {
+        CHUNK_BYTES
+    };
     let mut rows_done = 0usize;
     let mut pos = 0usize;
     while pos < data.len() {
         let end = if scan.quoted || data.len() - pos <= chunk_bytes {
             data.len()
         } else {
-            memchr::memchr(b'\n', &data[pos + chunk_bytes..]).map_or(data.len(), |i| pos + chunk_bytes + i + 1)
+            memchr::memchr(b'\n', &data[pos + chunk_bytes..])
+                .map_or(data.len(), |i| pos + chunk_bytes + i + 1)
         };
         let piece = &data[pos..end];
         let frame = CsvReadOptions::default()
@@ -342,18 +403,30 @@ fn read_text(meta: &TableMeta, body: TextBody, opts: &ReadOptions, sink: &mut dy
             .with_rechunk(false)
             .map_parse_options(|p| {
                 p.with_separator(sep_byte)
-                    .with_quote_char(if body.sep == Separator::Whitespace { None } else { Some(b'"') })
+                    .with_quote_char(if body.sep == Separator::Whitespace {
+                        None
+                    } else {
+                        Some(b'"')
+                    })
                     .with_missing_is_null(true)
             })
             .into_reader_with_file_handle(std::io::Cursor::new(piece))
             .finish()
-            .map_err(|e| Error::Polars { path: meta.path.clone(), source: e })?;
+            .map_err(|e| Error::Polars {
+                path: meta.path.clone(),
+                source: e,
+            })?;
         let n = frame.height();
         let lines = match &scan.lines {
-            None => LineMap::Contiguous { first: body.data_line + rows_done as u64 },
+            None => LineMap::Contiguous {
+                first: body.data_line + rows_done as u64,
+            },
             Some(v) => {
                 let slice = v.get(rows_done..rows_done + n).ok_or_else(|| {
-                    Error::format(&meta.path, "internal error: row count differs from the line scan; please report")
+                    Error::format(
+                        &meta.path,
+                        "internal error: row count differs from the line scan; please report",
+                    )
                 })?;
                 LineMap::Explicit(slice.to_vec())
             }
@@ -368,11 +441,22 @@ fn read_text(meta: &TableMeta, body: TextBody, opts: &ReadOptions, sink: &mut dy
 /// Scan the data region: find comment lines, blank lines and lines with the wrong number of
 /// fields. When any is found (or separators are whitespace runs), build a clean copy holding
 /// only good rows, with the source line of each.
-fn scan_lines(region: &[u8], first_line: u64, ncols: usize, sep: Separator, comment: &[u8]) -> Scan {
+fn scan_lines(
+    region: &[u8],
+    first_line: u64,
+    ncols: usize,
+    sep: Separator,
+    comment: &[u8],
+) -> Scan {
     let quoted = sep != Separator::Whitespace && memchr::memchr(b'"', region).is_some();
     let needs_rewrite = sep == Separator::Whitespace;
     if !quoted && !needs_rewrite && fast_region_is_clean(region, ncols, sep, comment) {
-        return Scan { clean: None, lines: None, rejected: Vec::new(), quoted };
+        return Scan {
+            clean: None,
+            lines: None,
+            rejected: Vec::new(),
+            quoted,
+        };
     }
     let mut clean = Vec::with_capacity(region.len());
     let mut lines = Vec::new();
@@ -390,7 +474,10 @@ fn scan_lines(region: &[u8], first_line: u64, ncols: usize, sep: Separator, comm
                 lines.push(line_no);
                 if sep == Separator::Whitespace {
                     let mut first = true;
-                    for f in raw.split(|b| *b == b' ' || *b == b'\t').filter(|f| !f.is_empty()) {
+                    for f in raw
+                        .split(|b| *b == b' ' || *b == b'\t')
+                        .filter(|f| !f.is_empty())
+                    {
                         if !first {
                             clean.push(b'\t');
                         }
@@ -413,13 +500,21 @@ fn scan_lines(region: &[u8], first_line: u64, ncols: usize, sep: Separator, comm
         line_no += 1 + spanned;
         pos = next;
     }
-    Scan { clean: Some(clean), lines: Some(lines), rejected, quoted }
+    Scan {
+        clean: Some(clean),
+        lines: Some(lines),
+        rejected,
+        quoted,
+    }
 }
 
 /// End offset of the record starting at `pos`, and how many extra newlines it spans.
 fn record_end(region: &[u8], pos: usize, quoted: bool) -> (usize, u64) {
     if !quoted {
-        return (memchr::memchr(b'\n', &region[pos..]).map_or(region.len(), |i| pos + i), 0);
+        return (
+            memchr::memchr(b'\n', &region[pos..]).map_or(region.len(), |i| pos + i),
+            0,
+        );
     }
     let mut in_quotes = false;
     let mut spanned = 0;
@@ -437,7 +532,9 @@ fn record_end(region: &[u8], pos: usize, quoted: bool) -> (usize, u64) {
 /// The fast check for the common case (no quotes): every line non-blank, not a comment, with
 /// the right number of separators. Runs on two threads over the two halves of the region.
 fn fast_region_is_clean(region: &[u8], ncols: usize, sep: Separator, comment: &[u8]) -> bool {
-    let Separator::Byte(s) = sep else { return false };
+    let Separator::Byte(s) = sep else {
+        return false;
+    };
     let check = |part: &[u8]| -> bool {
         sniff::lines(part).all(|(_, l)| {
             !l.is_empty()
@@ -449,7 +546,8 @@ fn fast_region_is_clean(region: &[u8], ncols: usize, sep: Separator, comment: &[
     if region.len() < (4 << 20) {
         return check(region);
     }
-    let mid = memchr::memchr(b'\n', &region[region.len() / 2..]).map_or(region.len(), |i| region.len() / 2 + i + 1);
+    let mid = memchr::memchr(b'\n', &region[region.len() / 2..])
+        .map_or(region.len(), |i| region.len() / 2 + i + 1);
     let (a, b) = region.split_at(mid);
     std::thread::scope(|sc| {
         let h = sc.spawn(|| check(b));

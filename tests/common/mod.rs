@@ -14,13 +14,22 @@ pub fn shared() -> Option<PathBuf> {
 
 /// A file under ../shared/reference/check-inputs.
 pub fn check_input(name: &str) -> Option<PathBuf> {
-    shared().map(|s| s.join("reference/check-inputs").join(name)).filter(|p| p.exists())
+    shared()
+        .map(|s| s.join("reference/check-inputs").join(name))
+        .filter(|p| p.exists())
 }
 
 /// Load paths with overrides like "source_id=2", as of 2030-01-01 unless given.
-pub fn load_with(paths: &[&Path], overrides: &[&str], config: &Config) -> hubwatch::error::Result<Dataset> {
+pub fn load_with(
+    paths: &[&Path],
+    overrides: &[&str],
+    config: &Config,
+) -> hubwatch::error::Result<Dataset> {
     let opts = LoadOptions {
-        overrides: overrides.iter().map(|o| mapping::parse_override(o).unwrap()).collect(),
+        overrides: overrides
+            .iter()
+            .map(|o| mapping::parse_override(o).unwrap())
+            .collect(),
         as_of: dates::parse_iso("2030-01-01").unwrap(),
         read: ReadOptions::default(),
         progress: false,
@@ -44,7 +53,10 @@ pub fn degree(d: &Dataset, id: &str) -> usize {
 pub fn edge_set(d: &Dataset) -> Vec<(String, String, u32)> {
     let mut v: Vec<(String, String, u32)> = (0..d.edges.len())
         .map(|e| {
-            let (a, b) = (d.ids.name(d.edges.a[e]).to_string(), d.ids.name(d.edges.b[e]).to_string());
+            let (a, b) = (
+                d.ids.name(d.edges.a[e]).to_string(),
+                d.ids.name(d.edges.b[e]).to_string(),
+            );
             let (a, b) = if a < b { (a, b) } else { (b, a) };
             (a, b, d.edges.rows[e])
         })

@@ -1,0 +1,142 @@
+//! The built binary on the bundled sample and on bad input: stdout, stderr, exit codes.
+
+use std::process::Command;
+
+fn hubwatch(args: &[&str]) -> (i32, String, String) {
+    let out = Command::new(env!("CARGO_BIN_EXE_hubwatch"))
+        .args(args)
+        .output()
+        .expect("run hubwatch");
+    (
+        out.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
+
+#[test]
+fn default_action_summarises_the_bundled_sample_with_the_caution() {
+    let (code, out, err) = hubwatch(&["--as-of", "2026-11-28"]);
+    assert_eq!(code, 0, "{err}");
+    assert!(
+        out.contains("sample-contacts/exposures.csv (built in)"),
+        "{out}"
+    );
+    assert!(
+        out.contains("does not replace, the judgement of public-health staff"),
+        "{out}"
+    );
+}
+
+#[test]
+fn summary_json_has_the_documented_keys() {
+    let (code, out, err) = hubwatch(&["summary", "--json", "--as-of", "2026-11-28"]);
+    assert_eq!(code, 0, "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    // Figures of the frozen sample, stated in sample-contacts/README.md.
+    assert_eq!(v["people"], 262);
+    assert_eq!(v["contacts"], 943);
+    assert_eq!(v["implied"], 2);
+    for key in ["isolated", "max_degree"] {
+        assert!(v[key].is_u64(), "{key}");
+    }
+    assert!(v["components"]["count"].is_u64() && v["components"]["largest"].is_u64());
+    let x = &v["rows"]["exposures"];
+    assert_eq!(
+        (
+            x["read"].as_u64(),
+            x["used"].as_u64(),
+            x["merged"].as_u64(),
+            x["quarantined"].as_u64()
+        ),
+        (Some(1778), Some(943), Some(831), Some(4))
+    );
+    assert_eq!(x["field_problems"], 4);
+    let p = &v["rows"]["people"];
+    assert_eq!(
+        (
+            p["read"].as_u64(),
+            p["used"].as_u64(),
+            p["merged"].as_u64(),
+            p["quarantined"].as_u64()
+        ),
+        (Some(262), Some(260), Some(1), Some(1))
+    );
+    assert_eq!(p["field_problems"], 1);
+}
+
+#[test]
+fn check_writes_a_private_quarantine_file() {
+    let dir = tempfile::tempdir().unwrap();
+    let q = dir.path().join("quarantine.csv");
+    let (code, out, err) = hubwatch(&[
+        "check",
+        "--as-of",
+        "2026-11-28",
+        "--quarantine",
+        q.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    assert!(out.contains("holds for every file"), "{out}");
+    let text = std::fs::read_to_string(&q).unwrap();
+    let lines: Vec<&str> = text.lines().collect();
+    assert_eq!(lines[0], "kind,file,line,column,value,reason");
+    // 5 quarantined rows + 5 field problems (sample-contacts/README.md).
+    assert_eq!(lines.len(), 11, "{text}");
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt;
+        assert_eq!(
+            std::fs::metadata(&q).unwrap().permissions().mode() & 0o777,
+            0o600
+        );
+    }
+    let (code, out, _) = hubwatch(&["check", "--json", "--as-of", "2026-11-28"]);
+    assert_eq!(code, 0);
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_eq!(v["balanced"], true);
+    assert_eq!(v["quarantined"]["exposures"]["self_exposure"], 2);
+}
+
+#[test]
+fn errors_go_to_stderr_once_with_documented_exit_codes() {
+    let (code, out, err) = hubwatch(&["summary", "/no/such/file.csv"]);
+    assert_eq!((code, out.as_str()), (3, ""));
+    assert_eq!(err, "hubwatch: /no/such/file.csv: no such file or folder\n");
+    let (code, _, err) = hubwatch(&["summary", "--column", "nonsense=1"]);
+    assert_eq!(code, 2);
+    assert!(
+        err.starts_with("hubwatch: --column nonsense=1: unknown field `nonsense`"),
+        "{err}"
+    );
+    let (code, _, err) = hubwatch(&["summary", "--as-of", "yesterday"]);
+    assert_eq!(code, 2, "{err}");
+    let dir = tempfile::tempdir().unwrap();
+    let f = dir.path().join("x.csv");
+    std::fs::write(&f, "a,b\n1,2\n").unwrap();
+    let (code, _, err) = hubwatch(&["summary", f.to_str().unwrap(), "--header", "yes"]);
+    assert_eq!(code, 4, "{err}");
+    assert_eq!(err.lines().count(), 1, "one message: {err}");
+}
+
+#[test]
+fn synth_writes_a_reproducible_export() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("x");
+    let (code, stdout, err) = hubwatch(&[
+        "synth",
+        "--people",
+        "500",
+        "--seed",
+        "3",
+        "--out",
+        out.to_str().unwrap(),
+        "--end",
+        "2026-11-01",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    assert!(stdout.contains("planted:"), "{stdout}");
+    for f in ["people.csv", "exposures.csv", "manifest.json"] {
+        assert!(out.join(f).exists(), "{f}");
+    }
+}
