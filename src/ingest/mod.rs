@@ -71,6 +71,21 @@ pub struct Dataset {
     pub ledger: Ledger,
     /// The as-of date used.
     pub as_of: i32,
+    /// Wall time of each load stage.
+    pub timings: Timings,
+}
+
+/// Wall-clock seconds spent in each stage of a load (for the benchmark and `--verbose` use).
+#[derive(Debug, Clone, Copy, Default, serde::Serialize)]
+pub struct Timings {
+    /// Opening files, scanning lines and parsing text into frames (polars).
+    pub parse: f64,
+    /// Checking rows, parsing dates and numbers, interning IDs (the ledger).
+    pub reconcile: f64,
+    /// Sorting rows by pair and aggregating repeats.
+    pub merge_pairs: f64,
+    /// Building the adjacency (petgraph Csr).
+    pub graph: f64,
 }
 
 impl Dataset {
@@ -237,6 +252,8 @@ fn describe_format(meta: &table::TableMeta) -> String {
 
 /// Load the inputs: read, check, reconcile, aggregate, and build the graph.
 pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dataset> {
+    let t0 = std::time::Instant::now();
+    let mut in_reconcile = 0.0;
     let mut tables = Vec::new();
     let mut ignored = Vec::new();
     for input in inputs {
@@ -274,6 +291,7 @@ pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dat
             people_in_table = people.ids.len() as u32;
         }
         let rejected = table.read(&opts.read, |chunk| {
+            let t = std::time::Instant::now();
             match role {
                 Role::People => people.add_chunk(&mut ctx, &chunk, &mut checker)?,
                 Role::Exposures => {
@@ -281,6 +299,7 @@ pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dat
                 }
             }
             progress.tick(&meta.path, ctx.counts.read);
+            in_reconcile += t.elapsed().as_secs_f64();
             Ok(())
         })?;
         let sink = if role == Role::People {
@@ -318,7 +337,10 @@ pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dat
         people_in_table = 0;
     }
     rows.pad();
+    let read_done = t0.elapsed().as_secs_f64();
+    let t1 = std::time::Instant::now();
     let agg = graph::aggregate(&rows);
+    let merge_pairs = t1.elapsed().as_secs_f64();
     // Exposure rows that were usable are used (first of their pair) or merged.
     let mut start = 0;
     for &(file, n) in &rows.per_file {
@@ -350,7 +372,15 @@ pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dat
     let settings = (0..rows.settings.len() as u32)
         .map(|i| rows.settings.name(i).to_string())
         .collect();
+    drop(rows);
+    let t2 = std::time::Instant::now();
     let graph = graph::adjacency(n, &agg.edges);
+    let timings = Timings {
+        parse: read_done - in_reconcile,
+        reconcile: in_reconcile,
+        merge_pairs,
+        graph: t2.elapsed().as_secs_f64(),
+    };
     Ok(Dataset {
         ids: people.ids,
         people_in_table,
@@ -360,6 +390,7 @@ pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dat
         graph,
         ledger,
         as_of: opts.as_of,
+        timings,
     })
 }
 

@@ -141,39 +141,37 @@ pub fn count_fields(line: &[u8], sep: Separator) -> usize {
     }
 }
 
-/// Pick the separator from sample lines (comments and blank lines already removed).
+/// Pick the separator from sample lines (comments and blank lines already removed; the first
+/// line is the header or the first row).
 ///
-/// A byte separator qualifies when at least 80% of the sample lines hold the same number of
-/// fields (at least two), so that one broken line cannot hide the separator; among those the
-/// best agreement, then the most fields, wins. Otherwise spaces decide between a single space
-/// and whitespace runs; a file with none of these has one column.
+/// A byte separator qualifies when the first line and at least 80% of the sample lines hold the
+/// same number of fields (at least two), so one broken row cannot hide the separator; among
+/// those the best agreement, then the most fields, wins. Runs of spaces and tabs win over a tab
+/// when they split the lines just as consistently into more fields. A file with none of these
+/// has one column.
 pub fn detect_separator(sample: &[&[u8]]) -> Separator {
-    let mut best: Option<(u8, usize, usize)> = None;
+    let agreement = |sep: Separator| -> Option<(usize, usize)> {
+        let first = count_fields(sample.first()?, sep);
+        let agree = sample
+            .iter()
+            .filter(|l| count_fields(l, sep) == first)
+            .count();
+        (first >= 2 && agree * 5 >= sample.len() * 4).then_some((agree, first))
+    };
+    let mut best: Option<(Separator, usize, usize)> = None;
     for cand in [b',', b'\t', b';', b'|'] {
-        let mut freq: std::collections::HashMap<usize, usize> = std::collections::HashMap::new();
-        for l in sample {
-            *freq
-                .entry(count_fields(l, Separator::Byte(cand)))
-                .or_insert(0) += 1;
-        }
-        let Some((&fields, &agree)) = freq.iter().max_by_key(|(f, n)| (**n, **f)) else {
-            continue;
-        };
-        if fields >= 2
-            && agree * 5 >= sample.len() * 4
-            && best.is_none_or(|(_, a, f)| (agree, fields) > (a, f))
-        {
-            best = Some((cand, agree, fields));
+        if let Some((agree, fields)) = agreement(Separator::Byte(cand)) {
+            if best.is_none_or(|(_, a, f)| (agree, fields) > (a, f)) {
+                best = Some((Separator::Byte(cand), agree, fields));
+            }
         }
     }
-    if let Some((b, _, _)) = best {
-        return Separator::Byte(b);
-    }
-    let has_space = sample
-        .iter()
-        .any(|l| l.contains(&b' ') || l.contains(&b'\t'));
-    if !has_space {
-        return Separator::Byte(b',');
+    let runs = agreement(Separator::Whitespace);
+    match (best, runs) {
+        (Some((Separator::Byte(b'\t'), a, f)), Some((ra, rf))) if (ra, rf) > (a, f) => {}
+        (Some((sep, _, _)), _) => return sep,
+        (None, None) => return Separator::Byte(b','),
+        (None, Some(_)) => {}
     }
     let irregular = sample.iter().any(|l| {
         l.windows(2)
@@ -226,6 +224,13 @@ mod tests {
         let mut lines = vec!["a,b,c"; 9];
         lines.push("a,b,c,d,e");
         assert_eq!(det(&lines), Separator::Byte(b','));
+        // A tab inside whitespace runs on data lines only: whitespace runs, not tab.
+        assert_eq!(
+            det(&["a   b c  d", "  1\t 2  3   4", "5 6\t7 8"]),
+            Separator::Whitespace
+        );
+        // A single column.
+        assert_eq!(det(&["id", "A1"]), Separator::Byte(b','));
     }
 
     #[test]
