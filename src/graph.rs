@@ -70,25 +70,43 @@ pub struct Aggregated {
 /// Collapse rows into pairs. Rows are sorted by pair with a stable radix sort, so the first
 /// row of a pair in input order is the one counted as used.
 pub fn aggregate(rows: &ExposureRows) -> Aggregated {
+    // Pack (lo, hi) into as few bits as the node count needs, so the radix sort makes fewer passes.
+    let max_hi = rows.keys.iter().map(|k| k & 0xFFFF_FFFF).max().unwrap_or(0);
+    let shift = 64 - max_hi.leading_zeros();
+    let pack = |k: u64| (k >> 32) << shift | (k & 0xFFFF_FFFF);
+    let unpack = |p: u64| (p >> shift, p & ((1u64 << shift) - 1));
     let mut order: Vec<(u64, u32)> = rows
         .keys
         .iter()
         .enumerate()
-        .map(|(i, &k)| (k, i as u32))
+        .map(|(i, &k)| (pack(k), i as u32))
         .collect();
     radix_sort_pairs(&mut order);
-    let mut e = Edges::default();
+    // Reserve for the worst case (every row its own pair): untouched capacity costs address
+    // space, not memory, and saves the copies of repeated growth.
+    let cap = rows.keys.len();
+    let mut e = Edges {
+        a: Vec::with_capacity(cap),
+        b: Vec::with_capacity(cap),
+        rows: Vec::with_capacity(cap),
+        a_named_b: Vec::with_capacity(cap),
+        first: Vec::with_capacity(cap),
+        last: Vec::with_capacity(cap),
+        minutes: Vec::with_capacity(cap),
+        ..Edges::default()
+    };
     let mut first_of_pair = vec![false; rows.keys.len()];
     let has_settings = !rows.setting.is_empty();
     if has_settings {
         e.setting_off.push(0);
     }
+    let mut codes: Vec<u16> = Vec::new();
     let mut i = 0;
     while i < order.len() {
         let key = order[i].0;
         let mut j = i;
         let (mut first, mut last, mut minutes, mut named) = (NO_DATE, NO_DATE, f64::NAN, 0u32);
-        let mut codes: Vec<u16> = Vec::new();
+        codes.clear();
         while j < order.len() && order[j].0 == key {
             let r = order[j].1 as usize;
             if rows.forward[r] {
@@ -121,8 +139,9 @@ pub fn aggregate(rows: &ExposureRows) -> Aggregated {
             j += 1;
         }
         first_of_pair[order[i].1 as usize] = true;
-        e.a.push((key >> 32) as u32);
-        e.b.push(key as u32);
+        let (lo, hi) = unpack(key);
+        e.a.push(lo as u32);
+        e.b.push(hi as u32);
         e.rows.push((j - i) as u32);
         e.a_named_b.push(named);
         e.first.push(first);

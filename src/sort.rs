@@ -15,12 +15,17 @@ pub fn radix_sort_pairs(pairs: &mut Vec<(u64, u32)>) {
         pairs.sort_by_key(|p| p.0);
         return;
     }
+    // Digits of at most 11 bits: 2048 buckets keep the scatter within cache and TLB reach,
+    // which matters more than the number of passes.
+    let passes = bits.div_ceil(11).max(1);
+    let width = bits.div_ceil(passes);
+    let mask = (1u64 << width) - 1;
     let mut buf = vec![(0u64, 0u32); pairs.len()];
     let mut shift = 0;
     while shift < bits {
-        let mut counts = vec![0usize; 1 << 16];
+        let mut counts = vec![0usize; 1 << width];
         for p in pairs.iter() {
-            counts[((p.0 >> shift) & 0xFFFF) as usize] += 1;
+            counts[((p.0 >> shift) & mask) as usize] += 1;
         }
         let mut sum = 0;
         for c in counts.iter_mut() {
@@ -29,12 +34,12 @@ pub fn radix_sort_pairs(pairs: &mut Vec<(u64, u32)>) {
             sum += n;
         }
         for p in pairs.iter() {
-            let d = ((p.0 >> shift) & 0xFFFF) as usize;
+            let d = ((p.0 >> shift) & mask) as usize;
             buf[counts[d]] = *p;
             counts[d] += 1;
         }
         std::mem::swap(pairs, &mut buf);
-        shift += 16;
+        shift += width;
     }
 }
 

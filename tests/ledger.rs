@@ -195,12 +195,14 @@ fn exposures_alone_imply_every_person() {
 
 #[test]
 fn synth_manifest_matches_the_ledger() {
-    // The generator states what it planted; the ledger must find exactly that.
+    // The generator states what it planted; the ledger must find exactly that. 12,000 people
+    // give about 80,000 rows, enough for the two-thread path of the row checks (>= 50,000
+    // usable rows in a chunk) to run.
     let dir = tempfile::tempdir().unwrap();
     let end = hubwatch::ingest::dates::parse_iso("2026-11-27").unwrap();
     let m = hubwatch::synth::generate(
         dir.path(),
-        &hubwatch::synth::SynthOptions::new(3000, 11, end),
+        &hubwatch::synth::SynthOptions::new(12_000, 11, end),
     )
     .unwrap();
     let d = load(&[dir.path()], &[]);
@@ -219,7 +221,7 @@ fn synth_manifest_matches_the_ledger() {
     let dir2 = tempfile::tempdir().unwrap();
     hubwatch::synth::generate(
         dir2.path(),
-        &hubwatch::synth::SynthOptions::new(3000, 11, end),
+        &hubwatch::synth::SynthOptions::new(12_000, 11, end),
     )
     .unwrap();
     for f in ["people.csv", "exposures.csv"] {

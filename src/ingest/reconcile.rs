@@ -9,7 +9,7 @@ use polars::prelude::*;
 use super::dates::{self, DateParser, DateProblem};
 use super::ledger::{Counts, FieldProblem, ProblemKind, QuarantineReason, QuarantinedRow};
 use super::mapping::Mapping;
-use super::table::{Chunk, TableMeta};
+use super::table::{Chunk, LineMap, TableMeta};
 use crate::error::{Error, Result};
 use crate::ids::IdMap;
 
@@ -79,10 +79,7 @@ fn text_column<'a>(
 }
 
 /// Values of an optional column as an iterator of `Option<&str>` (all `None` if unmapped).
-fn values<'a>(
-    col: Option<&'a StringChunked>,
-    n: usize,
-) -> Box<dyn Iterator<Item = Option<&'a str>> + 'a> {
+fn values<'a>(col: Option<&'a StringChunked>, n: usize) -> Values<'a> {
     match col {
         Some(c) => Box::new(c.iter()),
         None => Box::new(std::iter::repeat_n(None, n)),
@@ -378,6 +375,105 @@ impl PeopleBuilder {
     }
 }
 
+/// An optional column's values, row by row.
+type Values<'a> = Box<dyn Iterator<Item = Option<&'a str>> + Send + 'a>;
+
+/// Below this many usable rows in a chunk, a second thread costs more than it saves.
+const PARALLEL_ROWS: usize = 50_000;
+
+/// The optional exposure columns of one chunk: (column index, values).
+struct OptionalColumns<'a> {
+    last: (Option<usize>, Values<'a>),
+    first: (Option<usize>, Values<'a>),
+    setting: (Option<usize>, Values<'a>),
+    minutes: (Option<usize>, Values<'a>),
+}
+
+/// The part of [`ExposureRows`] that field checks write.
+struct FieldStage<'s> {
+    last: &'s mut Vec<i32>,
+    first: &'s mut Vec<i32>,
+    minutes: &'s mut Vec<f32>,
+    setting: &'s mut Vec<u16>,
+    settings: &'s mut IdMap,
+    setting_spellings: &'s mut hashbrown::HashMap<Box<str>, u16>,
+}
+
+impl FieldStage<'_> {
+    /// Check dates, durations and settings of the usable rows, in row order.
+    fn run(
+        &mut self,
+        cols: OptionalColumns,
+        usable: &[u32],
+        lines: &LineMap,
+        ctx: &mut FileCtx,
+        checker: &mut FieldChecker,
+    ) {
+        let OptionalColumns {
+            last,
+            first,
+            setting,
+            minutes,
+        } = cols;
+        let (last_c, first_c, set_c, min_c) = (last.0, first.0, setting.0, minutes.0);
+        let rows = last
+            .1
+            .zip(first.1)
+            .zip(setting.1.zip(minutes.1))
+            .enumerate();
+        let mut next = usable.iter().peekable();
+        for (row, ((l, f), (st, mi))) in rows {
+            if next.peek().is_none_or(|&&u| u as usize != row) {
+                continue;
+            }
+            next.next();
+            let line = lines.line(row);
+            let ld = checker.date(ctx, line, last_c, l);
+            let mut fd = checker.date(ctx, line, first_c, f);
+            if ld != NO_DATE && fd != NO_DATE && fd > ld {
+                let v = f.unwrap_or("").trim().to_string();
+                let msg = format!(
+                    "first exposure after the last exposure ({}); left empty",
+                    dates::iso(ld)
+                );
+                checker.problem(
+                    ctx,
+                    line,
+                    first_c.unwrap_or(0),
+                    &v,
+                    ProblemKind::DateOrder,
+                    msg,
+                );
+                fd = NO_DATE;
+            }
+            if last_c.is_some() {
+                self.last.push(ld);
+            }
+            if first_c.is_some() {
+                self.first.push(fd);
+            }
+            if min_c.is_some() {
+                self.minutes.push(checker.minutes(ctx, line, min_c, mi));
+            }
+            if set_c.is_some() {
+                let code = match trimmed(st) {
+                    None => 0,
+                    Some(label) => match self.setting_spellings.get(label) {
+                        Some(&c) => c,
+                        None => {
+                            let (i, _) = self.settings.intern(label);
+                            let c = u16::try_from(i + 1).unwrap_or(u16::MAX);
+                            self.setting_spellings.insert(label.into(), c);
+                            c
+                        }
+                    },
+                };
+                self.setting.push(code);
+            }
+        }
+    }
+}
+
 /// Exposure rows kept for aggregation, in input order.
 #[derive(Debug, Default)]
 pub struct ExposureRows {
@@ -395,6 +491,8 @@ pub struct ExposureRows {
     pub setting: Vec<u16>,
     /// Distinct setting labels.
     pub settings: IdMap,
+    /// Each spelling seen -> its setting code (saves folding case on every row).
+    setting_spellings: hashbrown::HashMap<Box<str>, u16>,
     /// (file index, number of usable rows) in read order.
     pub per_file: Vec<(usize, usize)>,
     /// Rows quarantined.
@@ -440,10 +538,6 @@ impl ExposureRows {
                 "source_id and target_id must be mapped",
             ));
         };
-        let last = values(text_column(frame, last_c, &meta.path)?, n);
-        let first = values(text_column(frame, first_c, &meta.path)?, n);
-        let setting = values(text_column(frame, set_c, &meta.path)?, n);
-        let minutes = values(text_column(frame, min_c, &meta.path)?, n);
         if self.per_file.last().is_none_or(|(f, _)| *f != ctx.file) {
             self.per_file.push((ctx.file, 0));
         }
@@ -461,96 +555,99 @@ impl ExposureRows {
         if set_c.is_some() && self.setting.len() < done {
             self.setting.resize(done, 0);
         }
-        let rows = src
-            .iter()
-            .zip(tgt.iter())
-            .zip(last.zip(first))
-            .zip(setting.zip(minutes));
-        for (row, (((s, t), (l, f)), (st, mi))) in rows.enumerate() {
-            let line = chunk.lines.line(row);
+        // Stage A: which rows can form an exposure. A quarantined row adds nothing, so this
+        // decision comes before any ID is interned.
+        let mut usable: Vec<u32> = Vec::with_capacity(n);
+        let mut pairs: Vec<(&str, &str)> = Vec::with_capacity(n);
+        for (row, (s, t)) in src.iter().zip(tgt.iter()).enumerate() {
             ctx.counts.read += 1;
             let (s, t) = (trimmed(s), trimmed(t));
             let reason = match (s, t) {
-                (None, _) => Some(QuarantineReason::MissingId {
+                (None, _) => QuarantineReason::MissingId {
                     field: "source_id".into(),
-                }),
-                (_, None) => Some(QuarantineReason::MissingId {
+                },
+                (_, None) => QuarantineReason::MissingId {
                     field: "target_id".into(),
-                }),
-                (Some(a), Some(b))
-                    if a == b || (ids.get(a).is_some() && ids.get(a) == ids.get(b)) =>
-                {
-                    Some(QuarantineReason::SelfExposure)
+                },
+                (Some(a), Some(b)) if ids.same(a, b) => QuarantineReason::SelfExposure,
+                (Some(a), Some(b)) => {
+                    usable.push(row as u32);
+                    pairs.push((a, b));
+                    continue;
                 }
-                _ => None,
             };
-            if let Some(reason) = reason {
-                ctx.counts.quarantined += 1;
-                self.quarantined.push(QuarantinedRow {
-                    file: ctx.file,
-                    line,
-                    reason,
-                    raw: raw_row(frame, row),
-                });
-                continue;
+            ctx.counts.quarantined += 1;
+            self.quarantined.push(QuarantinedRow {
+                file: ctx.file,
+                line: chunk.lines.line(row),
+                reason,
+                raw: raw_row(frame, row),
+            });
+        }
+        // Stages B (field checks) and C (interning IDs) touch disjoint data, so they run on
+        // two threads at once; B's problems are counted in its own context and added back.
+        let mut fctx = FileCtx {
+            file: ctx.file,
+            meta,
+            mapping: m,
+            counts: Counts::default(),
+        };
+        let ExposureRows {
+            keys,
+            forward,
+            last,
+            first,
+            minutes,
+            setting,
+            settings,
+            setting_spellings,
+            per_file,
+            ..
+        } = self;
+        let mut field_stage = FieldStage {
+            last,
+            first,
+            minutes,
+            setting,
+            settings,
+            setting_spellings,
+        };
+        let cols = OptionalColumns {
+            last: (last_c, values(text_column(frame, last_c, &meta.path)?, n)),
+            first: (first_c, values(text_column(frame, first_c, &meta.path)?, n)),
+            setting: (set_c, values(text_column(frame, set_c, &meta.path)?, n)),
+            minutes: (min_c, values(text_column(frame, min_c, &meta.path)?, n)),
+        };
+        let intern = |keys: &mut Vec<u64>, forward: &mut Vec<bool>, ids: &mut IdMap| {
+            keys.reserve(pairs.len());
+            forward.reserve(pairs.len());
+            for &(s, t) in &pairs {
+                let (a, _) = ids.intern(s);
+                let (b, _) = ids.intern(t);
+                let (lo, hi) = if a < b { (a, b) } else { (b, a) };
+                keys.push(u64::from(lo) << 32 | u64::from(hi));
+                forward.push(a < b);
             }
-            let (Some(s), Some(t)) = (s, t) else { continue };
-            let (a, _) = ids.intern(s);
-            let (b, _) = ids.intern(t);
-            if a == b {
-                // Same person under two spellings of a case-insensitive map, first seen here.
-                ctx.counts.quarantined += 1;
-                self.quarantined.push(QuarantinedRow {
-                    file: ctx.file,
-                    line,
-                    reason: QuarantineReason::SelfExposure,
-                    raw: raw_row(frame, row),
-                });
-                continue;
-            }
-            let (lo, hi) = if a < b { (a, b) } else { (b, a) };
-            self.keys.push(u64::from(lo) << 32 | u64::from(hi));
-            self.forward.push(a < b);
-            let ld = checker.date(ctx, line, last_c, l);
-            let mut fd = checker.date(ctx, line, first_c, f);
-            if ld != NO_DATE && fd != NO_DATE && fd > ld {
-                let v = f.unwrap_or("").trim().to_string();
-                let msg = format!(
-                    "first exposure after the last exposure ({}); left empty",
-                    dates::iso(ld)
-                );
-                checker.problem(
-                    ctx,
-                    line,
-                    first_c.unwrap_or(0),
-                    &v,
-                    ProblemKind::DateOrder,
-                    msg,
-                );
-                fd = NO_DATE;
-            }
-            if last_c.is_some() {
-                self.last.push(ld);
-            }
-            if first_c.is_some() {
-                self.first.push(fd);
-            }
-            if min_c.is_some() {
-                self.minutes.push(checker.minutes(ctx, line, min_c, mi));
-            }
-            if set_c.is_some() {
-                let code = match trimmed(st) {
-                    None => 0,
-                    Some(label) => {
-                        let (i, _) = self.settings.intern(label);
-                        u16::try_from(i + 1).unwrap_or(u16::MAX)
-                    }
-                };
-                self.setting.push(code);
-            }
-            if let Some(last) = self.per_file.last_mut() {
-                last.1 += 1;
-            }
+        };
+        if usable.len() < PARALLEL_ROWS {
+            field_stage.run(cols, &usable, &chunk.lines, &mut fctx, checker);
+            intern(keys, forward, ids);
+        } else {
+            std::thread::scope(|sc| {
+                let h =
+                    sc.spawn(|| field_stage.run(cols, &usable, &chunk.lines, &mut fctx, checker));
+                intern(keys, forward, ids);
+                h.join().map_err(|_| {
+                    Error::format(
+                        &meta.path,
+                        "internal error: field checks failed; please report",
+                    )
+                })
+            })?;
+        }
+        ctx.counts.field_problems += fctx.counts.field_problems;
+        if let Some(last) = per_file.last_mut() {
+            last.1 += usable.len();
         }
         Ok(())
     }
