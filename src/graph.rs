@@ -161,19 +161,30 @@ pub fn aggregate(rows: &ExposureRows) -> Aggregated {
 }
 
 /// Build the adjacency over `nodes` people (isolated ones included).
+///
+/// `edges` come sorted by (a, b) with a < b (as [`aggregate`] leaves them). Placing each pair
+/// into both rows with a counting sort then yields every row already sorted: row v first
+/// receives its smaller neighbours (from pairs (x, v), in increasing x) and then its larger ones
+/// (from pairs (v, y), in increasing y). So no second sort is needed.
 pub fn adjacency(nodes: usize, edges: &Edges) -> Adjacency {
-    let mut dir: Vec<(u64, u32)> = Vec::with_capacity(edges.len() * 2);
-    for (i, (&a, &b)) in edges.a.iter().zip(&edges.b).enumerate() {
-        dir.push((u64::from(a) << 32 | u64::from(b), i as u32));
-        dir.push((u64::from(b) << 32 | u64::from(a), i as u32));
+    let mut offset = vec![0usize; nodes + 1];
+    for (&a, &b) in edges.a.iter().zip(&edges.b) {
+        offset[a as usize + 1] += 1;
+        offset[b as usize + 1] += 1;
     }
-    radix_sort_pairs(&mut dir);
-    let list: Vec<(u32, u32, u32)> = dir
-        .iter()
-        .map(|&(k, e)| ((k >> 32) as u32, k as u32, e))
-        .collect();
-    drop(dir);
-    // Sorted and unique by construction, so this cannot fail.
+    for i in 0..nodes {
+        offset[i + 1] += offset[i];
+    }
+    let mut list = vec![(0u32, 0u32, 0u32); offset[nodes]];
+    let mut next = offset;
+    for (e, (&a, &b)) in edges.a.iter().zip(&edges.b).enumerate() {
+        list[next[a as usize]] = (a, b, e as u32);
+        next[a as usize] += 1;
+        list[next[b as usize]] = (b, a, e as u32);
+        next[b as usize] += 1;
+    }
+    // Sorted and unique by construction, so this cannot fail; a failure would leave an empty
+    // graph, which the tests on every loader path would catch.
     let mut g: Adjacency = Csr::from_sorted_edges(&list).unwrap_or_else(|_| Csr::new());
     while g.node_count() < nodes {
         g.add_node(());

@@ -86,6 +86,22 @@ pub struct Timings {
     pub merge_pairs: f64,
     /// Building the adjacency (petgraph Csr).
     pub graph: f64,
+    /// Peak resident memory (MiB) of the process after parse+reconcile, merge and graph
+    /// (Linux only; NaN elsewhere). The peak is monotonic, so each figure covers all earlier stages.
+    pub peak_mib: [f64; 3],
+}
+
+/// Peak resident memory of this process so far, in MiB (Linux `VmHWM`; NaN elsewhere).
+pub fn peak_mib() -> f64 {
+    std::fs::read_to_string("/proc/self/status")
+        .ok()
+        .and_then(|s| {
+            s.lines()
+                .find(|l| l.starts_with("VmHWM:"))
+                .and_then(|l| l.split_whitespace().nth(1))
+                .and_then(|v| v.parse::<f64>().ok())
+        })
+        .map_or(f64::NAN, |kib| kib / 1024.0)
 }
 
 impl Dataset {
@@ -338,9 +354,11 @@ pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dat
     }
     rows.pad();
     let read_done = t0.elapsed().as_secs_f64();
+    let peak_read = peak_mib();
     let t1 = std::time::Instant::now();
     let agg = graph::aggregate(&rows);
     let merge_pairs = t1.elapsed().as_secs_f64();
+    let peak_merge = peak_mib();
     // Exposure rows that were usable are used (first of their pair) or merged.
     let mut start = 0;
     for &(file, n) in &rows.per_file {
@@ -380,6 +398,7 @@ pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dat
         reconcile: in_reconcile,
         merge_pairs,
         graph: t2.elapsed().as_secs_f64(),
+        peak_mib: [peak_read, peak_merge, peak_mib()],
     };
     Ok(Dataset {
         ids: people.ids,
