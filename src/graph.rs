@@ -59,17 +59,19 @@ impl Edges {
     }
 }
 
-/// For each usable row, in input order: true when it was the first row of its pair.
+/// The pairs, and what became of each usable row.
 pub struct Aggregated {
     /// The pairs.
     pub edges: Edges,
-    /// Per input row (usable rows only): true if it created its pair, false if merged.
+    /// Per usable row, in input order: true if it created its pair, false if merged.
     pub first_of_pair: Vec<bool>,
+    /// Per usable row: the pair it went into (filled only when `want_row_edges`).
+    pub edge_of_row: Vec<u32>,
 }
 
 /// Collapse rows into pairs. Rows are sorted by pair with a stable radix sort, so the first
 /// row of a pair in input order is the one counted as used.
-pub fn aggregate(rows: &ExposureRows) -> Aggregated {
+pub fn aggregate(rows: &ExposureRows, want_row_edges: bool) -> Aggregated {
     // Pack (lo, hi) into as few bits as the node count needs, so the radix sort makes fewer passes.
     let max_hi = rows.keys.iter().map(|k| k & 0xFFFF_FFFF).max().unwrap_or(0);
     let shift = 64 - max_hi.leading_zeros();
@@ -96,6 +98,11 @@ pub fn aggregate(rows: &ExposureRows) -> Aggregated {
         ..Edges::default()
     };
     let mut first_of_pair = vec![false; rows.keys.len()];
+    let mut edge_of_row = if want_row_edges {
+        vec![0u32; rows.keys.len()]
+    } else {
+        Vec::new()
+    };
     let has_settings = !rows.setting.is_empty();
     if has_settings {
         e.setting_off.push(0);
@@ -109,6 +116,9 @@ pub fn aggregate(rows: &ExposureRows) -> Aggregated {
         codes.clear();
         while j < order.len() && order[j].0 == key {
             let r = order[j].1 as usize;
+            if want_row_edges {
+                edge_of_row[r] = e.a.len() as u32;
+            }
             if rows.forward[r] {
                 named += 1;
             }
@@ -157,6 +167,7 @@ pub fn aggregate(rows: &ExposureRows) -> Aggregated {
     Aggregated {
         edges: e,
         first_of_pair,
+        edge_of_row,
     }
 }
 

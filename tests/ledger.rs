@@ -231,3 +231,35 @@ fn synth_manifest_matches_the_ledger() {
         );
     }
 }
+
+#[test]
+fn unmapped_exposure_columns_are_kept_per_row_with_their_pair() {
+    let dir = tempfile::tempdir().unwrap();
+    let a = dir.path().join("a.csv");
+    let b = dir.path().join("b.csv");
+    fs::write(
+        &a,
+        "source_id,target_id,venue\nA,B,Mill Street hall\nB,A,Quay cafe\nC,C,nowhere\nA,C,\n",
+    )
+    .unwrap();
+    fs::write(&b, "source_id,target_id,interviewer\nC,D,team 2\n").unwrap();
+    let d = load(&[&a, &b], &[]);
+    let x = &d.exposure_extras;
+    assert_eq!(x.names, ["venue", "interviewer"]);
+    // Four usable rows (the self-exposure C,C is quarantined and keeps nothing).
+    assert_eq!(d.edge_of_row.len(), 4);
+    let venue: Vec<Option<&str>> = x.values[0].iter().map(|v| v.as_deref()).collect();
+    assert_eq!(
+        venue,
+        [Some("Mill Street hall"), Some("Quay cafe"), None, None]
+    );
+    let interviewer: Vec<Option<&str>> = x.values[1].iter().map(|v| v.as_deref()).collect();
+    assert_eq!(interviewer, [None, None, None, Some("team 2")]);
+    // Rows 0 and 1 went into the same pair A-B.
+    assert_eq!(d.edge_of_row[0], d.edge_of_row[1]);
+    let e = d.edge_of_row[3] as usize;
+    assert_eq!(
+        (d.ids.name(d.edges.a[e]), d.ids.name(d.edges.b[e])),
+        ("C", "D")
+    );
+}

@@ -67,6 +67,11 @@ pub struct Dataset {
     pub settings: Vec<String>,
     /// The graph.
     pub graph: Adjacency,
+    /// Unmapped columns of the exposures table(s), one value per usable exposure row, in input
+    /// order; `edge_of_row[r]` is the pair row r went into (both empty when there are none).
+    pub exposure_extras: Attributes,
+    /// The pair each usable exposure row went into (only when there are extra columns).
+    pub edge_of_row: Vec<u32>,
     /// The ledger of rows and problems.
     pub ledger: Ledger,
     /// The as-of date used.
@@ -356,7 +361,7 @@ pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dat
     let read_done = t0.elapsed().as_secs_f64();
     let peak_read = peak_mib();
     let t1 = std::time::Instant::now();
-    let agg = graph::aggregate(&rows);
+    let agg = graph::aggregate(&rows, !rows.extras.names.is_empty());
     let merge_pairs = t1.elapsed().as_secs_f64();
     let peak_merge = peak_mib();
     // Exposure rows that were usable are used (first of their pair) or merged.
@@ -390,6 +395,8 @@ pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dat
     let settings = (0..rows.settings.len() as u32)
         .map(|i| rows.settings.name(i).to_string())
         .collect();
+    let exposure_extras = std::mem::take(&mut rows.extras);
+    let edge_of_row = agg.edge_of_row;
     drop(rows);
     let t2 = std::time::Instant::now();
     let graph = graph::adjacency(n, &agg.edges);
@@ -410,6 +417,8 @@ pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dat
         ledger,
         as_of: opts.as_of,
         timings,
+        exposure_extras,
+        edge_of_row,
     })
 }
 

@@ -474,6 +474,39 @@ impl FieldStage<'_> {
     }
 }
 
+/// Append the values of unmapped columns for the usable rows of a chunk. `rows_after` is the
+/// number of usable rows stored once this chunk is counted; columns that earlier files lacked
+/// are padded with empty values first.
+fn keep_extra_columns(
+    extras: &mut Attributes,
+    frame: &DataFrame,
+    meta: &TableMeta,
+    mapping: &Mapping,
+    usable: &[u32],
+    rows_after: usize,
+) -> Result<()> {
+    let before = rows_after - usable.len();
+    for c in (0..meta.columns.len()).filter(|c| !mapping.fields.values().any(|i| i == c)) {
+        let k = extras.ensure_column(&meta.columns[c], before);
+        let col = text_column(frame, Some(c), &meta.path)?
+            .into_iter()
+            .flat_map(|s| s.iter());
+        let values = &mut extras.values[k];
+        values.resize(before, None);
+        let mut next = usable.iter().peekable();
+        for (row, v) in col.enumerate() {
+            if next.peek().is_some_and(|&&u| u as usize == row) {
+                next.next();
+                values.push(trimmed(v).map(Into::into));
+            }
+        }
+    }
+    for v in extras.values.iter_mut() {
+        v.resize(rows_after, None);
+    }
+    Ok(())
+}
+
 /// Exposure rows kept for aggregation, in input order.
 #[derive(Debug, Default)]
 pub struct ExposureRows {
@@ -497,6 +530,8 @@ pub struct ExposureRows {
     pub per_file: Vec<(usize, usize)>,
     /// Rows quarantined.
     pub quarantined: Vec<QuarantinedRow>,
+    /// Columns of the exposures table(s) that map to no field: kept per usable row.
+    pub extras: Attributes,
 }
 
 impl ExposureRows {
@@ -646,6 +681,7 @@ impl ExposureRows {
             })?;
         }
         ctx.counts.field_problems += fctx.counts.field_problems;
+        keep_extra_columns(&mut self.extras, frame, meta, m, &usable, self.keys.len())?;
         if let Some(last) = per_file.last_mut() {
             last.1 += usable.len();
         }
