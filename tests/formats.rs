@@ -237,3 +237,42 @@ fn quoted_fields_may_hold_newlines_and_lines_stay_exact() {
         "line numbers count the embedded newline"
     );
 }
+
+#[test]
+fn typed_parquet_columns_read_as_their_values() {
+    // Integer IDs, a Date column and a Datetime column, as pandas or R would write them.
+    // Day numbers computed with Python's datetime: 2024-03-01 is 19783 days after 1970-01-01;
+    // 2024-02-28 09:30 is 1709112600000 ms after it.
+    let dir = tempfile::tempdir().unwrap();
+    let mut df = df!(
+        "source_id" => [1i64, 2, 3],
+        "target_id" => [2i64, 1, 4],
+        "exposure_date" => [19783i32, 19784, 19785],
+        "first_exposure_date" => [1_709_112_600_000i64, 1_709_112_600_000, 1_709_112_600_000],
+    )
+    .unwrap();
+    df.try_apply("exposure_date", |s| s.cast(&DataType::Date))
+        .unwrap();
+    df.try_apply("first_exposure_date", |s| {
+        s.cast(&DataType::Datetime(TimeUnit::Milliseconds, None))
+    })
+    .unwrap();
+    let pq = dir.path().join("typed.parquet");
+    ParquetWriter::new(fs::File::create(&pq).unwrap())
+        .finish(&mut df)
+        .unwrap();
+    let d = load(&[&pq], &[]);
+    assert!(d.ledger.problems.is_empty(), "{:?}", d.ledger.problems);
+    assert_eq!(
+        edge_set(&d),
+        [
+            ("1".to_string(), "2".to_string(), 2),
+            ("3".to_string(), "4".to_string(), 1)
+        ]
+    );
+    let e = (0..d.edges.len())
+        .find(|&e| d.ids.name(d.edges.a[e]) == "1")
+        .unwrap();
+    assert_eq!(hubwatch::ingest::dates::iso(d.edges.first[e]), "2024-02-28");
+    assert_eq!(hubwatch::ingest::dates::iso(d.edges.last[e]), "2024-03-02");
+}
