@@ -1,6 +1,6 @@
 """Reference pipeline written with the Python polars package, timed by hubwatch-bench.
 
-Reads both tables, drops malformed rows (blank IDs) and self-loops, merges pairs given in
+Reads both tables (every column, as text), drops malformed rows (blank IDs) and self-loops, merges pairs given in
 either order, and computes the degree of every person. Prints one JSON line:
 {"seconds": wall time, "peak_mib": peak resident memory, "pairs": distinct pairs, "people": n}.
 """
@@ -13,13 +13,9 @@ import polars as pl
 
 t0 = time.perf_counter()
 people_path, exposures_path = sys.argv[1], sys.argv[2]
-people = pl.read_csv(people_path, columns=["person_id"], infer_schema_length=0)
-ex = pl.read_csv(
-    exposures_path,
-    columns=["source_id", "target_id"],
-    infer_schema_length=0,
-    truncate_ragged_lines=True,
-)
+# Both tables are read whole, every column as text (as hubwatch reads them).
+people = pl.read_csv(people_path, infer_schema_length=0)
+ex = pl.read_csv(exposures_path, infer_schema_length=0, truncate_ragged_lines=True)
 ex = ex.with_columns(pl.col("source_id").str.strip_chars(), pl.col("target_id").str.strip_chars())
 ex = ex.filter(
     pl.col("source_id").is_not_null()
