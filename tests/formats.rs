@@ -288,7 +288,7 @@ fn reading_in_many_small_chunks_changes_nothing() {
     for i in 0..200 {
         match i % 17 {
             3 => text.push_str(&format!("P{i},P{i},2024-03-01,5\n")),
-            5 => text.push_str("\n"),
+            5 => text.push('\n'),
             7 => text.push_str(&format!("P{i},P{},2024-02-30,5,extra\n", i + 1)),
             11 => text.push_str(&format!("P{i},P{},2024-02-30,-5\n", i % 9)),
             _ => text.push_str(&format!(
