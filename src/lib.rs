@@ -15,6 +15,7 @@ pub mod error;
 pub mod graph;
 pub mod ids;
 pub mod ingest;
+pub mod metrics;
 pub mod report;
 pub mod sample;
 pub mod sort;

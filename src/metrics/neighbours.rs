@@ -1,0 +1,120 @@
+//! Neighbour degree and the friendship paradox, in the three versions of the methods sheet:
+//! (a) the edge-end mean <k^2>/<k>; (b) the mean over people (with contacts) of their contacts'
+//! mean degree; (c) the shares of people whose contacts have more, fewer or as many contacts
+//! as they do, decided in integers (m_i > k_i  <=>  sum_j k_j > k_i^2).
+//! Also k_nn(k), the mean of m_i over people of degree k (Pastor-Satorras et al. 2001), and the
+//! ego-weighted excess degree of contacts, to set beside q_k.
+
+use super::Stat;
+use crate::graph::Adjacency;
+
+/// Per-person neighbour figures and the paradox summary.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Neighbours {
+    /// Sum of contacts' degrees per person (integers, exact).
+    pub neighbour_degree_sum: Vec<u64>,
+    /// People with at least one contact (N+).
+    pub n_active: usize,
+    /// Version (a): <k^2>/<k>.
+    pub edge_end_mean: Stat,
+    /// Version (b): mean over N+ of m_i.
+    pub contact_mean: Stat,
+    /// <k> over the N+ people with contacts.
+    pub mean_active: Stat,
+    /// Version (c): share of N+ whose contacts have more contacts than they do.
+    pub share_more: Stat,
+    /// Share whose contacts have fewer.
+    pub share_fewer: Stat,
+    /// Share whose contacts have exactly as many.
+    pub share_equal: Stat,
+    /// k_nn(k) for each degree k >= 1 present: (k, value).
+    pub knn: Vec<(u32, f64)>,
+    /// Ego-weighted distribution of contacts' excess degree: `(1/N+) sum_i (1/k_i) #{j in N(i):
+    /// k_j - 1 = x}` for x = 0..; equals q_x when degrees are uncorrelated.
+    pub contact_excess: Vec<f64>,
+}
+
+impl Neighbours {
+    /// Contacts' mean degree m_i of person i (undefined without contacts).
+    pub fn contact_mean_of(&self, deg: &[u32], i: usize) -> Stat {
+        match deg[i] {
+            0 => Err("no contacts"),
+            k => Ok(self.neighbour_degree_sum[i] as f64 / f64::from(k)),
+        }
+    }
+}
+
+/// Compute neighbour figures from the adjacency and degree sequence.
+pub fn neighbours(g: &Adjacency, deg: &[u32]) -> Neighbours {
+    let n = deg.len();
+    let max = deg.iter().copied().max().unwrap_or(0) as usize;
+    let mut sums = vec![0u64; n];
+    let (mut more, mut fewer, mut equal, mut active) = (0u64, 0u64, 0u64, 0u64);
+    let mut m_total = 0.0;
+    let mut knn_sum = vec![0.0f64; max + 1];
+    let mut knn_count = vec![0u64; max + 1];
+    let mut contact_excess = vec![0.0f64; max.max(1)];
+    let (mut s1, mut s2) = (0u128, 0u128);
+    for i in 0..n {
+        let k = deg[i];
+        s1 += u128::from(k);
+        s2 += u128::from(k) * u128::from(k);
+        if k == 0 {
+            continue;
+        }
+        active += 1;
+        let nb = g.neighbors_slice(i as u32);
+        let sum: u64 = nb.iter().map(|&j| u64::from(deg[j as usize])).sum();
+        sums[i] = sum;
+        let k2 = u64::from(k) * u64::from(k);
+        match sum.cmp(&k2) {
+            std::cmp::Ordering::Greater => more += 1,
+            std::cmp::Ordering::Less => fewer += 1,
+            std::cmp::Ordering::Equal => equal += 1,
+        }
+        let m_i = sum as f64 / f64::from(k);
+        m_total += m_i;
+        knn_sum[k as usize] += m_i;
+        knn_count[k as usize] += 1;
+        let w = 1.0 / f64::from(k);
+        for &j in nb {
+            contact_excess[deg[j as usize] as usize - 1] += w;
+        }
+    }
+    let knn = (1..=max)
+        .filter(|&k| knn_count[k] > 0)
+        .map(|k| (k as u32, knn_sum[k] / knn_count[k] as f64))
+        .collect();
+    if active == 0 {
+        let u = Err("no contacts (every person has degree 0)");
+        let u0 = if n == 0 { Err("no people") } else { u };
+        return Neighbours {
+            neighbour_degree_sum: sums,
+            n_active: 0,
+            edge_end_mean: u0,
+            contact_mean: u0,
+            mean_active: u0,
+            share_more: u0,
+            share_fewer: u0,
+            share_equal: u0,
+            knn,
+            contact_excess: Vec::new(),
+        };
+    }
+    let a = active as f64;
+    for v in contact_excess.iter_mut() {
+        *v /= a;
+    }
+    Neighbours {
+        neighbour_degree_sum: sums,
+        n_active: active as usize,
+        edge_end_mean: Ok(s2 as f64 / s1 as f64),
+        contact_mean: Ok(m_total / a),
+        mean_active: Ok(s1 as f64 / a),
+        share_more: Ok(more as f64 / a),
+        share_fewer: Ok(fewer as f64 / a),
+        share_equal: Ok(equal as f64 / a),
+        knn,
+        contact_excess,
+    }
+}
