@@ -49,11 +49,14 @@ pub enum Command {
         #[arg(long)]
         json: bool,
     },
-    /// Headline figures of the contact network.
+    /// Headline figures and statistics of the contact network.
     Summary {
         /// Loading options and paths.
         #[command(flatten)]
         load: LoadArgs,
+        /// Statistics options.
+        #[command(flatten)]
+        stats: StatsArgs,
         /// Print one JSON object (keys documented in the README).
         #[arg(long)]
         json: bool,
@@ -73,6 +76,31 @@ pub enum Command {
         #[arg(long, value_name = "DATE")]
         end: Option<String>,
     },
+}
+
+/// Options of the statistics that cost time or use random numbers.
+#[derive(Debug, Args, Clone)]
+pub struct StatsArgs {
+    /// Degree-preserving randomisations for the null model of r (0 skips it).
+    #[arg(long, default_value_t = 5, value_name = "N")]
+    pub null_replicates: usize,
+    /// Swap attempts per contact pair in each randomisation.
+    #[arg(long, default_value_t = 10, value_name = "N")]
+    pub null_swaps: usize,
+    /// Seed of the null model's random numbers (same seed, same result).
+    #[arg(long, default_value_t = 1, value_name = "S")]
+    pub seed: u64,
+}
+
+impl StatsArgs {
+    /// As metric options.
+    pub fn options(&self) -> crate::metrics::network::MetricOptions {
+        crate::metrics::network::MetricOptions {
+            null_replicates: self.null_replicates,
+            null_swaps_per_edge: self.null_swaps,
+            seed: self.seed,
+        }
+    }
 }
 
 /// Options shared by every command that loads an export.
@@ -202,16 +230,23 @@ pub fn run(cli: Cli) -> Result<()> {
     match cli.command {
         None => {
             let d = cli.load.load()?;
-            emit(&report::summary_text(&summary::summarise(&d), &d))
+            let stats = crate::metrics::network::compute(&d, &Default::default());
+            emit(&report::summary_text(&summary::summarise(&d), &stats, &d))
         }
-        Some(Command::Summary { load, json }) => {
+        Some(Command::Summary { load, stats, json }) => {
             let d = load.load()?;
             let s = summary::summarise(&d);
-            emit(&if json {
-                to_json(&s)?
+            let net = crate::metrics::network::compute(&d, &stats.options());
+            if json {
+                let mut v = serde_json::to_value(&s)
+                    .map_err(|e| Error::Usage(format!("JSON output failed: {e}")))?;
+                if let serde_json::Value::Object(o) = &mut v {
+                    o.extend(net.to_json(&d));
+                }
+                emit(&to_json(&v)?)
             } else {
-                report::summary_text(&s, &d)
-            })
+                emit(&report::summary_text(&s, &net, &d))
+            }
         }
         Some(Command::Check {
             load,

@@ -187,8 +187,20 @@ pub fn check_text(r: &CheckReport, as_of: &str) -> String {
     s
 }
 
+/// A statistic for display: the value with `digits` decimals, or "undefined (reason)".
+fn show(v: crate::metrics::Stat, digits: usize) -> String {
+    match v {
+        Ok(x) => format!("{x:.digits$}"),
+        Err(reason) => format!("undefined ({reason})"),
+    }
+}
+
 /// Plain-text rendering of the summary.
-pub fn summary_text(sum: &Summary, d: &Dataset) -> String {
+pub fn summary_text(
+    sum: &Summary,
+    net: &crate::metrics::network::NetworkStats,
+    d: &Dataset,
+) -> String {
     let mut s = String::new();
     let _ = writeln!(s, "hubwatch summary (as of {})", sum.as_of);
     for f in &d.ledger.files {
@@ -235,6 +247,58 @@ pub fn summary_text(sum: &Summary, d: &Dataset) -> String {
     for (k, v) in rows {
         let _ = writeln!(s, "  {k:<50} {v}");
     }
+    let nb = &net.neighbours;
+    let r = match (net.r, net.r_se) {
+        (Ok(r), Ok(se)) => format!("{r:.3} ± {se:.3}"),
+        (r, _) => show(r, 3),
+    };
+    let null = match (net.null.mean, net.null.sd) {
+        (Ok(m), Ok(sd)) => format!("{m:.3} ± {sd:.3} ({} randomisations)", net.null.replicates),
+        (m, _) => show(m, 3),
+    };
+    let more = nb.share_more.map(|x| 100.0 * x);
+    let stats = [
+        ("mean contacts per person <k>", show(net.degree.mean, 2)),
+        (
+            "contacts of a person reached along an exposure",
+            show(net.degree.edge_end_mean, 2),
+        ),
+        (
+            "  of which other than the exposure (mean excess)",
+            show(net.degree.mean_excess, 2),
+        ),
+        (
+            "people whose contacts have more contacts (%)",
+            show(more, 1),
+        ),
+        ("degree assortativity r ± jackknife SE", r),
+        ("  r in degree-preserving randomisations", null),
+        (
+            "clustering: transitivity / mean local",
+            format!(
+                "{} / {}",
+                show(net.clustering.transitivity, 3),
+                show(net.clustering.mean_local, 3)
+            ),
+        ),
+        (
+            "people who bridge parts of a cluster",
+            net.bridges.len().to_string(),
+        ),
+        (
+            "highest k-core",
+            net.cores.iter().max().copied().unwrap_or(0).to_string(),
+        ),
+    ];
+    let _ = writeln!(s, "\nNetwork shape");
+    for (k, v) in stats {
+        let _ = writeln!(s, "  {k:<50} {v}");
+    }
+    let _ = writeln!(
+        s,
+        "\nThe configuration-model reading of these figures assumes uncorrelated degrees and a\n\
+         tree-like network; compare r with its randomisations and mind the clustering."
+    );
     let _ = writeln!(s, "\n{}", crate::CAUTION);
     s
 }

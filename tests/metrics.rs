@@ -298,3 +298,67 @@ mod properties {
         }
     }
 }
+
+#[test]
+fn karate_clustering_cores_and_bridges() {
+    // Check values from networkx 3.6.1 (installed from PyPI into a throw-away virtual
+    // environment and run on ../shared/reference/check-inputs/graph-karate.csv):
+    // transitivity 0.2556818181818182, average_clustering 0.5706384782076823, 45 triangles,
+    // articulation_points {0}, core_number as below.
+    let Some(p) = check_input("graph-karate.csv") else {
+        return;
+    };
+    let d = load(&[&p], &[]);
+    let deg = degree::degrees(&d.graph);
+    let c = structure::clustering(&d.graph, &deg);
+    close(
+        c.transitivity.unwrap(),
+        0.2556818181818182,
+        1e-12,
+        "transitivity",
+    );
+    close(
+        c.mean_local.unwrap(),
+        0.5706384782076823,
+        1e-12,
+        "mean local clustering",
+    );
+    assert_eq!(c.triangles.iter().sum::<u64>() / 3, 45);
+    let core = structure::core_numbers(&d.graph, &deg);
+    let want = [
+        4, 4, 4, 4, 3, 3, 3, 4, 4, 2, 3, 1, 2, 4, 2, 2, 2, 2, 2, 3, 2, 2, 2, 3, 3, 3, 2, 3, 3, 3,
+        4, 3, 4, 4,
+    ];
+    for (id, k) in want.iter().enumerate() {
+        assert_eq!(
+            core[d.ids.get(&id.to_string()).unwrap() as usize],
+            *k,
+            "core of {id}"
+        );
+    }
+    let cut: Vec<&str> = structure::articulation_points(&d.graph)
+        .iter()
+        .map(|&v| d.ids.name(v))
+        .collect();
+    assert_eq!(cut, ["0"]);
+}
+
+#[test]
+fn articulation_points_on_small_shapes() {
+    // By hand (common practice, no source needed): a path's inner people are cut points; a
+    // cycle has none; a star's hub is the only one.
+    for (file, want) in [
+        ("graph-path5.csv", vec!["1", "2", "3"]),
+        ("graph-cycle5.csv", vec![]),
+        ("graph-star6.csv", vec!["0"]),
+    ] {
+        let Some(p) = check_input(file) else { return };
+        let d = load(&[&p], &[]);
+        let mut cut: Vec<&str> = structure::articulation_points(&d.graph)
+            .iter()
+            .map(|&v| d.ids.name(v))
+            .collect();
+        cut.sort_unstable();
+        assert_eq!(cut, want, "{file}");
+    }
+}

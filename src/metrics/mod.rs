@@ -8,6 +8,7 @@
 pub mod degree;
 pub mod mixing;
 pub mod neighbours;
+pub mod network;
 pub mod structure;
 
 /// A statistic that may be undefined; the error is the reason, in words.

@@ -1,0 +1,247 @@
+//! All network statistics of one dataset, computed once, and their JSON form (the contract of
+//! `hubwatch summary --json`, documented in the README).
+
+use serde_json::{json, Map, Value};
+
+use super::{degree, mixing, neighbours, put, structure};
+use crate::graph;
+use crate::ingest::Dataset;
+
+/// Settings of the statistics that have a cost or a random part.
+#[derive(Debug, Clone, Copy)]
+pub struct MetricOptions {
+    /// Degree-preserving randomisations for the null model (0 = skip).
+    pub null_replicates: usize,
+    /// Swap attempts per pair in each randomisation.
+    pub null_swaps_per_edge: usize,
+    /// Seed of the null model's random numbers.
+    pub seed: u64,
+}
+
+impl Default for MetricOptions {
+    fn default() -> Self {
+        MetricOptions {
+            null_replicates: 5,
+            null_swaps_per_edge: 10,
+            seed: 1,
+        }
+    }
+}
+
+/// Every statistic of the network.
+#[derive(Debug, Clone)]
+pub struct NetworkStats {
+    /// Degree of each person.
+    pub degrees: Vec<u32>,
+    /// Degree distribution and moments.
+    pub degree: degree::DegreeStats,
+    /// Neighbour degrees and the paradox.
+    pub neighbours: neighbours::Neighbours,
+    /// Degree assortativity r.
+    pub r: super::Stat,
+    /// Its jackknife standard error (variant A).
+    pub r_se: super::Stat,
+    /// r under the degree-preserving null model.
+    pub null: mixing::NullModel,
+    /// Clustering.
+    pub clustering: structure::Clustering,
+    /// k-core number of each person.
+    pub cores: Vec<u32>,
+    /// Articulation points.
+    pub bridges: Vec<u32>,
+    /// Component of each person, and component sizes.
+    pub components: (Vec<u32>, Vec<u32>),
+    /// Mixing by people's attributes (area, age group) where present.
+    pub attribute_mixing: Vec<(String, mixing::AttributeMixing)>,
+    /// Degree assortativity within each setting's sub-network.
+    pub r_by_setting: Vec<(String, super::Stat)>,
+}
+
+/// People attributes whose mixing is reported.
+const MIXING_ATTRIBUTES: [&str; 2] = ["area", "age_group"];
+
+/// Compute every statistic.
+pub fn compute(d: &Dataset, opts: &MetricOptions) -> NetworkStats {
+    let deg = graph::degrees(&d.graph);
+    let (a, b) = (&d.edges.a, &d.edges.b);
+    let attribute_mixing = MIXING_ATTRIBUTES
+        .iter()
+        .filter_map(|name| {
+            let col = d.attrs.column(name)?;
+            let values = &d.attrs.values[col];
+            let mut labels: Vec<String> = values.iter().flatten().map(|v| v.to_string()).collect();
+            labels.sort_unstable();
+            labels.dedup();
+            let group: Vec<Option<usize>> = (0..d.people())
+                .map(|i| {
+                    values
+                        .get(i)
+                        .and_then(|v| v.as_deref())
+                        .and_then(|v| labels.binary_search_by(|l| l.as_str().cmp(v)).ok())
+                })
+                .collect();
+            Some((
+                name.to_string(),
+                mixing::attribute_mixing(a, b, &group, labels),
+            ))
+        })
+        .collect();
+    let r_by_setting = d
+        .settings
+        .iter()
+        .enumerate()
+        .map(|(i, label)| {
+            let code = (i + 1) as u16;
+            let sel: Vec<usize> = (0..d.edges.len())
+                .filter(|&e| d.edges.settings(e).contains(&code))
+                .collect();
+            let sa: Vec<u32> = sel.iter().map(|&e| a[e]).collect();
+            let sb: Vec<u32> = sel.iter().map(|&e| b[e]).collect();
+            // Degrees within the setting's own sub-network.
+            let mut sd = vec![0u32; d.people()];
+            for (&x, &y) in sa.iter().zip(&sb) {
+                sd[x as usize] += 1;
+                sd[y as usize] += 1;
+            }
+            (label.clone(), mixing::assortativity(&sa, &sb, &sd))
+        })
+        .collect();
+    NetworkStats {
+        degree: degree::degree_stats(&deg),
+        neighbours: neighbours::neighbours(&d.graph, &deg),
+        r: mixing::assortativity(a, b, &deg),
+        r_se: mixing::jackknife_se(a, b, &deg),
+        null: mixing::null_model(
+            a,
+            b,
+            &deg,
+            opts.null_replicates,
+            opts.null_swaps_per_edge,
+            opts.seed,
+        ),
+        clustering: structure::clustering(&d.graph, &deg),
+        cores: structure::core_numbers(&d.graph, &deg),
+        bridges: structure::articulation_points(&d.graph),
+        components: graph::components(&d.graph),
+        attribute_mixing,
+        r_by_setting,
+        degrees: deg,
+    }
+}
+
+fn pairs_list<T: Into<Value> + Copy>(v: impl Iterator<Item = (u64, T)>) -> Value {
+    Value::Array(v.map(|(k, x)| json!([k, x.into()])).collect())
+}
+
+impl NetworkStats {
+    /// The statistics as JSON members, merged into the summary object.
+    pub fn to_json(&self, d: &Dataset) -> Map<String, Value> {
+        let mut out = Map::new();
+        let s = &self.degree;
+        let mut deg = Map::new();
+        put(&mut deg, "mean", s.mean);
+        put(&mut deg, "mean_sq", s.mean_sq);
+        put(&mut deg, "variance", s.variance);
+        deg.insert("max".into(), json!(s.max));
+        deg.insert(
+            "histogram".into(),
+            pairs_list(
+                s.histogram
+                    .iter()
+                    .enumerate()
+                    .filter(|(_, &c)| c > 0)
+                    .map(|(k, &c)| (k as u64, c)),
+            ),
+        );
+        out.insert("degree".into(), Value::Object(deg));
+
+        let mut ex = Map::new();
+        put(&mut ex, "mean", s.mean_excess);
+        put(&mut ex, "edge_end_mean", s.edge_end_mean);
+        put(&mut ex, "gap", s.gap);
+        ex.insert(
+            "q".into(),
+            pairs_list(s.q().into_iter().enumerate().map(|(k, q)| (k as u64, q))),
+        );
+        ex.insert(
+            "contacts_observed".into(),
+            pairs_list(
+                self.neighbours
+                    .contact_excess
+                    .iter()
+                    .enumerate()
+                    .map(|(k, &x)| (k as u64, x)),
+            ),
+        );
+        out.insert("excess".into(), Value::Object(ex));
+
+        let nb = &self.neighbours;
+        let mut px = Map::new();
+        put(&mut px, "edge_end_mean", nb.edge_end_mean);
+        put(&mut px, "contact_mean", nb.contact_mean);
+        put(&mut px, "share_more", nb.share_more);
+        put(&mut px, "share_fewer", nb.share_fewer);
+        put(&mut px, "share_equal", nb.share_equal);
+        px.insert("people_with_contacts".into(), json!(nb.n_active));
+        put(&mut px, "mean_degree_with_contacts", nb.mean_active);
+        out.insert("paradox".into(), Value::Object(px));
+
+        let mut r = Map::new();
+        put(&mut r, "r", self.r);
+        put(&mut r, "se_jackknife", self.r_se);
+        r.insert(
+            "se_method".into(),
+            "jackknife over contacts, degrees kept fixed (variant A), Newman's form".into(),
+        );
+        put(&mut r, "null_mean", self.null.mean);
+        put(&mut r, "null_sd", self.null.sd);
+        r.insert("null_replicates".into(), json!(self.null.replicates));
+        r.insert(
+            "null_swaps_per_edge".into(),
+            json!(self.null.swaps_per_edge),
+        );
+        out.insert("assortativity".into(), Value::Object(r));
+        out.insert(
+            "knn".into(),
+            pairs_list(nb.knn.iter().map(|&(k, v)| (u64::from(k), v))),
+        );
+
+        let mut cl = Map::new();
+        put(&mut cl, "transitivity", self.clustering.transitivity);
+        put(&mut cl, "mean_local", self.clustering.mean_local);
+        out.insert("clustering".into(), Value::Object(cl));
+
+        let max_core = self.cores.iter().copied().max().unwrap_or(0);
+        let mut core_hist = vec![0u64; max_core as usize + 1];
+        for &c in &self.cores {
+            core_hist[c as usize] += 1;
+        }
+        out.insert(
+            "cores".into(),
+            json!({"max": max_core, "histogram": pairs_list(core_hist.iter().enumerate().filter(|(_, &c)| c > 0).map(|(k, &c)| (k as u64, c)))}),
+        );
+        out.insert(
+            "bridges".into(),
+            json!({"count": self.bridges.len(), "people": self.bridges.iter().map(|&v| d.ids.name(v)).collect::<Vec<_>>()}),
+        );
+
+        let mut mix = Map::new();
+        for (name, m) in &self.attribute_mixing {
+            let mut o = Map::new();
+            put(&mut o, "r", m.r);
+            o.insert("groups".into(), json!(m.groups));
+            o.insert("pairs".into(), json!(m.pairs));
+            o.insert("unknown".into(), json!(m.unknown));
+            mix.insert(name.clone(), Value::Object(o));
+        }
+        let mut by_setting = Map::new();
+        for (label, r) in &self.r_by_setting {
+            let mut o = Map::new();
+            put(&mut o, "r", *r);
+            by_setting.insert(label.clone(), Value::Object(o));
+        }
+        mix.insert("setting".into(), Value::Object(by_setting));
+        out.insert("mixing".into(), Value::Object(mix));
+        out
+    }
+}
