@@ -195,6 +195,29 @@ fn show(v: crate::metrics::Stat, digits: usize) -> String {
     }
 }
 
+/// The best whole-distribution fit with its parameters, in words.
+fn fit_line(f: &crate::metrics::network::DegreeFits) -> String {
+    let param = |fit: &crate::metrics::fits::Fit, name: &str| {
+        fit.params
+            .iter()
+            .find(|(n, _)| *n == name)
+            .map(|(_, v)| show(*v, 2))
+            .unwrap_or_default()
+    };
+    match f.best {
+        Some("negative_binomial") => format!(
+            "negative binomial, mean {}, dispersion k {} (95% CI {} to {})",
+            param(&f.negative_binomial.fit, "R"),
+            param(&f.negative_binomial.fit, "k"),
+            show(f.negative_binomial.k_low, 2),
+            show(f.negative_binomial.k_high, 2)
+        ),
+        Some("poisson") => format!("Poisson, mean {}", param(&f.poisson, "lambda")),
+        Some("geometric") => format!("geometric, p {}", param(&f.geometric, "p")),
+        _ => "undefined (no model could be fitted)".to_string(),
+    }
+}
+
 /// Plain-text rendering of the summary.
 pub fn summary_text(
     sum: &Summary,

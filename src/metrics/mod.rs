@@ -6,6 +6,7 @@
 //! decide ties are made in integers.
 
 pub mod degree;
+pub mod fits;
 pub mod mixing;
 pub mod neighbours;
 pub mod network;

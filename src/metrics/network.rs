@@ -3,7 +3,7 @@
 
 use serde_json::{json, Map, Value};
 
-use super::{degree, mixing, neighbours, put, structure};
+use super::{degree, fits, mixing, neighbours, put, structure};
 use crate::graph;
 use crate::ingest::Dataset;
 
@@ -55,6 +55,45 @@ pub struct NetworkStats {
     pub attribute_mixing: Vec<(String, mixing::AttributeMixing)>,
     /// Degree assortativity within each setting's sub-network.
     pub r_by_setting: Vec<(String, super::Stat)>,
+    /// Fits of the degree distribution.
+    pub fits: DegreeFits,
+}
+
+/// Fits of the degree distribution and which describes it best.
+#[derive(Debug, Clone)]
+pub struct DegreeFits {
+    /// Poisson.
+    pub poisson: fits::Fit,
+    /// Geometric.
+    pub geometric: fits::Fit,
+    /// Negative binomial with the profile interval for k.
+    pub negative_binomial: fits::NegBin,
+    /// Power-law tail (x_min by KS), or why none was fitted.
+    pub power_law: Result<fits::PowerLaw, &'static str>,
+    /// Model with the lowest AIC among the three whole-distribution models.
+    pub best: Option<&'static str>,
+}
+
+/// Smallest tail the power-law fit accepts (short tails give unstable alpha and small KS).
+pub const MIN_TAIL: u64 = 10;
+
+fn fit_degrees(histogram: &[u64]) -> DegreeFits {
+    let s = fits::Sample::from_counts(histogram.to_vec());
+    let poisson = fits::poisson(&s);
+    let geometric = fits::geometric(&s);
+    let negative_binomial = fits::negative_binomial(&s);
+    let best = [&poisson, &geometric, &negative_binomial.fit]
+        .into_iter()
+        .filter_map(|f| f.aic.ok().map(|a| (f.model, a)))
+        .min_by(|a, b| a.1.total_cmp(&b.1))
+        .map(|(m, _)| m);
+    DegreeFits {
+        poisson,
+        geometric,
+        negative_binomial,
+        power_law: fits::power_law(&s, MIN_TAIL),
+        best,
+    }
 }
 
 /// People attributes whose mixing is reported.
@@ -106,8 +145,10 @@ pub fn compute(d: &Dataset, opts: &MetricOptions) -> NetworkStats {
             (label.clone(), mixing::assortativity(&sa, &sb, &sd))
         })
         .collect();
+    let degree = degree::degree_stats(&deg);
     NetworkStats {
-        degree: degree::degree_stats(&deg),
+        fits: fit_degrees(&degree.histogram),
+        degree,
         neighbours: neighbours::neighbours(&d.graph, &deg),
         r: mixing::assortativity(a, b, &deg),
         r_se: mixing::jackknife_se(a, b, &deg),
@@ -242,6 +283,56 @@ impl NetworkStats {
         }
         mix.insert("setting".into(), Value::Object(by_setting));
         out.insert("mixing".into(), Value::Object(mix));
+        out.insert("fits".into(), self.fits_json());
         out
+    }
+
+    fn fits_json(&self) -> Value {
+        let f = &self.fits;
+        let model = |fit: &fits::Fit| {
+            let mut o = Map::new();
+            for (name, v) in &fit.params {
+                put(&mut o, name, *v);
+            }
+            put(&mut o, "log_lik", fit.log_lik);
+            put(&mut o, "aic", fit.aic);
+            Value::Object(o)
+        };
+        let mut out = Map::new();
+        out.insert("poisson".into(), model(&f.poisson));
+        out.insert("geometric".into(), model(&f.geometric));
+        let mut nb = match model(&f.negative_binomial.fit) {
+            Value::Object(o) => o,
+            _ => Map::new(),
+        };
+        put(&mut nb, "k_ci_low", f.negative_binomial.k_low);
+        put(&mut nb, "k_ci_high", f.negative_binomial.k_high);
+        out.insert("negative_binomial".into(), Value::Object(nb));
+        match &f.power_law {
+            Ok(p) => {
+                out.insert(
+                    "power_law_tail".into(),
+                    json!({"x_min": p.x_min, "n_tail": p.n_tail, "alpha": p.alpha, "se": p.se, "ks": p.ks, "log_lik": p.log_lik, "min_tail": MIN_TAIL}),
+                );
+            }
+            Err(why) => {
+                out.insert("power_law_tail".into(), Value::Null);
+                out.insert("power_law_tail_undefined".into(), (*why).into());
+            }
+        }
+        match f.best {
+            Some(b) => {
+                out.insert("best".into(), b.into());
+                out.insert(
+                    "verdict".into(),
+                    format!("{} describes the whole degree distribution best (lowest AIC of Poisson, geometric, negative binomial); the power-law fit covers only the tail and is not compared by AIC", b.replace('_', " ")).into(),
+                );
+            }
+            None => {
+                out.insert("best".into(), Value::Null);
+                out.insert("best_undefined".into(), "no model could be fitted".into());
+            }
+        }
+        Value::Object(out)
     }
 }
