@@ -312,6 +312,10 @@ pub fn summary_text(
             "highest k-core",
             net.cores.iter().max().copied().unwrap_or(0).to_string(),
         ),
+        (
+            "best fit of the degree distribution (AIC)",
+            fit_line(&net.fits),
+        ),
     ];
     let _ = writeln!(s, "\nNetwork shape");
     for (k, v) in stats {
