@@ -136,6 +136,21 @@ pub struct LoadArgs {
     /// Treat IDs that differ only in letter case as the same person.
     #[arg(long, global = true)]
     pub ids_ignore_case: bool,
+    /// Build the network from exposures in this setting only (repeatable: any of them).
+    #[arg(long = "setting", value_name = "LABEL", global = true)]
+    pub settings: Vec<String>,
+    /// Leave out exposures in this setting (repeatable).
+    #[arg(long = "exclude-setting", value_name = "LABEL", global = true)]
+    pub exclude_settings: Vec<String>,
+    /// Only exposures on or after this date (YYYY-MM-DD).
+    #[arg(long, value_name = "DATE", global = true)]
+    pub from: Option<String>,
+    /// Only exposures on or before this date (YYYY-MM-DD).
+    #[arg(long, value_name = "DATE", global = true)]
+    pub to: Option<String>,
+    /// Only exposures in the last N days up to the as-of date (N = 1: the as-of day itself).
+    #[arg(long, value_name = "N", global = true, conflicts_with_all = ["from", "to"])]
+    pub last_days: Option<u32>,
 }
 
 /// Today's local date as a day number.
@@ -183,7 +198,34 @@ impl LoadArgs {
             Some(v) => parse_day("--as-of", v)?,
             None => today(),
         };
+        let view = crate::ingest::View {
+            settings: self.settings.clone(),
+            exclude_settings: self.exclude_settings.clone(),
+            from: match (&self.from, self.last_days) {
+                (Some(v), _) => Some(parse_day("--from", v)?),
+                (None, Some(n)) if n >= 1 => Some(as_of - n as i32 + 1),
+                (None, Some(_)) => {
+                    return Err(Error::Usage("--last-days must be at least 1".into()))
+                }
+                (None, None) => None,
+            },
+            to: match (&self.to, self.last_days) {
+                (Some(v), _) => Some(parse_day("--to", v)?),
+                (None, Some(_)) => Some(as_of),
+                (None, None) => None,
+            },
+        };
+        if let (Some(f), Some(t)) = (view.from, view.to) {
+            if f > t {
+                return Err(Error::Usage(format!(
+                    "--from {} is after --to {}",
+                    dates::iso(f),
+                    dates::iso(t)
+                )));
+            }
+        }
         Ok(LoadOptions {
+            view,
             overrides,
             as_of,
             read: ReadOptions {

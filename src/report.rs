@@ -225,7 +225,11 @@ pub fn summary_text(
     d: &Dataset,
 ) -> String {
     let mut s = String::new();
-    let _ = writeln!(s, "hubwatch summary (as of {})", sum.as_of);
+    let _ = writeln!(
+        s,
+        "hubwatch summary (as of {}; network of {}: {} exposure rows)",
+        sum.as_of, sum.view.description, sum.view.exposure_rows
+    );
     for f in &d.ledger.files {
         let _ = writeln!(s, "  {:<9} {}", f.role.name(), f.path.display());
     }

@@ -47,6 +47,25 @@ pub struct Summary {
     pub rows: Rows,
     /// The as-of date (ISO 8601).
     pub as_of: String,
+    /// Which exposures form the network.
+    pub view: ViewSummary,
+}
+
+/// The sub-network shown.
+#[derive(Debug, Clone, Serialize, PartialEq)]
+pub struct ViewSummary {
+    /// In words ("all exposures", "setting household; exposures 2026-11-01 to 2026-11-27").
+    pub description: String,
+    /// Settings kept (empty = any).
+    pub settings: Vec<String>,
+    /// Settings left out.
+    pub exclude_settings: Vec<String>,
+    /// First day of the date window (ISO 8601), if any.
+    pub from: Option<String>,
+    /// Last day of the date window, if any.
+    pub to: Option<String>,
+    /// Usable exposure rows inside the view.
+    pub exposure_rows: u64,
 }
 
 /// Compute the summary of a dataset.
@@ -71,5 +90,13 @@ pub fn summarise(d: &Dataset) -> Summary {
             people: d.ledger.people,
         },
         as_of: crate::ingest::dates::iso(d.as_of),
+        view: ViewSummary {
+            description: d.view.0.describe(),
+            settings: d.view.0.settings.clone(),
+            exclude_settings: d.view.0.exclude_settings.clone(),
+            from: d.view.0.from.map(crate::ingest::dates::iso),
+            to: d.view.0.to.map(crate::ingest::dates::iso),
+            exposure_rows: d.view.1,
+        },
     }
 }

@@ -140,3 +140,36 @@ fn synth_writes_a_reproducible_export() {
         assert!(out.join(f).exists(), "{f}");
     }
 }
+
+#[test]
+fn last_days_counts_back_from_the_as_of_date() {
+    // Toy export (methods.md §0): rows dated 2024-03-06 (P07-P08) and 2024-03-07 (P08-P09) are
+    // the last two days up to an as-of date of 2024-03-07.
+    let dir =
+        std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("../shared/reference/check-inputs");
+    if !dir.exists() {
+        eprintln!("SKIP: ../shared/reference/check-inputs not found");
+        return;
+    }
+    let (p, e) = (dir.join("toy-people.csv"), dir.join("toy-exposures.csv"));
+    let args = [
+        "summary",
+        "--json",
+        "--null-replicates",
+        "0",
+        "--as-of",
+        "2024-03-07",
+        "--last-days",
+        "2",
+    ];
+    let mut all: Vec<&str> = args.to_vec();
+    all.extend([p.to_str().unwrap(), e.to_str().unwrap()]);
+    let (code, out, err) = hubwatch(&all);
+    assert_eq!(code, 0, "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_eq!(v["contacts"], 2);
+    assert_eq!(v["view"]["from"], "2024-03-06");
+    assert_eq!(v["view"]["to"], "2024-03-07");
+    let (code, _, err) = hubwatch(&["summary", "--last-days", "3", "--from", "2024-01-01"]);
+    assert_eq!(code, 2, "{err}");
+}

@@ -310,6 +310,7 @@ fn reading_in_many_small_chunks_changes_nothing() {
                 chunk_rows,
             },
             progress: false,
+            view: Default::default(),
         };
         load_inputs(&[Input::Path(f.clone())], &Config::default(), &opts).unwrap()
     };

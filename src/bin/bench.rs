@@ -87,6 +87,7 @@ fn one(dir: &Path) -> Result<(), String> {
         as_of: hubwatch::cli::today(),
         read: ReadOptions::default(),
         progress: false,
+        view: Default::default(),
     };
     let t = Instant::now();
     let d = ingest::load(&[Input::Path(dir.to_path_buf())], &Config::default(), &opts)

@@ -37,6 +37,98 @@ pub struct LoadOptions {
     pub read: ReadOptions,
     /// Show a progress indicator on stderr (only if it is a terminal).
     pub progress: bool,
+    /// Which exposure rows form the network (all by default).
+    pub view: View,
+}
+
+/// A sub-network: exposure rows kept by setting and by date. The people stay the same (N does
+/// not change); the ledger always accounts for every input row.
+#[derive(Debug, Clone, Default, PartialEq, Eq, serde::Serialize)]
+pub struct View {
+    /// Keep only rows whose setting is one of these (case-insensitive); empty = any.
+    pub settings: Vec<String>,
+    /// Drop rows whose setting is one of these.
+    pub exclude_settings: Vec<String>,
+    /// First day of the exposure-date window (rows without a date fall outside any window).
+    pub from: Option<i32>,
+    /// Last day of the window.
+    pub to: Option<i32>,
+}
+
+impl View {
+    /// True when every row is kept.
+    pub fn is_all(&self) -> bool {
+        *self == View::default()
+    }
+
+    /// A short description for reports.
+    pub fn describe(&self) -> String {
+        let mut parts = Vec::new();
+        if !self.settings.is_empty() {
+            parts.push(format!("setting {}", self.settings.join(" or ")));
+        }
+        if !self.exclude_settings.is_empty() {
+            parts.push(format!(
+                "every setting but {}",
+                self.exclude_settings.join(", ")
+            ));
+        }
+        match (self.from, self.to) {
+            (Some(a), Some(b)) => {
+                parts.push(format!("exposures {} to {}", dates::iso(a), dates::iso(b)))
+            }
+            (Some(a), None) => parts.push(format!("exposures from {}", dates::iso(a))),
+            (None, Some(b)) => parts.push(format!("exposures until {}", dates::iso(b))),
+            (None, None) => {}
+        }
+        if parts.is_empty() {
+            "all exposures".into()
+        } else {
+            parts.join("; ")
+        }
+    }
+}
+
+/// Which rows of `rows` the view keeps; unknown setting names are an error naming the known ones.
+fn view_mask(view: &View, rows: &ExposureRows, labels: &[String]) -> Result<Vec<bool>> {
+    let code_of = |name: &String| -> Result<u16> {
+        labels
+            .iter()
+            .position(|l| l.eq_ignore_ascii_case(name))
+            .map(|i| (i + 1) as u16)
+            .ok_or_else(|| {
+                Error::Usage(format!(
+                    "no exposure has setting \"{name}\"; settings in this export: {}",
+                    labels.join(", ")
+                ))
+            })
+    };
+    let include: Vec<u16> = view.settings.iter().map(code_of).collect::<Result<_>>()?;
+    let exclude: Vec<u16> = view
+        .exclude_settings
+        .iter()
+        .map(code_of)
+        .collect::<Result<_>>()?;
+    Ok((0..rows.keys.len())
+        .map(|r| {
+            let code = rows.setting.get(r).copied().unwrap_or(0);
+            if (!include.is_empty() && !include.contains(&code)) || exclude.contains(&code) {
+                return false;
+            }
+            if view.from.is_none() && view.to.is_none() {
+                return true;
+            }
+            let last = rows.last.get(r).copied().unwrap_or(reconcile::NO_DATE);
+            let day = if last != reconcile::NO_DATE {
+                last
+            } else {
+                rows.first.get(r).copied().unwrap_or(reconcile::NO_DATE)
+            };
+            day != reconcile::NO_DATE
+                && view.from.is_none_or(|f| day >= f)
+                && view.to.is_none_or(|t| day <= t)
+        })
+        .collect())
 }
 
 /// A source of table bytes: a path, or a table compiled into the binary.
@@ -70,7 +162,8 @@ pub struct Dataset {
     /// Unmapped columns of the exposures table(s), one value per usable exposure row, in input
     /// order; `edge_of_row[r]` is the pair row r went into (both empty when there are none).
     pub exposure_extras: Attributes,
-    /// The pair each usable exposure row went into (only when there are extra columns).
+    /// The pair each usable exposure row went into (only when there are extra columns;
+    /// `u32::MAX` for rows outside the view).
     pub edge_of_row: Vec<u32>,
     /// The ledger of rows and problems.
     pub ledger: Ledger,
@@ -78,6 +171,8 @@ pub struct Dataset {
     pub as_of: i32,
     /// Wall time of each load stage.
     pub timings: Timings,
+    /// The sub-network the graph shows, and how many exposure rows it holds.
+    pub view: (View, u64),
 }
 
 /// Wall-clock seconds spent in each stage of a load (for the benchmark and `--verbose` use).
@@ -396,10 +491,36 @@ pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dat
         .map(|i| rows.settings.name(i).to_string())
         .collect();
     let exposure_extras = std::mem::take(&mut rows.extras);
-    let edge_of_row = agg.edge_of_row;
+    let (edges, edge_of_row, rows_in_view) = if opts.view.is_all() {
+        (agg.edges, agg.edge_of_row, rows.keys.len() as u64)
+    } else {
+        // The ledger above counted every row; the network is built from the view's rows only.
+        let labels: Vec<String> = (0..rows.settings.len() as u32)
+            .map(|i| rows.settings.name(i).to_string())
+            .collect();
+        let keep = view_mask(&opts.view, &rows, &labels)?;
+        let sub = graph::aggregate(&rows.subset(&keep), !exposure_extras.names.is_empty());
+        // Rows outside the view map to no pair.
+        let mut sub_of_row = sub.edge_of_row.into_iter();
+        let edge_of_row = if exposure_extras.names.is_empty() {
+            Vec::new()
+        } else {
+            keep.iter()
+                .map(|&k| {
+                    if k {
+                        sub_of_row.next().unwrap_or(u32::MAX)
+                    } else {
+                        u32::MAX
+                    }
+                })
+                .collect()
+        };
+        let in_view = keep.iter().filter(|&&k| k).count() as u64;
+        (sub.edges, edge_of_row, in_view)
+    };
     drop(rows);
     let t2 = std::time::Instant::now();
-    let graph = graph::adjacency(n, &agg.edges);
+    let graph = graph::adjacency(n, &edges);
     let timings = Timings {
         parse: read_done - in_reconcile,
         reconcile: in_reconcile,
@@ -411,7 +532,7 @@ pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dat
         ids: people.ids,
         people_in_table,
         attrs,
-        edges: agg.edges,
+        edges,
         settings,
         graph,
         ledger,
@@ -419,6 +540,7 @@ pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dat
         timings,
         exposure_extras,
         edge_of_row,
+        view: (opts.view.clone(), rows_in_view),
     })
 }
 

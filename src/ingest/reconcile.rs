@@ -688,6 +688,29 @@ impl ExposureRows {
         Ok(())
     }
 
+    /// The rows for which `keep` is true (same order), for a sub-network view.
+    pub fn subset(&self, keep: &[bool]) -> ExposureRows {
+        fn pick<T: Copy>(v: &[T], keep: &[bool]) -> Vec<T> {
+            if v.is_empty() {
+                return Vec::new();
+            }
+            v.iter()
+                .zip(keep)
+                .filter(|(_, &k)| k)
+                .map(|(x, _)| *x)
+                .collect()
+        }
+        ExposureRows {
+            keys: pick(&self.keys, keep),
+            forward: pick(&self.forward, keep),
+            last: pick(&self.last, keep),
+            first: pick(&self.first, keep),
+            minutes: pick(&self.minutes, keep),
+            setting: pick(&self.setting, keep),
+            ..ExposureRows::new()
+        }
+    }
+
     /// Pad attribute arrays when files differ in which optional fields they map, so that
     /// every array has one entry per usable row.
     pub fn pad(&mut self) {

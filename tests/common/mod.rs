@@ -33,6 +33,7 @@ pub fn load_with(
         as_of: dates::parse_iso("2030-01-01").unwrap(),
         read: ReadOptions::default(),
         progress: false,
+        view: Default::default(),
     };
     let inputs: Vec<Input> = paths.iter().map(|p| Input::Path(p.to_path_buf())).collect();
     ingest::load(&inputs, config, &opts)
@@ -71,4 +72,17 @@ pub fn assert_balanced(d: &Dataset) {
         assert!(f.counts.balanced(), "{}: {:?}", f.path.display(), f.counts);
     }
     assert!(d.ledger.people.balanced() && d.ledger.exposures.balanced());
+}
+
+/// Load with a sub-network view.
+pub fn load_view(paths: &[&Path], view: hubwatch::ingest::View) -> Dataset {
+    let opts = LoadOptions {
+        overrides: Vec::new(),
+        as_of: dates::parse_iso("2030-01-01").unwrap(),
+        read: ReadOptions::default(),
+        progress: false,
+        view,
+    };
+    let inputs: Vec<Input> = paths.iter().map(|p| Input::Path(p.to_path_buf())).collect();
+    ingest::load(&inputs, &Config::default(), &opts).unwrap_or_else(|e| panic!("load failed: {e}"))
 }
