@@ -27,13 +27,14 @@ pub const PEOPLE_FIELDS: [&str; 8] = [
 ];
 
 /// Canonical fields of the exposures table.
-pub const EXPOSURE_FIELDS: [&str; 6] = [
+pub const EXPOSURE_FIELDS: [&str; 7] = [
     "source_id",
     "target_id",
     "exposure_date",
     "first_exposure_date",
     "setting",
     "duration_min",
+    "transmission",
 ];
 
 /// The complete configuration.

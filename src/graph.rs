@@ -37,6 +37,10 @@ pub struct Edges {
     pub setting_off: Vec<u32>,
     /// Setting codes (1-based into the settings list), sorted, distinct per edge.
     pub setting_codes: Vec<u16>,
+    /// Rows marking `a` as infector of `b` (empty when no file maps `transmission`).
+    pub links_ab: Vec<u32>,
+    /// Rows marking `b` as infector of `a`.
+    pub links_ba: Vec<u32>,
 }
 
 impl Edges {
@@ -113,6 +117,7 @@ pub fn aggregate(rows: &ExposureRows, want_row_edges: bool) -> Aggregated {
         let key = order[i].0;
         let mut j = i;
         let (mut first, mut last, mut minutes, mut named) = (NO_DATE, NO_DATE, f64::NAN, 0u32);
+        let (mut lab, mut lba) = (0u32, 0u32);
         codes.clear();
         while j < order.len() && order[j].0 == key {
             let r = order[j].1 as usize;
@@ -141,6 +146,13 @@ pub fn aggregate(rows: &ExposureRows, want_row_edges: bool) -> Aggregated {
                     };
                 }
             }
+            if rows.links.get(r) == Some(&1) {
+                if rows.forward[r] {
+                    lab += 1;
+                } else {
+                    lba += 1;
+                }
+            }
             if let Some(&c) = rows.setting.get(r) {
                 if c != 0 && !codes.contains(&c) {
                     codes.push(c);
@@ -157,6 +169,10 @@ pub fn aggregate(rows: &ExposureRows, want_row_edges: bool) -> Aggregated {
         e.first.push(first);
         e.last.push(last);
         e.minutes.push(minutes);
+        if !rows.links.is_empty() {
+            e.links_ab.push(lab);
+            e.links_ba.push(lba);
+        }
         if has_settings {
             codes.sort_unstable();
             e.setting_codes.extend_from_slice(&codes);

@@ -325,6 +325,46 @@ pub fn summary_text(
     for (k, v) in stats {
         let _ = writeln!(s, "  {k:<50} {v}");
     }
+    let c = &net.cases;
+    let _ = writeln!(s, "\nCases");
+    match c.missing {
+        Some(why) => {
+            let _ = writeln!(s, "  {:<50} undefined ({why})", "case statistics");
+        }
+        None => {
+            let sar = match (c.sar.p, c.sar.wilson) {
+                (Ok(p), Ok((lo, hi))) => format!(
+                    "{:.1}% ({} of {}; 95% CI {:.1}-{:.1}%, Wilson)",
+                    100.0 * p,
+                    c.sar.x,
+                    c.sar.n,
+                    100.0 * lo,
+                    100.0 * hi
+                ),
+                (p, _) => show(p, 3),
+            };
+            let off = match &c.offspring {
+                Some(o) => format!(
+                    "{} links; mean {} secondary cases per case",
+                    c.links,
+                    show(o.mean(), 2)
+                ),
+                None => "undefined (no infector -> infectee links)".to_string(),
+            };
+            let si = match (c.serial.mean, c.serial.sd) {
+                (Ok(m), Ok(sd)) => format!("mean {m:.1} days, SD {sd:.1} ({} pairs)", c.serial.n),
+                (m, _) => show(m, 1),
+            };
+            for (k, v) in [
+                ("cases", c.cases.to_string()),
+                ("secondary attack rate among traced contacts", sar),
+                ("offspring", off),
+                ("serial interval", si),
+            ] {
+                let _ = writeln!(s, "  {k:<50} {v}");
+            }
+        }
+    }
     let _ = writeln!(
         s,
         "\nThe configuration-model reading of these figures assumes uncorrelated degrees and a\n\

@@ -64,6 +64,8 @@ pub struct Manifest {
     pub pairs: u64,
     /// Cases (index cases and infected contacts).
     pub cases: u64,
+    /// Infector -> infectee links (rows with transmission = yes).
+    pub links: u64,
     /// Planted: exposure rows whose two IDs are the same person.
     pub self_exposures: u64,
     /// Planted: exposure rows with a blank target ID.
@@ -105,6 +107,8 @@ struct Pair {
     b: u32,
     setting: u8,
     day: u16,
+    /// An infection passed along this pair (from a to b).
+    link: bool,
 }
 
 /// Write `people.csv`, `exposures.csv` and `manifest.json` into `dir`.
@@ -141,6 +145,7 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
                     b: p as u32,
                     setting: 0,
                     day: rng.random_range(0..span as u16),
+                    link: false,
                 });
             }
         }
@@ -166,6 +171,7 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
                             b: q,
                             setting,
                             day: rng.random_range(0..span as u16),
+                            link: false,
                         });
                     }
                 }
@@ -198,6 +204,7 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
                 b: s[1],
                 setting,
                 day: rng.random_range(0..span as u16),
+                link: false,
             });
         }
     }
@@ -212,6 +219,7 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
         onset[p] = rng.random_range(0..7);
     }
     let risk = [0.5, 0.2, 0.2, 0.12, 0.2];
+    let mut links = 0u64;
     for pr in pairs.iter_mut() {
         let (a, b) = (pr.a as usize, pr.b as usize);
         let infectious =
@@ -230,11 +238,16 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
                 // Name the infector as the source of the row.
                 pr.a = src as u32;
                 pr.b = dst as u32;
+                pr.link = true;
+                links += 1;
             }
         }
     }
 
-    let mut m = Manifest::default();
+    let mut m = Manifest {
+        links,
+        ..Manifest::default()
+    };
     let id = |p: usize| format!("P{p:07}");
     // People table.
     let path = dir.join("people.csv");
@@ -300,7 +313,11 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
         1 << 20,
         File::create(&path).map_err(|e| Error::io(&path, e))?,
     );
-    writeln!(w, "source_id,target_id,exposure_date,setting,duration_min").map_err(io)?;
+    writeln!(
+        w,
+        "source_id,target_id,exposure_date,setting,duration_min,transmission"
+    )
+    .map_err(io)?;
     // About 0.2% of rows are dirty (4 per group), at least two groups.
     let groups = (pairs.len() / 1000).max(2);
     let dirty_every = (pairs.len() / groups).max(1);
@@ -320,9 +337,15 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
                 1 | 2 => rng.random_range(15..240),
                 _ => rng.random_range(5..120),
             };
+            // The infection row: the first row of the pair, written infector first.
+            let link = if pr.link && r == 0 && s == pr.a {
+                "yes"
+            } else {
+                "no"
+            };
             writeln!(
                 w,
-                "{},{},{},{},{minutes}",
+                "{},{},{},{},{minutes},{link}",
                 id(s as usize),
                 id(t as usize),
                 dates[day],
@@ -334,13 +357,13 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
         if k % dirty_every == dirty_every / 2 {
             let (a, b) = (id(pr.a as usize), id(pr.b as usize));
             let d = &dates[pr.day as usize];
-            writeln!(w, "{a},{a},{d},community,10").map_err(io)?;
-            writeln!(w, "{a}, ,{d},community,10").map_err(io)?;
-            writeln!(w, "{a},{b},2024-02-30,community,10").map_err(io)?;
-            writeln!(w, "{b},{a},{d},community,-15").map_err(io)?;
+            writeln!(w, "{a},{a},{d},community,10,no").map_err(io)?;
+            writeln!(w, "{a}, ,{d},community,10,no").map_err(io)?;
+            writeln!(w, "{a},{b},2024-02-30,community,10,no").map_err(io)?;
+            writeln!(w, "{b},{a},{d},community,-15,no").map_err(io)?;
             // A contact named by a case but not (yet) registered in the people table.
             let unregistered = id(n + m.implied_people as usize);
-            writeln!(w, "{a},{unregistered},{d},community,20").map_err(io)?;
+            writeln!(w, "{a},{unregistered},{d},community,20,no").map_err(io)?;
             keys.push(u64::MAX - m.implied_people);
             m.self_exposures += 1;
             m.blank_targets += 1;

@@ -126,6 +126,8 @@ pub enum ProblemKind {
     NegativeNumber,
     /// A repeated person row disagrees with the first.
     ConflictingValue,
+    /// A yes/no field holds something else.
+    UnreadableFlag,
 }
 
 impl ProblemKind {
@@ -138,6 +140,7 @@ impl ProblemKind {
             ProblemKind::DateOrder => "first_after_last_exposure",
             ProblemKind::UnreadableNumber => "unreadable_number",
             ProblemKind::NegativeNumber => "negative_number",
+            ProblemKind::UnreadableFlag => "unreadable_flag",
             ProblemKind::ConflictingValue => "conflicting_value",
         }
     }

@@ -532,6 +532,9 @@ pub struct ExposureRows {
     pub quarantined: Vec<QuarantinedRow>,
     /// Columns of the exposures table(s) that map to no field: kept per usable row.
     pub extras: Attributes,
+    /// 1 when the row is a known infector -> infectee link (source infected target), else 0;
+    /// empty when no file maps the `transmission` field.
+    pub links: Vec<u8>,
 }
 
 impl ExposureRows {
@@ -682,6 +685,37 @@ impl ExposureRows {
         }
         ctx.counts.field_problems += fctx.counts.field_problems;
         keep_extra_columns(&mut self.extras, frame, meta, m, &usable, self.keys.len())?;
+        if let Some(c) = m.get("transmission") {
+            let before = self.keys.len() - usable.len();
+            self.links.resize(before, 0);
+            let col = text_column(frame, Some(c), &meta.path)?
+                .into_iter()
+                .flat_map(|s| s.iter());
+            let mut next = usable.iter().peekable();
+            for (row, v) in col.enumerate() {
+                if next.peek().is_none_or(|&&u| u as usize != row) {
+                    continue;
+                }
+                next.next();
+                let flag = match trimmed(v).map(str::to_ascii_lowercase).as_deref() {
+                    None | Some("no" | "n" | "false" | "f" | "0") => 0,
+                    Some("yes" | "y" | "true" | "t" | "1") => 1,
+                    Some(other) => {
+                        let msg = "not yes or no; read as no".to_string();
+                        checker.problem(
+                            ctx,
+                            chunk.lines.line(row),
+                            c,
+                            other,
+                            ProblemKind::UnreadableFlag,
+                            msg,
+                        );
+                        0
+                    }
+                };
+                self.links.push(flag);
+            }
+        }
         if let Some(last) = per_file.last_mut() {
             last.1 += usable.len();
         }
@@ -707,6 +741,7 @@ impl ExposureRows {
             first: pick(&self.first, keep),
             minutes: pick(&self.minutes, keep),
             setting: pick(&self.setting, keep),
+            links: pick(&self.links, keep),
             ..ExposureRows::new()
         }
     }
@@ -725,6 +760,9 @@ impl ExposureRows {
         }
         if !self.setting.is_empty() && self.setting.len() < n {
             self.setting.resize(n, 0);
+        }
+        if !self.links.is_empty() && self.links.len() < n {
+            self.links.resize(n, 0);
         }
     }
 }

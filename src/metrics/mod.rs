@@ -5,6 +5,7 @@
 //! [`Stat`] error carrying the reason, never 0, never NaN, never a panic; comparisons that
 //! decide ties are made in integers.
 
+pub mod casedata;
 pub mod cases;
 pub mod degree;
 pub mod fits;

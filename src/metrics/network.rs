@@ -57,6 +57,8 @@ pub struct NetworkStats {
     pub r_by_setting: Vec<(String, super::Stat)>,
     /// Fits of the degree distribution.
     pub fits: DegreeFits,
+    /// Case statistics (attack rate, offspring, serial interval).
+    pub cases: super::casedata::CaseStats,
 }
 
 /// Fits of the degree distribution and which describes it best.
@@ -147,6 +149,7 @@ pub fn compute(d: &Dataset, opts: &MetricOptions) -> NetworkStats {
         .collect();
     let degree = degree::degree_stats(&deg);
     NetworkStats {
+        cases: super::casedata::case_stats(d),
         fits: fit_degrees(&degree.histogram),
         degree,
         neighbours: neighbours::neighbours(&d.graph, &deg),
@@ -284,6 +287,7 @@ impl NetworkStats {
         mix.insert("setting".into(), Value::Object(by_setting));
         out.insert("mixing".into(), Value::Object(mix));
         out.insert("fits".into(), self.fits_json());
+        out.insert("cases".into(), self.cases.to_json());
         out
     }
 
