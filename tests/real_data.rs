@@ -179,12 +179,18 @@ fn published_statistics_of_the_simple_aggregated_graphs() {
     use hubwatch::metrics::{degree, mixing};
     // sp-highschool-2011/SOURCE.md and sp-highschool-2012/SOURCE.md: the simple aggregated graph
     // has r = 0.083 (1,709 pairs) and r = 0.046 (2,220 pairs); stated to three decimals.
-    for (rel, want) in [("sp-highschool-2011/highschool_2011.csv.gz", 0.083), ("sp-highschool-2012/highschool_2012.csv.gz", 0.046)] {
+    for (rel, want) in [
+        ("sp-highschool-2011/highschool_2011.csv.gz", 0.083),
+        ("sp-highschool-2012/highschool_2012.csv.gz", 0.046),
+    ] {
         let Some(p) = data(rel) else { continue };
         let d = load(&[&p], &["source_id=2", "target_id=3"]);
         let deg = degree::degrees(&d.graph);
         let r = mixing::assortativity(&d.edges.a, &d.edges.b, &deg).unwrap();
-        assert!((r - want).abs() < 0.0005, "{rel}: r = {r}, SOURCE.md says {want}");
+        assert!(
+            (r - want).abs() < 0.0005,
+            "{rel}: r = {r}, SOURCE.md says {want}"
+        );
     }
     // covid19-china-transmission-pairs-2020/SOURCE.md: the largest transmission tree has 24 cases.
     if let Some(p) = data("covid19-china-transmission-pairs-2020/TableS1_1407TransPairs.csv") {

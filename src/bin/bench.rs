@@ -93,11 +93,39 @@ fn one(dir: &Path) -> Result<(), String> {
     let d = ingest::load(&[Input::Path(dir.to_path_buf())], &Config::default(), &opts)
         .map_err(|e| e.to_string())?;
     let total = t.elapsed().as_secs_f64();
+    // Every statistic but the null model, then the null model alone (default settings) where
+    // the export is small enough for it to be asked for.
+    let t = Instant::now();
+    let no_null = hubwatch::metrics::network::MetricOptions {
+        null_replicates: 0,
+        ..Default::default()
+    };
+    let stats = hubwatch::metrics::network::compute(&d, &no_null);
+    let stats_seconds = t.elapsed().as_secs_f64();
+    std::hint::black_box(&stats);
+    let null_seconds = if d.ledger.exposures.read <= 2_000_000 {
+        let deg = hubwatch::graph::degrees(&d.graph);
+        let o = hubwatch::metrics::network::MetricOptions::default();
+        let t = Instant::now();
+        let null = hubwatch::metrics::mixing::null_model(
+            &d.edges.a,
+            &d.edges.b,
+            &deg,
+            o.null_replicates,
+            o.null_swaps_per_edge,
+            o.seed,
+        );
+        std::hint::black_box(&null);
+        t.elapsed().as_secs_f64()
+    } else {
+        f64::NAN
+    };
     let (graph_build, graph_walk, csr_walk) = graph_alternative(&d);
     let (csr_bytes, graph_bytes) = structure_bytes(&d);
     let out = json!({
         "rows": d.ledger.exposures.read, "bytes": size, "people": d.people(), "pairs": d.edges.len(),
         "floor": floor, "total": total, "stages": d.timings,
+        "stats_seconds": stats_seconds, "null_seconds": null_seconds, "peak_after_stats": ingest::peak_mib(),
         "csr_bytes": csr_bytes, "csr_walk": csr_walk,
         "graph_build": graph_build, "graph_walk": graph_walk, "graph_bytes": graph_bytes,
     });
@@ -153,9 +181,11 @@ fn run_child(exe: &Path, dir: &Path, repeat: usize) -> Value {
     best.expect("at least one run")
 }
 
-/// Best of `repeat` reference runs: (seconds, peak MiB).
-fn run_reference(py: &Path, dir: &Path, repeat: usize, pairs: &Value) -> (f64, f64) {
-    let script = Path::new(env!("CARGO_MANIFEST_DIR")).join("bench/reference.py");
+/// Best of `repeat` reference runs of `script` under bench/: (seconds, peak MiB).
+fn run_reference(py: &Path, script: &str, dir: &Path, repeat: usize, pairs: &Value) -> (f64, f64) {
+    let script = Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("bench")
+        .join(script);
     let mut best = (f64::NAN, f64::NAN);
     for _ in 0..repeat {
         let o = Command::new(py)
@@ -220,6 +250,7 @@ fn main() {
     println!("| rows | MB | read bytes (floor) | parse | check+intern | merge pairs | graph | total | rows/s | peak MiB | reference (Python polars) | ref. peak MiB | reference / hubwatch |");
     println!("|---|---|---|---|---|---|---|---|---|---|---|---|---|");
     let mut graph_rows = Vec::new();
+    let mut stats_rows: Vec<String> = Vec::new();
     for rows in sizes {
         let dir = base.join(format!("synth-{rows}"));
         if !dir.join("exposures.csv").exists() {
@@ -241,8 +272,27 @@ fn main() {
         }
         let v = run_child(&exe, &dir, repeat);
         let (ref_s, ref_peak) = py.as_ref().map_or((f64::NAN, f64::NAN), |py| {
-            run_reference(py, &dir, repeat, &v["pairs"])
+            run_reference(py, "reference.py", &dir, repeat, &v["pairs"])
         });
+        let (ref2_s, ref2_peak) = py.as_ref().map_or((f64::NAN, f64::NAN), |py| {
+            run_reference(py, "reference_stats.py", &dir, repeat, &v["pairs"])
+        });
+        let whole = v["total"].as_f64().unwrap_or(f64::NAN)
+            + v["stats_seconds"].as_f64().unwrap_or(f64::NAN);
+        stats_rows.push(format!(
+            "| {} | {:.3} s | {:.3} s | {:.3} s | {:.0} | {:.3} s | {:.0} | {:.2}x | {} |",
+            v["rows"],
+            v["total"].as_f64().unwrap_or(f64::NAN),
+            v["stats_seconds"].as_f64().unwrap_or(f64::NAN),
+            whole,
+            v["peak_after_stats"].as_f64().unwrap_or(f64::NAN),
+            ref2_s,
+            ref2_peak,
+            ref2_s / whole,
+            v["null_seconds"]
+                .as_f64()
+                .map_or("not run".to_string(), |x| format!("{x:.2} s")),
+        ));
         let f = |k: &str| v[k].as_f64().unwrap_or(f64::NAN);
         let s = |k: &str| v["stages"][k].as_f64().unwrap_or(f64::NAN);
         let p = |i: usize| v["stages"]["peak_mib"][i].as_f64().unwrap_or(f64::NAN);
@@ -262,6 +312,12 @@ fn main() {
             f("graph_walk"),
             f("graph_bytes") / 1048576.0
         ));
+    }
+    println!("\nLoad plus every statistic but the null model, against bench/reference_stats.py (Python polars: load, degree histogram, contacts' mean degree, r, components)\n");
+    println!("| rows | load | statistics | whole | peak MiB | reference | ref. peak MiB | reference / hubwatch | null model (5 x 10 swaps per pair) |");
+    println!("|---|---|---|---|---|---|---|---|---|");
+    for r in stats_rows {
+        println!("{r}");
     }
     println!("\nAdjacency: petgraph Csr (used) vs petgraph Graph from the same pairs; walk = every person's contacts' degrees\n");
     println!(

@@ -104,52 +104,37 @@ pub fn null_model(
     seed: u64,
 ) -> NullModel {
     let m = a.len();
-    let mut rs = Vec::new();
-    let (mut tried, mut done) = (0u64, 0u64);
+    let mut results: Vec<(Option<f64>, u64, u64)> = Vec::new();
     if m >= 2 && replicates > 0 {
-        let mut rng = ChaCha8Rng::seed_from_u64(seed);
-        for _ in 0..replicates {
-            let mut ea = a.to_vec();
-            let mut eb = b.to_vec();
-            let key = |x: u32, y: u32| {
-                if x < y {
-                    u64::from(x) << 32 | u64::from(y)
-                } else {
-                    u64::from(y) << 32 | u64::from(x)
-                }
-            };
-            let mut present: hashbrown::HashSet<u64> =
-                ea.iter().zip(&eb).map(|(&x, &y)| key(x, y)).collect();
-            for _ in 0..m * swaps_per_edge {
-                tried += 1;
-                let i = rng.random_range(0..m);
-                let j = rng.random_range(0..m);
-                if i == j {
-                    continue;
-                }
-                let (u, v) = (ea[i], eb[i]);
-                let (x, y) = if rng.random_bool(0.5) {
-                    (ea[j], eb[j])
-                } else {
-                    (eb[j], ea[j])
-                };
-                if u == y || x == v || present.contains(&key(u, y)) || present.contains(&key(x, v))
-                {
-                    continue;
-                }
-                present.remove(&key(u, v));
-                present.remove(&key(x, y));
-                present.insert(key(u, y));
-                present.insert(key(x, v));
-                (ea[i], eb[i]) = (u, y);
-                (ea[j], eb[j]) = (x, v);
-                done += 1;
+        // Replicates are independent, each with its own random stream derived from the seed, so
+        // they run on all cores and the result does not depend on how many there are.
+        let threads = std::thread::available_parallelism()
+            .map_or(1, |n| n.get())
+            .min(replicates);
+        let mut slots: Vec<Option<(Option<f64>, u64, u64)>> = vec![None; replicates];
+        std::thread::scope(|sc| {
+            for (t, chunk) in slots.chunks_mut(replicates.div_ceil(threads)).enumerate() {
+                let first = t * replicates.div_ceil(threads);
+                sc.spawn(move || {
+                    for (i, slot) in chunk.iter_mut().enumerate() {
+                        *slot = Some(randomise(
+                            a,
+                            b,
+                            deg,
+                            swaps_per_edge,
+                            seed,
+                            (first + i) as u64,
+                        ));
+                    }
+                });
             }
-            if let Ok(r) = assortativity(&ea, &eb, deg) {
-                rs.push(r);
-            }
-        }
+        });
+        results = slots.into_iter().flatten().collect();
     }
+    let rs: Vec<f64> = results.iter().filter_map(|r| r.0).collect();
+    let (tried, done) = results
+        .iter()
+        .fold((0u64, 0u64), |(t, d), r| (t + r.1, d + r.2));
     let n = rs.len() as f64;
     let mean: Stat = if rs.is_empty() {
         Err("no replicate with a defined r")
@@ -174,6 +159,57 @@ pub fn null_model(
             0.0
         },
     }
+}
+
+/// One randomisation: (r, swaps tried, swaps done).
+fn randomise(
+    a: &[u32],
+    b: &[u32],
+    deg: &[u32],
+    swaps_per_edge: usize,
+    seed: u64,
+    replicate: u64,
+) -> (Option<f64>, u64, u64) {
+    let m = a.len();
+    let mut rng = ChaCha8Rng::seed_from_u64(seed);
+    rng.set_stream(replicate);
+    let mut ea = a.to_vec();
+    let mut eb = b.to_vec();
+    let key = |x: u32, y: u32| {
+        if x < y {
+            u64::from(x) << 32 | u64::from(y)
+        } else {
+            u64::from(y) << 32 | u64::from(x)
+        }
+    };
+    let mut present: hashbrown::HashSet<u64> =
+        ea.iter().zip(&eb).map(|(&x, &y)| key(x, y)).collect();
+    let (mut tried, mut done) = (0u64, 0u64);
+    for _ in 0..m * swaps_per_edge {
+        tried += 1;
+        let i = rng.random_range(0..m);
+        let j = rng.random_range(0..m);
+        if i == j {
+            continue;
+        }
+        let (u, v) = (ea[i], eb[i]);
+        let (x, y) = if rng.random_bool(0.5) {
+            (ea[j], eb[j])
+        } else {
+            (eb[j], ea[j])
+        };
+        if u == y || x == v || present.contains(&key(u, y)) || present.contains(&key(x, v)) {
+            continue;
+        }
+        present.remove(&key(u, v));
+        present.remove(&key(x, y));
+        present.insert(key(u, y));
+        present.insert(key(x, v));
+        (ea[i], eb[i]) = (u, y);
+        (ea[j], eb[j]) = (x, v);
+        done += 1;
+    }
+    (assortativity(&ea, &eb, deg).ok(), tried, done)
 }
 
 /// Mixing by a categorical attribute of people.
