@@ -283,7 +283,14 @@ pub fn run(cli: Cli) -> Result<()> {
                 let mut v = serde_json::to_value(&s)
                     .map_err(|e| Error::Usage(format!("JSON output failed: {e}")))?;
                 if let serde_json::Value::Object(o) = &mut v {
-                    o.extend(net.to_json(&d));
+                    let mut extra = net.to_json(&d);
+                    // Component sizes sit under the summary's own `components` object.
+                    if let (Some(sizes), Some(serde_json::Value::Object(c))) =
+                        (extra.remove("components_sizes"), o.get_mut("components"))
+                    {
+                        c.insert("sizes".into(), sizes);
+                    }
+                    o.extend(extra);
                 }
                 emit(&to_json(&v)?)
             } else {

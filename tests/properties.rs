@@ -63,6 +63,20 @@ proptest! {
         // Same pairs, same multiplicities, same ledger after shuffling and re-spacing IDs.
         prop_assert_eq!(edge_set(&da), edge_set(&db));
         prop_assert_eq!(c, db.ledger.exposures);
+        // The statistics do not depend on row order or ID spacing either.
+        let (sa, sb) = (
+            hubwatch::metrics::network::compute(&da, &hubwatch::metrics::network::MetricOptions { null_replicates: 0, ..Default::default() }),
+            hubwatch::metrics::network::compute(&db, &hubwatch::metrics::network::MetricOptions { null_replicates: 0, ..Default::default() }),
+        );
+        prop_assert_eq!(&sa.degree, &sb.degree);
+        prop_assert_eq!(sa.r, sb.r);
+        prop_assert_eq!(sa.clustering.transitivity, sb.clustering.transitivity);
+        prop_assert_eq!(sa.bridges.len(), sb.bridges.len());
+        let mut ca = sa.cores.clone();
+        let mut cb = sb.cores.clone();
+        ca.sort_unstable();
+        cb.sort_unstable();
+        prop_assert_eq!(ca, cb);
         // Degrees sum to twice the pairs.
         let total: usize = (0..da.people() as u32).map(|n| da.graph.out_degree(n)).sum();
         prop_assert_eq!(total, 2 * da.edges.len());

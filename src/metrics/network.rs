@@ -98,6 +98,9 @@ fn fit_degrees(histogram: &[u64]) -> DegreeFits {
     }
 }
 
+/// How many people `degree.top` lists.
+pub const TOP: usize = 20;
+
 /// People attributes whose mixing is reported.
 const MIXING_ATTRIBUTES: [&str; 2] = ["area", "age_group"];
 
@@ -110,20 +113,27 @@ pub fn compute(d: &Dataset, opts: &MetricOptions) -> NetworkStats {
         .filter_map(|name| {
             let col = d.attrs.column(name)?;
             let values = &d.attrs.values[col];
-            let mut labels: Vec<String> = values.iter().flatten().map(|v| v.to_string()).collect();
+            // Distinct values through a small map (a handful of groups, millions of people).
+            let mut index: hashbrown::HashMap<&str, usize> = hashbrown::HashMap::new();
+            let mut raw_group: Vec<Option<usize>> = Vec::with_capacity(d.people());
+            for i in 0..d.people() {
+                raw_group.push(values.get(i).and_then(|v| v.as_deref()).map(|v| {
+                    let next = index.len();
+                    *index.entry(v).or_insert(next)
+                }));
+            }
+            // Relabel so that groups are in sorted order.
+            let mut labels: Vec<(&str, usize)> = index.into_iter().collect();
             labels.sort_unstable();
-            labels.dedup();
-            let group: Vec<Option<usize>> = (0..d.people())
-                .map(|i| {
-                    values
-                        .get(i)
-                        .and_then(|v| v.as_deref())
-                        .and_then(|v| labels.binary_search_by(|l| l.as_str().cmp(v)).ok())
-                })
-                .collect();
+            let mut rank = vec![0usize; labels.len()];
+            for (r, (_, old)) in labels.iter().enumerate() {
+                rank[*old] = r;
+            }
+            let group: Vec<Option<usize>> = raw_group.iter().map(|g| g.map(|g| rank[g])).collect();
+            let names = labels.into_iter().map(|(l, _)| l.to_string()).collect();
             Some((
                 name.to_string(),
-                mixing::attribute_mixing(a, b, &group, labels),
+                mixing::attribute_mixing(a, b, &group, names),
             ))
         })
         .collect();
@@ -187,6 +197,23 @@ impl NetworkStats {
         put(&mut deg, "mean_sq", s.mean_sq);
         put(&mut deg, "variance", s.variance);
         deg.insert("max".into(), json!(s.max));
+        // The people with the most contacts (ties by ID, so the list is stable).
+        let mut order: Vec<u32> = (0..self.degrees.len() as u32).collect();
+        order.sort_unstable_by(|&x, &y| {
+            self.degrees[y as usize]
+                .cmp(&self.degrees[x as usize])
+                .then_with(|| d.ids.name(x).cmp(d.ids.name(y)))
+        });
+        deg.insert(
+            "top".into(),
+            Value::Array(
+                order
+                    .iter()
+                    .take(TOP)
+                    .map(|&v| json!([d.ids.name(v), self.degrees[v as usize]]))
+                    .collect(),
+            ),
+        );
         deg.insert(
             "histogram".into(),
             pairs_list(
@@ -250,9 +277,21 @@ impl NetworkStats {
             pairs_list(nb.knn.iter().map(|&(k, v)| (u64::from(k), v))),
         );
 
+        let mut size_hist: std::collections::BTreeMap<u32, u64> = std::collections::BTreeMap::new();
+        for &sz in &self.components.1 {
+            *size_hist.entry(sz).or_insert(0) += 1;
+        }
+        out.insert(
+            "components_sizes".into(),
+            pairs_list(size_hist.iter().rev().map(|(&k, &c)| (u64::from(k), c))),
+        );
         let mut cl = Map::new();
         put(&mut cl, "transitivity", self.clustering.transitivity);
         put(&mut cl, "mean_local", self.clustering.mean_local);
+        cl.insert(
+            "note".into(),
+            "household cliques raise clustering; the configuration-model indicators assume a tree-like network".into(),
+        );
         out.insert("clustering".into(), Value::Object(cl));
 
         let max_core = self.cores.iter().copied().max().unwrap_or(0);
