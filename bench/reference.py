@@ -1,8 +1,9 @@
 """Reference pipeline written with the Python polars package, timed by hubwatch-bench.
 
-Reads both tables (every column, as text), drops malformed rows (blank IDs) and self-loops, merges pairs given in
-either order, and computes the degree of every person. Prints one JSON line:
-{"seconds": wall time, "peak_mib": peak resident memory, "pairs": distinct pairs, "people": n}.
+Reads both tables (every column, as text), drops malformed rows (blank IDs) and self-loops,
+merges pairs given in either order, and computes the degree of every person. Prints one JSON
+line: {"seconds": wall time, "peak_mib": peak resident memory, "pairs": distinct pairs,
+"people": n}. `load_pairs` is shared with reference_stats.py.
 """
 import json
 import resource
@@ -11,30 +12,39 @@ import time
 
 import polars as pl
 
-t0 = time.perf_counter()
-people_path, exposures_path = sys.argv[1], sys.argv[2]
-# Both tables are read whole, every column as text (as hubwatch reads them).
-people = pl.read_csv(people_path, infer_schema_length=0)
-ex = pl.read_csv(exposures_path, infer_schema_length=0, truncate_ragged_lines=True)
-ex = ex.with_columns(pl.col("source_id").str.strip_chars(), pl.col("target_id").str.strip_chars())
-ex = ex.filter(
-    pl.col("source_id").is_not_null()
-    & pl.col("target_id").is_not_null()
-    & (pl.col("source_id") != "")
-    & (pl.col("target_id") != "")
-    & (pl.col("source_id") != pl.col("target_id"))
-)
-pairs = ex.select(
-    pl.min_horizontal("source_id", "target_id").alias("a"),
-    pl.max_horizontal("source_id", "target_id").alias("b"),
-).unique()
-ends = pl.concat([pairs.select(pl.col("a").alias("id")), pairs.select(pl.col("b").alias("id"))])
-degree = ends.group_by("id").len()
-ids = pl.concat(
-    [people.select(pl.col("person_id").str.strip_chars().alias("id")).drop_nulls(), ends]
-).unique()
-n_people = ids.height
-_ = degree.height
-seconds = time.perf_counter() - t0
-peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
-print(json.dumps({"seconds": seconds, "peak_mib": peak, "pairs": pairs.height, "people": n_people}))
+
+def load_pairs(people_path, exposures_path):
+    """Both tables read whole; returns (people, distinct unordered pairs a < b)."""
+    people = pl.read_csv(people_path, infer_schema_length=0)
+    ex = pl.read_csv(exposures_path, infer_schema_length=0, truncate_ragged_lines=True)
+    ex = ex.with_columns(pl.col("source_id").str.strip_chars(), pl.col("target_id").str.strip_chars())
+    ex = ex.filter(
+        pl.col("source_id").is_not_null()
+        & pl.col("target_id").is_not_null()
+        & (pl.col("source_id") != "")
+        & (pl.col("target_id") != "")
+        & (pl.col("source_id") != pl.col("target_id"))
+    )
+    pairs = ex.select(
+        pl.min_horizontal("source_id", "target_id").alias("a"),
+        pl.max_horizontal("source_id", "target_id").alias("b"),
+    ).unique()
+    return people, pairs
+
+
+def main():
+    t0 = time.perf_counter()
+    people, pairs = load_pairs(sys.argv[1], sys.argv[2])
+    ends = pl.concat([pairs.select(pl.col("a").alias("id")), pairs.select(pl.col("b").alias("id"))])
+    degree = ends.group_by("id").len()
+    ids = pl.concat(
+        [people.select(pl.col("person_id").str.strip_chars().alias("id")).drop_nulls().filter(pl.col("id") != ""), ends]
+    ).unique()
+    _ = degree.height
+    seconds = time.perf_counter() - t0
+    peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+    print(json.dumps({"seconds": seconds, "peak_mib": peak, "pairs": pairs.height, "people": ids.height}))
+
+
+if __name__ == "__main__":
+    main()

@@ -1,5 +1,5 @@
 """Reference pipeline with statistics, written with the Python polars package, timed by
-hubwatch-bench: everything bench/reference.py does, then the degree histogram, the mean over
+hubwatch-bench: everything bench/reference.py does (its `load_pairs`), then the degree histogram, the mean over
 people of their contacts' mean degree, degree assortativity r (Pearson over edge ends) and
 connected components (label propagation by repeated joins until nothing changes).
 Prints one JSON line: {"seconds", "peak_mib", "pairs", "people", "r", "components"}.
@@ -11,20 +11,10 @@ import time
 
 import polars as pl
 
+from reference import load_pairs
+
 t0 = time.perf_counter()
-people_path, exposures_path = sys.argv[1], sys.argv[2]
-people = pl.read_csv(people_path, infer_schema_length=0)
-ex = pl.read_csv(exposures_path, infer_schema_length=0, truncate_ragged_lines=True)
-ex = ex.with_columns(pl.col("source_id").str.strip_chars(), pl.col("target_id").str.strip_chars())
-ex = ex.filter(
-    pl.col("source_id").is_not_null() & pl.col("target_id").is_not_null()
-    & (pl.col("source_id") != "") & (pl.col("target_id") != "")
-    & (pl.col("source_id") != pl.col("target_id"))
-)
-pairs = ex.select(
-    pl.min_horizontal("source_id", "target_id").alias("a"),
-    pl.max_horizontal("source_id", "target_id").alias("b"),
-).unique()
+people, pairs = load_pairs(sys.argv[1], sys.argv[2])
 ids = pl.concat([
     people.select(pl.col("person_id").str.strip_chars().alias("id")).drop_nulls().filter(pl.col("id") != ""),
     pairs.select(pl.col("a").alias("id")),
