@@ -35,6 +35,8 @@ pub struct Cli {
 }
 
 /// The commands.
+// Parsed once per run, so the size of the largest variant does not matter.
+#[allow(clippy::large_enum_variant)]
 #[derive(Debug, Subcommand)]
 pub enum Command {
     /// Account for every input row: used, merged or quarantined, and every field problem.
@@ -58,6 +60,54 @@ pub enum Command {
         #[command(flatten)]
         stats: StatsArgs,
         /// Print one JSON object (keys documented in the README).
+        #[arg(long)]
+        json: bool,
+    },
+    /// The ranked follow-up list: who to reach first, and why.
+    Priority {
+        /// Loading options and paths.
+        #[command(flatten)]
+        load: LoadArgs,
+        /// Ranking preset (see config/priority.toml: balanced, "spread first", "window first").
+        #[arg(long, value_name = "NAME")]
+        preset: Option<String>,
+        /// Monitoring-window preset (covid-19, ebola, mpox, measles, or one of your own).
+        #[arg(long, value_name = "NAME")]
+        pathogen: Option<String>,
+        /// Monitoring window in days, overriding the pathogen preset.
+        #[arg(long, value_name = "DAYS")]
+        window_days: Option<u32>,
+        /// Priority settings file laid over config/priority.toml.
+        #[arg(long, value_name = "FILE")]
+        priority_config: Option<PathBuf>,
+        /// How many people to show (0 = all).
+        #[arg(long, default_value_t = 30, value_name = "N")]
+        top: usize,
+        /// Only people with this role (case / contact).
+        #[arg(long, value_name = "ROLE")]
+        role: Option<String>,
+        /// Only people with this status.
+        #[arg(long, value_name = "STATUS")]
+        status: Option<String>,
+        /// Only people in this area.
+        #[arg(long, value_name = "AREA")]
+        area: Option<String>,
+        /// Only people in this age group.
+        #[arg(long, value_name = "GROUP")]
+        age_group: Option<String>,
+        /// Only people with an exposure in this setting.
+        #[arg(long, value_name = "LABEL")]
+        in_setting: Option<String>,
+        /// Only people still inside their monitoring window.
+        #[arg(long)]
+        still_in_window: bool,
+        /// Only people whose follow-up status is not reached or completed.
+        #[arg(long)]
+        not_reached: bool,
+        /// Only people in the same cluster as this person.
+        #[arg(long, value_name = "ID")]
+        cluster_of: Option<String>,
+        /// Print one JSON object instead of text.
         #[arg(long)]
         json: bool,
     },
@@ -311,6 +361,76 @@ pub fn run(cli: Cli) -> Result<()> {
                 to_json(&r)?
             } else {
                 report::check_text(&r, &dates::iso(d.as_of))
+            })
+        }
+        Some(Command::Priority {
+            load,
+            preset,
+            pathogen,
+            window_days,
+            priority_config,
+            top,
+            role,
+            status,
+            area,
+            age_group,
+            in_setting,
+            still_in_window,
+            not_reached,
+            cluster_of,
+            json,
+        }) => {
+            let config = crate::priority::PriorityConfig::load(priority_config.as_deref())?;
+            let preset_name = preset.unwrap_or_else(|| config.preset.clone());
+            let p = config.preset(&preset_name)?.clone();
+            let pathogen_name = pathogen.unwrap_or_else(|| config.pathogen.clone());
+            let pathogen = config.pathogen(&pathogen_name)?.clone();
+            let days = window_days.unwrap_or(pathogen.days);
+            let d = load.load()?;
+            let stats = crate::metrics::network::compute(
+                &d,
+                &crate::metrics::network::MetricOptions {
+                    null_replicates: 0,
+                    ..Default::default()
+                },
+            );
+            let equals = [
+                ("role", role),
+                ("status", status),
+                ("area", area),
+                ("age_group", age_group),
+            ]
+            .into_iter()
+            .filter_map(|(f, v)| v.map(|v| (f.to_string(), v)))
+            .collect();
+            let filters = crate::priority::Filters {
+                equals,
+                setting: in_setting,
+                still_in_window,
+                not_reached,
+                cluster_of,
+            };
+            let ranked = crate::priority::rank(&d, &stats, &config, &p, days, &filters)?;
+            let window = report::WindowInfo {
+                pathogen: &pathogen_name,
+                days,
+                source: if window_days.is_some() {
+                    "set with --window-days"
+                } else {
+                    &pathogen.source
+                },
+            };
+            emit(&if json {
+                to_json(&report::priority_json(
+                    &d,
+                    &ranked,
+                    top,
+                    &preset_name,
+                    &p,
+                    &window,
+                ))?
+            } else {
+                report::priority_text(&d, &ranked, top, &preset_name, &window)
             })
         }
         Some(Command::Synth {

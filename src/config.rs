@@ -137,7 +137,7 @@ impl Config {
 }
 
 /// Lay `user` over `base`: tables merge key by key, any other value replaces.
-fn overlay(base: &mut toml::Table, user: toml::Table) {
+pub(crate) fn overlay(base: &mut toml::Table, user: toml::Table) {
     for (key, value) in user {
         match (base.get_mut(&key), value) {
             (Some(toml::Value::Table(b)), toml::Value::Table(u)) => overlay(b, u),

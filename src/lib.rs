@@ -16,6 +16,7 @@ pub mod graph;
 pub mod ids;
 pub mod ingest;
 pub mod metrics;
+pub mod priority;
 pub mod report;
 pub mod sample;
 pub mod sort;

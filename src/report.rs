@@ -445,3 +445,126 @@ pub fn write_private(path: &Path, bytes: &[u8]) -> Result<()> {
         Error::io(path, e)
     })
 }
+
+/// The monitoring window in force, for reports.
+pub struct WindowInfo<'a> {
+    /// Pathogen preset name.
+    pub pathogen: &'a str,
+    /// Window length in days.
+    pub days: u32,
+    /// Where the figure comes from.
+    pub source: &'a str,
+}
+
+/// The ranked list as text: rank, ID, score, contacts, window end, flags, the main reasons.
+pub fn priority_text(
+    d: &Dataset,
+    ranked: &[crate::priority::Ranked],
+    top: usize,
+    preset: &str,
+    w: &WindowInfo,
+) -> String {
+    let mut s = String::new();
+    let _ = writeln!(
+        s,
+        "hubwatch priority (as of {}; preset \"{preset}\"; monitoring window {} days for {}: {})",
+        crate::ingest::dates::iso(d.as_of),
+        w.days,
+        w.pathogen,
+        w.source
+    );
+    let overdue = ranked.iter().filter(|r| r.overdue).count();
+    let _ = writeln!(
+        s,
+        "{} people on the list; {} overdue (window over, follow-up not completed)\n",
+        ranked.len(),
+        overdue
+    );
+    let _ = writeln!(
+        s,
+        "{:>4}  {:<12} {:>6} {:>8}  {:<22} {:<24} main reasons",
+        "rank", "person", "score", "contacts", "window ends (days left)", "flags"
+    );
+    let shown = if top == 0 {
+        ranked.len()
+    } else {
+        top.min(ranked.len())
+    };
+    for (i, r) in ranked.iter().take(shown).enumerate() {
+        let window = match (r.window_end, r.days_left) {
+            (Some(e), Some(left)) => format!("{} ({left})", crate::ingest::dates::iso(e)),
+            _ => "no dated exposure".to_string(),
+        };
+        let mut flags = Vec::new();
+        if r.high_degree {
+            flags.push("high-degree");
+        }
+        if r.bridge {
+            flags.push("bridge");
+        }
+        if r.overdue {
+            flags.push("OVERDUE");
+        }
+        let mut parts: Vec<&crate::priority::Part> =
+            r.parts.iter().filter(|p| p.contribution > 0.0).collect();
+        parts.sort_by(|a, b| b.contribution.total_cmp(&a.contribution));
+        let reasons: Vec<String> = parts
+            .iter()
+            .take(3)
+            .map(|p| format!("{} +{:.2}", p.name, p.contribution))
+            .collect();
+        let _ = writeln!(
+            s,
+            "{:>4}  {:<12} {:>6.2} {:>8}  {:<22} {:<24} {}",
+            i + 1,
+            d.ids.name(r.node),
+            r.score,
+            r.degree,
+            window,
+            flags.join(", "),
+            reasons.join(", ")
+        );
+    }
+    let _ = writeln!(s, "\n{}", crate::CAUTION);
+    s
+}
+
+/// The ranked list as JSON, with every component of every score.
+pub fn priority_json(
+    d: &Dataset,
+    ranked: &[crate::priority::Ranked],
+    top: usize,
+    preset: &str,
+    p: &crate::priority::Preset,
+    w: &WindowInfo,
+) -> serde_json::Value {
+    let shown = if top == 0 {
+        ranked.len()
+    } else {
+        top.min(ranked.len())
+    };
+    let iso = |x: Option<i32>| x.map(crate::ingest::dates::iso);
+    serde_json::json!({
+        "as_of": crate::ingest::dates::iso(d.as_of),
+        "caution": crate::CAUTION,
+        "preset": preset,
+        "weights": p.weights,
+        "caps": p.caps,
+        "window": {"pathogen": w.pathogen, "days": w.days, "source": w.source},
+        "people": ranked.len(),
+        "overdue": ranked.iter().filter(|r| r.overdue).count(),
+        "list": ranked.iter().take(shown).enumerate().map(|(i, r)| serde_json::json!({
+            "rank": i + 1,
+            "id": d.ids.name(r.node),
+            "score": r.score,
+            "degree": r.degree,
+            "last_exposure": iso(r.last_exposure),
+            "window_end": iso(r.window_end),
+            "days_left": r.days_left,
+            "overdue": r.overdue,
+            "high_degree": r.high_degree,
+            "bridge": r.bridge,
+            "parts": r.parts,
+        })).collect::<Vec<_>>(),
+    })
+}

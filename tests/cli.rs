@@ -173,3 +173,39 @@ fn last_days_counts_back_from_the_as_of_date() {
     let (code, _, err) = hubwatch(&["summary", "--last-days", "3", "--from", "2024-01-01"]);
     assert_eq!(code, 2, "{err}");
 }
+
+#[test]
+fn priority_list_as_json_carries_the_caution_and_the_settings() {
+    let (code, out, err) = hubwatch(&[
+        "priority",
+        "--json",
+        "--as-of",
+        "2026-11-28",
+        "--top",
+        "5",
+        "--preset",
+        "window first",
+        "--pathogen",
+        "ebola",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_eq!(v["list"].as_array().unwrap().len(), 5);
+    assert_eq!(v["window"]["days"], 21);
+    assert_eq!(v["preset"], "window first");
+    assert!(v["caution"]
+        .as_str()
+        .unwrap()
+        .contains("judgement of public-health staff"));
+    let first = &v["list"][0];
+    let sum: f64 = first["parts"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|p| p["contribution"].as_f64().unwrap())
+        .sum();
+    assert!((sum - first["score"].as_f64().unwrap()).abs() < 1e-9);
+    let (code, _, err) = hubwatch(&["priority", "--preset", "fastest"]);
+    assert_eq!(code, 2);
+    assert!(err.contains("no preset \"fastest\""), "{err}");
+}
