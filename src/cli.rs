@@ -111,6 +111,81 @@ pub enum Command {
         #[arg(long)]
         json: bool,
     },
+    /// Set a person's follow-up state (to call, reached, unreachable, completed).
+    Followup {
+        /// Loading options and paths (the person must be in the export).
+        #[command(flatten)]
+        load: LoadArgs,
+        /// Person ID.
+        #[arg(long, value_name = "ID")]
+        person: String,
+        /// The new state.
+        #[arg(long, value_name = "STATE")]
+        set: String,
+        /// Workspace file (default: hubwatch-workspace.sqlite beside the export).
+        #[arg(long, value_name = "FILE")]
+        workspace: Option<PathBuf>,
+    },
+    /// Add or remove a manual flag on a person.
+    Flag {
+        /// Loading options and paths (the person must be in the export).
+        #[command(flatten)]
+        load: LoadArgs,
+        /// Person ID.
+        #[arg(long, value_name = "ID")]
+        person: String,
+        /// Flag to add.
+        #[arg(
+            long,
+            value_name = "FLAG",
+            required_unless_present = "remove",
+            conflicts_with = "remove"
+        )]
+        add: Option<String>,
+        /// Flag to remove.
+        #[arg(long, value_name = "FLAG")]
+        remove: Option<String>,
+        /// Workspace file (default: hubwatch-workspace.sqlite beside the export).
+        #[arg(long, value_name = "FILE")]
+        workspace: Option<PathBuf>,
+    },
+    /// Set or clear a person's note.
+    Note {
+        /// Loading options and paths (the person must be in the export).
+        #[command(flatten)]
+        load: LoadArgs,
+        /// Person ID.
+        #[arg(long, value_name = "ID")]
+        person: String,
+        /// The note (leave out to clear it).
+        #[arg(long, value_name = "TEXT")]
+        text: Option<String>,
+        /// Workspace file (default: hubwatch-workspace.sqlite beside the export).
+        #[arg(long, value_name = "FILE")]
+        workspace: Option<PathBuf>,
+    },
+    /// Show the workspace: every person's state, people no longer in the export, the audit.
+    Workspace {
+        /// Loading options and paths.
+        #[command(flatten)]
+        load: LoadArgs,
+        /// Workspace file (default: hubwatch-workspace.sqlite beside the export).
+        #[arg(long, value_name = "FILE")]
+        workspace: Option<PathBuf>,
+        /// Print one JSON object instead of text.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Write changes in a loop, printing each after it is committed (for the crash test).
+    #[command(hide = true)]
+    WorkspaceStress {
+        /// Workspace file.
+        #[arg(long)]
+        workspace: PathBuf,
+        /// Number of changes.
+        #[arg(long)]
+        count: usize,
+    },
     /// Write an invented outbreak export (people.csv, exposures.csv, manifest.json).
     Synth {
         /// Number of people.
@@ -302,6 +377,26 @@ impl LoadArgs {
     }
 }
 
+/// Load the export, check the person is in it, and open the workspace.
+fn open_for_person(
+    load: &LoadArgs,
+    workspace: &Option<PathBuf>,
+    person: &str,
+) -> Result<(crate::workspace::Workspace, String)> {
+    let d = load.load()?;
+    let node = d
+        .ids
+        .get(person.trim())
+        .ok_or_else(|| Error::Usage(format!("no person \"{}\" in this export", person.trim())))?;
+    let path = workspace.clone().unwrap_or_else(|| {
+        crate::workspace::Workspace::default_path(load.paths.first().map(|p| p.as_path()))
+    });
+    Ok((
+        crate::workspace::Workspace::open(&path)?,
+        d.ids.name(node).to_string(),
+    ))
+}
+
 /// Write to stdout; a closed pipe (`hubwatch … | head`) ends quietly.
 fn emit(text: &str) -> Result<()> {
     let mut out = std::io::stdout().lock();
@@ -432,6 +527,112 @@ pub fn run(cli: Cli) -> Result<()> {
             } else {
                 report::priority_text(&d, &ranked, top, &preset_name, &window)
             })
+        }
+        Some(Command::Followup {
+            load,
+            person,
+            set,
+            workspace,
+        }) => {
+            let (mut ws, person) = open_for_person(&load, &workspace, &person)?;
+            let id = ws.set_followup(&person, &set)?;
+            emit(&format!(
+                "change {id}: {person} follow-up set to \"{}\" in {}\n",
+                set.trim().to_lowercase(),
+                ws.path.display()
+            ))
+        }
+        Some(Command::Flag {
+            load,
+            person,
+            add,
+            remove,
+            workspace,
+        }) => {
+            let (mut ws, person) = open_for_person(&load, &workspace, &person)?;
+            let (id, what) = match (add, remove) {
+                (Some(f), _) => (ws.add_flag(&person, &f)?, format!("flag \"{f}\" added")),
+                (None, Some(f)) => (
+                    ws.remove_flag(&person, &f)?,
+                    format!("flag \"{f}\" removed"),
+                ),
+                (None, None) => {
+                    return Err(Error::Usage("give --add FLAG or --remove FLAG".into()))
+                }
+            };
+            emit(&format!(
+                "change {id}: {person} {what} in {}\n",
+                ws.path.display()
+            ))
+        }
+        Some(Command::Note {
+            load,
+            person,
+            text,
+            workspace,
+        }) => {
+            let (mut ws, person) = open_for_person(&load, &workspace, &person)?;
+            let id = ws.set_note(&person, text.as_deref())?;
+            emit(&format!(
+                "change {id}: {person} note {} in {}\n",
+                if text.is_some() { "set" } else { "cleared" },
+                ws.path.display()
+            ))
+        }
+        Some(Command::Workspace {
+            load,
+            workspace,
+            json,
+        }) => {
+            let d = load.load()?;
+            let path = workspace.unwrap_or_else(|| {
+                crate::workspace::Workspace::default_path(load.paths.first().map(|p| p.as_path()))
+            });
+            let ws = crate::workspace::Workspace::open(&path)?;
+            let states = ws.all()?;
+            let vanished = ws.vanished(&d.ids)?;
+            let audit = ws.audit(None)?;
+            if json {
+                emit(&to_json(
+                    &serde_json::json!({"workspace": path, "people": states, "vanished": vanished, "changes": audit.len()}),
+                )?)
+            } else {
+                let mut s = format!(
+                    "workspace {} ({} people with a state, {} changes audited)\n",
+                    path.display(),
+                    states.len(),
+                    audit.len()
+                );
+                for st in &states {
+                    s.push_str(&format!(
+                        "  {:<14} {:<12} flags: {:<24} note: {}\n",
+                        st.person_id,
+                        st.followup.as_deref().unwrap_or("-"),
+                        st.flags.join(", "),
+                        st.note.as_deref().unwrap_or("")
+                    ));
+                }
+                if !vanished.is_empty() {
+                    s.push_str(&format!(
+                        "no longer in this export (kept, not deleted): {}\n",
+                        vanished.join(", ")
+                    ));
+                }
+                emit(&s)
+            }
+        }
+        Some(Command::WorkspaceStress { workspace, count }) => {
+            let mut ws = crate::workspace::Workspace::open(&workspace)?;
+            let states = crate::workspace::FOLLOWUP_STATES;
+            for i in 0..count {
+                let person = format!("S{:04}", i % 97);
+                let id = ws.set_followup(&person, states[i % states.len()])?;
+                emit(&format!(
+                    "committed {id} {person} {}\n",
+                    states[i % states.len()]
+                ))?;
+            }
+            Ok(())
         }
         Some(Command::Synth {
             people,

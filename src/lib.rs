@@ -22,6 +22,7 @@ pub mod sample;
 pub mod sort;
 pub mod summary;
 pub mod synth;
+pub mod workspace;
 
 /// One line of caution shown with every output that names people.
 pub const CAUTION: &str = "hubwatch supports, and does not replace, the judgement of public-health staff; \
