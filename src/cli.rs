@@ -68,48 +68,51 @@ pub enum Command {
         /// Loading options and paths.
         #[command(flatten)]
         load: LoadArgs,
-        /// Ranking preset (see config/priority.toml: balanced, "spread first", "window first").
-        #[arg(long, value_name = "NAME")]
-        preset: Option<String>,
-        /// Monitoring-window preset (covid-19, ebola, mpox, measles, or one of your own).
-        #[arg(long, value_name = "NAME")]
-        pathogen: Option<String>,
-        /// Monitoring window in days, overriding the pathogen preset.
-        #[arg(long, value_name = "DAYS")]
-        window_days: Option<u32>,
-        /// Priority settings file laid over config/priority.toml.
-        #[arg(long, value_name = "FILE")]
-        priority_config: Option<PathBuf>,
+        /// Ranking options.
+        #[command(flatten)]
+        rank: PriorityArgs,
         /// How many people to show (0 = all).
         #[arg(long, default_value_t = 30, value_name = "N")]
         top: usize,
-        /// Only people with this role (case / contact).
-        #[arg(long, value_name = "ROLE")]
-        role: Option<String>,
-        /// Only people with this status.
-        #[arg(long, value_name = "STATUS")]
-        status: Option<String>,
-        /// Only people in this area.
-        #[arg(long, value_name = "AREA")]
-        area: Option<String>,
-        /// Only people in this age group.
-        #[arg(long, value_name = "GROUP")]
-        age_group: Option<String>,
-        /// Only people with an exposure in this setting.
-        #[arg(long, value_name = "LABEL")]
-        in_setting: Option<String>,
-        /// Only people still inside their monitoring window.
-        #[arg(long)]
-        still_in_window: bool,
-        /// Only people whose follow-up status is not reached or completed.
-        #[arg(long)]
-        not_reached: bool,
-        /// Only people in the same cluster as this person.
-        #[arg(long, value_name = "ID")]
-        cluster_of: Option<String>,
         /// Print one JSON object instead of text.
         #[arg(long)]
         json: bool,
+    },
+    /// Write a list for the callers: the priority list, the flagged people, or the quarantine.
+    Export {
+        /// Loading options and paths.
+        #[command(flatten)]
+        load: LoadArgs,
+        /// Ranking options (for the priority and flagged lists).
+        #[command(flatten)]
+        rank: PriorityArgs,
+        /// Which list.
+        #[arg(long, value_enum, default_value = "priority")]
+        list: ListKind,
+        /// File format (default: from the extension of --out).
+        #[arg(long, value_enum)]
+        format: Option<crate::export::Format>,
+        /// Output file (with --split, one file per sheet: NAME-1ofK.EXT ...).
+        #[arg(long, value_name = "FILE")]
+        out: PathBuf,
+        /// Only the first N people (0 = all).
+        #[arg(long, default_value_t = 0, value_name = "N")]
+        top: usize,
+        /// Write K call sheets balanced by count, households kept together.
+        #[arg(long, value_name = "K")]
+        split: Option<usize>,
+        /// Replace an existing file.
+        #[arg(long)]
+        force: bool,
+        /// Replace person IDs with a keyed hash (HMAC-SHA256) and drop direct identifiers.
+        #[arg(long)]
+        pseudonymise: bool,
+        /// File holding the pseudonymisation key (else HUBWATCH_PSEUDONYM_KEY).
+        #[arg(long, value_name = "FILE")]
+        key_file: Option<PathBuf>,
+        /// Workspace file for flags, follow-up states and notes.
+        #[arg(long, value_name = "FILE")]
+        workspace: Option<PathBuf>,
     },
     /// Set a person's follow-up state (to call, reached, unreachable, completed).
     Followup {
@@ -201,6 +204,117 @@ pub enum Command {
         #[arg(long, value_name = "DATE")]
         end: Option<String>,
     },
+}
+
+/// Which list to export.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum ListKind {
+    /// The ranked follow-up list.
+    Priority,
+    /// Ranked people who carry a manual flag.
+    Flagged,
+    /// Every quarantined row and field problem.
+    Quarantine,
+}
+
+/// Options of the ranking, shared by `priority` and `export`.
+#[derive(Debug, Args, Clone, Default)]
+pub struct PriorityArgs {
+    /// Ranking preset (see config/priority.toml: balanced, "spread first", "window first").
+    #[arg(long, value_name = "NAME")]
+    pub preset: Option<String>,
+    /// Monitoring-window preset (covid-19, ebola, mpox, measles, or one of your own).
+    #[arg(long, value_name = "NAME")]
+    pub pathogen: Option<String>,
+    /// Monitoring window in days, overriding the pathogen preset.
+    #[arg(long, value_name = "DAYS")]
+    pub window_days: Option<u32>,
+    /// Priority settings file laid over config/priority.toml.
+    #[arg(long, value_name = "FILE")]
+    pub priority_config: Option<PathBuf>,
+    /// Only people with this role (case / contact).
+    #[arg(long, value_name = "ROLE")]
+    pub role: Option<String>,
+    /// Only people with this status.
+    #[arg(long, value_name = "STATUS")]
+    pub status: Option<String>,
+    /// Only people in this area.
+    #[arg(long, value_name = "AREA")]
+    pub area: Option<String>,
+    /// Only people in this age group.
+    #[arg(long, value_name = "GROUP")]
+    pub age_group: Option<String>,
+    /// Only people with an exposure in this setting.
+    #[arg(long, value_name = "LABEL")]
+    pub in_setting: Option<String>,
+    /// Only people still inside their monitoring window.
+    #[arg(long)]
+    pub still_in_window: bool,
+    /// Only people whose follow-up status is not reached or completed.
+    #[arg(long)]
+    pub not_reached: bool,
+    /// Only people in the same cluster as this person.
+    #[arg(long, value_name = "ID")]
+    pub cluster_of: Option<String>,
+}
+
+/// A ranked list with the settings that produced it.
+pub struct RankedList {
+    /// The people, best first.
+    pub ranked: Vec<crate::priority::Ranked>,
+    /// Preset name and weights.
+    pub preset: (String, crate::priority::Preset),
+    /// Pathogen name, window days, source.
+    pub window: (String, u32, String),
+}
+
+impl PriorityArgs {
+    /// Rank the dataset with these options.
+    pub fn rank(&self, d: &crate::ingest::Dataset) -> Result<RankedList> {
+        let config = crate::priority::PriorityConfig::load(self.priority_config.as_deref())?;
+        let preset_name = self.preset.clone().unwrap_or_else(|| config.preset.clone());
+        let p = config.preset(&preset_name)?.clone();
+        let pathogen_name = self
+            .pathogen
+            .clone()
+            .unwrap_or_else(|| config.pathogen.clone());
+        let pathogen = config.pathogen(&pathogen_name)?.clone();
+        let days = self.window_days.unwrap_or(pathogen.days);
+        let source = if self.window_days.is_some() {
+            "set with --window-days".to_string()
+        } else {
+            pathogen.source.clone()
+        };
+        let stats = crate::metrics::network::compute(
+            d,
+            &crate::metrics::network::MetricOptions {
+                null_replicates: 0,
+                ..Default::default()
+            },
+        );
+        let equals = [
+            ("role", &self.role),
+            ("status", &self.status),
+            ("area", &self.area),
+            ("age_group", &self.age_group),
+        ]
+        .into_iter()
+        .filter_map(|(f, v)| v.clone().map(|v| (f.to_string(), v)))
+        .collect();
+        let filters = crate::priority::Filters {
+            equals,
+            setting: self.in_setting.clone(),
+            still_in_window: self.still_in_window,
+            not_reached: self.not_reached,
+            cluster_of: self.cluster_of.clone(),
+        };
+        let ranked = crate::priority::rank(d, &stats, &config, &p, days, &filters)?;
+        Ok(RankedList {
+            ranked,
+            preset: (preset_name, p),
+            window: (pathogen_name, days, source),
+        })
+    }
 }
 
 /// Options of the statistics that cost time or use random numbers.
@@ -377,6 +491,147 @@ impl LoadArgs {
     }
 }
 
+/// `hubwatch export`: build the list, attach the metadata, write one file or K call sheets.
+#[allow(clippy::too_many_arguments)]
+fn export(
+    load: &LoadArgs,
+    rank: &PriorityArgs,
+    list: ListKind,
+    format: Option<crate::export::Format>,
+    out: &std::path::Path,
+    top: usize,
+    split: Option<usize>,
+    force: bool,
+    pseudonymise: Option<Option<&std::path::Path>>,
+    workspace: Option<&std::path::Path>,
+) -> Result<()> {
+    use crate::export::{self as ex, Format};
+    let format = match format {
+        Some(f) => f,
+        None => match out
+            .extension()
+            .map(|e| e.to_string_lossy().to_lowercase())
+            .as_deref()
+        {
+            Some("csv") => Format::Csv,
+            Some("json") => Format::Json,
+            Some("parquet") => Format::Parquet,
+            Some("xlsx") => Format::Xlsx,
+            _ => {
+                return Err(Error::Usage(format!(
+                    "{}: give --format csv|json|parquet|xlsx (the extension does not say)",
+                    out.display()
+                )))
+            }
+        },
+    };
+    // Check the key before any work, so a missing key fails fast.
+    let key = match pseudonymise {
+        Some(key_file) => Some(ex::pseudonym_key(key_file)?),
+        None => None,
+    };
+    if key.is_some() && list == ListKind::Quarantine {
+        return Err(Error::Usage("the quarantine list holds raw rows with IDs and cannot be pseudonymised; export it only where the source data may go".into()));
+    }
+    let d = load.load()?;
+    let mut meta = vec![
+        ("caution".to_string(), crate::CAUTION.to_string()),
+        (
+            "generated".to_string(),
+            chrono::Utc::now().format("%Y-%m-%dT%H:%M:%SZ").to_string(),
+        ),
+        ("as_of".to_string(), dates::iso(d.as_of)),
+        ("list".to_string(), format!("{list:?}").to_lowercase()),
+        ("view".to_string(), d.view.0.describe()),
+    ];
+    let table = match list {
+        ListKind::Quarantine => crate::lists::quarantine_table(&d),
+        ListKind::Priority | ListKind::Flagged => {
+            let r = rank.rank(&d)?;
+            let ws_path = workspace.map(|p| p.to_path_buf()).unwrap_or_else(|| {
+                crate::workspace::Workspace::default_path(load.paths.first().map(|p| p.as_path()))
+            });
+            let states = if ws_path.exists() {
+                crate::workspace::Workspace::open(&ws_path)?.all()?
+            } else {
+                Vec::new()
+            };
+            meta.push(("preset".into(), r.preset.0.clone()));
+            meta.push((
+                "weights".into(),
+                serde_json::to_string(&r.preset.1.weights).unwrap_or_default(),
+            ));
+            meta.push((
+                "caps".into(),
+                serde_json::to_string(&r.preset.1.caps).unwrap_or_default(),
+            ));
+            meta.push((
+                "monitoring_window".into(),
+                format!("{} days ({}; {})", r.window.1, r.window.0, r.window.2),
+            ));
+            let ids = crate::lists::Ids {
+                d: &d,
+                key: key.as_deref(),
+            };
+            crate::lists::priority_table(&ids, &r.ranked, &states, top, list == ListKind::Flagged)
+        }
+    };
+    if key.is_some() {
+        meta.push(("pseudonymised".into(), "person IDs replaced by HMAC-SHA256 under a key that is not stored; direct identifier columns dropped".into()));
+    }
+    for f in &d.ledger.files {
+        let sum = if f.path.exists() {
+            ex::file_sha256(&f.path)?
+        } else {
+            "built-in sample".into()
+        };
+        meta.push((
+            format!("input {}", f.role.name()),
+            format!("{} sha256 {sum}", f.path.display()),
+        ));
+    }
+    let meta = ex::Metadata { entries: meta };
+    match split {
+        None | Some(1) => {
+            ex::write(&table, &meta, format, out, force)?;
+            emit(&format!(
+                "wrote {} rows to {}\n",
+                table.rows.len(),
+                out.display()
+            ))
+        }
+        Some(0) => Err(Error::Usage("--split needs at least 1 sheet".into())),
+        Some(k) => {
+            let hh = table.columns.iter().position(|c| c == "household_id");
+            let groups: Vec<Option<String>> = table
+                .rows
+                .iter()
+                .map(|r| {
+                    hh.and_then(|c| match &r[c] {
+                        ex::Cell::Text(t) => Some(t.clone()),
+                        _ => None,
+                    })
+                })
+                .collect();
+            let mut lines = String::new();
+            for (i, rows) in ex::split_sheets(&groups, k).into_iter().enumerate() {
+                let sheet = ex::ExportTable {
+                    columns: table.columns.clone(),
+                    rows: rows.iter().map(|&r| table.rows[r].clone()).collect(),
+                };
+                let path = ex::sheet_path(out, i, k);
+                ex::write(&sheet, &meta, format, &path, force)?;
+                lines.push_str(&format!(
+                    "wrote {} rows to {}\n",
+                    sheet.rows.len(),
+                    path.display()
+                ));
+            }
+            emit(&lines)
+        }
+    }
+}
+
 /// Load the export, check the person is in it, and open the workspace.
 fn open_for_person(
     load: &LoadArgs,
@@ -460,74 +715,55 @@ pub fn run(cli: Cli) -> Result<()> {
         }
         Some(Command::Priority {
             load,
-            preset,
-            pathogen,
-            window_days,
-            priority_config,
+            rank,
             top,
-            role,
-            status,
-            area,
-            age_group,
-            in_setting,
-            still_in_window,
-            not_reached,
-            cluster_of,
             json,
         }) => {
-            let config = crate::priority::PriorityConfig::load(priority_config.as_deref())?;
-            let preset_name = preset.unwrap_or_else(|| config.preset.clone());
-            let p = config.preset(&preset_name)?.clone();
-            let pathogen_name = pathogen.unwrap_or_else(|| config.pathogen.clone());
-            let pathogen = config.pathogen(&pathogen_name)?.clone();
-            let days = window_days.unwrap_or(pathogen.days);
             let d = load.load()?;
-            let stats = crate::metrics::network::compute(
-                &d,
-                &crate::metrics::network::MetricOptions {
-                    null_replicates: 0,
-                    ..Default::default()
-                },
-            );
-            let equals = [
-                ("role", role),
-                ("status", status),
-                ("area", area),
-                ("age_group", age_group),
-            ]
-            .into_iter()
-            .filter_map(|(f, v)| v.map(|v| (f.to_string(), v)))
-            .collect();
-            let filters = crate::priority::Filters {
-                equals,
-                setting: in_setting,
-                still_in_window,
-                not_reached,
-                cluster_of,
-            };
-            let ranked = crate::priority::rank(&d, &stats, &config, &p, days, &filters)?;
+            let list = rank.rank(&d)?;
+            let (pathogen, days, source) = &list.window;
             let window = report::WindowInfo {
-                pathogen: &pathogen_name,
-                days,
-                source: if window_days.is_some() {
-                    "set with --window-days"
-                } else {
-                    &pathogen.source
-                },
+                pathogen,
+                days: *days,
+                source,
             };
             emit(&if json {
                 to_json(&report::priority_json(
                     &d,
-                    &ranked,
+                    &list.ranked,
                     top,
-                    &preset_name,
-                    &p,
+                    &list.preset.0,
+                    &list.preset.1,
                     &window,
                 ))?
             } else {
-                report::priority_text(&d, &ranked, top, &preset_name, &window)
+                report::priority_text(&d, &list.ranked, top, &list.preset.0, &window)
             })
         }
+        Some(Command::Export {
+            load,
+            rank,
+            list,
+            format,
+            out,
+            top,
+            split,
+            force,
+            pseudonymise,
+            key_file,
+            workspace,
+        }) => export(
+            &load,
+            &rank,
+            list,
+            format,
+            &out,
+            top,
+            split,
+            force,
+            pseudonymise.then_some(key_file.as_deref()),
+            workspace.as_deref(),
+        ),
         Some(Command::Followup {
             load,
             person,

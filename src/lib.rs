@@ -12,9 +12,11 @@
 pub mod cli;
 pub mod config;
 pub mod error;
+pub mod export;
 pub mod graph;
 pub mod ids;
 pub mod ingest;
+pub mod lists;
 pub mod metrics;
 pub mod priority;
 pub mod report;

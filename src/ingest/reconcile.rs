@@ -310,9 +310,17 @@ impl PeopleBuilder {
             })
             .collect();
         let nodes = self.ids.len();
+        // The ID column is the key, not an attribute (usize::MAX marks it; it is skipped below).
         let attr_of: Vec<usize> = names
             .iter()
-            .map(|n| self.attrs.ensure_column(n, nodes))
+            .enumerate()
+            .map(|(c, n)| {
+                if c == id_col {
+                    usize::MAX
+                } else {
+                    self.attrs.ensure_column(n, nodes)
+                }
+            })
             .collect();
         let cols: Vec<&StringChunked> = (0..meta.columns.len())
             .map(|c| text_column(frame, Some(c), &meta.path).map(|o| o.expect("some")))
