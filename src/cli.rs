@@ -113,6 +113,12 @@ pub enum Command {
         /// Workspace file for flags, follow-up states and notes.
         #[arg(long, value_name = "FILE")]
         workspace: Option<PathBuf>,
+        /// Size of the sentinel sample (with --list sentinel).
+        #[arg(long, default_value_t = 50, value_name = "N")]
+        sample: usize,
+        /// Seed of the sentinel sample (same seed, same sample).
+        #[arg(long, default_value_t = 1, value_name = "S")]
+        seed: u64,
     },
     /// Set a person's follow-up state (to call, reached, unreachable, completed).
     Followup {
@@ -215,6 +221,8 @@ pub enum ListKind {
     Flagged,
     /// Every quarantined row and field problem.
     Quarantine,
+    /// A sentinel sample: random people each replaced by one random contact (--sample, --seed).
+    Sentinel,
 }
 
 /// Options of the ranking, shared by `priority` and `export`.
@@ -504,6 +512,7 @@ fn export(
     force: bool,
     pseudonymise: Option<Option<&std::path::Path>>,
     workspace: Option<&std::path::Path>,
+    sentinel: (usize, u64),
 ) -> Result<()> {
     use crate::export::{self as ex, Format};
     let format = match format {
@@ -544,8 +553,42 @@ fn export(
         ("list".to_string(), format!("{list:?}").to_lowercase()),
         ("view".to_string(), d.view.0.describe()),
     ];
+    let mut note = String::new();
     let table = match list {
         ListKind::Quarantine => crate::lists::quarantine_table(&d),
+        ListKind::Sentinel => {
+            let picks = crate::sentinel::friend_sample(&d.graph, sentinel.0, sentinel.1);
+            let stats = crate::metrics::network::compute(
+                &d,
+                &crate::metrics::network::MetricOptions {
+                    null_replicates: 0,
+                    ..Default::default()
+                },
+            );
+            let mean_picks = picks
+                .iter()
+                .map(|p| f64::from(stats.degrees[p.node as usize]))
+                .sum::<f64>()
+                / picks.len().max(1) as f64;
+            let (plain, expected) = (stats.neighbours.mean_active, stats.neighbours.contact_mean);
+            let gain = match (plain, expected) {
+                (Ok(p), Ok(e)) => format!(
+                    "expected contacts of a sentinel {e:.2} against {p:.2} for a person drawn at random ({:+.0}%); this sample: {mean_picks:.2}",
+                    100.0 * (e / p - 1.0)
+                ),
+                _ => "undefined (no contacts)".into(),
+            };
+            meta.push((
+                "sentinel".into(),
+                format!("{} people, seed {}; {gain}", picks.len(), sentinel.1),
+            ));
+            note = format!("{gain}\n");
+            let ids = crate::lists::Ids {
+                d: &d,
+                key: key.as_deref(),
+            };
+            crate::lists::sentinel_table(&ids, &picks, &stats.degrees)
+        }
         ListKind::Priority | ListKind::Flagged => {
             let r = rank.rank(&d)?;
             let ws_path = workspace.map(|p| p.to_path_buf()).unwrap_or_else(|| {
@@ -595,7 +638,7 @@ fn export(
         None | Some(1) => {
             ex::write(&table, &meta, format, out, force)?;
             emit(&format!(
-                "wrote {} rows to {}\n",
+                "{note}wrote {} rows to {}\n",
                 table.rows.len(),
                 out.display()
             ))
@@ -752,6 +795,8 @@ pub fn run(cli: Cli) -> Result<()> {
             pseudonymise,
             key_file,
             workspace,
+            sample,
+            seed,
         }) => export(
             &load,
             &rank,
@@ -763,6 +808,7 @@ pub fn run(cli: Cli) -> Result<()> {
             force,
             pseudonymise.then_some(key_file.as_deref()),
             workspace.as_deref(),
+            (sample, seed),
         ),
         Some(Command::Followup {
             load,

@@ -21,6 +21,7 @@ pub mod metrics;
 pub mod priority;
 pub mod report;
 pub mod sample;
+pub mod sentinel;
 pub mod sort;
 pub mod summary;
 pub mod synth;

@@ -155,3 +155,36 @@ pub fn quarantine_table(d: &Dataset) -> ExportTable {
     }
     ExportTable { columns, rows }
 }
+
+/// The sentinel sample: each sentinel with their number of contacts and who led to them.
+pub fn sentinel_table(ids: &Ids, picks: &[crate::sentinel::Pick], degrees: &[u32]) -> ExportTable {
+    let d = ids.d;
+    let attrs: Vec<usize> = (0..d.attrs.names.len())
+        .filter(|&c| !(ids.key.is_some() && is_direct_identifier(&d.attrs.names[c])))
+        .collect();
+    let mut columns: Vec<String> = ["order", "person_id", "degree", "drawn_via"]
+        .iter()
+        .map(|s| s.to_string())
+        .collect();
+    columns.extend(attrs.iter().map(|&c| d.attrs.names[c].clone()));
+    let rows = picks
+        .iter()
+        .enumerate()
+        .map(|(i, p)| {
+            let mut row = vec![
+                Cell::Int(i as i64 + 1),
+                Cell::Text(ids.show(p.node)),
+                Cell::Int(i64::from(degrees[p.node as usize])),
+                Cell::Text(ids.show(p.via)),
+            ];
+            row.extend(attrs.iter().map(|&c| {
+                d.attrs.values[c]
+                    .get(p.node as usize)
+                    .and_then(|v| v.as_deref())
+                    .map_or(Cell::Empty, |v| Cell::Text(v.to_string()))
+            }));
+            row
+        })
+        .collect();
+    ExportTable { columns, rows }
+}
