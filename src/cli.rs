@@ -616,7 +616,14 @@ fn export(
                 d: &d,
                 key: key.as_deref(),
             };
-            crate::lists::priority_table(&ids, &r.ranked, &states, top, list == ListKind::Flagged)
+            crate::lists::priority_table(
+                &ids,
+                &r.ranked,
+                &r.preset.1,
+                &states,
+                top,
+                list == ListKind::Flagged,
+            )
         }
     };
     if key.is_some() {
@@ -780,7 +787,14 @@ pub fn run(cli: Cli) -> Result<()> {
                     &window,
                 ))?
             } else {
-                report::priority_text(&d, &list.ranked, top, &list.preset.0, &window)
+                report::priority_text(
+                    &d,
+                    &list.ranked,
+                    top,
+                    &list.preset.0,
+                    &list.preset.1,
+                    &window,
+                )
             })
         }
         Some(Command::Export {

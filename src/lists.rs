@@ -54,6 +54,7 @@ impl Ids<'_> {
 pub fn priority_table(
     ids: &Ids,
     ranked: &[Ranked],
+    preset: &crate::priority::Preset,
     states: &[PersonState],
     top: usize,
     flagged_only: bool,
@@ -110,7 +111,7 @@ pub fn priority_table(
             st.map_or(Cell::Empty, |s| Cell::Text(s.flags.join(", "))),
             text(st.and_then(|s| s.note.as_deref())),
         ];
-        row.extend(r.parts.iter().map(|p| Cell::Num(p.contribution)));
+        row.extend(r.parts(preset).iter().map(|p| Cell::Num(p.contribution)));
         row.extend(attrs.iter().map(|&c| {
             text(
                 d.attrs.values[c]

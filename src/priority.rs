@@ -161,8 +161,8 @@ pub struct Ranked {
     pub node: u32,
     /// Total score.
     pub score: f64,
-    /// The components, in [`COMPONENTS`] order.
-    pub parts: Vec<Part>,
+    /// Raw value of each component, in [`COMPONENTS`] order (see [`Ranked::parts`]).
+    pub raw: [f64; 8],
     /// Contacts of their own.
     pub degree: u32,
     /// Last exposure day (None when no exposure is dated).
@@ -177,6 +177,37 @@ pub struct Ranked {
     pub high_degree: bool,
     /// Articulation point.
     pub bridge: bool,
+}
+
+/// Scale a raw component value to 0..1 by its cap (window, setting and bridge already are).
+fn scaled(name: &str, raw: f64, preset: &Preset) -> f64 {
+    if matches!(name, "window" | "setting" | "bridge") {
+        raw
+    } else {
+        (raw / preset.caps.get(name).copied().unwrap_or(1.0)).clamp(0.0, 1.0)
+    }
+}
+
+impl Ranked {
+    /// The score's components with their contributions under `preset` (the preset the list
+    /// was ranked with), in [`COMPONENTS`] order.
+    pub fn parts(&self, preset: &Preset) -> Vec<Part> {
+        COMPONENTS
+            .iter()
+            .zip(self.raw)
+            .map(|(&name, raw)| {
+                let s = scaled(name, raw, preset);
+                let weight = preset.weights.get(name).copied().unwrap_or(0.0);
+                Part {
+                    name,
+                    raw,
+                    scaled: s,
+                    weight,
+                    contribution: s * weight,
+                }
+            })
+            .collect()
+    }
 }
 
 /// Who to keep on the list.
@@ -277,20 +308,19 @@ pub fn rank(
     };
     let (threshold, strict) = hub_threshold(&config.hub, stats);
     let w = |c: &str| preset.weights.get(c).copied().unwrap_or(0.0);
-    let cap = |c: &str| preset.caps.get(c).copied().unwrap_or(1.0);
     let as_of = d.as_of;
-    let mut out = Vec::new();
-    for i in 0..n {
+    // One person's entry, or None when a filter leaves them out.
+    let rank_one = |i: usize| -> Option<Ranked> {
         let node = i as u32;
         if !filters
             .equals
             .iter()
             .all(|(f, v)| attr_is(d, f, node, &[v.as_str()]))
         {
-            continue;
+            return None;
         }
         if cluster.is_some_and(|c| stats.components.0[i] != c) {
-            continue;
+            return None;
         }
         if filters.not_reached
             && attr_is(
@@ -300,7 +330,7 @@ pub fn rank(
                 &["reached", "completed", "complete"],
             )
         {
-            continue;
+            return None;
         }
         let (nb, es) = (d.graph.neighbors_slice(node), d.graph.edges_slice(node));
         let mut cases = 0u32;
@@ -324,14 +354,14 @@ pub fn rank(
             }
         }
         if !in_setting {
-            continue;
+            return None;
         }
         let last = (last != NO_DATE).then_some(last);
         let window_end = last.map(|l| l + window_days as i32);
         let days_left = window_end.map(|e| e - as_of);
         let inside = days_left.is_some_and(|x| x >= 0);
         if filters.still_in_window && !inside {
-            continue;
+            return None;
         }
         let completed = attr_is(d, "followup_status", node, &["completed", "complete"]);
         let overdue = days_left.is_some_and(|x| x < 0) && !completed;
@@ -357,36 +387,21 @@ pub fn rank(
             f64::from(stats.cores[i]),
             contacts_mean,
         ];
-        let parts: Vec<Part> = COMPONENTS
+        let score = COMPONENTS
             .iter()
             .zip(raw)
-            .map(|(&name, raw)| {
-                // window, setting and bridge are already on 0..1.
-                let scaled = if matches!(name, "window" | "setting" | "bridge") {
-                    raw
-                } else {
-                    (raw / cap(name)).clamp(0.0, 1.0)
-                };
-                Part {
-                    name,
-                    raw,
-                    scaled,
-                    weight: w(name),
-                    contribution: scaled * w(name),
-                }
-            })
-            .collect();
-        let score = parts.iter().map(|p| p.contribution).sum();
+            .map(|(&name, r)| scaled(name, r, preset) * w(name))
+            .sum();
         let k = f64::from(degree);
         let high_degree = if strict {
             k > threshold
         } else {
             k >= threshold
         };
-        out.push(Ranked {
+        Some(Ranked {
             node,
             score,
-            parts,
+            raw,
             degree,
             last_exposure: last,
             window_end,
@@ -394,9 +409,31 @@ pub fn rank(
             overdue,
             high_degree,
             bridge: bridge[i],
-        });
-    }
-    out.sort_by(|a, b| {
+        })
+    };
+    // People are independent: rank them on all cores, then sort the whole list.
+    let threads = std::thread::available_parallelism()
+        .map_or(1, |t| t.get())
+        .clamp(1, 8);
+    let chunk = n.div_ceil(threads).max(1);
+    let mut out: Vec<Ranked> = std::thread::scope(|sc| {
+        let handles: Vec<_> = (0..threads)
+            .map(|t| {
+                let rank_one = &rank_one;
+                sc.spawn(move || {
+                    (t * chunk..((t + 1) * chunk).min(n))
+                        .filter_map(rank_one)
+                        .collect::<Vec<_>>()
+                })
+            })
+            .collect();
+        handles
+            .into_iter()
+            .flat_map(|h| h.join().unwrap_or_else(|e| std::panic::resume_unwind(e)))
+            .collect()
+    });
+    // The key is total (IDs are unique), so an unstable sort gives the same order.
+    out.sort_unstable_by(|a, b| {
         b.score
             .total_cmp(&a.score)
             .then_with(|| b.degree.cmp(&a.degree))

@@ -462,6 +462,7 @@ pub fn priority_text(
     ranked: &[crate::priority::Ranked],
     top: usize,
     preset: &str,
+    p: &crate::priority::Preset,
     w: &WindowInfo,
 ) -> String {
     let mut s = String::new();
@@ -505,8 +506,9 @@ pub fn priority_text(
         if r.overdue {
             flags.push("OVERDUE");
         }
+        let parts_of = r.parts(p);
         let mut parts: Vec<&crate::priority::Part> =
-            r.parts.iter().filter(|p| p.contribution > 0.0).collect();
+            parts_of.iter().filter(|p| p.contribution > 0.0).collect();
         parts.sort_by(|a, b| b.contribution.total_cmp(&a.contribution));
         let reasons: Vec<String> = parts
             .iter()
@@ -564,7 +566,7 @@ pub fn priority_json(
             "overdue": r.overdue,
             "high_degree": r.high_degree,
             "bridge": r.bridge,
-            "parts": r.parts,
+            "parts": r.parts(p),
         })).collect::<Vec<_>>(),
     })
 }

@@ -58,7 +58,11 @@ fn toy_score_by_hand() {
     assert_eq!(iso(p04.window_end.unwrap()), "2024-03-17");
     assert_eq!(p04.days_left, Some(7));
     assert!(!p04.bridge && !p04.overdue);
-    let contributions: f64 = p04.parts.iter().map(|p| p.contribution).sum();
+    let contributions: f64 = p04
+        .parts(c.preset("balanced").unwrap())
+        .iter()
+        .map(|p| p.contribution)
+        .sum();
     assert!(
         (contributions - p04.score).abs() < 1e-12,
         "the parts add up to the score"

@@ -102,7 +102,17 @@ fn one(dir: &Path) -> Result<(), String> {
     };
     let stats = hubwatch::metrics::network::compute(&d, &no_null);
     let stats_seconds = t.elapsed().as_secs_f64();
-    std::hint::black_box(&stats);
+    // Ranking everyone with the default preset (after the statistics it reads).
+    let config = hubwatch::priority::PriorityConfig::load(None).map_err(|e| e.to_string())?;
+    let preset = config
+        .preset("balanced")
+        .map_err(|e| e.to_string())?
+        .clone();
+    let t = Instant::now();
+    let ranked = hubwatch::priority::rank(&d, &stats, &config, &preset, 14, &Default::default())
+        .map_err(|e| e.to_string())?;
+    let rank_seconds = t.elapsed().as_secs_f64();
+    std::hint::black_box(&ranked);
     let null_seconds = if d.ledger.exposures.read <= 2_000_000 {
         let deg = hubwatch::graph::degrees(&d.graph);
         let o = hubwatch::metrics::network::MetricOptions::default();
@@ -125,7 +135,7 @@ fn one(dir: &Path) -> Result<(), String> {
     let out = json!({
         "rows": d.ledger.exposures.read, "bytes": size, "people": d.people(), "pairs": d.edges.len(),
         "floor": floor, "total": total, "stages": d.timings,
-        "stats_seconds": stats_seconds, "null_seconds": null_seconds, "peak_after_stats": ingest::peak_mib(),
+        "stats_seconds": stats_seconds, "rank_seconds": rank_seconds, "ranked": ranked.len(), "null_seconds": null_seconds, "peak_after_stats": ingest::peak_mib(),
         "csr_bytes": csr_bytes, "csr_walk": csr_walk,
         "graph_build": graph_build, "graph_walk": graph_walk, "graph_bytes": graph_bytes,
     });
