@@ -98,6 +98,9 @@ pub enum Command {
         /// Only the first N people (0 = all).
         #[arg(long, default_value_t = 0, value_name = "N")]
         top: usize,
+        /// Only these columns, in this order (comma-separated; see the full export for names).
+        #[arg(long = "columns", value_name = "A,B,...", value_delimiter = ',')]
+        export_columns: Vec<String>,
         /// Write K call sheets balanced by count, households kept together.
         #[arg(long, value_name = "K")]
         split: Option<usize>,
@@ -277,8 +280,13 @@ pub struct RankedList {
 }
 
 impl PriorityArgs {
-    /// Rank the dataset with these options.
-    pub fn rank(&self, d: &crate::ingest::Dataset) -> Result<RankedList> {
+    /// Rank the dataset with these options; follow-up states from the workspace take
+    /// precedence over the export's column.
+    pub fn rank(
+        &self,
+        d: &crate::ingest::Dataset,
+        states: &[crate::workspace::PersonState],
+    ) -> Result<RankedList> {
         let config = crate::priority::PriorityConfig::load(self.priority_config.as_deref())?;
         let preset_name = self.preset.clone().unwrap_or_else(|| config.preset.clone());
         let p = config.preset(&preset_name)?.clone();
@@ -315,6 +323,10 @@ impl PriorityArgs {
             still_in_window: self.still_in_window,
             not_reached: self.not_reached,
             cluster_of: self.cluster_of.clone(),
+            followup: states
+                .iter()
+                .filter_map(|s| s.followup.clone().map(|f| (s.person_id.clone(), f)))
+                .collect(),
         };
         let ranked = crate::priority::rank(d, &stats, &config, &p, days, &filters)?;
         Ok(RankedList {
@@ -499,6 +511,21 @@ impl LoadArgs {
     }
 }
 
+/// The workspace's states, if the workspace exists (it is never created just to read it).
+fn workspace_states(
+    load: &LoadArgs,
+    workspace: Option<&std::path::Path>,
+) -> Result<Vec<crate::workspace::PersonState>> {
+    let path = workspace.map(|p| p.to_path_buf()).unwrap_or_else(|| {
+        crate::workspace::Workspace::default_path(load.paths.first().map(|p| p.as_path()))
+    });
+    if path.exists() {
+        crate::workspace::Workspace::open(&path)?.all()
+    } else {
+        Ok(Vec::new())
+    }
+}
+
 /// `hubwatch export`: build the list, attach the metadata, write one file or K call sheets.
 #[allow(clippy::too_many_arguments)]
 fn export(
@@ -513,6 +540,7 @@ fn export(
     pseudonymise: Option<Option<&std::path::Path>>,
     workspace: Option<&std::path::Path>,
     sentinel: (usize, u64),
+    columns: &[String],
 ) -> Result<()> {
     use crate::export::{self as ex, Format};
     let format = match format {
@@ -543,6 +571,9 @@ fn export(
         return Err(Error::Usage("the quarantine list holds raw rows with IDs and cannot be pseudonymised; export it only where the source data may go".into()));
     }
     let d = load.load()?;
+    let dropped = crate::priority::PriorityConfig::load(rank.priority_config.as_deref())?
+        .export
+        .direct_identifiers;
     let mut meta = vec![
         ("caution".to_string(), crate::CAUTION.to_string()),
         (
@@ -586,19 +617,13 @@ fn export(
             let ids = crate::lists::Ids {
                 d: &d,
                 key: key.as_deref(),
+                direct_identifiers: &dropped,
             };
             crate::lists::sentinel_table(&ids, &picks, &stats.degrees)
         }
         ListKind::Priority | ListKind::Flagged => {
-            let r = rank.rank(&d)?;
-            let ws_path = workspace.map(|p| p.to_path_buf()).unwrap_or_else(|| {
-                crate::workspace::Workspace::default_path(load.paths.first().map(|p| p.as_path()))
-            });
-            let states = if ws_path.exists() {
-                crate::workspace::Workspace::open(&ws_path)?.all()?
-            } else {
-                Vec::new()
-            };
+            let states = workspace_states(load, workspace)?;
+            let r = rank.rank(&d, &states)?;
             meta.push(("preset".into(), r.preset.0.clone()));
             meta.push((
                 "weights".into(),
@@ -615,6 +640,7 @@ fn export(
             let ids = crate::lists::Ids {
                 d: &d,
                 key: key.as_deref(),
+                direct_identifiers: &dropped,
             };
             crate::lists::priority_table(
                 &ids,
@@ -640,6 +666,11 @@ fn export(
             format!("{} sha256 {sum}", f.path.display()),
         ));
     }
+    let table = if columns.is_empty() {
+        table
+    } else {
+        ex::select_columns(table, columns)?
+    };
     let meta = ex::Metadata { entries: meta };
     match split {
         None | Some(1) => {
@@ -770,7 +801,7 @@ pub fn run(cli: Cli) -> Result<()> {
             json,
         }) => {
             let d = load.load()?;
-            let list = rank.rank(&d)?;
+            let list = rank.rank(&d, &workspace_states(&load, None)?)?;
             let (pathogen, days, source) = &list.window;
             let window = report::WindowInfo {
                 pathogen,
@@ -811,6 +842,7 @@ pub fn run(cli: Cli) -> Result<()> {
             workspace,
             sample,
             seed,
+            export_columns,
         }) => export(
             &load,
             &rank,
@@ -823,6 +855,7 @@ pub fn run(cli: Cli) -> Result<()> {
             pseudonymise.then_some(key_file.as_deref()),
             workspace.as_deref(),
             (sample, seed),
+            &export_columns,
         ),
         Some(Command::Followup {
             load,

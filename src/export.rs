@@ -276,6 +276,30 @@ pub fn write(
     write_private(out, &b)
 }
 
+/// Keep only `wanted` columns, in that order; an unknown name is an error listing the columns.
+pub fn select_columns(t: ExportTable, wanted: &[String]) -> Result<ExportTable> {
+    let idx: Vec<usize> = wanted
+        .iter()
+        .map(|w| {
+            t.columns.iter().position(|c| c == w.trim()).ok_or_else(|| {
+                Error::Usage(format!(
+                    "--columns: no column \"{}\"; columns: {}",
+                    w.trim(),
+                    t.columns.join(", ")
+                ))
+            })
+        })
+        .collect::<Result<_>>()?;
+    Ok(ExportTable {
+        columns: idx.iter().map(|&i| t.columns[i].clone()).collect(),
+        rows: t
+            .rows
+            .into_iter()
+            .map(|r| idx.iter().map(|&i| r[i].clone()).collect())
+            .collect(),
+    })
+}
+
 /// Split rows into `k` call sheets balanced by count, keeping each group (household) on one
 /// sheet: groups are taken in the order of their best-ranked member and each goes to the sheet
 /// with the fewest rows so far (ties to the first sheet). Rows keep their order within a sheet.

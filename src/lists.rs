@@ -6,41 +6,27 @@ use crate::ingest::{dates, Dataset};
 use crate::priority::{Ranked, COMPONENTS};
 use crate::workspace::PersonState;
 
-/// Column headers treated as direct identifiers and dropped from pseudonymised exports
-/// (compared without case, spaces and underscores).
-pub const DIRECT_IDENTIFIERS: [&str; 16] = [
-    "name",
-    "fullname",
-    "firstname",
-    "lastname",
-    "surname",
-    "givenname",
-    "phone",
-    "telephone",
-    "mobile",
-    "email",
-    "address",
-    "street",
-    "postcode",
-    "dateofbirth",
-    "dob",
-    "nationalid",
-];
-
-fn is_direct_identifier(column: &str) -> bool {
-    let f = crate::ingest::mapping::fold_header(column);
-    DIRECT_IDENTIFIERS.contains(&f.as_str())
-}
-
 /// How person IDs appear: as in the export, or pseudonymised with a key.
 pub struct Ids<'a> {
     /// The dataset's IDs.
     pub d: &'a Dataset,
     /// HMAC key when pseudonymising.
     pub key: Option<&'a [u8]>,
+    /// Direct-identifier column names (from the config), dropped when pseudonymising.
+    pub direct_identifiers: &'a [String],
 }
 
 impl Ids<'_> {
+    /// True when a column is dropped from this export.
+    fn drops(&self, column: &str) -> bool {
+        let f = crate::ingest::mapping::fold_header(column);
+        self.key.is_some()
+            && self
+                .direct_identifiers
+                .iter()
+                .any(|d| crate::ingest::mapping::fold_header(d) == f)
+    }
+
     fn show(&self, node: u32) -> String {
         let id = self.d.ids.name(node);
         match self.key {
@@ -63,7 +49,7 @@ pub fn priority_table(
     let state_of: std::collections::HashMap<&str, &PersonState> =
         states.iter().map(|s| (s.person_id.as_str(), s)).collect();
     let attrs: Vec<usize> = (0..d.attrs.names.len())
-        .filter(|&c| !(ids.key.is_some() && is_direct_identifier(&d.attrs.names[c])))
+        .filter(|&c| !ids.drops(&d.attrs.names[c]))
         .collect();
     let mut columns: Vec<String> = [
         "rank",
@@ -161,7 +147,7 @@ pub fn quarantine_table(d: &Dataset) -> ExportTable {
 pub fn sentinel_table(ids: &Ids, picks: &[crate::sentinel::Pick], degrees: &[u32]) -> ExportTable {
     let d = ids.d;
     let attrs: Vec<usize> = (0..d.attrs.names.len())
-        .filter(|&c| !(ids.key.is_some() && is_direct_identifier(&d.attrs.names[c])))
+        .filter(|&c| !ids.drops(&d.attrs.names[c]))
         .collect();
     let mut columns: Vec<String> = ["order", "person_id", "degree", "drawn_via"]
         .iter()

@@ -46,6 +46,16 @@ pub struct PriorityConfig {
     pub hub: HubRule,
     /// Monitoring windows by pathogen.
     pub pathogens: BTreeMap<String, Pathogen>,
+    /// Export settings.
+    pub export: ExportConfig,
+}
+
+/// Export settings.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ExportConfig {
+    /// Columns dropped from pseudonymised exports.
+    pub direct_identifiers: Vec<String>,
 }
 
 /// Weights and caps of one preset.
@@ -223,6 +233,9 @@ pub struct Filters {
     pub not_reached: bool,
     /// Only people in the cluster of this person ID.
     pub cluster_of: Option<String>,
+    /// Follow-up states from the workspace by person ID; they take precedence over the
+    /// export's `followup_status` column.
+    pub followup: std::collections::HashMap<String, String>,
 }
 
 /// The degree above which a person is flagged high-degree, and whether "above" is strict.
@@ -241,6 +254,14 @@ pub fn hub_threshold(rule: &HubRule, stats: &NetworkStats) -> (f64, bool) {
             )
         }
         _ => (stats.degree.edge_end_mean.unwrap_or(f64::INFINITY), true),
+    }
+}
+
+/// True when the person's follow-up state (workspace first, then the export) is one of `words`.
+fn followup_is(d: &Dataset, f: &Filters, node: u32, words: &[&str]) -> bool {
+    match f.followup.get(d.ids.name(node)) {
+        Some(v) => words.iter().any(|w| v.eq_ignore_ascii_case(w)),
+        None => attr_is(d, "followup_status", node, words),
     }
 }
 
@@ -323,12 +344,7 @@ pub fn rank(
             return None;
         }
         if filters.not_reached
-            && attr_is(
-                d,
-                "followup_status",
-                node,
-                &["reached", "completed", "complete"],
-            )
+            && followup_is(d, filters, node, &["reached", "completed", "complete"])
         {
             return None;
         }
@@ -363,7 +379,7 @@ pub fn rank(
         if filters.still_in_window && !inside {
             return None;
         }
-        let completed = attr_is(d, "followup_status", node, &["completed", "complete"]);
+        let completed = followup_is(d, filters, node, &["completed", "complete"]);
         let overdue = days_left.is_some_and(|x| x < 0) && !completed;
         let window = match (last, inside) {
             (Some(l), true) if window_days > 0 => {

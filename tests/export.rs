@@ -264,3 +264,93 @@ fn call_sheets_partition_the_list_and_keep_households() {
         );
     }
 }
+
+#[test]
+fn chosen_columns_and_workspace_states_shape_the_list() {
+    let dir = tempfile::tempdir().unwrap();
+    let ex = fixture(dir.path());
+    let exs = ex.to_str().unwrap();
+    let out = dir.path().join("c.csv");
+    let (code, _, err) = hubwatch(
+        &[
+            "export",
+            exs,
+            "--as-of",
+            "2024-03-10",
+            "--out",
+            out.to_str().unwrap(),
+            "--columns",
+            "person_id,score,followup",
+        ],
+        None,
+    );
+    assert_eq!(code, 0, "{err}");
+    let text = std::fs::read_to_string(&out).unwrap();
+    assert_eq!(
+        text.lines().find(|l| !l.starts_with('#')).unwrap(),
+        "person_id,score,followup"
+    );
+    let (code, _, err) = hubwatch(
+        &[
+            "export",
+            exs,
+            "--out",
+            dir.path().join("d.csv").to_str().unwrap(),
+            "--columns",
+            "person_id,shoe_size",
+        ],
+        None,
+    );
+    assert_eq!(code, 2);
+    assert!(err.contains("no column \"shoe_size\""), "{err}");
+    // Q2 reached (in the workspace, beside the export): --not-reached leaves Q2 out, and the
+    // exported list shows the state.
+    let (code, _, err) = hubwatch(
+        &["followup", exs, "--person", "Q2", "--set", "reached"],
+        None,
+    );
+    assert_eq!(code, 0, "{err}");
+    let (_, json, _) = hubwatch(
+        &[
+            "priority",
+            exs,
+            "--as-of",
+            "2024-03-10",
+            "--json",
+            "--top",
+            "0",
+            "--not-reached",
+        ],
+        None,
+    );
+    let v: serde_json::Value = serde_json::from_str(&json).unwrap();
+    let ids: Vec<&str> = v["list"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|r| r["id"].as_str().unwrap())
+        .collect();
+    assert!(!ids.contains(&"Q2") && ids.contains(&"Q1"), "{ids:?}");
+    let out = dir.path().join("s.csv");
+    assert_eq!(
+        hubwatch(
+            &[
+                "export",
+                exs,
+                "--as-of",
+                "2024-03-10",
+                "--out",
+                out.to_str().unwrap(),
+                "--columns",
+                "person_id,followup"
+            ],
+            None
+        )
+        .0,
+        0
+    );
+    assert!(std::fs::read_to_string(&out)
+        .unwrap()
+        .lines()
+        .any(|l| l == "Q2,reached"));
+}
