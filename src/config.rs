@@ -86,17 +86,23 @@ impl Default for Config {
     }
 }
 
+/// Parse built-in defaults and lay the user's file (if any) over them, key by key.
+pub(crate) fn layered(defaults: &str, what: &str, user_file: Option<&Path>) -> Result<toml::Table> {
+    let mut merged: toml::Table =
+        toml::from_str(defaults).map_err(|e| Error::Config(format!("built-in {what}: {e}")))?;
+    if let Some(path) = user_file {
+        let text = std::fs::read_to_string(path).map_err(|e| Error::io(path, e))?;
+        let user: toml::Table =
+            toml::from_str(&text).map_err(|e| Error::Config(format!("{}: {e}", path.display())))?;
+        overlay(&mut merged, user);
+    }
+    Ok(merged)
+}
+
 impl Config {
     /// Load the defaults, then lay the user's file (if any) over them.
     pub fn load(user_file: Option<&Path>) -> Result<Config> {
-        let mut merged: toml::Table = toml::from_str(DEFAULT_TOML)
-            .map_err(|e| Error::Config(format!("built-in defaults: {e}")))?;
-        if let Some(path) = user_file {
-            let text = std::fs::read_to_string(path).map_err(|e| Error::io(path, e))?;
-            let user: toml::Table = toml::from_str(&text)
-                .map_err(|e| Error::Config(format!("{}: {e}", path.display())))?;
-            overlay(&mut merged, user);
-        }
+        let merged = layered(DEFAULT_TOML, "defaults", user_file)?;
         let config: Config = toml::Value::Table(merged).try_into().map_err(|e| {
             let file = user_file
                 .map(|p| p.display().to_string())
@@ -137,7 +143,7 @@ impl Config {
 }
 
 /// Lay `user` over `base`: tables merge key by key, any other value replaces.
-pub(crate) fn overlay(base: &mut toml::Table, user: toml::Table) {
+fn overlay(base: &mut toml::Table, user: toml::Table) {
     for (key, value) in user {
         match (base.get_mut(&key), value) {
             (Some(toml::Value::Table(b)), toml::Value::Table(u)) => overlay(b, u),

@@ -91,14 +91,7 @@ pub struct Pathogen {
 impl PriorityConfig {
     /// The shipped defaults with an optional user file laid over them.
     pub fn load(user: Option<&Path>) -> Result<PriorityConfig> {
-        let mut t: toml::Table = toml::from_str(DEFAULT_TOML)
-            .map_err(|e| Error::Config(format!("built-in priority settings: {e}")))?;
-        if let Some(p) = user {
-            let text = std::fs::read_to_string(p).map_err(|e| Error::io(p, e))?;
-            let u: toml::Table = toml::from_str(&text)
-                .map_err(|e| Error::Config(format!("{}: {e}", p.display())))?;
-            crate::config::overlay(&mut t, u);
-        }
+        let t = crate::config::layered(DEFAULT_TOML, "priority settings", user)?;
         let c: PriorityConfig = toml::Value::Table(t)
             .try_into()
             .map_err(|e| Error::Config(format!("priority settings: {e}")))?;
