@@ -12,6 +12,7 @@ pub mod fits;
 pub mod mixing;
 pub mod neighbours;
 pub mod network;
+pub mod outlook;
 pub mod structure;
 
 /// A statistic that may be undefined; the error is the reason, in words.
