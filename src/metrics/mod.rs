@@ -13,6 +13,7 @@ pub mod mixing;
 pub mod neighbours;
 pub mod network;
 pub mod outlook;
+pub mod reach;
 pub mod structure;
 
 /// A statistic that may be undefined; the error is the reason, in words.
