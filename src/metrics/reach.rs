@@ -27,6 +27,22 @@ fn find(parent: &mut [u32], mut x: u32) -> u32 {
     x
 }
 
+/// Join the clusters of `a` and `b` (union by size); returns the size of the joined cluster.
+fn union(parent: &mut [u32], size: &mut [u32], a: u32, b: u32) -> u32 {
+    let (a, b) = (find(parent, a), find(parent, b));
+    if a == b {
+        return size[a as usize];
+    }
+    let (big, small) = if size[a as usize] >= size[b as usize] {
+        (a, b)
+    } else {
+        (b, a)
+    };
+    parent[small as usize] = big;
+    size[big as usize] += size[small as usize];
+    size[big as usize]
+}
+
 /// Curve for removing `order` (distinct node indices; people not in it are never removed).
 pub fn reach_curve(g: &Adjacency, order: &[u32]) -> ReachCurve {
     let n = g.node_count();
@@ -51,17 +67,7 @@ pub fn reach_curve(g: &Adjacency, order: &[u32]) -> ReachCurve {
             if present[w as usize] {
                 deg[v as usize] += 1;
                 if v < w {
-                    let (a, b) = (find(&mut parent, v), find(&mut parent, w));
-                    if a != b {
-                        let (big, small) = if size[a as usize] >= size[b as usize] {
-                            (a, b)
-                        } else {
-                            (b, a)
-                        };
-                        parent[small as usize] = big;
-                        size[big as usize] += size[small as usize];
-                        largest = largest.max(size[big as usize]);
-                    }
+                    largest = largest.max(union(&mut parent, &mut size, v, w));
                 }
             }
         }
@@ -96,17 +102,7 @@ pub fn reach_curve(g: &Adjacency, order: &[u32]) -> ReachCurve {
             s2 += 2 * deg[wi];
             s1 += 1;
             deg[wi] += 1;
-            let (a, b) = (find(&mut parent, v), find(&mut parent, w));
-            if a != b {
-                let (big, small) = if size[a as usize] >= size[b as usize] {
-                    (a, b)
-                } else {
-                    (b, a)
-                };
-                parent[small as usize] = big;
-                size[big as usize] += size[small as usize];
-                largest = largest.max(size[big as usize]);
-            }
+            largest = largest.max(union(&mut parent, &mut size, v, w));
         }
         deg[vi] = k;
         s1 += k;
