@@ -134,3 +134,30 @@ fn edge_cases_and_the_curve() {
         .windows(2)
         .all(|w| w[1].final_size.unwrap() >= w[0].final_size.unwrap() - 1e-12));
 }
+
+#[test]
+fn just_above_the_threshold() {
+    // Poisson c = 4 (G0 = G1 = exp(c(x-1)), methods.md §4): S solves S = 1 - exp(-R0 S). Just above
+    // T_c = 0.25 the root is nearly double, where plain iteration crawls; the solver must still
+    // meet the equation to 1e-12 and give S ~ 2 (R0 - 1) (series of the Lambert-W form,
+    // derived here).
+    let p = poisson(4.0, 120);
+    for eps in [1e-3, 1e-5, 1e-7] {
+        let t = 0.25 * (1.0 + eps);
+        let o = indicators(&p, t);
+        let s = o.final_size.expect("S defined above threshold");
+        let r0 = o.r0.unwrap();
+        assert!(
+            (s - (1.0 - (-r0 * s).exp())).abs() < 1e-12,
+            "eps {eps}: S {s}"
+        );
+        // S = 2x - (8/3)x^2 + ..., x = R0 - 1; a nearly double root is fixed by floating point
+        // only to ~sqrt(machine epsilon) in u, so allow 1e-8 absolute on top of the series term.
+        let x = r0 - 1.0;
+        assert!(
+            (s - 2.0 * x).abs() <= 3.0 * x * x + 1e-8,
+            "eps {eps}: S {s} vs 2(R0 - 1) {}",
+            2.0 * x
+        );
+    }
+}

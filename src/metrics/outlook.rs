@@ -5,8 +5,8 @@
 //! degree-correlated, and every report of these figures says so.
 //!
 //! G0(x) = sum p_k x^k, G1(x) = G0'(x)/G0'(1); u is the smallest root in [0, 1] of
-//! u = G1(1 - T + T u), found by iterating from 0 to a tolerance (never a fixed count: near the
-//! threshold convergence is slow); S = 1 - G0(1 - T + T u).
+//! u = G1(1 - T + T u), found by Newton's method from 0 to a tolerance (never a fixed count: near
+//! the threshold plain iteration is very slow); S = 1 - G0(1 - T + T u).
 
 use super::Stat;
 
@@ -41,6 +41,69 @@ fn g1(p: &[f64], mean: f64, x: f64) -> f64 {
         .rev()
         .fold(0.0, |acc, k| acc * x + k as f64 * p[k])
         / mean
+}
+
+/// G1'(x) = sum_k k (k-1) p_k x^(k-2) / <k>.
+fn g1_prime(p: &[f64], mean: f64, x: f64) -> f64 {
+    (2..p.len())
+        .rev()
+        .fold(0.0, |acc, k| acc * x + (k * (k - 1)) as f64 * p[k])
+        / mean
+}
+
+/// Smallest root in [0, 1) of f(u) = G1(1 - T + T u) - u when T kappa > 1.
+///
+/// f is convex on [0, 1] with f(0) >= 0, f(1) = 0 and f'(1) = T kappa - 1 > 0, so f' < 0 left of
+/// the smallest root and Newton's method started at 0 climbs to it monotonically (quadratically
+/// once close; about halving the gap per step when the root is nearly double, just above the
+/// threshold). Steps stop at a tolerance of 1e-15 on u, not after a fixed count; if rounding ever
+/// breaks monotonicity the bracket [lo, 1) is bisected instead.
+fn smallest_root(p: &[f64], mean: f64, t: f64) -> Option<f64> {
+    let f = |u: f64| g1(p, mean, 1.0 - t + t * u) - u;
+    let mut u = 0.0f64;
+    for _ in 0..500 {
+        let fu = f(u);
+        if fu <= 0.0 {
+            return Some(u);
+        }
+        let slope = t * g1_prime(p, mean, 1.0 - t + t * u) - 1.0;
+        let next = if slope < 0.0 { u - fu / slope } else { 1.0 };
+        if !(next > u && next < 1.0) {
+            return bisect(&f, u);
+        }
+        if next - u <= 1e-15 {
+            return Some(next);
+        }
+        u = next;
+    }
+    bisect(&f, u)
+}
+
+/// Bisection for the sign change of `f` in [lo, 1): f(lo) > 0 and f < 0 just below 1.
+fn bisect(f: &dyn Fn(f64) -> f64, lo: f64) -> Option<f64> {
+    // Find a point below 1 where f is negative.
+    let mut hi = 1.0 - 1e-3 * (1.0 - lo);
+    let mut tries = 0;
+    while f(hi) >= 0.0 {
+        hi = 1.0 - (1.0 - hi) * 1e-2;
+        tries += 1;
+        if tries > 8 || hi >= 1.0 {
+            return None;
+        }
+    }
+    let mut lo = lo;
+    while hi - lo > 1e-15 {
+        let mid = 0.5 * (lo + hi);
+        if mid <= lo || mid >= hi {
+            break;
+        }
+        if f(mid) > 0.0 {
+            lo = mid;
+        } else {
+            hi = mid;
+        }
+    }
+    Some(0.5 * (lo + hi))
 }
 
 /// Indicators for the degree distribution `p` (p[k] = share of people with k contacts).
@@ -80,27 +143,16 @@ pub fn indicators(p: &[f64], t: f64) -> Outlook {
         Err("at or above the threshold (R0 >= 1)")
     };
     // At or below threshold the smallest root is u = 1: no large outbreak.
+    // At or below threshold the smallest root is u = 1: no large outbreak.
     let (u, s): (Stat, Stat) = if r0 <= 1.0 {
         (Ok(1.0), Ok(0.0))
     } else {
-        let mut u = 0.0f64;
-        let mut converged = false;
-        for _ in 0..50_000_000 {
-            let next = g1(p, mean, 1.0 - t + t * u);
-            if (next - u).abs() <= 1e-15 {
-                u = next;
-                converged = true;
-                break;
-            }
-            u = next;
-        }
-        if converged {
-            (Ok(u), Ok(1.0 - g0(p, 1.0 - t + t * u)))
-        } else {
-            (
+        match smallest_root(p, mean, t) {
+            Some(u) => (Ok(u), Ok(1.0 - g0(p, 1.0 - t + t * u))),
+            None => (
                 Err("did not converge (too close to the threshold)"),
                 Err("did not converge (too close to the threshold)"),
-            )
+            ),
         }
     };
     Outlook {
