@@ -3,8 +3,12 @@
 
 mod common;
 
-use hubwatch::metrics::reach::{degree_order, reach_curve};
+use hubwatch::metrics::reach::{
+    acquaintance_order, acquaintance_probabilities, average, configuration_model_kappa,
+    degree_order, random_order, random_removal_exact, reach_curve,
+};
 use proptest::prelude::*;
+use rand::SeedableRng;
 
 fn direct(n: usize, edges: &[(u32, u32)], removed: &[u32]) -> (u32, Option<f64>) {
     let gone: std::collections::HashSet<u32> = removed.iter().copied().collect();
@@ -97,12 +101,111 @@ fn karate_removal_table() {
         );
         assert_eq!(c.largest[k], largest, "largest after {k}");
     }
-    // The static degree ranking (ties by smaller node index) starts 33, 0, 32, 2 on karate
-    // (node indices follow first sight in the file; compare by ID).
-    let by_degree: Vec<&str> = degree_order(&d.graph)
+    // The static degree ranking (ties by smaller ID) starts 33, 0, 32, 2 on karate (methods.md §5).
+    let by_degree: Vec<&str> = degree_order(&d.graph, &d.ids)
         .iter()
         .take(4)
         .map(|&v| d.ids.name(v))
         .collect();
-    assert_eq!(by_degree[..3], ["33", "0", "32"]);
+    assert_eq!(by_degree, ["33", "0", "32", "2"]);
+}
+
+#[test]
+fn ties_by_smaller_id() {
+    // Star with centre 9 and leaves 10, 2, 7 (common practice: state the tie rule; methods.md §5
+    // says smaller ID). Numeric IDs compare as numbers, so 2 < 7 < 10.
+    let dir = tempfile::tempdir().unwrap();
+    let e = dir.path().join("e.csv");
+    std::fs::write(&e, "source_id,target_id\n9,10\n9,2\n9,7\n").unwrap();
+    let d = common::load(&[&e], &[]);
+    let names: Vec<&str> = degree_order(&d.graph, &d.ids)
+        .iter()
+        .map(|&v| d.ids.name(v))
+        .collect();
+    assert_eq!(names, ["9", "2", "7", "10"]);
+}
+
+#[test]
+fn karate_random_removal_matches_the_exact_finite_ratio() {
+    // methods.md §5: m of N = 34 removed uniformly: E[sum k'(k'-1)] / E[sum k'] =
+    // kappa (N-m-2)/(N-2): m = 4 -> 5.923077, m = 10 -> 4.653846. Monte Carlo over 20,000 seeded
+    // orders must land within 1%.
+    let Some(p) = common::check_input("graph-karate.csv") else {
+        eprintln!("SKIP: ../shared/reference/check-inputs not found");
+        return;
+    };
+    let d = common::load(&[&p], &[]);
+    assert!((random_removal_exact(6.769231, 34, 4).unwrap() - 5.923077).abs() < 1e-6);
+    assert!((random_removal_exact(6.769231, 34, 10).unwrap() - 4.653846).abs() < 1e-6);
+    let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(7);
+    let curves: Vec<_> = (0..20_000)
+        .map(|_| {
+            let order = random_order(34, &mut rng);
+            reach_curve(&d.graph, &order[..10])
+        })
+        .collect();
+    let mean = average(&curves);
+    for (m, want) in [(4, 5.923077), (10, 4.653846)] {
+        let got = mean.kappa[m].unwrap();
+        assert!((got - want).abs() < 0.01 * want, "m = {m}: {got} vs {want}");
+    }
+}
+
+#[test]
+fn karate_acquaintance_probabilities() {
+    // methods.md §5: largest pi_j: 33 0.1696078, 0 0.1527778, 32 0.1095732; expected degree of
+    // a pick 9.610210.
+    let Some(p) = common::check_input("graph-karate.csv") else {
+        eprintln!("SKIP: ../shared/reference/check-inputs not found");
+        return;
+    };
+    let d = common::load(&[&p], &[]);
+    let pi = acquaintance_probabilities(&d.graph);
+    assert!((pi.iter().sum::<f64>() - 1.0).abs() < 1e-12);
+    for (id, want) in [("33", 0.1696078), ("0", 0.1527778), ("32", 0.1095732)] {
+        let got = pi[d.ids.get(id).unwrap() as usize];
+        assert!((got - want).abs() < 5e-7, "pi_{id}: {got}");
+    }
+    let mean_pick: f64 = (0..34u32)
+        .map(|v| pi[v as usize] * d.graph.out_degree(v) as f64)
+        .sum();
+    assert!((mean_pick - 9.610210).abs() < 5e-6, "{mean_pick}");
+    // The sampled order: the share of 10,000 seeded orders whose first pick is person 33 is
+    // pi_33 within 3 standard errors (binomial; common practice, no source).
+    let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(11);
+    let centre = d.ids.get("33").unwrap();
+    let hits = (0..10_000)
+        .filter(|_| acquaintance_order(&d.graph, &mut rng)[0] == centre)
+        .count() as f64
+        / 10_000.0;
+    let se = (0.1696078f64 * (1.0 - 0.1696078) / 10_000.0).sqrt();
+    assert!((hits - 0.1696078).abs() < 3.0 * se, "{hits}");
+    // Everyone with a contact appears exactly once.
+    let mut o = acquaintance_order(&d.graph, &mut rng);
+    o.sort();
+    assert_eq!(o, (0..34).collect::<Vec<u32>>());
+}
+
+#[test]
+fn dist_small_configuration_model_removal() {
+    // methods.md §5, dist-small (p_0..p_8 = .1,.2,.3,.2,0,.1,0,0,.1 as ten people): removing all
+    // with k >= 5 (20%) -> kappa' = 2/3; removing a random 20% -> 2.785185 (from 3.481481), the
+    // mean over all 45 pairs of removed people.
+    let degrees = [0u32, 1, 1, 2, 2, 2, 3, 3, 5, 8];
+    let c = configuration_model_kappa(&degrees, &[9, 8]);
+    assert!((c[0].unwrap() - 3.4814815).abs() < 5e-7);
+    assert!((c[2].unwrap() - 2.0 / 3.0).abs() < 1e-12);
+    let mut sum = 0.0;
+    let mut pairs = 0;
+    for a in 0..10u32 {
+        for b in a + 1..10 {
+            sum += configuration_model_kappa(&degrees, &[a, b])[2].unwrap();
+            pairs += 1;
+        }
+    }
+    assert!(
+        (sum / pairs as f64 - 2.785185).abs() < 5e-7,
+        "{}",
+        sum / pairs as f64
+    );
 }

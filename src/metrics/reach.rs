@@ -6,8 +6,12 @@
 //! updating cluster sizes and the residual degree sums as each person returns, instead of one
 //! graph walk per n.
 
+use rand::seq::SliceRandom;
+use rand::Rng;
+
 use super::Stat;
 use crate::graph::Adjacency;
+use crate::ids::IdMap;
 
 /// The curve for one removal order.
 #[derive(Debug, Clone, PartialEq)]
@@ -16,6 +20,10 @@ pub struct ReachCurve {
     pub largest: Vec<u32>,
     /// `kappa[n]`: mean excess degree of the remaining network (undefined when no contact is left).
     pub kappa: Vec<Stat>,
+    /// `s1[n]`: sum of residual degrees (twice the contacts left).
+    pub s1: Vec<u64>,
+    /// `s2[n]`: sum of k'(k'-1) over the people left.
+    pub s2: Vec<u64>,
 }
 
 fn find(parent: &mut [u32], mut x: u32) -> u32 {
@@ -41,6 +49,14 @@ fn union(parent: &mut [u32], size: &mut [u32], a: u32, b: u32) -> u32 {
     parent[small as usize] = big;
     size[big as usize] += size[small as usize];
     size[big as usize]
+}
+
+fn kappa_of(s1: u64, s2: u64) -> Stat {
+    if s1 == 0 {
+        Err("no contacts left")
+    } else {
+        Ok(s2 as f64 / s1 as f64)
+    }
 }
 
 /// Curve for removing `order` (distinct node indices; people not in it are never removed).
@@ -78,15 +94,10 @@ pub fn reach_curve(g: &Adjacency, order: &[u32]) -> ReachCurve {
             s2 += deg[v] * deg[v].saturating_sub(1);
         }
     }
-    let kappa_of = |s1: u64, s2: u64| -> Stat {
-        if s1 == 0 {
-            Err("no contacts left")
-        } else {
-            Ok(s2 as f64 / s1 as f64)
-        }
-    };
     let mut largest_rev = vec![largest];
     let mut kappa_rev = vec![kappa_of(s1, s2)];
+    let mut s1_rev = vec![s1];
+    let mut s2_rev = vec![s2];
     for &v in order.iter().rev() {
         let vi = v as usize;
         present[vi] = true;
@@ -109,20 +120,163 @@ pub fn reach_curve(g: &Adjacency, order: &[u32]) -> ReachCurve {
         s2 += k * k.saturating_sub(1);
         largest_rev.push(largest);
         kappa_rev.push(kappa_of(s1, s2));
+        s1_rev.push(s1);
+        s2_rev.push(s2);
     }
     largest_rev.reverse();
     kappa_rev.reverse();
+    s1_rev.reverse();
+    s2_rev.reverse();
     debug_assert_eq!(largest_rev.len(), m + 1);
     ReachCurve {
         largest: largest_rev,
         kappa: kappa_rev,
+        s1: s1_rev,
+        s2: s2_rev,
     }
 }
 
-/// Highest degree first: a static ranking on the original degrees, ties by smaller node index
-/// (state the rule with the results; adaptive re-ranking would be a different strategy).
-pub fn degree_order(g: &Adjacency) -> Vec<u32> {
-    let mut v: Vec<u32> = (0..g.node_count() as u32).collect();
-    v.sort_by(|&a, &b| g.out_degree(b).cmp(&g.out_degree(a)).then(a.cmp(&b)));
+/// Highest degree first: a static ranking on the original degrees, ties by the smaller ID
+/// (numeric IDs compare as numbers, others as text). This is the rule methods.md §5 states;
+/// adaptive re-ranking after each removal would be a different strategy.
+pub fn degree_order(g: &Adjacency, ids: &IdMap) -> Vec<u32> {
+    let n = g.node_count();
+    // Rank every person by ID once, so the sort below compares integers.
+    let mut by_id: Vec<u32> = (0..n as u32).collect();
+    let numeric: Option<Vec<u64>> = (0..n as u32)
+        .map(|v| ids.name(v).parse::<u64>().ok())
+        .collect();
+    match &numeric {
+        Some(num) => by_id.sort_unstable_by_key(|&v| num[v as usize]),
+        None => by_id.sort_unstable_by(|&a, &b| ids.name(a).cmp(ids.name(b))),
+    }
+    let mut id_rank = vec![0u32; n];
+    for (r, &v) in by_id.iter().enumerate() {
+        id_rank[v as usize] = r as u32;
+    }
+    let mut v: Vec<u32> = (0..n as u32).collect();
+    v.sort_unstable_by_key(|&a| (std::cmp::Reverse(g.out_degree(a)), id_rank[a as usize]));
     v
+}
+
+/// Acquaintance draw (Cohen, Havlin & ben-Avraham 2003): a random person with contacts, then a
+/// random contact of theirs. Person j is picked with probability
+/// pi_j = (1/N+) sum over contacts i of j of 1/k_i (methods.md §5), N+ = people with contacts.
+pub fn acquaintance_probabilities(g: &Adjacency) -> Vec<f64> {
+    let n = g.node_count();
+    let with_contacts = (0..n as u32).filter(|&v| g.out_degree(v) > 0).count();
+    let mut pi = vec![0.0; n];
+    if with_contacts == 0 {
+        return pi;
+    }
+    for i in 0..n as u32 {
+        let k = g.out_degree(i);
+        if k == 0 {
+            continue;
+        }
+        let share = 1.0 / (k as f64 * with_contacts as f64);
+        for &j in g.neighbors_slice(i) {
+            pi[j as usize] += share;
+        }
+    }
+    pi
+}
+
+/// The order in which repeated acquaintance draws first reach each person. Drawing with
+/// replacement and skipping repeats is weighted sampling without replacement in proportion to
+/// pi_j, done in one sort with exponential keys E_j / pi_j (Efraimidis & Spirakis 2006, Inf.
+/// Process. Lett. 97:181). People without contacts are never drawn and are not in the order.
+pub fn acquaintance_order(g: &Adjacency, rng: &mut impl Rng) -> Vec<u32> {
+    let pi = acquaintance_probabilities(g);
+    let mut keyed: Vec<(f64, u32)> = pi
+        .iter()
+        .enumerate()
+        .filter(|(_, &p)| p > 0.0)
+        .map(|(j, &p)| {
+            let e: f64 = -(1.0 - rng.random::<f64>()).ln();
+            (e / p, j as u32)
+        })
+        .collect();
+    keyed.sort_unstable_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
+    keyed.into_iter().map(|(_, j)| j).collect()
+}
+
+/// Everyone in a uniformly random order.
+pub fn random_order(n: usize, rng: &mut impl Rng) -> Vec<u32> {
+    let mut v: Vec<u32> = (0..n as u32).collect();
+    v.shuffle(rng);
+    v
+}
+
+/// Configuration-model prediction for the same removal: with the original degrees k and the
+/// people kept, kappa'_CM = sum over kept k(k-1) / sum over all k (Callaway, Newman, Strogatz &
+/// Watts 2000: sum_k k(k-1) p_k phi_k / <k>). It ignores who is next to whom, so the gap to the
+/// real curve shows how much the network's structure matters.
+pub fn configuration_model_kappa(degrees: &[u32], order: &[u32]) -> Vec<Stat> {
+    let k = |v: u32| degrees[v as usize] as u64;
+    let total: u64 = degrees.iter().map(|&d| d as u64).sum();
+    let mut kept: u64 = degrees
+        .iter()
+        .map(|&d| d as u64 * (d as u64).saturating_sub(1))
+        .sum();
+    let value = |kept: u64| -> Stat {
+        if total == 0 {
+            Err("no contacts")
+        } else {
+            Ok(kept as f64 / total as f64)
+        }
+    };
+    let mut out = Vec::with_capacity(order.len() + 1);
+    out.push(value(kept));
+    for &v in order {
+        kept -= k(v) * k(v).saturating_sub(1);
+        out.push(value(kept));
+    }
+    out
+}
+
+/// The mean of several curves of the same length (seeded repeats of a random strategy): the
+/// mean largest cluster, and kappa' as the ratio of the mean sums, E[sum k'(k'-1)] / E[sum k'],
+/// the quantity methods.md §5 gives exactly for random removal.
+#[derive(Debug, Clone, PartialEq)]
+pub struct MeanCurve {
+    /// Mean largest cluster after n removals.
+    pub largest: Vec<f64>,
+    /// Ratio of mean sums.
+    pub kappa: Vec<Stat>,
+}
+
+/// Average curves (all must have the same length).
+pub fn average(curves: &[ReachCurve]) -> MeanCurve {
+    let len = curves.iter().map(|c| c.largest.len()).min().unwrap_or(0);
+    let r = curves.len().max(1) as f64;
+    let largest = (0..len)
+        .map(|i| curves.iter().map(|c| c.largest[i] as f64).sum::<f64>() / r)
+        .collect();
+    let kappa = (0..len)
+        .map(|i| {
+            let s1: u64 = curves.iter().map(|c| c.s1[i]).sum();
+            let s2: u64 = curves.iter().map(|c| c.s2[i]).sum();
+            kappa_of(s1, s2)
+        })
+        .collect();
+    MeanCurve { largest, kappa }
+}
+
+impl From<ReachCurve> for MeanCurve {
+    fn from(c: ReachCurve) -> MeanCurve {
+        MeanCurve {
+            largest: c.largest.iter().map(|&x| x as f64).collect(),
+            kappa: c.kappa,
+        }
+    }
+}
+
+/// Expected kappa' after removing m of N people uniformly at random, exactly on the finite graph:
+/// E[sum k'(k'-1)] / E[sum k'] = kappa (N - m - 2) / (N - 2) (methods.md §5, derived there).
+pub fn random_removal_exact(kappa: f64, n: usize, m: usize) -> Stat {
+    if n <= 2 || m + 2 > n {
+        return Err("too few people left");
+    }
+    Ok(kappa * (n - m - 2) as f64 / (n - 2) as f64)
 }
