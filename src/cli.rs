@@ -78,6 +78,49 @@ pub enum Command {
         #[arg(long)]
         json: bool,
     },
+    /// Epidemic threshold, expected outbreak size, and how many people to reach (and whom) to
+    /// bring R below 1.
+    Outlook {
+        /// Loading options and paths.
+        #[command(flatten)]
+        load: LoadArgs,
+        /// Ranking options (for the priority strategy).
+        #[command(flatten)]
+        rank: PriorityArgs,
+        /// Transmissibility T in [0, 1] (default: the secondary attack rate of the export).
+        #[arg(long, value_name = "T")]
+        transmissibility: Option<f64>,
+        /// Strategies to follow (comma-separated; default all).
+        #[arg(long, value_enum, value_delimiter = ',')]
+        strategy: Vec<crate::planning::Strategy>,
+        /// Follow the reach curves up to N people (0 = everyone).
+        #[arg(long, default_value_t = 1000, value_name = "N")]
+        max_reach: usize,
+        /// Seeded repeats averaged for the random and acquaintance strategies.
+        #[arg(long, default_value_t = 10, value_name = "N")]
+        repeats: usize,
+        /// Seed of the first repeat.
+        #[arg(long, default_value_t = 1, value_name = "S")]
+        seed: u64,
+        /// Write the reach curves (every strategy, every n) to FILE.
+        #[arg(long, value_name = "FILE")]
+        curves_out: Option<PathBuf>,
+        /// Write the curve of R0 and final size over T to FILE.
+        #[arg(long, value_name = "FILE")]
+        t_curve_out: Option<PathBuf>,
+        /// Format of the curve files (default: from the extension).
+        #[arg(long, value_enum)]
+        format: Option<crate::export::Format>,
+        /// Replace existing curve files.
+        #[arg(long)]
+        force: bool,
+        /// Workspace file (follow-up states used by the priority strategy).
+        #[arg(long, value_name = "FILE")]
+        workspace: Option<PathBuf>,
+        /// Print one JSON object (keys documented in the README).
+        #[arg(long)]
+        json: bool,
+    },
     /// Write a list for the callers: the priority list, the flagged people, or the quarantine.
     Export {
         /// Loading options and paths.
@@ -542,26 +585,8 @@ fn export(
     sentinel: (usize, u64),
     columns: &[String],
 ) -> Result<()> {
-    use crate::export::{self as ex, Format};
-    let format = match format {
-        Some(f) => f,
-        None => match out
-            .extension()
-            .map(|e| e.to_string_lossy().to_lowercase())
-            .as_deref()
-        {
-            Some("csv") => Format::Csv,
-            Some("json") => Format::Json,
-            Some("parquet") => Format::Parquet,
-            Some("xlsx") => Format::Xlsx,
-            _ => {
-                return Err(Error::Usage(format!(
-                    "{}: give --format csv|json|parquet|xlsx (the extension does not say)",
-                    out.display()
-                )))
-            }
-        },
-    };
+    use crate::export as ex;
+    let format = ex::format_for(out, format)?;
     // Check the key before any work, so a missing key fails fast.
     let key = match pseudonymise {
         Some(key_file) => Some(ex::pseudonym_key(key_file)?),
@@ -827,6 +852,100 @@ pub fn run(cli: Cli) -> Result<()> {
                     &window,
                 )
             })
+        }
+        Some(Command::Outlook {
+            load,
+            rank,
+            transmissibility,
+            strategy,
+            max_reach,
+            repeats,
+            seed,
+            curves_out,
+            t_curve_out,
+            format,
+            force,
+            workspace,
+            json,
+        }) => {
+            use crate::planning::{self, Strategy};
+            if let Some(t) = transmissibility {
+                if !(0.0..=1.0).contains(&t) {
+                    return Err(Error::Usage(format!(
+                        "--transmissibility {t}: T is a probability, give a value from 0 to 1"
+                    )));
+                }
+            }
+            let outs: Vec<(&std::path::Path, crate::export::Format)> = [&curves_out, &t_curve_out]
+                .into_iter()
+                .flatten()
+                .map(|p| Ok((p.as_path(), crate::export::format_for(p, format)?)))
+                .collect::<Result<_>>()?;
+            for (p, _) in &outs {
+                if p.exists() && !force {
+                    return Err(Error::Usage(format!(
+                        "{} exists; add --force to replace it",
+                        p.display()
+                    )));
+                }
+            }
+            let d = load.load()?;
+            let strategies = if strategy.is_empty() {
+                Strategy::ALL.to_vec()
+            } else {
+                strategy
+            };
+            let priority_order = if strategies.contains(&Strategy::Priority) {
+                let list = rank.rank(&d, &workspace_states(&load, workspace.as_deref())?)?;
+                Some(list.ranked.iter().map(|r| r.node).collect())
+            } else {
+                None
+            };
+            let opts = planning::PlanOptions {
+                transmissibility,
+                strategies,
+                max_reach,
+                repeats,
+                seed,
+                ..Default::default()
+            };
+            let plan = planning::plan(&d, priority_order, &opts);
+            let meta = crate::export::Metadata {
+                entries: vec![
+                    ("caution".to_string(), crate::CAUTION.to_string()),
+                    (
+                        "model_caution".to_string(),
+                        planning::MODEL_CAUTION.to_string(),
+                    ),
+                    ("assumption".to_string(), plan.assumption()),
+                    ("as_of".to_string(), dates::iso(d.as_of)),
+                    ("view".to_string(), d.view.0.describe()),
+                    (
+                        "generated".to_string(),
+                        chrono::Utc::now().format("%Y-%m-%dT%H:%M:%SZ").to_string(),
+                    ),
+                ],
+            };
+            let mut written = String::new();
+            if let Some(p) = &curves_out {
+                let f = crate::export::format_for(p, format)?;
+                crate::export::write(&plan.reach_table(), &meta, f, p, force)?;
+                written.push_str(&format!("wrote the reach curves to {}\n", p.display()));
+            }
+            if let Some(p) = &t_curve_out {
+                let f = crate::export::format_for(p, format)?;
+                crate::export::write(&plan.transmissibility_table(), &meta, f, p, force)?;
+                written.push_str(&format!("wrote the curve over T to {}\n", p.display()));
+            }
+            if json {
+                emit(&to_json(&plan.to_json(&d.ids))?)?;
+                if !written.is_empty() {
+                    eprint!("{written}");
+                }
+                Ok(())
+            } else {
+                emit(&format!("{}{written}", plan.text(&d.ids)))
+            }
         }
         Some(Command::Export {
             load,

@@ -84,6 +84,27 @@ pub enum Format {
     Xlsx,
 }
 
+/// The format given, else the one the extension of `out` names.
+pub fn format_for(out: &Path, given: Option<Format>) -> Result<Format> {
+    if let Some(f) = given {
+        return Ok(f);
+    }
+    match out
+        .extension()
+        .map(|e| e.to_string_lossy().to_lowercase())
+        .as_deref()
+    {
+        Some("csv") => Ok(Format::Csv),
+        Some("json") => Ok(Format::Json),
+        Some("parquet") => Ok(Format::Parquet),
+        Some("xlsx") => Ok(Format::Xlsx),
+        _ => Err(Error::Usage(format!(
+            "{}: give --format csv|json|parquet|xlsx (the extension does not say)",
+            out.display()
+        ))),
+    }
+}
+
 /// Neutralise a cell a spreadsheet would read as a formula: prefix an apostrophe.
 pub fn escape_formula(s: &str) -> String {
     if s.starts_with(['=', '+', '-', '@', '\t', '\r']) {

@@ -18,6 +18,7 @@ pub mod ids;
 pub mod ingest;
 pub mod lists;
 pub mod metrics;
+pub mod planning;
 pub mod priority;
 pub mod report;
 pub mod sample;
