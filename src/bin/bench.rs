@@ -130,6 +130,27 @@ fn one(dir: &Path) -> Result<(), String> {
     } else {
         f64::NAN
     };
+    // Outlook: full reach curves (everyone) for the degree and acquaintance strategies (one
+    // order each), and the S(T) curve of 101 points; baseline in the same process: one
+    // connected-components pass over the same graph.
+    let t = Instant::now();
+    std::hint::black_box(hubwatch::graph::components(&d.graph));
+    let components_seconds = t.elapsed().as_secs_f64();
+    let t = Instant::now();
+    let order = hubwatch::metrics::reach::degree_order(&d.graph, &d.ids);
+    let curve = hubwatch::metrics::reach::reach_curve(&d.graph, &order);
+    std::hint::black_box(&curve);
+    let degree_curve_seconds = t.elapsed().as_secs_f64();
+    let t = Instant::now();
+    let mut rng = <rand_chacha::ChaCha8Rng as rand::SeedableRng>::seed_from_u64(1);
+    let order = hubwatch::metrics::reach::acquaintance_order(&d.graph, &mut rng);
+    let curve = hubwatch::metrics::reach::reach_curve(&d.graph, &order);
+    std::hint::black_box(&curve);
+    let acquaintance_curve_seconds = t.elapsed().as_secs_f64();
+    let p = hubwatch::metrics::degree::degree_stats(&hubwatch::graph::degrees(&d.graph)).p();
+    let t = Instant::now();
+    std::hint::black_box(hubwatch::metrics::outlook::curve(&p, 101));
+    let t_curve_seconds = t.elapsed().as_secs_f64();
     let (graph_build, graph_walk, csr_walk) = graph_alternative(&d);
     let (csr_bytes, graph_bytes) = structure_bytes(&d);
     let out = json!({
@@ -137,6 +158,8 @@ fn one(dir: &Path) -> Result<(), String> {
         "floor": floor, "total": total, "stages": d.timings,
         "stats_seconds": stats_seconds, "rank_seconds": rank_seconds, "ranked": ranked.len(), "null_seconds": null_seconds, "peak_after_stats": ingest::peak_mib(),
         "csr_bytes": csr_bytes, "csr_walk": csr_walk,
+        "components_seconds": components_seconds, "degree_curve_seconds": degree_curve_seconds,
+        "acquaintance_curve_seconds": acquaintance_curve_seconds, "t_curve_seconds": t_curve_seconds, "max_degree": p.len() - 1,
         "graph_build": graph_build, "graph_walk": graph_walk, "graph_bytes": graph_bytes,
     });
     println!("{out}");
@@ -260,6 +283,7 @@ fn main() {
     println!("| rows | MB | read bytes (floor) | parse | check+intern | merge pairs | graph | total | rows/s | peak MiB | reference (Python polars) | ref. peak MiB | reference / hubwatch |");
     println!("|---|---|---|---|---|---|---|---|---|---|---|---|---|");
     let mut graph_rows = Vec::new();
+    let mut outlook_rows: Vec<String> = Vec::new();
     let mut stats_rows: Vec<String> = Vec::new();
     for rows in sizes {
         let dir = base.join(format!("synth-{rows}"));
@@ -312,6 +336,18 @@ fn main() {
             v["rows"], f("bytes") / 1e6, f("floor"), s("parse"), s("reconcile"), s("merge_pairs"), s("graph"), total,
             f("rows") / total / 1e6, p(0), p(1), p(2), ref_s, ref_peak, ref_s / total
         );
+        outlook_rows.push(format!(
+            "| {} | {} | {:.3} s | {:.3} s ({:.1}x) | {:.3} s ({:.1}x) | {:.1} ms | {} |",
+            v["rows"],
+            v["people"],
+            f("components_seconds"),
+            f("degree_curve_seconds"),
+            f("degree_curve_seconds") / f("components_seconds"),
+            f("acquaintance_curve_seconds"),
+            f("acquaintance_curve_seconds") / f("components_seconds"),
+            f("t_curve_seconds") * 1e3,
+            v["max_degree"],
+        ));
         graph_rows.push(format!(
             "| {} | {:.3} s | {:.3} s | {:.0} MiB | {:.3} s | {:.3} s | {:.0} MiB |",
             v["rows"],
@@ -327,6 +363,12 @@ fn main() {
     println!("| rows | load | statistics | whole | peak MiB | reference | ref. peak MiB | reference / hubwatch | null model (5 x 10 swaps per pair) |");
     println!("|---|---|---|---|---|---|---|---|---|");
     for r in stats_rows {
+        println!("{r}");
+    }
+    println!("\nOutlook: full reach curves (everyone removed in order; one order each) and the S(T) curve of 101 points; ratio = time / one connected-components pass on the same graph\n");
+    println!("| rows | people | components (baseline) | degree curve | acquaintance curve | S(T) 101 points | max degree |");
+    println!("|---|---|---|---|---|---|---|");
+    for r in outlook_rows {
         println!("{r}");
     }
     println!("\nAdjacency: petgraph Csr (used) vs petgraph Graph from the same pairs; walk = every person's contacts' degrees\n");
