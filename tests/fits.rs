@@ -187,3 +187,31 @@ fn power_law_tail_with_xmin_by_ks() {
         close(p.ks, d, 1e-5, &format!("D at x_min {xmin}"));
     }
 }
+
+#[test]
+fn fitted_probability_functions() {
+    // scipy.stats.poisson.pmf(3, 2.5) = 0.2137630172497364; scipy.stats.geom on {0,1,...}
+    // (loc=-1) pmf(2, p=0.25) = 0.25 * 0.75^2 = 0.140625; scipy.stats.nbinom.pmf(2, n=2, p=0.5)
+    // = 0.1875 (mean R = 2, k = 2). Values from memory, each also a closed form.
+    use hubwatch::metrics::fits::Fit;
+    let f = |model, params| Fit {
+        model,
+        params,
+        log_lik: Ok(0.0),
+        aic: Ok(0.0),
+    };
+    let p = f("poisson", vec![("lambda", Ok(2.5))]).pmf(3).unwrap();
+    assert!((p - 0.2137630172497364).abs() < 1e-12, "{p}");
+    let g = f("geometric", vec![("p", Ok(0.25))]).pmf(2).unwrap();
+    assert!((g - 0.140625).abs() < 1e-15);
+    let nb = f("negative_binomial", vec![("R", Ok(2.0)), ("k", Ok(2.0))]);
+    assert!((nb.pmf(2).unwrap() - 0.1875).abs() < 1e-12);
+    let total: f64 = (0..400).map(|x| nb.pmf(x).unwrap()).sum();
+    assert!((total - 1.0).abs() < 1e-12, "{total}");
+    assert!(f(
+        "negative_binomial",
+        vec![("R", Ok(2.0)), ("k", Err("none"))]
+    )
+    .pmf(1)
+    .is_err());
+}

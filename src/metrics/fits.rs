@@ -82,6 +82,42 @@ pub struct Fit {
     pub aic: Stat,
 }
 
+impl Fit {
+    /// Probability of the value `x` under the fitted model (Poisson, geometric, negative
+    /// binomial with mean R and dispersion k); undefined where a parameter is.
+    pub fn pmf(&self, x: u64) -> Stat {
+        let param = |name: &str| {
+            self.params
+                .iter()
+                .find(|(n, _)| *n == name)
+                .map(|(_, v)| *v)
+                .unwrap_or(Err("missing parameter"))
+        };
+        let x = x as f64;
+        match self.model {
+            "poisson" => param("lambda").map(|l| {
+                if l == 0.0 {
+                    f64::from(u8::from(x == 0.0))
+                } else {
+                    (x * l.ln() - l - ln_gamma(x + 1.0)).exp()
+                }
+            }),
+            "geometric" => param("p").map(|p| p * (1.0 - p).powf(x)),
+            "negative_binomial" => {
+                let (r, k) = (param("R")?, param("k")?);
+                if r == 0.0 {
+                    return Ok(f64::from(u8::from(x == 0.0)));
+                }
+                Ok((ln_gamma(x + k) - ln_gamma(k) - ln_gamma(x + 1.0)
+                    + k * (k / (k + r)).ln()
+                    + x * (r / (k + r)).ln())
+                .exp())
+            }
+            _ => Err("no probability function for this model"),
+        }
+    }
+}
+
 fn fit(model: &'static str, params: Vec<(&'static str, Stat)>, p: usize, log_lik: Stat) -> Fit {
     Fit {
         model,
