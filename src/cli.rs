@@ -32,6 +32,12 @@ pub struct Cli {
     /// Loading options and paths, for the default action.
     #[command(flatten)]
     pub load: LoadArgs,
+    /// Ranking options, for the dashboard.
+    #[command(flatten)]
+    pub rank: PriorityArgs,
+    /// Workspace file (flags, follow-up states, notes), for the dashboard.
+    #[arg(long, value_name = "FILE")]
+    pub workspace: Option<PathBuf>,
 }
 
 /// The commands.
@@ -39,6 +45,18 @@ pub struct Cli {
 #[allow(clippy::large_enum_variant)]
 #[derive(Debug, Subcommand)]
 pub enum Command {
+    /// The terminal dashboard (what `hubwatch [PATH...]` opens on a terminal).
+    Dashboard {
+        /// Loading options and paths.
+        #[command(flatten)]
+        load: LoadArgs,
+        /// Ranking options.
+        #[command(flatten)]
+        rank: PriorityArgs,
+        /// Workspace file for flags, follow-up states and notes.
+        #[arg(long, value_name = "FILE")]
+        workspace: Option<PathBuf>,
+    },
     /// Account for every input row: used, merged or quarantined, and every field problem.
     Check {
         /// Loading options and paths.
@@ -330,6 +348,27 @@ impl PriorityArgs {
         d: &crate::ingest::Dataset,
         states: &[crate::workspace::PersonState],
     ) -> Result<RankedList> {
+        // Fail on a bad preset or pathogen before the statistics.
+        let config = crate::priority::PriorityConfig::load(self.priority_config.as_deref())?;
+        config.preset(self.preset.as_deref().unwrap_or(&config.preset))?;
+        config.pathogen(self.pathogen.as_deref().unwrap_or(&config.pathogen))?;
+        let stats = crate::metrics::network::compute(
+            d,
+            &crate::metrics::network::MetricOptions {
+                null_replicates: 0,
+                ..Default::default()
+            },
+        );
+        self.rank_with(d, &stats, states)
+    }
+
+    /// Same, with statistics already computed.
+    pub fn rank_with(
+        &self,
+        d: &crate::ingest::Dataset,
+        stats: &crate::metrics::network::NetworkStats,
+        states: &[crate::workspace::PersonState],
+    ) -> Result<RankedList> {
         let config = crate::priority::PriorityConfig::load(self.priority_config.as_deref())?;
         let preset_name = self.preset.clone().unwrap_or_else(|| config.preset.clone());
         let p = config.preset(&preset_name)?.clone();
@@ -344,13 +383,6 @@ impl PriorityArgs {
         } else {
             pathogen.source.clone()
         };
-        let stats = crate::metrics::network::compute(
-            d,
-            &crate::metrics::network::MetricOptions {
-                null_replicates: 0,
-                ..Default::default()
-            },
-        );
         let equals = [
             ("role", &self.role),
             ("status", &self.status),
@@ -371,7 +403,7 @@ impl PriorityArgs {
                 .filter_map(|s| s.followup.clone().map(|f| (s.person_id.clone(), f)))
                 .collect(),
         };
-        let ranked = crate::priority::rank(d, &stats, &config, &p, days, &filters)?;
+        let ranked = crate::priority::rank(d, stats, &config, &p, days, &filters)?;
         Ok(RankedList {
             ranked,
             preset: (preset_name, p),
@@ -776,11 +808,19 @@ fn to_json<T: serde::Serialize>(v: &T) -> Result<String> {
 /// Run the parsed command line.
 pub fn run(cli: Cli) -> Result<()> {
     match cli.command {
+        None if crate::dashboard::interactive() => {
+            crate::dashboard::run(&cli.load, &cli.rank, cli.workspace)
+        }
         None => {
             let d = cli.load.load()?;
             let stats = crate::metrics::network::compute(&d, &Default::default());
             emit(&report::summary_text(&summary::summarise(&d), &stats, &d))
         }
+        Some(Command::Dashboard {
+            load,
+            rank,
+            workspace,
+        }) => crate::dashboard::run(&load, &rank, workspace),
         Some(Command::Summary { load, stats, json }) => {
             let d = load.load()?;
             let s = summary::summarise(&d);

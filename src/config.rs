@@ -49,6 +49,20 @@ pub struct Config {
     pub dates: DatesConfig,
     /// ID handling.
     pub ids: IdsConfig,
+    /// The dashboard.
+    pub dashboard: DashboardConfig,
+}
+
+/// Dashboard settings.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct DashboardConfig {
+    /// "dark", "light" or "mono".
+    pub theme: String,
+    /// Reach curves follow at most this many people per strategy.
+    pub reach_limit: usize,
+    /// Repeats of the random strategies.
+    pub reach_repeats: usize,
 }
 
 /// How delimited text is read.
@@ -127,6 +141,12 @@ impl Config {
             }
         }
         crate::ingest::sniff::Separator::parse_setting(&self.csv.separator)?;
+        if !matches!(self.dashboard.theme.as_str(), "dark" | "light" | "mono") {
+            return Err(Error::Config(format!(
+                "[dashboard] theme = \"{}\": use \"dark\", \"light\" or \"mono\"",
+                self.dashboard.theme
+            )));
+        }
         if !matches!(self.csv.header.as_str(), "auto" | "yes" | "no") {
             return Err(Error::Config(format!(
                 "[csv] header = \"{}\": use \"auto\", \"yes\" or \"no\"",

@@ -11,6 +11,7 @@
 
 pub mod cli;
 pub mod config;
+pub mod dashboard;
 pub mod error;
 pub mod export;
 pub mod graph;

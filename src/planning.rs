@@ -17,6 +17,9 @@ use crate::metrics::{put, Stat};
 /// Said next to every figure of the outlook.
 pub const MODEL_CAUTION: &str = "Model-based indicators: a configuration-model network with the observed degree distribution, every contact transmitting with the same probability T. The traced network is incomplete, clustered and degree-correlated; read these as planning aids, not forecasts.";
 
+/// The same, short enough for a dashboard pane.
+pub const MODEL_CAUTION_SHORT: &str = "Model-based (configuration model, same T for every contact); the traced network is clustered and incomplete: a planning aid, not a forecast.";
+
 /// Who is reached first.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum Strategy {

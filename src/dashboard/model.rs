@@ -1,0 +1,350 @@
+//! Everything the dashboard shows, computed once when the export is loaded (and, for a selected
+//! cluster, once when it is selected). The draw code only reads from here.
+
+use std::path::PathBuf;
+use std::sync::{Arc, OnceLock};
+
+use crate::cli::{PriorityArgs, RankedList};
+use crate::error::Result;
+use crate::ingest::Dataset;
+use crate::metrics::mixing::NullModel;
+use crate::metrics::network::{compute, MetricOptions, NetworkStats};
+use crate::metrics::Stat;
+use crate::planning::{self, Plan, PlanOptions, Strategy};
+use crate::priority::Ranked;
+use crate::summary::{summarise, Summary};
+use crate::workspace::PersonState;
+
+/// Degree figures of the whole network or of one cluster (what the Degrees and Neighbours panes
+/// show).
+#[derive(Debug, Clone, PartialEq)]
+pub struct ScopeStats {
+    /// "whole network" or "cluster #3 (120 people)".
+    pub label: String,
+    /// People in scope.
+    pub people: usize,
+    /// People per degree (index k).
+    pub histogram: Vec<u64>,
+    /// p_k.
+    pub p: Vec<f64>,
+    /// q_k = (k+1) p_{k+1} / <k>.
+    pub q: Vec<f64>,
+    /// Observed: followed from each person with contacts to their contacts, the share of
+    /// contacts with k other contacts (each person weighted equally).
+    pub contact_excess: Vec<f64>,
+    /// k_nn(k): mean over people with k contacts of their contacts' mean degree.
+    pub knn: Vec<(u32, f64)>,
+    /// <k>.
+    pub mean: Stat,
+    /// <k^2>/<k>: mean degree at the end of a random exposure (paradox, version a).
+    pub edge_end_mean: Stat,
+    /// Mean excess degree (<k^2> - <k>)/<k>.
+    pub mean_excess: Stat,
+    /// Mean over people with contacts of their contacts' mean degree (version b).
+    pub contact_mean: Stat,
+    /// Shares whose contacts have more / fewer / as many contacts (version c).
+    pub shares: (Stat, Stat, Stat),
+}
+
+/// Compute the degree figures over `members` (a whole cluster, so every contact is inside).
+pub fn scope_stats(d: &Dataset, degrees: &[u32], members: &[u32], label: String) -> ScopeStats {
+    let max = members
+        .iter()
+        .map(|&v| degrees[v as usize])
+        .max()
+        .unwrap_or(0) as usize;
+    let mut histogram = vec![0u64; max + 1];
+    let (mut s1, mut s2) = (0f64, 0f64);
+    for &v in members {
+        let k = degrees[v as usize] as usize;
+        histogram[k] += 1;
+        s1 += k as f64;
+        s2 += (k * k) as f64;
+    }
+    let n = members.len();
+    let p: Vec<f64> = histogram.iter().map(|&c| c as f64 / n as f64).collect();
+    let q: Vec<f64> = if s1 > 0.0 {
+        (0..max)
+            .map(|k| (k + 1) as f64 * histogram[k + 1] as f64 / s1)
+            .collect()
+    } else {
+        Vec::new()
+    };
+    let mut contact_excess = vec![0f64; max.max(1)];
+    let mut knn_sum = vec![0f64; max + 1];
+    let (mut active, mut contact_mean_sum) = (0usize, 0f64);
+    let (mut more, mut fewer, mut equal) = (0usize, 0usize, 0usize);
+    for &v in members {
+        let k = degrees[v as usize];
+        if k == 0 {
+            continue;
+        }
+        active += 1;
+        let mut sum = 0u64;
+        for &w in d.graph.neighbors_slice(v) {
+            let kw = degrees[w as usize];
+            sum += kw as u64;
+            contact_excess[(kw - 1) as usize] += 1.0 / k as f64;
+        }
+        let mean_nb = sum as f64 / k as f64;
+        knn_sum[k as usize] += mean_nb;
+        contact_mean_sum += mean_nb;
+        // Decided in integers: sum of contacts' degrees against k * k.
+        match sum.cmp(&(k as u64 * k as u64)) {
+            std::cmp::Ordering::Greater => more += 1,
+            std::cmp::Ordering::Less => fewer += 1,
+            std::cmp::Ordering::Equal => equal += 1,
+        }
+    }
+    if active > 0 {
+        contact_excess.iter_mut().for_each(|x| *x /= active as f64);
+    }
+    let knn = (1..=max)
+        .filter(|&k| histogram[k] > 0)
+        .map(|k| (k as u32, knn_sum[k] / histogram[k] as f64))
+        .collect();
+    let none = "no contacts in scope";
+    let ratio = |a: f64, b: f64| if b > 0.0 { Ok(a / b) } else { Err(none) };
+    let share = |x: usize| ratio(x as f64, active as f64);
+    ScopeStats {
+        label,
+        people: n,
+        histogram,
+        p,
+        q,
+        contact_excess,
+        knn,
+        mean: if n > 0 {
+            Ok(s1 / n as f64)
+        } else {
+            Err("nobody in scope")
+        },
+        edge_end_mean: ratio(s2, s1),
+        mean_excess: ratio(s2 - s1, s1),
+        contact_mean: ratio(contact_mean_sum, active as f64),
+        shares: (share(more), share(fewer), share(equal)),
+    }
+}
+
+/// One row of the Clusters pane.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ClusterRow {
+    /// Component label.
+    pub label: u32,
+    /// People.
+    pub size: u32,
+    /// Contacts inside.
+    pub contacts: u64,
+    /// Bridges (articulation points) inside.
+    pub bridges: u32,
+    /// The person with the most contacts (ID) and their degree.
+    pub hub: (String, u32),
+}
+
+/// Distinct values of the filterable attributes (for cycling through them with a key).
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct FilterValues {
+    /// Roles seen.
+    pub role: Vec<String>,
+    /// Statuses seen.
+    pub status: Vec<String>,
+    /// Areas seen.
+    pub area: Vec<String>,
+}
+
+/// The precomputed model.
+pub struct Model {
+    /// The loaded export.
+    pub d: Dataset,
+    /// Headline counts.
+    pub summary: Summary,
+    /// Every statistic.
+    pub stats: NetworkStats,
+    /// Whole-network degree figures.
+    pub whole: ScopeStats,
+    /// The ranked list of everyone (no filters; the dashboard filters).
+    pub list: RankedList,
+    /// Position of each person in `list.ranked` (u32::MAX: not ranked).
+    pub rank_pos: Vec<u32>,
+    /// Outlook (reach curves to `reach_limit` people).
+    pub plan: Plan,
+    /// Components, largest first.
+    pub clusters: Vec<ClusterRow>,
+    /// Filter values.
+    pub filter_values: FilterValues,
+    /// Per person: bit s-1 set when they have an exposure in setting s (first 64 settings).
+    pub setting_bits: Vec<u64>,
+    /// Where flags and follow-up states are kept.
+    pub workspace_path: PathBuf,
+    /// Folder for exports of the current view.
+    pub export_dir: PathBuf,
+    /// Theme name from the configuration.
+    pub theme: String,
+    /// Seconds spent computing (after the load).
+    pub compute_seconds: f64,
+    /// The null model of r, computed in the background (it takes seconds at a million rows);
+    /// empty until done.
+    pub null: Arc<OnceLock<NullModel>>,
+}
+
+/// Distinct non-empty values of a people attribute, sorted (at most 200).
+fn distinct(d: &Dataset, field: &str) -> Vec<String> {
+    let Some(c) = d.attrs.column(field) else {
+        return Vec::new();
+    };
+    let mut set = std::collections::BTreeSet::new();
+    for v in d.attrs.values[c].iter().flatten() {
+        let v = v.trim();
+        if !v.is_empty() && set.len() < 200 {
+            set.insert(v.to_string());
+        }
+    }
+    set.into_iter().collect()
+}
+
+impl Model {
+    /// Compute everything from a loaded export.
+    pub fn build(
+        d: Dataset,
+        rank: &PriorityArgs,
+        states: &[PersonState],
+        workspace_path: PathBuf,
+        export_dir: PathBuf,
+        dash: &crate::config::DashboardConfig,
+    ) -> Result<Model> {
+        let t = std::time::Instant::now();
+        // Everything but the null model now; the null model on a background thread.
+        let stats = compute(
+            &d,
+            &MetricOptions {
+                null_replicates: 0,
+                ..Default::default()
+            },
+        );
+        let null = Arc::new(OnceLock::new());
+        {
+            let cell = Arc::clone(&null);
+            let (a, b, deg) = (d.edges.a.clone(), d.edges.b.clone(), stats.degrees.clone());
+            let o = MetricOptions::default();
+            std::thread::spawn(move || {
+                let r = crate::metrics::mixing::null_model(
+                    &a,
+                    &b,
+                    &deg,
+                    o.null_replicates,
+                    o.null_swaps_per_edge,
+                    o.seed,
+                );
+                let _ = cell.set(r);
+            });
+        }
+        let summary = summarise(&d);
+        let list = rank.rank_with(&d, &stats, states)?;
+        let mut rank_pos = vec![u32::MAX; d.people()];
+        for (i, r) in list.ranked.iter().enumerate() {
+            rank_pos[r.node as usize] = i as u32;
+        }
+        let opts = PlanOptions {
+            max_reach: dash.reach_limit.min(d.people()).max(1),
+            repeats: dash.reach_repeats.max(1),
+            ..Default::default()
+        };
+        let priority_order: Vec<u32> = list.ranked.iter().map(|r| r.node).collect();
+        let plan = planning::plan(&d, Some(priority_order), &opts);
+        let all: Vec<u32> = (0..d.people() as u32).collect();
+        let whole = scope_stats(&d, &stats.degrees, &all, "whole network".into());
+        let clusters = cluster_rows(&d, &stats);
+        let mut setting_bits = vec![0u64; d.people()];
+        for e in 0..d.edges.len() {
+            let mut bits = 0u64;
+            for &c in d.edges.settings(e) {
+                if (1..=64).contains(&c) {
+                    bits |= 1 << (c - 1);
+                }
+            }
+            setting_bits[d.edges.a[e] as usize] |= bits;
+            setting_bits[d.edges.b[e] as usize] |= bits;
+        }
+        let filter_values = FilterValues {
+            role: distinct(&d, "role"),
+            status: distinct(&d, "status"),
+            area: distinct(&d, "area"),
+        };
+        Ok(Model {
+            summary,
+            whole,
+            list,
+            rank_pos,
+            plan,
+            clusters,
+            filter_values,
+            setting_bits,
+            workspace_path,
+            export_dir,
+            theme: dash.theme.clone(),
+            compute_seconds: t.elapsed().as_secs_f64(),
+            null,
+            stats,
+            d,
+        })
+    }
+
+    /// Wait until the background work is done (tests and benchmarks).
+    pub fn wait_background(&self) {
+        while self.null.get().is_none() {
+            std::thread::sleep(std::time::Duration::from_millis(5));
+        }
+    }
+
+    /// The ranked entry of a person, if ranked.
+    pub fn ranked(&self, node: u32) -> Option<&Ranked> {
+        self.rank_pos
+            .get(node as usize)
+            .filter(|&&p| p != u32::MAX)
+            .map(|&p| &self.list.ranked[p as usize])
+    }
+
+    /// The strategies of the outlook, in report order.
+    pub fn strategies(&self) -> impl Iterator<Item = Strategy> + '_ {
+        self.plan.strategies.iter().map(|s| s.strategy)
+    }
+
+    /// Members of a component (O(people); called when a cluster is selected).
+    pub fn members(&self, label: u32) -> Vec<u32> {
+        let comp = &self.stats.components.0;
+        (0..comp.len() as u32)
+            .filter(|&v| comp[v as usize] == label)
+            .collect()
+    }
+}
+
+fn cluster_rows(d: &Dataset, stats: &NetworkStats) -> Vec<ClusterRow> {
+    let (labels, sizes) = &stats.components;
+    let mut contacts = vec![0u64; sizes.len()];
+    for &a in &d.edges.a {
+        contacts[labels[a as usize] as usize] += 1;
+    }
+    let mut bridges = vec![0u32; sizes.len()];
+    for &b in &stats.bridges {
+        bridges[labels[b as usize] as usize] += 1;
+    }
+    let mut hub = vec![(u32::MAX, 0u32); sizes.len()];
+    for (v, &l) in labels.iter().enumerate() {
+        let k = stats.degrees[v];
+        let h = &mut hub[l as usize];
+        if h.0 == u32::MAX || k > h.1 {
+            *h = (v as u32, k);
+        }
+    }
+    let mut rows: Vec<ClusterRow> = (0..sizes.len())
+        .map(|l| ClusterRow {
+            label: l as u32,
+            size: sizes[l],
+            contacts: contacts[l],
+            bridges: bridges[l],
+            hub: (d.ids.name(hub[l].0).to_string(), hub[l].1),
+        })
+        .collect();
+    rows.sort_by(|a, b| b.size.cmp(&a.size).then(a.label.cmp(&b.label)));
+    rows
+}
