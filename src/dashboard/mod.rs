@@ -140,6 +140,10 @@ pub fn run(load: &LoadArgs, rank: &PriorityArgs, workspace: Option<PathBuf>) -> 
                 .draw(|f| ui::draw(f, &model, &app, &theme))
                 .map_err(io)?;
             dirty = false;
+            // Hidden hook for the end-to-end test that a panic restores the terminal.
+            if std::env::var_os("HUBWATCH_TEST_PANIC").is_some() {
+                panic!("panic requested by HUBWATCH_TEST_PANIC");
+            }
         }
         if !event::poll(Duration::from_millis(200)).map_err(io)? {
             // Redraw once when the background null model arrives.
