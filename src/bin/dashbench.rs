@@ -1,0 +1,265 @@
+//! `hubwatch-dashbench`: how fast the dashboard answers, on synth exports.
+//!
+//! ```text
+//! cargo run --release --bin hubwatch-dashbench -- [--sizes 1000000,10000000] [--dir bench-data]
+//! ```
+//!
+//! For each size (exposure rows; the export is generated with `synth` if missing) it times
+//! opening the export to the first frame (load, statistics, ranking, outlook, first draw into
+//! ratatui's TestBackend at 200×60; the null model of r runs in the background and is not
+//! waited for), then each pane's draw, then key presses: state update plus full redraw, per
+//! kind of key. The baseline, run in the same process, is drawing a one-line frame at the same
+//! size. Target (issue): every key under 16 ms at 10M rows; first frame under 3 s at 1M.
+
+use std::path::{Path, PathBuf};
+use std::time::Instant;
+
+use hubwatch::config::Config;
+use hubwatch::dashboard::app::App;
+use hubwatch::dashboard::keys::{Action, Pane};
+use hubwatch::dashboard::model::Model;
+use hubwatch::dashboard::theme::Theme;
+use hubwatch::dashboard::ui;
+use hubwatch::ingest::{self, table::ReadOptions, Input, LoadOptions};
+use ratatui::backend::TestBackend;
+use ratatui::Terminal;
+
+const W: u16 = 200;
+const H: u16 = 60;
+
+fn median(v: &mut [f64]) -> f64 {
+    v.sort_by(|a, b| a.total_cmp(b));
+    v[v.len() / 2]
+}
+
+struct Bench {
+    term: Terminal<TestBackend>,
+    theme: Theme,
+}
+
+impl Bench {
+    fn draw(&mut self, m: &Model, app: &App) -> f64 {
+        let t = Instant::now();
+        self.term
+            .draw(|f| ui::draw(f, m, app, &self.theme))
+            .expect("draw");
+        t.elapsed().as_secs_f64()
+    }
+
+    /// State update plus redraw for one action; seconds.
+    fn key(&mut self, m: &Model, app: &mut App, a: Action) -> f64 {
+        let t = Instant::now();
+        app.act(m, a);
+        self.term
+            .draw(|f| ui::draw(f, m, app, &self.theme))
+            .expect("draw");
+        t.elapsed().as_secs_f64()
+    }
+}
+
+fn ensure(dir: &Path, rows: usize) {
+    if dir.join("exposures.csv").exists() {
+        return;
+    }
+    let opts = hubwatch::synth::SynthOptions::new(
+        (rows as f64 / 6.8) as usize,
+        1,
+        hubwatch::cli::today() - 1,
+    );
+    hubwatch::synth::generate(dir, &opts).expect("synth");
+}
+
+fn one(dir: &Path) {
+    let ws_dir = tempfile_dir();
+    let t = Instant::now();
+    let opts = LoadOptions {
+        overrides: Vec::new(),
+        as_of: hubwatch::cli::today(),
+        read: ReadOptions::default(),
+        progress: false,
+        view: Default::default(),
+    };
+    let d =
+        ingest::load(&[Input::Path(dir.to_path_buf())], &Config::default(), &opts).expect("load");
+    let load_s = t.elapsed().as_secs_f64();
+    let config = Config::default();
+    let m = Model::build(
+        d,
+        &Default::default(),
+        &[],
+        ws_dir.join("ws.sqlite"),
+        ws_dir.clone(),
+        &config.dashboard,
+    )
+    .expect("model");
+    let mut app = App::new(&m, Vec::new());
+    app.size = (W, H);
+    let mut b = Bench {
+        term: Terminal::new(TestBackend::new(W, H)).expect("terminal"),
+        theme: Theme::dark(),
+    };
+    b.draw(&m, &app);
+    let first = t.elapsed().as_secs_f64();
+    println!(
+        "\n### {} exposure rows ({} people, {} contacts)\n",
+        m.d.ledger.exposures.read,
+        m.d.people(),
+        m.d.edges.len()
+    );
+    println!(
+        "Open to first frame: {first:.2} s (load {load_s:.2} s, statistics + ranking + outlook {:.2} s, first draw the rest); null model still running in the background.\n",
+        m.compute_seconds
+    );
+    // Baseline: a one-line frame.
+    let mut base = Vec::new();
+    for _ in 0..50 {
+        let t = Instant::now();
+        b.term
+            .draw(|f| {
+                f.render_widget(ratatui::widgets::Paragraph::new("x"), f.area());
+            })
+            .expect("draw");
+        base.push(t.elapsed().as_secs_f64());
+    }
+    let base = median(&mut base);
+    println!(
+        "Baseline (one-line frame at {W}×{H}): {:.3} ms\n",
+        base * 1e3
+    );
+    println!("| pane | draw (median of 20) | / baseline |");
+    println!("|---|---|---|");
+    for p in Pane::ALL {
+        app.act(&m, Action::Go(p));
+        if p == Pane::Person && app.person.is_none() {
+            app.act(&m, Action::Go(Pane::Priority));
+            app.act(&m, Action::Open);
+        }
+        let mut v: Vec<f64> = (0..20).map(|_| b.draw(&m, &app)).collect();
+        let md = median(&mut v);
+        println!("| {} | {:.2} ms | {:.0}x |", p.name(), md * 1e3, md / base);
+    }
+    // Keys: state update + full redraw.
+    let mut rows: Vec<(String, Vec<f64>)> = Vec::new();
+    let mut record = |name: &str, secs: f64| match rows.iter_mut().find(|r| r.0 == name) {
+        Some(r) => r.1.push(secs),
+        None => rows.push((name.to_string(), vec![secs])),
+    };
+    for p in Pane::ALL {
+        let t = b.key(&m, &mut app, Action::Go(p));
+        record("switch pane (1-7)", t);
+    }
+    app.act(&m, Action::Go(Pane::Priority));
+    for _ in 0..50 {
+        let t = b.key(&m, &mut app, Action::Down);
+        record("priority: ↓", t);
+    }
+    for _ in 0..20 {
+        let t = b.key(&m, &mut app, Action::PageDown);
+        record("priority: PgDn", t);
+    }
+    for a in [Action::End, Action::Home] {
+        let t = b.key(&m, &mut app, a);
+        record("priority: End / Home", t);
+    }
+    for _ in 0..3 {
+        let t = b.key(&m, &mut app, Action::FilterRole);
+        record("priority: role filter (r)", t);
+    }
+    let t = b.key(&m, &mut app, Action::FilterWindow);
+    record("priority: window filter (w)", t);
+    let t = b.key(&m, &mut app, Action::ClearFilters);
+    record("clear filters (x)", t);
+    for _ in 0..2 {
+        let t = b.key(&m, &mut app, Action::SortNext);
+        record("priority: sort by ID, then contacts (s)", t);
+    }
+    let t = b.key(&m, &mut app, Action::SortReverse);
+    record("priority: reverse sort (S)", t);
+    while app.sort.0 != hubwatch::dashboard::app::SortCol::Rank {
+        app.act(&m, Action::SortNext);
+    }
+    app.act(&m, Action::Search);
+    let target =
+        m.d.ids
+            .name(m.list.ranked[m.list.ranked.len() / 2].node)
+            .to_string();
+    for c in target.chars() {
+        let t0 = Instant::now();
+        app.type_key(&m, crossterm::event::KeyCode::Char(c));
+        b.term
+            .draw(|f| ui::draw(f, &m, &app, &b.theme))
+            .expect("draw");
+        record("search: one character typed", t0.elapsed().as_secs_f64());
+    }
+    app.type_key(&m, crossterm::event::KeyCode::Enter);
+    let t = b.key(&m, &mut app, Action::Open);
+    record("open person (Enter)", t);
+    for _ in 0..5 {
+        let t = b.key(&m, &mut app, Action::Down);
+        record("person: ↓ contacts", t);
+    }
+    let t = b.key(&m, &mut app, Action::Open);
+    record("person: open contact (Enter)", t);
+    let t = b.key(&m, &mut app, Action::Back);
+    record("person: back (Backspace)", t);
+    app.act(&m, Action::Go(Pane::Outlook));
+    for _ in 0..20 {
+        let t = b.key(&m, &mut app, Action::TUp);
+        record("outlook: T + 0.01", t);
+    }
+    app.act(&m, Action::Go(Pane::Degrees));
+    for a in [Action::LogScale, Action::Cutoff] {
+        let t = b.key(&m, &mut app, a);
+        record("degrees: log scale / cut-off", t);
+    }
+    app.act(&m, Action::Go(Pane::Clusters));
+    let t = b.key(&m, &mut app, Action::Down);
+    record("clusters: ↓", t);
+    app.act(&m, Action::Home);
+    let t = b.key(&m, &mut app, Action::Open);
+    record("clusters: select the largest (Enter)", t);
+    let t = b.key(&m, &mut app, Action::ClearFilters);
+    record("clear filters (x)", t);
+    println!("\n| key (state update + full redraw) | presses | median | max | / baseline (median) | under 16 ms |");
+    println!("|---|---|---|---|---|---|");
+    for (name, mut v) in rows {
+        let n = v.len();
+        let max = v.iter().cloned().fold(0.0, f64::max);
+        let md = median(&mut v);
+        println!(
+            "| {name} | {n} | {:.2} ms | {:.2} ms | {:.0}x | {} |",
+            md * 1e3,
+            max * 1e3,
+            md / base,
+            if max < 0.016 { "yes" } else { "no" }
+        );
+    }
+    let _ = std::fs::remove_dir_all(&ws_dir);
+}
+
+fn tempfile_dir() -> PathBuf {
+    let d = std::env::temp_dir().join(format!("hubwatch-dashbench-{}", std::process::id()));
+    std::fs::create_dir_all(&d).expect("temp dir");
+    d
+}
+
+fn main() {
+    let args: Vec<String> = std::env::args().collect();
+    let get = |flag: &str| {
+        args.iter()
+            .position(|a| a == flag)
+            .and_then(|i| args.get(i + 1))
+            .cloned()
+    };
+    let sizes: Vec<usize> = get("--sizes")
+        .unwrap_or_else(|| "1000000,10000000".into())
+        .split(',')
+        .filter_map(|s| s.trim().parse().ok())
+        .collect();
+    let base = PathBuf::from(get("--dir").unwrap_or_else(|| "bench-data".into()));
+    for rows in sizes {
+        let dir = base.join(format!("synth-{rows}"));
+        ensure(&dir, rows);
+        one(&dir);
+    }
+}
