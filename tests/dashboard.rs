@@ -208,8 +208,12 @@ fn filters_flags_notes_follow_up_and_export() {
             .eq_ignore_ascii_case(&role));
     }
     assert!(text(&m, &app, dir.path()).contains(&format!("filters: role={role}")));
+    // The Degrees and Neighbours figures follow the filter.
+    assert_eq!(app.scope(&m).people, app.rows.len());
+    assert!(app.scope(&m).label.contains(&format!("role={role}")));
     app.act(&m, Action::ClearFilters);
     assert_eq!(app.rows.len(), all);
+    assert_eq!(app.scope(&m).label, "whole network");
     // Search by ID moves the selection.
     let target = m.d.ids.name(m.list.ranked[10].node).to_string();
     app.act(&m, Action::Search);

@@ -485,6 +485,22 @@ impl App {
         self.prio.clamp(self.rows.len(), page);
     }
 
+    /// Recompute the Degrees and Neighbours figures for the people the filters keep (their
+    /// contacts counted in the whole network); whole network when no filter is on.
+    pub fn rescope(&mut self, m: &Model) {
+        if self.filters == Filters::default() {
+            self.scope = None;
+            return;
+        }
+        let nodes: Vec<u32> = self
+            .rows
+            .iter()
+            .map(|&i| m.list.ranked[i as usize].node)
+            .collect();
+        let label = format!("{} ({} people)", self.filter_text(m), nodes.len());
+        self.scope = Some(scope_stats(&m.d, &m.stats.degrees, &nodes, label));
+    }
+
     /// Set T (None keeps it unknown) and recompute the Outlook figures.
     pub fn set_t(&mut self, m: &Model, t: Option<f64>, from_model: bool) {
         let t = t
@@ -797,15 +813,9 @@ impl App {
                 }
                 Pane::Clusters => {
                     if let Some(c) = m.clusters.get(self.clusters.selected) {
-                        let members = m.members(c.label);
-                        self.scope = Some(scope_stats(
-                            &m.d,
-                            &m.stats.degrees,
-                            &members,
-                            format!("cluster #{} ({} people)", c.label + 1, c.size),
-                        ));
                         self.filters.cluster = Some(c.label);
                         self.refilter(m);
+                        self.rescope(m);
                         self.say(
                             format!(
                                 "filtered to cluster #{} ({} people); x clears",
@@ -865,14 +875,17 @@ impl App {
             Action::FilterRole => {
                 self.filters.role = cycle(self.filters.role, m.filter_values.role.len());
                 self.refilter(m);
+                self.rescope(m);
             }
             Action::FilterStatus => {
                 self.filters.status = cycle(self.filters.status, m.filter_values.status.len());
                 self.refilter(m);
+                self.rescope(m);
             }
             Action::FilterArea => {
                 self.filters.area = cycle(self.filters.area, m.filter_values.area.len());
                 self.refilter(m);
+                self.rescope(m);
             }
             Action::FilterSetting => {
                 self.filters.setting = cycle(
@@ -881,10 +894,12 @@ impl App {
                 )
                 .map(|i| i as u16 + 1);
                 self.refilter(m);
+                self.rescope(m);
             }
             Action::FilterWindow => {
                 self.filters.in_window = !self.filters.in_window;
                 self.refilter(m);
+                self.rescope(m);
             }
             Action::ClearFilters => {
                 self.filters = Filters::default();

@@ -53,6 +53,13 @@ pub fn prepare(
     workspace: Option<PathBuf>,
 ) -> Result<(Model, App)> {
     let d = load.load()?;
+    if std::io::stderr().is_terminal() {
+        eprintln!(
+            "hubwatch: {} people, {} contacts loaded; computing statistics, ranking and outlook …",
+            d.people(),
+            d.edges.len()
+        );
+    }
     let config = load.config()?;
     let ws_path = workspace
         .unwrap_or_else(|| Workspace::default_path(load.paths.first().map(|p| p.as_path())));

@@ -46,7 +46,8 @@ pub struct ScopeStats {
     pub shares: (Stat, Stat, Stat),
 }
 
-/// Compute the degree figures over `members` (a whole cluster, so every contact is inside).
+/// Compute the degree figures over `members` (each member's contacts counted in the whole
+/// network, so for a whole cluster every contact is inside).
 pub fn scope_stats(d: &Dataset, degrees: &[u32], members: &[u32], label: String) -> ScopeStats {
     let max = members
         .iter()
@@ -70,7 +71,14 @@ pub fn scope_stats(d: &Dataset, degrees: &[u32], members: &[u32], label: String)
     } else {
         Vec::new()
     };
-    let mut contact_excess = vec![0f64; max.max(1)];
+    // Contacts may lie outside `members` and have more contacts than any member.
+    let nb_max = members
+        .iter()
+        .flat_map(|&v| d.graph.neighbors_slice(v).iter())
+        .map(|&w| degrees[w as usize] as usize)
+        .max()
+        .unwrap_or(0);
+    let mut contact_excess = vec![0f64; nb_max.max(max).max(1)];
     let mut knn_sum = vec![0f64; max + 1];
     let (mut active, mut contact_mean_sum) = (0usize, 0f64);
     let (mut more, mut fewer, mut equal) = (0usize, 0usize, 0usize);
@@ -307,14 +315,6 @@ impl Model {
     /// The strategies of the outlook, in report order.
     pub fn strategies(&self) -> impl Iterator<Item = Strategy> + '_ {
         self.plan.strategies.iter().map(|s| s.strategy)
-    }
-
-    /// Members of a component (O(people); called when a cluster is selected).
-    pub fn members(&self, label: u32) -> Vec<u32> {
-        let comp = &self.stats.components.0;
-        (0..comp.len() as u32)
-            .filter(|&v| comp[v as usize] == label)
-            .collect()
     }
 }
 
