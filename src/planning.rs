@@ -280,6 +280,16 @@ pub fn transmissibility(d: &Dataset, given: Option<f64>) -> (Option<f64>, TSourc
 /// Compute the outlook. `priority_order` is the ranked list's node order (needed only for the
 /// priority strategy; without it that strategy is skipped).
 pub fn plan(d: &Dataset, priority_order: Option<Vec<u32>>, opts: &PlanOptions) -> Plan {
+    plan_with_ranks(d, priority_order, opts, &reach::id_ranks(&d.ids))
+}
+
+/// Same, with each person's position in ID order already known (see [`reach::id_ranks`]).
+pub fn plan_with_ranks(
+    d: &Dataset,
+    priority_order: Option<Vec<u32>>,
+    opts: &PlanOptions,
+    id_rank: &[u32],
+) -> Plan {
     let degrees = crate::graph::degrees(&d.graph);
     let p = crate::metrics::degree::degree_stats(&degrees).p();
     let (t, source) = transmissibility(d, opts.transmissibility);
@@ -319,7 +329,7 @@ pub fn plan(d: &Dataset, priority_order: Option<Vec<u32>>, opts: &PlanOptions) -
             }
         } else {
             let order = match s {
-                Strategy::Degree => reach::degree_order(&d.graph, &d.ids),
+                Strategy::Degree => reach::degree_order_by(&d.graph, id_rank),
                 _ => match &priority_order {
                     Some(o) => o.clone(),
                     None => continue,

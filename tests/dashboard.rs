@@ -208,13 +208,43 @@ fn filters_flags_notes_follow_up_and_export() {
             .eq_ignore_ascii_case(&role));
     }
     assert!(text(&m, &app, dir.path()).contains(&format!("filters: role={role}")));
-    // The Degrees and Neighbours figures follow the filter.
+    // The Degrees and Neighbours figures follow the filter (when shown).
+    app.act(&m, Action::Go(Pane::Neighbours));
     assert_eq!(app.scope(&m).people, app.rows.len());
     assert!(app.scope(&m).label.contains(&format!("role={role}")));
     app.act(&m, Action::ClearFilters);
     assert_eq!(app.rows.len(), all);
     assert_eq!(app.scope(&m).label, "whole network");
-    // Search by ID moves the selection.
+    app.act(&m, Action::Go(Pane::Priority));
+    // Sorting: by ID (text order here), reversed, then back to the rank.
+    app.act(&m, Action::SortNext);
+    let ids: Vec<&str> = app
+        .rows
+        .iter()
+        .map(|&i| m.d.ids.name(m.list.ranked[i as usize].node))
+        .collect();
+    assert!(ids.windows(2).all(|w| w[0] <= w[1]));
+    app.act(&m, Action::SortReverse);
+    let first = m.d.ids.name(m.list.ranked[app.rows[0] as usize].node);
+    assert_eq!(first, *ids.last().unwrap());
+    app.act(&m, Action::SortNext);
+    let degrees: Vec<u32> = app
+        .rows
+        .iter()
+        .map(|&i| m.list.ranked[i as usize].degree)
+        .collect();
+    assert!(degrees.windows(2).all(|w| w[0] >= w[1]));
+    while app.sort.0 != hubwatch::dashboard::app::SortCol::Rank {
+        app.act(&m, Action::SortNext);
+    }
+    assert!(app.rows.windows(2).all(|w| w[0] < w[1]));
+    // Search by ID moves the selection (exact, then by prefix).
+    app.act(&m, Action::Search);
+    for c in "P00000".chars() {
+        app.type_key(&m, crossterm::event::KeyCode::Char(c));
+    }
+    assert!(m.d.ids.name(app.target(&m).unwrap()).starts_with("P00000"));
+    app.type_key(&m, crossterm::event::KeyCode::Esc);
     let target = m.d.ids.name(m.list.ranked[10].node).to_string();
     app.act(&m, Action::Search);
     for c in target.chars() {
@@ -273,9 +303,10 @@ fn cluster_selection_filters_the_other_panes() {
     app.act(&m, Action::Open);
     let c = &m.clusters[1];
     assert_eq!(app.filters.cluster, Some(c.label));
-    assert_eq!(app.scope(&m).people, c.size as usize);
     assert_eq!(app.rows.len(), c.size as usize);
+    // The figures follow when the Degrees pane is shown.
     app.act(&m, Action::Go(Pane::Degrees));
+    assert_eq!(app.scope(&m).people, c.size as usize);
     let s = text(&m, &app, dir.path());
     assert!(s.contains(&format!("cluster #{}", c.label + 1)), "{s}");
     app.act(&m, Action::ClearFilters);

@@ -167,14 +167,22 @@ fn one(dir: &Path) {
     }
     let t = b.key(&m, &mut app, Action::FilterWindow);
     record("priority: window filter (w)", t);
+    let t = b.key(&m, &mut app, Action::Go(Pane::Degrees));
+    record("show Degrees after a filter change (figures recomputed)", t);
+    app.act(&m, Action::Go(Pane::Priority));
     let t = b.key(&m, &mut app, Action::ClearFilters);
     record("clear filters (x)", t);
     for _ in 0..2 {
         let t = b.key(&m, &mut app, Action::SortNext);
-        record("priority: sort by ID, then contacts (s)", t);
+        record("priority: sort by ID, then contacts (s), first time", t);
     }
     let t = b.key(&m, &mut app, Action::SortReverse);
     record("priority: reverse sort (S)", t);
+    // Sorted orders are kept: cycling through the columns again.
+    for _ in 0..7 {
+        let t = b.key(&m, &mut app, Action::SortNext);
+        record("priority: sort (s), every column again", t);
+    }
     while app.sort.0 != hubwatch::dashboard::app::SortCol::Rank {
         app.act(&m, Action::SortNext);
     }
@@ -218,6 +226,9 @@ fn one(dir: &Path) {
     app.act(&m, Action::Home);
     let t = b.key(&m, &mut app, Action::Open);
     record("clusters: select the largest (Enter)", t);
+    let t = b.key(&m, &mut app, Action::Go(Pane::Degrees));
+    record("show Degrees after a filter change (figures recomputed)", t);
+    app.act(&m, Action::Go(Pane::Clusters));
     let t = b.key(&m, &mut app, Action::ClearFilters);
     record("clear filters (x)", t);
     println!("\n| key (state update + full redraw) | presses | median | max | / baseline (median) | under 16 ms |");

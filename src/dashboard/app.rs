@@ -16,7 +16,7 @@ use crate::priority::{Part, Ranked};
 use crate::workspace::{Change, PersonState, Workspace, FOLLOWUP_STATES};
 
 /// Columns the priority list can be sorted by.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 pub enum SortCol {
     /// Score (the rank).
     Rank,
@@ -290,8 +290,13 @@ pub struct App {
     pub clusters: ListPos,
     /// Bridges of the highlighted cluster (ID, contacts), at most 200.
     pub cluster_bridges: Vec<(String, u32)>,
-    /// Degree figures of the selected cluster, when one is.
+    /// Degree figures of the people the filters keep, when a filter is on.
     pub scope: Option<ScopeStats>,
+    /// The filters changed since `scope` was computed (it is recomputed when the Degrees or
+    /// Neighbours pane is shown, not on every filter key).
+    pub scope_dirty: bool,
+    /// Sorted orders of the list, per column, once computed.
+    perms: HashMap<SortCol, Vec<u32>>,
     /// Log scale on the charts.
     pub log_scale: bool,
     /// Tail cut-off: index into [`CUTOFFS`].
@@ -340,6 +345,8 @@ impl App {
             clusters: ListPos::default(),
             cluster_bridges: Vec::new(),
             scope: None,
+            scope_dirty: false,
+            perms: HashMap::new(),
             log_scale: false,
             cutoff: 0,
             outlook: OutlookNow {
@@ -411,23 +418,60 @@ impl App {
 
     fn keeps(&self, m: &Model, r: &Ranked) -> bool {
         let f = &self.filters;
-        let v = &m.filter_values;
-        let is = |field: &str, want: Option<usize>, values: &[String]| match want {
-            None => true,
-            Some(i) => {
-                m.d.attrs
-                    .get(field, r.node)
-                    .is_some_and(|x| x.trim().eq_ignore_ascii_case(&values[i]))
-            }
-        };
-        is("role", f.role, &v.role)
-            && is("status", f.status, &v.status)
-            && is("area", f.area, &v.area)
+        let node = r.node as usize;
+        let is =
+            |want: Option<usize>, codes: &[u16]| want.is_none_or(|i| codes[node] as usize == i);
+        is(f.role, &m.codes[0])
+            && is(f.status, &m.codes[1])
+            && is(f.area, &m.codes[2])
             && f.setting
-                .is_none_or(|s| s > 64 || m.setting_bits[r.node as usize] & (1 << (s - 1)) != 0)
+                .is_none_or(|s| s > 64 || m.setting_bits[node] & (1 << (s - 1)) != 0)
             && (!f.in_window || r.days_left.is_some_and(|d| d >= 0))
-            && f.cluster
-                .is_none_or(|c| m.stats.components.0[r.node as usize] == c)
+            && f.cluster.is_none_or(|c| m.stats.components.0[node] == c)
+    }
+
+    /// All ranked indices in the order of a sort column (ascending as the column reads:
+    /// most contacts / cases first, fewest days left first), computed once per column and
+    /// kept; follow-up and flags change with the workspace, so they are computed each time.
+    fn order(&mut self, m: &Model, col: SortCol) -> Vec<u32> {
+        if let Some(p) = self.perms.get(&col) {
+            return p.clone();
+        }
+        let ranked = &m.list.ranked;
+        let mut v: Vec<u32> = (0..ranked.len() as u32).collect();
+        match col {
+            SortCol::Rank => {}
+            SortCol::Id => v = m.by_id.clone(),
+            SortCol::Degree => v.sort_by_key(|&i| std::cmp::Reverse(ranked[i as usize].degree)),
+            SortCol::Cases => {
+                v.sort_by(|&a, &b| ranked[b as usize].raw[1].total_cmp(&ranked[a as usize].raw[1]))
+            }
+            SortCol::DaysLeft => {
+                v.sort_by_key(|&i| ranked[i as usize].days_left.unwrap_or(i32::MAX))
+            }
+            SortCol::Followup => {
+                let key = |i: u32| {
+                    let s = self.followup(m, ranked[i as usize].node);
+                    FOLLOWUP_STATES
+                        .iter()
+                        .position(|&x| x == s)
+                        .unwrap_or(FOLLOWUP_STATES.len())
+                };
+                let keys: Vec<usize> = v.iter().map(|&i| key(i)).collect();
+                v.sort_by_key(|&i| keys[i as usize]);
+                return v;
+            }
+            SortCol::Flags => {
+                let flagged: Vec<bool> = v
+                    .iter()
+                    .map(|&i| !self.flags(m, ranked[i as usize].node).is_empty())
+                    .collect();
+                v.sort_by_key(|&i| !flagged[i as usize]);
+                return v;
+            }
+        }
+        self.perms.insert(col, v.clone());
+        v
     }
 
     /// Rebuild the priority rows after a filter or sort change, keeping the selected person.
@@ -436,45 +480,22 @@ impl App {
             .rows
             .get(self.prio.selected)
             .map(|&i| m.list.ranked[i as usize].node);
-        let mut rows: Vec<u32> = (0..m.list.ranked.len() as u32)
-            .filter(|&i| self.keeps(m, &m.list.ranked[i as usize]))
-            .collect();
-        let ranked = &m.list.ranked;
         let (col, desc) = self.sort;
-        match col {
-            SortCol::Rank => {}
-            SortCol::Id => rows.sort_by(|&a, &b| {
-                m.d.ids
-                    .name(ranked[a as usize].node)
-                    .cmp(m.d.ids.name(ranked[b as usize].node))
-            }),
-            SortCol::Degree => rows.sort_by_key(|&i| std::cmp::Reverse(ranked[i as usize].degree)),
-            SortCol::Cases => rows
-                .sort_by(|&a, &b| ranked[b as usize].raw[1].total_cmp(&ranked[a as usize].raw[1])),
-            SortCol::DaysLeft => {
-                rows.sort_by_key(|&i| ranked[i as usize].days_left.unwrap_or(i32::MAX))
-            }
-            SortCol::Followup => {
-                let keys: HashMap<u32, String> = rows
-                    .iter()
-                    .map(|&i| (i, self.followup(m, ranked[i as usize].node)))
-                    .collect();
-                rows.sort_by(|a, b| keys[a].cmp(&keys[b]).then(a.cmp(b)));
-            }
-            SortCol::Flags => {
-                // Flagged people first.
-                rows.sort_by_key(|&i| self.flags(m, ranked[i as usize].node).is_empty());
-            }
-        }
-        if desc {
-            rows.reverse();
-        }
+        let order = self.order(m, col);
+        let ranked = &m.list.ranked;
+        let keep = |i: &u32| self.keeps(m, &ranked[*i as usize]);
+        let rows: Vec<u32> = if desc {
+            order.iter().rev().filter(|i| keep(i)).copied().collect()
+        } else {
+            order.iter().filter(|i| keep(i)).copied().collect()
+        };
         let mut row_of = vec![u32::MAX; ranked.len()];
         for (p, &i) in rows.iter().enumerate() {
             row_of[i as usize] = p as u32;
         }
         self.rows = rows;
         self.row_of = row_of;
+        self.scope_dirty = true;
         self.prio.selected = keep_node
             .and_then(|n| m.rank_pos.get(n as usize).copied())
             .and_then(|i| self.row_of.get(i as usize).copied())
@@ -488,6 +509,7 @@ impl App {
     /// Recompute the Degrees and Neighbours figures for the people the filters keep (their
     /// contacts counted in the whole network); whole network when no filter is on.
     pub fn rescope(&mut self, m: &Model) {
+        self.scope_dirty = false;
         if self.filters == Filters::default() {
             self.scope = None;
             return;
@@ -737,6 +759,13 @@ impl App {
 
     /// Handle a key's action.
     pub fn act(&mut self, m: &Model, action: Action) {
+        self.act_inner(m, action);
+        if self.scope_dirty && matches!(self.pane, Pane::Degrees | Pane::Neighbours) {
+            self.rescope(m);
+        }
+    }
+
+    fn act_inner(&mut self, m: &Model, action: Action) {
         self.message = None;
         if let Overlay::Quarantine(pos) = self.overlay {
             let len = m.d.ledger.quarantined.len() + m.d.ledger.problems.len();
@@ -815,7 +844,6 @@ impl App {
                     if let Some(c) = m.clusters.get(self.clusters.selected) {
                         self.filters.cluster = Some(c.label);
                         self.refilter(m);
-                        self.rescope(m);
                         self.say(
                             format!(
                                 "filtered to cluster #{} ({} people); x clears",
@@ -875,17 +903,14 @@ impl App {
             Action::FilterRole => {
                 self.filters.role = cycle(self.filters.role, m.filter_values.role.len());
                 self.refilter(m);
-                self.rescope(m);
             }
             Action::FilterStatus => {
                 self.filters.status = cycle(self.filters.status, m.filter_values.status.len());
                 self.refilter(m);
-                self.rescope(m);
             }
             Action::FilterArea => {
                 self.filters.area = cycle(self.filters.area, m.filter_values.area.len());
                 self.refilter(m);
-                self.rescope(m);
             }
             Action::FilterSetting => {
                 self.filters.setting = cycle(
@@ -894,12 +919,10 @@ impl App {
                 )
                 .map(|i| i as u16 + 1);
                 self.refilter(m);
-                self.rescope(m);
             }
             Action::FilterWindow => {
                 self.filters.in_window = !self.filters.in_window;
                 self.refilter(m);
-                self.rescope(m);
             }
             Action::ClearFilters => {
                 self.filters = Filters::default();
@@ -1016,15 +1039,31 @@ impl App {
         let found = match exact {
             Some(i) if i != u32::MAX => Some(self.row_of[i as usize]).filter(|&p| p != u32::MAX),
             _ => {
-                let lower = text.to_lowercase();
-                self.rows
+                // IDs in text order: binary search for the prefix, then the first one shown.
+                let ids = &m.d.ids;
+                let name = |i: u32| ids.name(m.list.ranked[i as usize].node);
+                let start = m.by_id.partition_point(|&i| name(i) < text);
+                let sorted = m
+                    .by_id
+                    .get(start..)
+                    .unwrap_or(&[])
                     .iter()
-                    .position(|&i| {
-                        let id = m.d.ids.name(m.list.ranked[i as usize].node);
-                        id.len() >= lower.len()
-                            && id.as_bytes()[..lower.len()].eq_ignore_ascii_case(lower.as_bytes())
-                    })
-                    .map(|p| p as u32)
+                    .take_while(|&&i| name(i).starts_with(text))
+                    .map(|&i| self.row_of[i as usize])
+                    .find(|&p| p != u32::MAX);
+                // Numeric IDs are in number order, and case may differ: then scan the rows.
+                sorted.or_else(|| {
+                    let lower = text.to_lowercase();
+                    self.rows
+                        .iter()
+                        .position(|&i| {
+                            let id = name(i);
+                            id.len() >= lower.len()
+                                && id.as_bytes()[..lower.len()]
+                                    .eq_ignore_ascii_case(lower.as_bytes())
+                        })
+                        .map(|p| p as u32)
+                })
             }
         };
         match found {

@@ -182,6 +182,12 @@ pub struct Model {
     pub filter_values: FilterValues,
     /// Per person: bit s-1 set when they have an exposure in setting s (first 64 settings).
     pub setting_bits: Vec<u64>,
+    /// Per person: index of their role, status and area in `filter_values` (u16::MAX: none).
+    pub codes: [Vec<u16>; 3],
+    /// Each person's position in ID order.
+    pub id_rank: Vec<u32>,
+    /// Indices into `list.ranked`, in ID order.
+    pub by_id: Vec<u32>,
     /// Where flags and follow-up states are kept.
     pub workspace_path: PathBuf,
     /// Folder for exports of the current view.
@@ -200,14 +206,35 @@ fn distinct(d: &Dataset, field: &str) -> Vec<String> {
     let Some(c) = d.attrs.column(field) else {
         return Vec::new();
     };
-    let mut set = std::collections::BTreeSet::new();
+    // One spelling per value, compared without case (the filter compares the same way).
+    let mut set = std::collections::BTreeMap::new();
     for v in d.attrs.values[c].iter().flatten() {
         let v = v.trim();
         if !v.is_empty() && set.len() < 200 {
-            set.insert(v.to_string());
+            set.entry(v.to_lowercase()).or_insert_with(|| v.to_string());
         }
     }
-    set.into_iter().collect()
+    set.into_values().collect()
+}
+
+/// Each person's value of `field` as an index into `values` (case-insensitive; u16::MAX: none).
+fn codes(d: &Dataset, field: &str, values: &[String]) -> Vec<u16> {
+    let index: std::collections::HashMap<String, u16> = values
+        .iter()
+        .enumerate()
+        .map(|(i, v)| (v.to_lowercase(), i as u16))
+        .collect();
+    let mut out = vec![u16::MAX; d.people()];
+    if let Some(c) = d.attrs.column(field) {
+        for (node, v) in d.attrs.values[c].iter().enumerate() {
+            if let Some(v) = v {
+                if let Some(&i) = index.get(&v.trim().to_lowercase()) {
+                    out[node] = i;
+                }
+            }
+        }
+    }
+    out
 }
 
 impl Model {
@@ -258,7 +285,13 @@ impl Model {
             ..Default::default()
         };
         let priority_order: Vec<u32> = list.ranked.iter().map(|r| r.node).collect();
-        let plan = planning::plan(&d, Some(priority_order), &opts);
+        let id_rank = crate::metrics::reach::id_ranks(&d.ids);
+        let plan = planning::plan_with_ranks(&d, Some(priority_order), &opts, &id_rank);
+        let mut by_id = vec![u32::MAX; d.people()];
+        for (i, r) in list.ranked.iter().enumerate() {
+            by_id[id_rank[r.node as usize] as usize] = i as u32;
+        }
+        by_id.retain(|&i| i != u32::MAX);
         let all: Vec<u32> = (0..d.people() as u32).collect();
         let whole = scope_stats(&d, &stats.degrees, &all, "whole network".into());
         let clusters = cluster_rows(&d, &stats);
@@ -278,7 +311,15 @@ impl Model {
             status: distinct(&d, "status"),
             area: distinct(&d, "area"),
         };
+        let codes = [
+            codes(&d, "role", &filter_values.role),
+            codes(&d, "status", &filter_values.status),
+            codes(&d, "area", &filter_values.area),
+        ];
         Ok(Model {
+            codes,
+            id_rank,
+            by_id,
             summary,
             whole,
             list,

@@ -140,8 +140,13 @@ pub fn reach_curve(g: &Adjacency, order: &[u32]) -> ReachCurve {
 /// (numeric IDs compare as numbers, others as text). This is the rule methods.md §5 states;
 /// adaptive re-ranking after each removal would be a different strategy.
 pub fn degree_order(g: &Adjacency, ids: &IdMap) -> Vec<u32> {
-    let n = g.node_count();
-    // Rank every person by ID once, so the sort below compares integers.
+    degree_order_by(g, &id_ranks(ids))
+}
+
+/// Each person's position in ID order (numeric IDs compare as numbers when every ID is a
+/// number, else as text).
+pub fn id_ranks(ids: &IdMap) -> Vec<u32> {
+    let n = ids.len();
     let mut by_id: Vec<u32> = (0..n as u32).collect();
     let numeric: Option<Vec<u64>> = (0..n as u32)
         .map(|v| ids.name(v).parse::<u64>().ok())
@@ -154,7 +159,12 @@ pub fn degree_order(g: &Adjacency, ids: &IdMap) -> Vec<u32> {
     for (r, &v) in by_id.iter().enumerate() {
         id_rank[v as usize] = r as u32;
     }
-    let mut v: Vec<u32> = (0..n as u32).collect();
+    id_rank
+}
+
+/// Highest degree first, ties by `id_rank` (see [`id_ranks`]).
+pub fn degree_order_by(g: &Adjacency, id_rank: &[u32]) -> Vec<u32> {
+    let mut v: Vec<u32> = (0..g.node_count() as u32).collect();
     v.sort_unstable_by_key(|&a| (std::cmp::Reverse(g.out_degree(a)), id_rank[a as usize]));
     v
 }
