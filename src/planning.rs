@@ -447,6 +447,7 @@ impl Plan {
                         json!({
                             "reached": n,
                             "mean_excess": stat(s.curve.kappa[n]),
+                            "threshold": stat(s.curve.kappa[n].and_then(|k| if k > 0.0 { Ok(1.0 / k) } else { Err("no epidemic possible") })),
                             "r": t.map(|t| stat(s.r(t, n))).unwrap_or(Value::Null),
                             "largest_cluster": s.curve.largest[n],
                             "model_mean_excess": stat(s.model_kappa[n]),

@@ -53,6 +53,13 @@ fn karate_at_t_point_three() {
     }
     // R = 0.3 kappa': 1.167 after 2 (above 1), 0.612 after 4 (below), so the answer is 3 or 4
     // and is the first n whose R is below 1.
+    // Residual thresholds T_c' = 1/kappa' (methods.md §5 table): 0.1773256, 0.2571429, 0.4905660.
+    for (n, tc) in [(1, 0.1773256), (2, 0.2571429), (4, 0.4905660)] {
+        assert!(
+            (1.0 / s.curve.kappa[n].unwrap() - tc).abs() < 5e-7,
+            "n = {n}"
+        );
+    }
     let below = s.below_one(0.3).unwrap();
     assert!((3..=4).contains(&below), "{below}");
     assert!(s.r(0.3, below).unwrap() < 1.0 && s.r(0.3, below - 1).unwrap() >= 1.0);
@@ -160,6 +167,14 @@ fn outlook_command_keys_files_and_errors() {
         assert_eq!(points.len(), 51);
         for key in ["reached", "mean_excess", "r", "largest_cluster"] {
             assert!(points[0].get(key).is_some(), "missing {key}");
+        }
+    }
+    // The residual threshold is 1 / mean excess at every point.
+    for s in v["strategies"].as_array().unwrap() {
+        for pt in s["points"].as_array().unwrap() {
+            if let (Some(k), Some(tc)) = (pt["mean_excess"].as_f64(), pt["threshold"].as_f64()) {
+                assert!((k * tc - 1.0).abs() < 1e-12);
+            }
         }
     }
     // Curves to files, private; T out of range is a usage error (exit 2).

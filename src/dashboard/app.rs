@@ -432,7 +432,7 @@ impl App {
 
     /// All ranked indices in the order of a sort column (ascending as the column reads:
     /// most contacts / cases first, fewest days left first), computed once per column and
-    /// kept; follow-up and flags change with the workspace, so they are computed each time.
+    /// kept; the follow-up and flag orders are dropped whenever the workspace changes.
     fn order(&mut self, m: &Model, col: SortCol) -> Vec<u32> {
         if let Some(p) = self.perms.get(&col) {
             return p.clone();
@@ -459,7 +459,6 @@ impl App {
                 };
                 let keys: Vec<usize> = v.iter().map(|&i| key(i)).collect();
                 v.sort_by_key(|&i| keys[i as usize]);
-                return v;
             }
             SortCol::Flags => {
                 let flagged: Vec<bool> = v
@@ -467,7 +466,6 @@ impl App {
                     .map(|&i| !self.flags(m, ranked[i as usize].node).is_empty())
                     .collect();
                 v.sort_by_key(|&i| !flagged[i as usize]);
-                return v;
             }
         }
         self.perms.insert(col, v.clone());
@@ -734,6 +732,8 @@ impl App {
         });
         match result {
             Ok(state) => {
+                self.perms.remove(&SortCol::Followup);
+                self.perms.remove(&SortCol::Flags);
                 match state {
                     Some(s) => {
                         self.states.insert(id.clone(), s);
@@ -741,6 +741,9 @@ impl App {
                     None => {
                         self.states.remove(&id);
                     }
+                }
+                if matches!(self.sort.0, SortCol::Followup | SortCol::Flags) {
+                    self.refilter(m);
                 }
                 if let Some(p) = &self.person {
                     let (pn, pos, sort) = (p.node, p.pos, p.sort);

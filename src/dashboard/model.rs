@@ -71,14 +71,8 @@ pub fn scope_stats(d: &Dataset, degrees: &[u32], members: &[u32], label: String)
     } else {
         Vec::new()
     };
-    // Contacts may lie outside `members` and have more contacts than any member.
-    let nb_max = members
-        .iter()
-        .flat_map(|&v| d.graph.neighbors_slice(v).iter())
-        .map(|&w| degrees[w as usize] as usize)
-        .max()
-        .unwrap_or(0);
-    let mut contact_excess = vec![0f64; nb_max.max(max).max(1)];
+    // Contacts may lie outside `members` and have more contacts than any member: grown below.
+    let mut contact_excess = vec![0f64; max.max(1)];
     let mut knn_sum = vec![0f64; max + 1];
     let (mut active, mut contact_mean_sum) = (0usize, 0f64);
     let (mut more, mut fewer, mut equal) = (0usize, 0usize, 0usize);
@@ -92,7 +86,11 @@ pub fn scope_stats(d: &Dataset, degrees: &[u32], members: &[u32], label: String)
         for &w in d.graph.neighbors_slice(v) {
             let kw = degrees[w as usize];
             sum += kw as u64;
-            contact_excess[(kw - 1) as usize] += 1.0 / k as f64;
+            let slot = (kw - 1) as usize;
+            if slot >= contact_excess.len() {
+                contact_excess.resize(slot + 1, 0.0);
+            }
+            contact_excess[slot] += 1.0 / k as f64;
         }
         let mean_nb = sum as f64 / k as f64;
         knn_sum[k as usize] += mean_nb;
@@ -188,6 +186,9 @@ pub struct Model {
     pub id_rank: Vec<u32>,
     /// Indices into `list.ranked`, in ID order.
     pub by_id: Vec<u32>,
+    /// Per ranked entry: the score component that contributes most ("why is this person
+    /// here?").
+    pub main_reason: Vec<&'static str>,
     /// Where flags and follow-up states are kept.
     pub workspace_path: PathBuf,
     /// Folder for exports of the current view.
@@ -316,7 +317,19 @@ impl Model {
             codes(&d, "status", &filter_values.status),
             codes(&d, "area", &filter_values.area),
         ];
+        let main_reason = list
+            .ranked
+            .iter()
+            .map(|r| {
+                r.parts(&list.preset.1)
+                    .into_iter()
+                    .max_by(|a, b| a.contribution.total_cmp(&b.contribution))
+                    .map(|p| p.name)
+                    .unwrap_or("")
+            })
+            .collect();
         Ok(Model {
+            main_reason,
             codes,
             id_rank,
             by_id,
