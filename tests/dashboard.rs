@@ -328,8 +328,20 @@ fn small_terminals_no_color_and_resizing() {
     }
     assert_eq!(Theme::pick("dark", true), Theme::mono());
     assert_eq!(Theme::pick("light", false).name, "light");
-    // Every pane draws at the smallest allowed size without panicking.
+    // Shrinking the window keeps the selected row on screen.
     let mut app = app;
+    app.act(&m, Action::Go(Pane::Priority));
+    app.act(&m, Action::End);
+    app.resized(&m, 80, 24);
+    let page = hubwatch::dashboard::app::page_rows((80, 24), 0);
+    assert!(app.prio.selected >= app.prio.offset && app.prio.selected < app.prio.offset + page);
+    let s = render(&m, &app, 80, 24, &Theme::dark());
+    let last_rank = *app.rows.last().unwrap() + 1;
+    assert!(s.contains(&format!("│{last_rank} ")), "{s}");
+    // IDs are never cut at the smallest size (less important columns give way).
+    let last_id = m.d.ids.name(m.list.ranked[last_rank as usize - 1].node);
+    assert!(s.contains(last_id), "{s}");
+    // Every pane draws at the smallest allowed size without panicking.
     for p in Pane::ALL {
         app.act(&m, Action::Go(p));
         let s = render(&m, &app, 80, 24, &Theme::dark());

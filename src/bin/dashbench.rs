@@ -178,10 +178,14 @@ fn one(dir: &Path) {
     }
     let t = b.key(&m, &mut app, Action::SortReverse);
     record("priority: reverse sort (S)", t);
-    // Sorted orders are kept: cycling through the columns again.
+    // The remaining columns for the first time, then every column again (orders are kept).
+    for _ in 0..5 {
+        let t = b.key(&m, &mut app, Action::SortNext);
+        record("priority: sort (s), the other five columns, first time", t);
+    }
     for _ in 0..7 {
         let t = b.key(&m, &mut app, Action::SortNext);
-        record("priority: sort (s), every column again", t);
+        record("priority: sort (s), every column again (kept)", t);
     }
     while app.sort.0 != hubwatch::dashboard::app::SortCol::Rank {
         app.act(&m, Action::SortNext);

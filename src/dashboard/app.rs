@@ -680,6 +680,17 @@ impl App {
         self.pane = Pane::Person;
     }
 
+    /// The terminal changed size: keep every selection on screen.
+    pub fn resized(&mut self, m: &Model, width: u16, height: u16) {
+        self.size = (width, height);
+        self.prio.clamp(self.rows.len(), page_rows(self.size, 0));
+        self.clusters
+            .clamp(m.clusters.len(), page_rows(self.size, 0));
+        if let Some(p) = &mut self.person {
+            p.pos.clamp(p.contacts.len(), page_rows(self.size, 12));
+        }
+    }
+
     /// A click on the i-th shown row of the priority list.
     pub fn click_row(&mut self, m: &Model, i: usize) {
         let target = self.prio.offset + i;

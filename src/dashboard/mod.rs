@@ -138,7 +138,7 @@ pub fn run(load: &LoadArgs, rank: &PriorityArgs, workspace: Option<PathBuf>) -> 
     let mut terminal = Terminal::new(CrosstermBackend::new(std::io::stdout())).map_err(io)?;
     terminal.clear().map_err(io)?;
     let size = terminal.size().map_err(io)?;
-    app.size = (size.width, size.height);
+    app.resized(&model, size.width, size.height);
     let mut dirty = true;
     let mut null_shown = model.null.get().is_some();
     while !app.quit && !stop.load(Ordering::Relaxed) {
@@ -178,7 +178,7 @@ pub fn handle_event(model: &Model, app: &mut App, ev: Event) -> bool {
             true
         }
         Event::Resize(w, h) => {
-            app.size = (w, h);
+            app.resized(model, w, h);
             true
         }
         Event::Mouse(mouse) => {

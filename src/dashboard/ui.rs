@@ -775,6 +775,23 @@ fn days(x: Option<i32>) -> String {
 
 fn priority(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
     let page = area.height.saturating_sub(3) as usize;
+    // Columns by width: on narrow screens the "mostly", "cases met" and "window end" columns
+    // go, so that IDs are never cut.
+    const COLUMNS: [(&str, u16); 11] = [
+        ("rank", 7),
+        ("ID", 12),
+        ("score", 7),
+        ("mostly", 13),
+        ("contacts", 8),
+        ("cases met", 9),
+        ("window end", 11),
+        ("days left", 9),
+        ("marks", 5),
+        ("follow-up", 12),
+        ("flags", 10),
+    ];
+    let wide = area.width >= 118;
+    let shown = |c: usize| wide || !matches!(c, 3 | 5 | 6);
     let pos = app.prio;
     let rows: Vec<Row> = app
         .rows
@@ -794,7 +811,7 @@ fn priority(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
             if r.overdue {
                 marks.push('!');
             }
-            let row = Row::new(vec![
+            let cells = [
                 (ri + 1).to_string(),
                 m.d.ids.name(r.node).to_string(),
                 format!("{:.3}", r.score),
@@ -806,7 +823,14 @@ fn priority(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
                 marks,
                 app.followup(m, r.node),
                 app.flags(m, r.node),
-            ]);
+            ];
+            let row = Row::new(
+                cells
+                    .into_iter()
+                    .enumerate()
+                    .filter(|(c, _)| shown(*c))
+                    .map(|(_, s)| s),
+            );
             if i == pos.selected {
                 row.style(th.selected)
             } else if r.overdue {
@@ -833,34 +857,26 @@ fn priority(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
     frame.render_widget(
         Table::new(
             rows,
-            [
-                Constraint::Length(7),
-                Constraint::Length(12),
-                Constraint::Length(7),
-                Constraint::Length(13),
-                Constraint::Length(8),
-                Constraint::Length(9),
-                Constraint::Length(11),
-                Constraint::Length(9),
-                Constraint::Length(5),
-                Constraint::Length(12),
-                Constraint::Min(10),
-            ],
+            COLUMNS
+                .iter()
+                .enumerate()
+                .filter(|(c, _)| shown(*c))
+                .map(|(c, &(_, w))| {
+                    if c == COLUMNS.len() - 1 {
+                        Constraint::Min(w)
+                    } else {
+                        Constraint::Length(w)
+                    }
+                }),
         )
         .header(
-            Row::new(vec![
-                "rank",
-                "ID",
-                "score",
-                "mostly",
-                "contacts",
-                "cases met",
-                "window end",
-                "days left",
-                "marks",
-                "follow-up",
-                "flags",
-            ])
+            Row::new(
+                COLUMNS
+                    .iter()
+                    .enumerate()
+                    .filter(|(c, _)| shown(*c))
+                    .map(|(_, &(name, _))| name),
+            )
             .style(th.title),
         )
         .block(block(title, th).title_bottom(Span::styled(
