@@ -292,11 +292,15 @@ pub struct App {
     pub cluster_bridges: Vec<(String, u32)>,
     /// Degree figures of the people the filters keep, when a filter is on.
     pub scope: Option<ScopeStats>,
-    /// The filters changed since `scope` was computed (it is recomputed when the Degrees or
-    /// Neighbours pane is shown, not on every filter key).
-    pub scope_dirty: bool,
+    /// The filters `scope` reflects (it is recomputed when the Degrees or Neighbours pane is
+    /// shown and the filters differ, not on every filter key).
+    pub scope_for: Filters,
     /// Sorted orders of the list, per column, once computed.
-    perms: HashMap<SortCol, Vec<u32>>,
+    perms: HashMap<SortCol, std::rc::Rc<Vec<u32>>>,
+    /// Per ranked entry: kept by the filters in `mask_for`.
+    mask: Vec<bool>,
+    /// The filters `mask` was computed for.
+    mask_for: Option<Filters>,
     /// Log scale on the charts.
     pub log_scale: bool,
     /// Tail cut-off: index into [`CUTOFFS`].
@@ -345,8 +349,10 @@ impl App {
             clusters: ListPos::default(),
             cluster_bridges: Vec::new(),
             scope: None,
-            scope_dirty: false,
+            scope_for: Filters::default(),
             perms: HashMap::new(),
+            mask: Vec::new(),
+            mask_for: None,
             log_scale: false,
             cutoff: 0,
             outlook: OutlookNow {
@@ -433,9 +439,9 @@ impl App {
     /// All ranked indices in the order of a sort column (ascending as the column reads:
     /// most contacts / cases first, fewest days left first), computed once per column and
     /// kept; the follow-up and flag orders are dropped whenever the workspace changes.
-    fn order(&mut self, m: &Model, col: SortCol) -> Vec<u32> {
+    fn order(&mut self, m: &Model, col: SortCol) -> std::rc::Rc<Vec<u32>> {
         if let Some(p) = self.perms.get(&col) {
-            return p.clone();
+            return std::rc::Rc::clone(p);
         }
         let ranked = &m.list.ranked;
         let mut v: Vec<u32> = (0..ranked.len() as u32).collect();
@@ -468,7 +474,8 @@ impl App {
                 v.sort_by_key(|&i| !flagged[i as usize]);
             }
         }
-        self.perms.insert(col, v.clone());
+        let v = std::rc::Rc::new(v);
+        self.perms.insert(col, std::rc::Rc::clone(&v));
         v
     }
 
@@ -481,19 +488,30 @@ impl App {
         let (col, desc) = self.sort;
         let order = self.order(m, col);
         let ranked = &m.list.ranked;
-        let keep = |i: &u32| self.keeps(m, &ranked[*i as usize]);
+        let filtered = self.filters != Filters::default();
+        if filtered && self.mask_for.as_ref() != Some(&self.filters) {
+            // One pass in rank order (sequential), then the sorted order only reads the mask.
+            let mask: Vec<bool> = ranked.iter().map(|r| self.keeps(m, r)).collect();
+            self.mask = mask;
+            self.mask_for = Some(self.filters.clone());
+        }
+        let mask = &self.mask;
+        let keep = |i: &u32| !filtered || mask[*i as usize];
         let rows: Vec<u32> = if desc {
             order.iter().rev().filter(|i| keep(i)).copied().collect()
-        } else {
+        } else if filtered {
             order.iter().filter(|i| keep(i)).copied().collect()
+        } else {
+            order.as_ref().clone()
         };
-        let mut row_of = vec![u32::MAX; ranked.len()];
+        let mut row_of = std::mem::take(&mut self.row_of);
+        row_of.clear();
+        row_of.resize(ranked.len(), u32::MAX);
         for (p, &i) in rows.iter().enumerate() {
             row_of[i as usize] = p as u32;
         }
         self.rows = rows;
         self.row_of = row_of;
-        self.scope_dirty = true;
         self.prio.selected = keep_node
             .and_then(|n| m.rank_pos.get(n as usize).copied())
             .and_then(|i| self.row_of.get(i as usize).copied())
@@ -507,7 +525,7 @@ impl App {
     /// Recompute the Degrees and Neighbours figures for the people the filters keep (their
     /// contacts counted in the whole network); whole network when no filter is on.
     pub fn rescope(&mut self, m: &Model) {
-        self.scope_dirty = false;
+        self.scope_for = self.filters.clone();
         if self.filters == Filters::default() {
             self.scope = None;
             return;
@@ -774,7 +792,7 @@ impl App {
     /// Handle a key's action.
     pub fn act(&mut self, m: &Model, action: Action) {
         self.act_inner(m, action);
-        if self.scope_dirty && matches!(self.pane, Pane::Degrees | Pane::Neighbours) {
+        if self.filters != self.scope_for && matches!(self.pane, Pane::Degrees | Pane::Neighbours) {
             self.rescope(m);
         }
     }
