@@ -268,6 +268,40 @@ fn filters_flags_notes_follow_up_and_export() {
     assert_eq!(st.followup.as_deref(), Some("to call"));
     assert_eq!(st.note.as_deref(), Some("call after 6pm"));
     assert!(text(&m, &app, dir.path()).contains("note saved"));
+    // Sorting by flags puts the flagged person first; by follow-up, "to call" comes first
+    // (workspace state over the export's column).
+    use hubwatch::dashboard::app::SortCol;
+    while app.sort.0 != SortCol::Flags {
+        app.act(&m, Action::SortNext);
+    }
+    assert_eq!(
+        m.d.ids.name(m.list.ranked[app.rows[0] as usize].node),
+        target
+    );
+    app.act(&m, Action::SortNext);
+    app.act(&m, Action::SortNext);
+    app.act(&m, Action::SortNext);
+    while app.sort.0 != SortCol::Followup {
+        app.act(&m, Action::SortNext);
+    }
+    let states: Vec<String> = app
+        .rows
+        .iter()
+        .map(|&i| app.followup(&m, m.list.ranked[i as usize].node))
+        .collect();
+    let order = |s: &str| {
+        hubwatch::workspace::FOLLOWUP_STATES
+            .iter()
+            .position(|&x| x == s.to_lowercase())
+            .unwrap_or(9)
+    };
+    assert!(
+        states.windows(2).all(|w| order(&w[0]) <= order(&w[1])),
+        "{states:?}"
+    );
+    while app.sort.0 != SortCol::Rank {
+        app.act(&m, Action::SortNext);
+    }
     // Export the view: the same export code, private, one row per person shown.
     app.act(&m, Action::FilterWindow);
     let out = dir.path().join("view.csv");

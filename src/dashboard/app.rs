@@ -422,58 +422,76 @@ impl App {
         }
     }
 
-    fn keeps(&self, m: &Model, r: &Ranked) -> bool {
+    /// Whether the filters keep ranked entry `i` (reads the rank-ordered arrays).
+    fn keeps(&self, m: &Model, i: usize) -> bool {
         let f = &self.filters;
-        let node = r.node as usize;
-        let is =
-            |want: Option<usize>, codes: &[u16]| want.is_none_or(|i| codes[node] as usize == i);
-        is(f.role, &m.codes[0])
-            && is(f.status, &m.codes[1])
-            && is(f.area, &m.codes[2])
+        let b = &m.by_rank;
+        let is = |want: Option<usize>, codes: &[u16]| want.is_none_or(|v| codes[i] as usize == v);
+        is(f.role, &b.codes[0])
+            && is(f.status, &b.codes[1])
+            && is(f.area, &b.codes[2])
             && f.setting
-                .is_none_or(|s| s > 64 || m.setting_bits[node] & (1 << (s - 1)) != 0)
-            && (!f.in_window || r.days_left.is_some_and(|d| d >= 0))
-            && f.cluster.is_none_or(|c| m.stats.components.0[node] == c)
+                .is_none_or(|s| s > 64 || b.settings[i] & (1 << (s - 1)) != 0)
+            && (!f.in_window || m.list.ranked[i].days_left.is_some_and(|d| d >= 0))
+            && f.cluster.is_none_or(|c| b.component[i] == c)
     }
 
     /// All ranked indices in the order of a sort column (ascending as the column reads:
-    /// most contacts / cases first, fewest days left first), computed once per column and
-    /// kept; the follow-up and flag orders are dropped whenever the workspace changes.
+    /// most contacts / cases first, fewest days left first). The fixed columns come from the
+    /// model; follow-up and flags depend on the workspace, are bucketed in one pass (ties in
+    /// rank order), kept, and dropped whenever the workspace changes.
     fn order(&mut self, m: &Model, col: SortCol) -> std::rc::Rc<Vec<u32>> {
         if let Some(p) = self.perms.get(&col) {
             return std::rc::Rc::clone(p);
         }
-        let ranked = &m.list.ranked;
-        let mut v: Vec<u32> = (0..ranked.len() as u32).collect();
-        match col {
-            SortCol::Rank => {}
-            SortCol::Id => v = m.by_id.clone(),
-            SortCol::Degree => v.sort_by_key(|&i| std::cmp::Reverse(ranked[i as usize].degree)),
-            SortCol::Cases => {
-                v.sort_by(|&a, &b| ranked[b as usize].raw[1].total_cmp(&ranked[a as usize].raw[1]))
-            }
-            SortCol::DaysLeft => {
-                v.sort_by_key(|&i| ranked[i as usize].days_left.unwrap_or(i32::MAX))
-            }
+        let n = m.list.ranked.len();
+        let v: Vec<u32> = match col {
+            SortCol::Rank => (0..n as u32).collect(),
+            SortCol::Id => m.by_id.clone(),
+            SortCol::Degree => m.orders[0].clone(),
+            SortCol::Cases => m.orders[1].clone(),
+            SortCol::DaysLeft => m.orders[2].clone(),
             SortCol::Followup => {
-                let key = |i: u32| {
-                    let s = self.followup(m, ranked[i as usize].node);
-                    FOLLOWUP_STATES
-                        .iter()
-                        .position(|&x| x == s)
-                        .unwrap_or(FOLLOWUP_STATES.len())
-                };
-                let keys: Vec<usize> = v.iter().map(|&i| key(i)).collect();
-                v.sort_by_key(|&i| keys[i as usize]);
+                let mut key = m.by_rank.followup.clone();
+                for (id, st) in &self.states {
+                    let pos =
+                        m.d.ids
+                            .get(id)
+                            .and_then(|node| m.rank_pos.get(node as usize).copied())
+                            .filter(|&p| p != u32::MAX);
+                    if let (Some(p), Some(f)) = (pos, st.followup.as_deref()) {
+                        if let Some(k) = FOLLOWUP_STATES.iter().position(|&x| x == f) {
+                            key[p as usize] = k as u8;
+                        }
+                    }
+                }
+                let mut buckets = vec![Vec::new(); FOLLOWUP_STATES.len() + 1];
+                for (i, &k) in key.iter().enumerate() {
+                    buckets[(k as usize).min(FOLLOWUP_STATES.len())].push(i as u32);
+                }
+                buckets.concat()
             }
             SortCol::Flags => {
-                let flagged: Vec<bool> = v
-                    .iter()
-                    .map(|&i| !self.flags(m, ranked[i as usize].node).is_empty())
-                    .collect();
-                v.sort_by_key(|&i| !flagged[i as usize]);
+                let mut flagged = vec![false; n];
+                for (id, st) in &self.states {
+                    if st.flags.is_empty() {
+                        continue;
+                    }
+                    if let Some(p) =
+                        m.d.ids
+                            .get(id)
+                            .and_then(|node| m.rank_pos.get(node as usize).copied())
+                            .filter(|&p| p != u32::MAX)
+                    {
+                        flagged[p as usize] = true;
+                    }
+                }
+                let (mut yes, no): (Vec<u32>, Vec<u32>) =
+                    (0..n as u32).partition(|&i| flagged[i as usize]);
+                yes.extend(no);
+                yes
             }
-        }
+        };
         let v = std::rc::Rc::new(v);
         self.perms.insert(col, std::rc::Rc::clone(&v));
         v
@@ -491,7 +509,7 @@ impl App {
         let filtered = self.filters != Filters::default();
         if filtered && self.mask_for.as_ref() != Some(&self.filters) {
             // One pass in rank order (sequential), then the sorted order only reads the mask.
-            let mask: Vec<bool> = ranked.iter().map(|r| self.keeps(m, r)).collect();
+            let mask: Vec<bool> = (0..ranked.len()).map(|i| self.keeps(m, i)).collect();
             self.mask = mask;
             self.mask_for = Some(self.filters.clone());
         }

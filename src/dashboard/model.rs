@@ -186,6 +186,13 @@ pub struct Model {
     pub id_rank: Vec<u32>,
     /// Indices into `list.ranked`, in ID order.
     pub by_id: Vec<u32>,
+    /// Per ranked entry (rank order, so that filtering reads memory in sequence): role, status
+    /// and area codes, setting bits, component label, and the export's follow-up state as an
+    /// index into the workspace's states (their count: none).
+    pub by_rank: ByRank,
+    /// Ranked indices sorted by contacts (most first), cases met (most first) and days left
+    /// (fewest first), ties in rank order; computed at load beside the outlook.
+    pub orders: [Vec<u32>; 3],
     /// Per ranked entry: the score component that contributes most ("why is this person
     /// here?").
     pub main_reason: Vec<&'static str>,
@@ -200,6 +207,19 @@ pub struct Model {
     /// The null model of r, computed in the background (it takes seconds at a million rows);
     /// empty until done.
     pub null: Arc<OnceLock<NullModel>>,
+}
+
+/// Filterable values per ranked entry (see [`Model::by_rank`]).
+#[derive(Debug, Clone, Default)]
+pub struct ByRank {
+    /// Role, status, area codes.
+    pub codes: [Vec<u16>; 3],
+    /// Setting bits.
+    pub settings: Vec<u64>,
+    /// Component label.
+    pub component: Vec<u32>,
+    /// Follow-up state from the export (index into FOLLOWUP_STATES; its length: none).
+    pub followup: Vec<u8>,
 }
 
 /// Distinct non-empty values of a people attribute, sorted (at most 200).
@@ -287,7 +307,12 @@ impl Model {
         };
         let priority_order: Vec<u32> = list.ranked.iter().map(|r| r.node).collect();
         let id_rank = crate::metrics::reach::id_ranks(&d.ids);
-        let plan = planning::plan_with_ranks(&d, Some(priority_order), &opts, &id_rank);
+        // The outlook and the list's sorted orders at the same time.
+        let (plan, orders) = std::thread::scope(|s| {
+            let orders = s.spawn(|| sorted_orders(&list.ranked));
+            let plan = planning::plan_with_ranks(&d, Some(priority_order), &opts, &id_rank);
+            (plan, orders.join().expect("sorting thread"))
+        });
         let mut by_id = vec![u32::MAX; d.people()];
         for (i, r) in list.ranked.iter().enumerate() {
             by_id[id_rank[r.node as usize] as usize] = i as u32;
@@ -317,6 +342,37 @@ impl Model {
             codes(&d, "status", &filter_values.status),
             codes(&d, "area", &filter_values.area),
         ];
+        let states = crate::workspace::FOLLOWUP_STATES;
+        let by_rank = ByRank {
+            codes: [0, 1, 2].map(|c| {
+                list.ranked
+                    .iter()
+                    .map(|r| codes[c][r.node as usize])
+                    .collect()
+            }),
+            settings: list
+                .ranked
+                .iter()
+                .map(|r| setting_bits[r.node as usize])
+                .collect(),
+            component: list
+                .ranked
+                .iter()
+                .map(|r| stats.components.0[r.node as usize])
+                .collect(),
+            followup: list
+                .ranked
+                .iter()
+                .map(|r| {
+                    let v = d
+                        .attrs
+                        .get("followup_status", r.node)
+                        .map(|v| v.trim().to_lowercase());
+                    v.and_then(|v| states.iter().position(|&s| s == v))
+                        .unwrap_or(states.len()) as u8
+                })
+                .collect(),
+        };
         let main_reason = list
             .ranked
             .iter()
@@ -329,6 +385,8 @@ impl Model {
             })
             .collect();
         Ok(Model {
+            by_rank,
+            orders,
             main_reason,
             codes,
             id_rank,
@@ -370,6 +428,18 @@ impl Model {
     pub fn strategies(&self) -> impl Iterator<Item = Strategy> + '_ {
         self.plan.strategies.iter().map(|s| s.strategy)
     }
+}
+
+/// The list sorted by contacts, cases met and days left (stable, so ties keep rank order).
+fn sorted_orders(ranked: &[Ranked]) -> [Vec<u32>; 3] {
+    let base: Vec<u32> = (0..ranked.len() as u32).collect();
+    let mut by_degree = base.clone();
+    by_degree.sort_by_key(|&i| std::cmp::Reverse(ranked[i as usize].degree));
+    let mut by_cases = base.clone();
+    by_cases.sort_by(|&a, &b| ranked[b as usize].raw[1].total_cmp(&ranked[a as usize].raw[1]));
+    let mut by_days = base;
+    by_days.sort_by_key(|&i| ranked[i as usize].days_left.unwrap_or(i32::MAX));
+    [by_degree, by_cases, by_days]
 }
 
 fn cluster_rows(d: &Dataset, stats: &NetworkStats) -> Vec<ClusterRow> {
