@@ -382,3 +382,41 @@ fn small_terminals_no_color_and_resizing() {
         assert!(s.contains(p.name()), "{p:?}: {s}");
     }
 }
+
+#[test]
+fn filtered_figures_on_a_worker_thread() {
+    // With the model shared (as in the terminal loop), the figures for a filter are computed
+    // on a worker thread: the pane says so, then shows the same figures as the direct path.
+    let dir = tempfile::tempdir().unwrap();
+    let (m, mut direct) = setup(dir.path());
+    let m = std::sync::Arc::new(m);
+    let mut app = App::new(&m, Vec::new());
+    app.size = (120, 40);
+    app.shared = Some(std::sync::Arc::clone(&m));
+    app.background_min = 0;
+    for a in [&mut app, &mut direct] {
+        a.act(&m, Action::Go(Pane::Priority));
+        a.act(&m, Action::FilterArea);
+        a.act(&m, Action::Go(Pane::Degrees));
+    }
+    assert!(app.scope_pending.is_some());
+    assert!(text(&m, &app, dir.path()).contains("Computing the figures"));
+    let start = std::time::Instant::now();
+    while !app.poll_jobs() {
+        assert!(start.elapsed().as_secs() < 30, "no result");
+        std::thread::sleep(std::time::Duration::from_millis(5));
+    }
+    assert_eq!(app.scope, direct.scope);
+    assert!(app.scope.is_some());
+    // A result for filters that changed meanwhile is dropped.
+    app.act(&m, Action::Go(Pane::Priority));
+    app.act(&m, Action::FilterArea);
+    app.act(&m, Action::Go(Pane::Degrees));
+    app.act(&m, Action::Go(Pane::Priority));
+    app.act(&m, Action::FilterArea);
+    while app.scope_pending.is_some() {
+        app.poll_jobs();
+        std::thread::sleep(std::time::Duration::from_millis(5));
+    }
+    assert!(app.scope.is_none() || app.scope_for == app.filters);
+}

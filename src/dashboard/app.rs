@@ -295,6 +295,13 @@ pub struct App {
     /// The filters `scope` reflects (it is recomputed when the Degrees or Neighbours pane is
     /// shown and the filters differ, not on every filter key).
     pub scope_for: Filters,
+    /// Figures being computed on a worker thread for these filters.
+    pub scope_pending: Option<(Filters, std::sync::mpsc::Receiver<ScopeStats>)>,
+    /// The model shared with worker threads (set by the terminal loop; tests leave it empty
+    /// and get every result at once).
+    pub shared: Option<std::sync::Arc<Model>>,
+    /// Sets at least this large go to a worker thread ([`BACKGROUND_SCOPE`]).
+    pub background_min: usize,
     /// Sorted orders of the list, per column, once computed.
     perms: HashMap<SortCol, std::rc::Rc<Vec<u32>>>,
     /// Per ranked entry: kept by the filters in `mask_for`.
@@ -315,6 +322,9 @@ pub struct App {
 
 /// Shares of people shown before the tail is summarised.
 pub const CUTOFFS: [f64; 4] = [0.99, 0.999, 0.95, 1.0];
+
+/// Filtered sets at least this large get their figures on a worker thread.
+pub const BACKGROUND_SCOPE: usize = 50_000;
 
 /// Smallest size at which the dashboard draws.
 pub const MIN_SIZE: (u16, u16) = (80, 24);
@@ -350,6 +360,9 @@ impl App {
             cluster_bridges: Vec::new(),
             scope: None,
             scope_for: Filters::default(),
+            scope_pending: None,
+            shared: None,
+            background_min: BACKGROUND_SCOPE,
             perms: HashMap::new(),
             mask: Vec::new(),
             mask_for: None,
@@ -544,6 +557,7 @@ impl App {
     /// contacts counted in the whole network); whole network when no filter is on.
     pub fn rescope(&mut self, m: &Model) {
         self.scope_for = self.filters.clone();
+        self.scope_pending = None;
         if self.filters == Filters::default() {
             self.scope = None;
             return;
@@ -554,7 +568,43 @@ impl App {
             .map(|&i| m.list.ranked[i as usize].node)
             .collect();
         let label = format!("{} ({} people)", self.filter_text(m), nodes.len());
-        self.scope = Some(scope_stats(&m.d, &m.stats.degrees, &nodes, label));
+        match &self.shared {
+            // Large sets on a worker thread: the key is answered at once, the pane says
+            // "computing" until the figures arrive (see `poll_jobs`).
+            Some(shared) if nodes.len() >= self.background_min => {
+                let (tx, rx) = std::sync::mpsc::channel();
+                let shared = std::sync::Arc::clone(shared);
+                std::thread::spawn(move || {
+                    let s = scope_stats(&shared.d, &shared.stats.degrees, &nodes, label);
+                    let _ = tx.send(s);
+                });
+                self.scope = None;
+                self.scope_pending = Some((self.filters.clone(), rx));
+            }
+            _ => self.scope = Some(scope_stats(&m.d, &m.stats.degrees, &nodes, label)),
+        }
+    }
+
+    /// Take finished background work; true when something arrived (redraw).
+    pub fn poll_jobs(&mut self) -> bool {
+        let Some((filters, rx)) = &self.scope_pending else {
+            return false;
+        };
+        match rx.try_recv() {
+            Ok(s) => {
+                if *filters == self.filters {
+                    self.scope = Some(s);
+                }
+                self.scope_pending = None;
+                true
+            }
+            Err(std::sync::mpsc::TryRecvError::Empty) => false,
+            Err(std::sync::mpsc::TryRecvError::Disconnected) => {
+                self.scope_pending = None;
+                self.say("the filtered figures could not be computed", true);
+                true
+            }
+        }
     }
 
     /// Set T (None keeps it unknown) and recompute the Outlook figures.

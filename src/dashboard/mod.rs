@@ -115,6 +115,8 @@ pub fn run(load: &LoadArgs, rank: &PriorityArgs, workspace: Option<PathBuf>) -> 
         );
     }
     let theme = Theme::pick(&model.theme, no_color());
+    let model = Arc::new(model);
+    app.shared = Some(Arc::clone(&model));
     // Signals: ask the loop to stop, so the terminal is restored on the way out.
     let stop = Arc::new(AtomicBool::new(false));
     for sig in [
@@ -152,7 +154,11 @@ pub fn run(load: &LoadArgs, rank: &PriorityArgs, workspace: Option<PathBuf>) -> 
                 panic!("panic requested by HUBWATCH_TEST_PANIC");
             }
         }
-        if !event::poll(Duration::from_millis(200)).map_err(io)? {
+        if app.poll_jobs() {
+            dirty = true;
+        }
+        let wait = if app.scope_pending.is_some() { 30 } else { 200 };
+        if !event::poll(Duration::from_millis(wait)).map_err(io)? {
             // Redraw once when the background null model arrives.
             if !null_shown && model.null.get().is_some() {
                 null_shown = true;

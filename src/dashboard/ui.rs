@@ -341,6 +341,24 @@ fn y_axis<'a>(max: f64, log: bool, th: &Theme) -> Axis<'a> {
 }
 
 fn degrees(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
+    if app.scope_pending.is_some() {
+        frame.render_widget(
+            Paragraph::new(format!(
+                "Computing the figures for the people the filters keep ({}) …",
+                app.filter_text(m)
+            ))
+            .block(block(
+                if app.pane == Pane::Degrees {
+                    "2 Degrees".into()
+                } else {
+                    "3 Neighbours".into()
+                },
+                th,
+            )),
+            area,
+        );
+        return;
+    }
     let sc = app.scope(m);
     let [charts, table] = Layout::vertical([Constraint::Min(8), Constraint::Length(9)]).areas(area);
     let [left, right] =
@@ -532,6 +550,24 @@ fn degrees(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
 }
 
 fn neighbours(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
+    if app.scope_pending.is_some() {
+        frame.render_widget(
+            Paragraph::new(format!(
+                "Computing the figures for the people the filters keep ({}) …",
+                app.filter_text(m)
+            ))
+            .block(block(
+                if app.pane == Pane::Degrees {
+                    "2 Degrees".into()
+                } else {
+                    "3 Neighbours".into()
+                },
+                th,
+            )),
+            area,
+        );
+        return;
+    }
     let sc = app.scope(m);
     let [charts, bottom] =
         Layout::vertical([Constraint::Min(8), Constraint::Length(10)]).areas(area);
