@@ -276,7 +276,8 @@ pub struct App {
     pub filters: Filters,
     /// Priority list: indices into the model's ranked list, in display order.
     pub rows: Vec<u32>,
-    /// Position of each ranked index in `rows` (u32::MAX: filtered out).
+    /// Position of each ranked index in `rows` (u32::MAX: filtered out); empty until a search
+    /// needs it after the rows changed.
     pub row_of: Vec<u32>,
     /// Position in the priority list.
     pub prio: ListPos,
@@ -528,26 +529,21 @@ impl App {
         }
         let mask = &self.mask;
         let keep = |i: &u32| !filtered || mask[*i as usize];
-        let rows: Vec<u32> = if desc {
-            order.iter().rev().filter(|i| keep(i)).copied().collect()
+        let mut rows = std::mem::take(&mut self.rows);
+        rows.clear();
+        if desc {
+            rows.extend(order.iter().rev().filter(|i| keep(i)));
         } else if filtered {
-            order.iter().filter(|i| keep(i)).copied().collect()
+            rows.extend(order.iter().filter(|i| keep(i)));
         } else {
-            order.as_ref().clone()
-        };
-        let mut row_of = std::mem::take(&mut self.row_of);
-        row_of.clear();
-        row_of.resize(ranked.len(), u32::MAX);
-        for (p, &i) in rows.iter().enumerate() {
-            row_of[i as usize] = p as u32;
+            rows.extend_from_slice(&order);
         }
         self.rows = rows;
-        self.row_of = row_of;
+        // Positions are rebuilt when a search needs them, not on every filter key.
+        self.row_of.clear();
         self.prio.selected = keep_node
             .and_then(|n| m.rank_pos.get(n as usize).copied())
-            .and_then(|i| self.row_of.get(i as usize).copied())
-            .filter(|&p| p != u32::MAX)
-            .map(|p| p as usize)
+            .and_then(|i| self.rows.iter().position(|&r| r == i))
             .unwrap_or(0);
         let page = page_rows(self.size, 0);
         self.prio.clamp(self.rows.len(), page);
@@ -1131,6 +1127,13 @@ impl App {
         }
         if self.pane != Pane::Priority && self.pane != Pane::Person {
             self.pane = Pane::Priority;
+        }
+        if self.row_of.len() != m.list.ranked.len() {
+            self.row_of.clear();
+            self.row_of.resize(m.list.ranked.len(), u32::MAX);
+            for (p, &i) in self.rows.iter().enumerate() {
+                self.row_of[i as usize] = p as u32;
+            }
         }
         let exact =
             m.d.ids
