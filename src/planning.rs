@@ -597,21 +597,14 @@ impl Plan {
 
     /// The reach curves as one table (for CSV/JSON/Parquet/xlsx export).
     pub fn reach_table(&self) -> ExportTable {
-        let columns = [
+        let columns = names(&[
             "strategy",
             "reached",
             "mean_excess",
             "r",
             "largest_cluster",
             "model_mean_excess",
-        ]
-        .iter()
-        .map(|s| s.to_string())
-        .collect();
-        let num = |v: Stat| match v {
-            Ok(x) if x.is_finite() => Cell::Num(x),
-            _ => Cell::Empty,
-        };
+        ]);
         let mut rows = Vec::new();
         for sc in &self.strategies {
             for n in 0..=sc.len() {
@@ -630,20 +623,13 @@ impl Plan {
 
     /// The curve over T as a table.
     pub fn transmissibility_table(&self) -> ExportTable {
-        let columns = [
+        let columns = names(&[
             "t",
             "r0",
             "final_size",
             "takeoff_probability",
             "mean_outbreak_size",
-        ]
-        .iter()
-        .map(|s| s.to_string())
-        .collect();
-        let num = |v: Stat| match v {
-            Ok(x) if x.is_finite() => Cell::Num(x),
-            _ => Cell::Empty,
-        };
+        ]);
         let rows = self
             .curve
             .iter()
@@ -659,6 +645,18 @@ impl Plan {
             .collect();
         ExportTable { columns, rows }
     }
+}
+
+/// A number cell, empty where the figure is undefined.
+fn num(v: Stat) -> Cell {
+    match v {
+        Ok(x) if x.is_finite() => Cell::Num(x),
+        _ => Cell::Empty,
+    }
+}
+
+fn names(columns: &[&str]) -> Vec<String> {
+    columns.iter().map(|s| s.to_string()).collect()
 }
 
 /// n = 0, 1, 2, 5, 10, 20, 50, ... up to `len`, and `len` itself.

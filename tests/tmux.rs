@@ -14,6 +14,25 @@ struct Tmux {
 }
 
 impl Tmux {
+    /// A detached session of `width`×`height` running `sh script`, on a private socket in `dir`.
+    fn start(dir: &Path, script: &Path, width: u16, height: u16) -> Tmux {
+        let t = Tmux {
+            socket: dir.join("tmux.sock"),
+        };
+        t.run(&[
+            "new-session",
+            "-d",
+            "-s",
+            "hw",
+            "-x",
+            &width.to_string(),
+            "-y",
+            &height.to_string(),
+            &format!("sh '{}'", script.display()),
+        ]);
+        t
+    }
+
     fn run(&self, args: &[&str]) -> String {
         let out = Command::new("tmux")
             .arg("-S")
@@ -112,20 +131,7 @@ fn a_day_in_the_dashboard() {
         ),
     )
     .unwrap();
-    let t = Tmux {
-        socket: dir.path().join("tmux.sock"),
-    };
-    t.run(&[
-        "new-session",
-        "-d",
-        "-s",
-        "hw",
-        "-x",
-        "120",
-        "-y",
-        "40",
-        &format!("sh '{}'", script.display()),
-    ]);
+    let t = Tmux::start(dir.path(), &script, 120, 40);
     t.wait_for("1 Overview", 120);
     t.wait_for("people 262", 30);
     if let Some(out) = std::env::var_os("HUBWATCH_CAPTURE_DIR") {
@@ -224,20 +230,7 @@ fn a_panic_restores_the_terminal() {
         ),
     )
     .unwrap();
-    let t = Tmux {
-        socket: dir.path().join("tmux.sock"),
-    };
-    t.run(&[
-        "new-session",
-        "-d",
-        "-s",
-        "hw",
-        "-x",
-        "100",
-        "-y",
-        "30",
-        &format!("sh '{}'", script.display()),
-    ]);
+    let t = Tmux::start(dir.path(), &script, 100, 30);
     wait_file(&done, 120);
     let status = std::fs::read_to_string(dir.path().join("status.txt")).unwrap();
     assert_ne!(status.trim(), "0");
@@ -290,20 +283,7 @@ fn sigterm_restores_the_terminal() {
         ),
     )
     .unwrap();
-    let t = Tmux {
-        socket: dir.path().join("tmux.sock"),
-    };
-    t.run(&[
-        "new-session",
-        "-d",
-        "-s",
-        "hw",
-        "-x",
-        "100",
-        "-y",
-        "30",
-        &format!("sh '{}'", outer.display()),
-    ]);
+    let t = Tmux::start(dir.path(), &outer, 100, 30);
     t.wait_for("1 Overview", 120);
     let pid = std::fs::read_to_string(&pid).unwrap();
     let ok = Command::new("kill")

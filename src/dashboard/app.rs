@@ -468,12 +468,7 @@ impl App {
             SortCol::Followup => {
                 let mut key = m.by_rank.followup.clone();
                 for (id, st) in &self.states {
-                    let pos =
-                        m.d.ids
-                            .get(id)
-                            .and_then(|node| m.rank_pos.get(node as usize).copied())
-                            .filter(|&p| p != u32::MAX);
-                    if let (Some(p), Some(f)) = (pos, st.followup.as_deref()) {
+                    if let (Some(p), Some(f)) = (rank_of(m, id), st.followup.as_deref()) {
                         if let Some(k) = FOLLOWUP_STATES.iter().position(|&x| x == f) {
                             key[p as usize] = k as u8;
                         }
@@ -491,12 +486,7 @@ impl App {
                     if st.flags.is_empty() {
                         continue;
                     }
-                    if let Some(p) =
-                        m.d.ids
-                            .get(id)
-                            .and_then(|node| m.rank_pos.get(node as usize).copied())
-                            .filter(|&p| p != u32::MAX)
-                    {
+                    if let Some(p) = rank_of(m, id) {
                         flagged[p as usize] = true;
                     }
                 }
@@ -1135,13 +1125,9 @@ impl App {
                 self.row_of[i as usize] = p as u32;
             }
         }
-        let exact =
-            m.d.ids
-                .get(text)
-                .and_then(|n| m.rank_pos.get(n as usize).copied());
-        let found = match exact {
-            Some(i) if i != u32::MAX => Some(self.row_of[i as usize]).filter(|&p| p != u32::MAX),
-            _ => {
+        let found = match rank_of(m, text) {
+            Some(i) => Some(self.row_of[i as usize]).filter(|&p| p != u32::MAX),
+            None => {
                 // IDs in text order: binary search for the prefix, then the first one shown.
                 let ids = &m.d.ids;
                 let name = |i: u32| ids.name(m.list.ranked[i as usize].node);
@@ -1290,6 +1276,14 @@ impl App {
         crate::export::write(&table, &meta, format, path, false)?;
         Ok(table.rows.len())
     }
+}
+
+/// Position on the ranked list of the person with this ID, if in the export.
+fn rank_of(m: &Model, id: &str) -> Option<u32> {
+    m.d.ids
+        .get(id)
+        .and_then(|node| m.rank_pos.get(node as usize).copied())
+        .filter(|&p| p != u32::MAX)
 }
 
 fn cycle(now: Option<usize>, len: usize) -> Option<usize> {

@@ -340,23 +340,26 @@ fn y_axis<'a>(max: f64, log: bool, th: &Theme) -> Axis<'a> {
         .style(th.dim)
 }
 
+/// While the filtered figures are on their way from the worker, say so instead of showing
+/// figures for the wrong people; true when it did.
+fn computing(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) -> bool {
+    if app.scope_pending.is_none() {
+        return false;
+    }
+    let title = format!("{} {}", app.pane.index() + 1, app.pane.name());
+    frame.render_widget(
+        Paragraph::new(format!(
+            "Computing the figures for the people the filters keep ({}) …",
+            app.filter_text(m)
+        ))
+        .block(block(title, th)),
+        area,
+    );
+    true
+}
+
 fn degrees(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
-    if app.scope_pending.is_some() {
-        frame.render_widget(
-            Paragraph::new(format!(
-                "Computing the figures for the people the filters keep ({}) …",
-                app.filter_text(m)
-            ))
-            .block(block(
-                if app.pane == Pane::Degrees {
-                    "2 Degrees".into()
-                } else {
-                    "3 Neighbours".into()
-                },
-                th,
-            )),
-            area,
-        );
+    if computing(frame, area, m, app, th) {
         return;
     }
     let sc = app.scope(m);
@@ -550,22 +553,7 @@ fn degrees(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
 }
 
 fn neighbours(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
-    if app.scope_pending.is_some() {
-        frame.render_widget(
-            Paragraph::new(format!(
-                "Computing the figures for the people the filters keep ({}) …",
-                app.filter_text(m)
-            ))
-            .block(block(
-                if app.pane == Pane::Degrees {
-                    "2 Degrees".into()
-                } else {
-                    "3 Neighbours".into()
-                },
-                th,
-            )),
-            area,
-        );
+    if computing(frame, area, m, app, th) {
         return;
     }
     let sc = app.scope(m);
