@@ -124,6 +124,9 @@ pub struct StrategyCurve {
     pub curve: MeanCurve,
     /// Configuration-model prediction of the residual mean excess degree for the same removal.
     pub model_kappa: Vec<Stat>,
+    /// Configuration-model prediction of the largest cluster (people) for the same removal
+    /// (solved at every n up to 2,000, at 2,001 spread points beyond; undefined between).
+    pub model_largest: Vec<Stat>,
     /// Who is reached first (node indices, the deterministic strategies only; at most the curve).
     pub order: Vec<u32>,
     /// Repeats averaged (1 for the deterministic strategies).
@@ -200,7 +203,7 @@ fn repeated(
     degrees: &[u32],
     strategy: Strategy,
     opts: &PlanOptions,
-) -> (Vec<reach::ReachCurve>, Vec<Vec<Stat>>) {
+) -> (Vec<reach::ReachCurve>, Vec<Vec<Stat>>, Vec<Vec<u32>>) {
     let repeats = opts.repeats.max(1);
     let one = |i: usize| {
         let mut rng = ChaCha8Rng::seed_from_u64(opts.seed.wrapping_add(i as u64));
@@ -212,13 +215,15 @@ fn repeated(
         (
             reach::reach_curve(&d.graph, &order),
             reach::configuration_model_kappa(degrees, &order),
+            order,
         )
     };
     let threads = std::thread::available_parallelism()
         .map(|n| n.get())
         .unwrap_or(1)
         .min(repeats);
-    let mut results: Vec<(usize, (reach::ReachCurve, Vec<Stat>))> = std::thread::scope(|s| {
+    type Repeat = (reach::ReachCurve, Vec<Stat>, Vec<u32>);
+    let mut results: Vec<(usize, Repeat)> = std::thread::scope(|s| {
         let handles: Vec<_> = (0..threads)
             .map(|w| {
                 let one = &one;
@@ -236,7 +241,40 @@ fn repeated(
             .collect()
     });
     results.sort_by_key(|r| r.0);
-    results.into_iter().map(|(_, r)| r).unzip()
+    let mut curves = Vec::with_capacity(results.len());
+    let mut models = Vec::with_capacity(results.len());
+    let mut orders = Vec::with_capacity(results.len());
+    for (_, (c, m, o)) in results {
+        curves.push(c);
+        models.push(m);
+        orders.push(o);
+    }
+    (curves, models, orders)
+}
+
+/// Where the model's largest cluster is solved: every n up to 2,000 people, else 2,001 points
+/// spread evenly and the text report's rows (one equation each).
+fn model_points(len: usize) -> Vec<usize> {
+    if len <= 2000 {
+        (0..=len).collect()
+    } else {
+        // Plus the rows the text report shows.
+        let mut v: Vec<usize> = (0..=2000).map(|i| i * len / 2000).collect();
+        v.extend(checkpoints(len));
+        v.sort_unstable();
+        v.dedup();
+        v
+    }
+}
+
+/// Values at `at` placed on the full 0..=len axis (undefined elsewhere).
+fn spread(values: Vec<Stat>, at: &[usize], len: usize) -> Vec<Stat> {
+    let mut out =
+        vec![Err("not solved at this n (every n up to 2,000; 2,001 points beyond)"); len + 1];
+    for (&n, v) in at.iter().zip(values) {
+        out[n] = v;
+    }
+    out
 }
 
 /// Mean of the prediction curves (same length), undefined where any repeat is.
@@ -319,10 +357,18 @@ pub fn plan_with_ranks(
     let mut strategies = Vec::new();
     for &s in &opts.strategies {
         let sc = if s.averaged() {
-            let (curves, models) = repeated(d, &degrees, s, opts);
+            let (curves, models, orders) = repeated(d, &degrees, s, opts);
+            let len = orders.iter().map(|o| o.len()).min().unwrap_or(0);
+            let at = model_points(len);
+            let refs: Vec<&[u32]> = orders.iter().map(|o| o.as_slice()).collect();
             StrategyCurve {
                 strategy: s,
                 curve: reach::average(&curves),
+                model_largest: spread(
+                    reach::configuration_model_largest_mean(&degrees, &refs, &at),
+                    &at,
+                    len,
+                ),
                 model_kappa: mean_stats(&models),
                 order: Vec::new(),
                 repeats: curves.len(),
@@ -336,8 +382,14 @@ pub fn plan_with_ranks(
                 },
             };
             let order = truncate(order, opts.max_reach);
+            let at = model_points(order.len());
             StrategyCurve {
                 strategy: s,
+                model_largest: spread(
+                    reach::configuration_model_largest(&degrees, &order, &at),
+                    &at,
+                    order.len(),
+                ),
                 curve: reach::reach_curve(&d.graph, &order).into(),
                 model_kappa: reach::configuration_model_kappa(&degrees, &order),
                 order,
@@ -451,6 +503,7 @@ impl Plan {
                             "r": t.map(|t| stat(s.r(t, n))).unwrap_or(Value::Null),
                             "largest_cluster": s.curve.largest[n],
                             "model_mean_excess": stat(s.model_kappa[n]),
+                            "model_largest_cluster": stat(s.model_largest[n]),
                         })
                     })
                     .collect();
@@ -575,20 +628,23 @@ impl Plan {
             }
             let _ = writeln!(
                 s,
-                "  {:>9}  {:>11}  {:>8}  {:>15}  {:>11}",
-                "reached", "mean excess", "R", "largest cluster", "model excess"
+                "  {:>9}  {:>11}  {:>8}  {:>15}  {:>12}  {:>13}",
+                "reached", "mean excess", "R", "largest cluster", "model excess", "model largest"
             );
             for n in checkpoints(sc.len()) {
                 let _ = writeln!(
                     s,
-                    "  {:>9}  {:>11}  {:>8}  {:>15}  {:>11}",
+                    "  {:>9}  {:>11}  {:>8}  {:>15}  {:>12}  {:>13}",
                     n,
                     f(sc.curve.kappa[n], 3),
                     self.t
                         .map(|t| f(sc.r(t, n), 3))
                         .unwrap_or_else(|| "-".into()),
                     format!("{:.1}", sc.curve.largest[n]),
-                    f(sc.model_kappa[n], 3)
+                    f(sc.model_kappa[n], 3),
+                    sc.model_largest[n]
+                        .map(|x| format!("{x:.1}"))
+                        .unwrap_or_else(|_| "-".into())
                 );
             }
         }
@@ -604,6 +660,7 @@ impl Plan {
             "r",
             "largest_cluster",
             "model_mean_excess",
+            "model_largest_cluster",
         ]);
         let mut rows = Vec::new();
         for sc in &self.strategies {
@@ -615,6 +672,7 @@ impl Plan {
                     self.t.map(|t| num(sc.r(t, n))).unwrap_or(Cell::Empty),
                     Cell::Num(sc.curve.largest[n]),
                     num(sc.model_kappa[n]),
+                    num(sc.model_largest[n]),
                 ]);
             }
         }

@@ -94,6 +94,11 @@ fn averaged_random_strategy_meets_the_exact_ratio() {
         // The configuration model gives (1 - m/N) kappa on average (methods.md §5: 5.972851
         // at m = 4, 4.778281 at m = 10).
     }
+    // The model's expected giant cluster is solved at every n here and shrinks as people are
+    // reached (on average over the repeats).
+    let ml: Vec<f64> = s.model_largest.iter().map(|v| v.unwrap()).collect();
+    assert!(ml.windows(2).all(|w| w[1] <= w[0] + 1e-9), "{ml:?}");
+    assert!(ml[0] > 0.0 && ml[0] <= 34.0);
     let cm4 = s.model_kappa[4].unwrap();
     assert!((cm4 - 5.972851).abs() < 0.015 * 5.972851, "{cm4}");
     // Same seed, same curve.
@@ -165,7 +170,15 @@ fn outlook_command_keys_files_and_errors() {
     for s in v["strategies"].as_array().unwrap() {
         let points = s["points"].as_array().unwrap();
         assert_eq!(points.len(), 51);
-        for key in ["reached", "mean_excess", "r", "largest_cluster"] {
+        for key in [
+            "reached",
+            "mean_excess",
+            "threshold",
+            "r",
+            "largest_cluster",
+            "model_mean_excess",
+            "model_largest_cluster",
+        ] {
             assert!(points[0].get(key).is_some(), "missing {key}");
         }
     }
@@ -199,7 +212,7 @@ fn outlook_command_keys_files_and_errors() {
     let data: Vec<&str> = text.lines().filter(|l| !l.starts_with('#')).collect();
     assert_eq!(
         data[0],
-        "strategy,reached,mean_excess,r,largest_cluster,model_mean_excess"
+        "strategy,reached,mean_excess,r,largest_cluster,model_mean_excess,model_largest_cluster"
     );
     assert_eq!(data.len(), 1 + 2 * 21);
     assert!(text.contains("Model-based indicators"));

@@ -5,7 +5,7 @@ mod common;
 
 use hubwatch::metrics::reach::{
     acquaintance_order, acquaintance_probabilities, average, configuration_model_kappa,
-    degree_order, random_order, random_removal_exact, reach_curve,
+    configuration_model_largest, degree_order, random_order, random_removal_exact, reach_curve,
 };
 use proptest::prelude::*;
 use rand::SeedableRng;
@@ -208,4 +208,38 @@ fn dist_small_configuration_model_removal() {
         "{}",
         sum / pairs as f64
     );
+}
+
+#[test]
+fn configuration_model_largest_cluster() {
+    // Poisson degrees with mean 4 (ten million people, counts N p_k rounded to even numbers),
+    // half of every degree class removed: site percolation with phi = 1/2 on a Poisson network
+    // is the same equation as transmissibility T = 1/2, so the giant cluster is
+    // phi * 0.7968121 = 0.39840605 of all people (methods.md §4 Poisson row; the equivalence
+    // of uniform site and bond occupation for the cluster equation is derived here).
+    let n = 10_000_000f64;
+    let mut degrees = Vec::new();
+    let mut p = (-4.0f64).exp();
+    for k in 0..60u32 {
+        if k > 0 {
+            p *= 4.0 / k as f64;
+        }
+        let count = 2 * ((n * p / 2.0).round() as usize);
+        degrees.extend(std::iter::repeat_n(k, count));
+    }
+    let total = degrees.len();
+    // Remove every other person in degree order: exactly half of each (even) class.
+    let order: Vec<u32> = (0..total as u32).step_by(2).collect();
+    let got = configuration_model_largest(&degrees, &order, &[0, order.len()]);
+    let whole = got[0].unwrap() / total as f64;
+    // Nobody removed: S = 1 - exp(-4 S) (the methods.md §4 Poisson form with R0 = 4),
+    // S = 0.9801726 (solved by iteration in Python for this comment).
+    assert!((whole - 0.9801726).abs() < 1e-5, "{whole}");
+    let half = got[1].unwrap() / total as f64;
+    assert!((half - 0.39840605).abs() < 1e-5, "{half}");
+    // Below the residual threshold there is no giant cluster (dist-small, k >= 5 removed:
+    // kappa' = 2/3, methods.md §5).
+    let small = [0u32, 1, 1, 2, 2, 2, 3, 3, 5, 8];
+    let got = configuration_model_largest(&small, &[9, 8], &[2]);
+    assert_eq!(got[0], Ok(0.0));
 }

@@ -52,21 +52,32 @@ fn g1_prime(p: &[f64], mean: f64, x: f64) -> f64 {
 }
 
 /// Smallest root in [0, 1) of f(u) = G1(1 - T + T u) - u when T kappa > 1.
+fn smallest_root(p: &[f64], mean: f64, t: f64) -> Option<f64> {
+    smallest_fixed_point(&|u| g1(p, mean, 1.0 - t + t * u), &|u| {
+        t * g1_prime(p, mean, 1.0 - t + t * u)
+    })
+}
+
+/// Smallest fixed point u = F(u) in [0, 1) of a convex, increasing F with F(1) = 1 and
+/// F'(1) > 1 (a generating-function equation above its threshold); `fp` is F'.
 ///
-/// f is convex on [0, 1] with f(0) >= 0, f(1) = 0 and f'(1) = T kappa - 1 > 0, so f' < 0 left of
+/// f(u) = F(u) - u is convex on [0, 1] with f(0) >= 0, f(1) = 0 and f'(1) > 0, so f' < 0 left of
 /// the smallest root and Newton's method started at 0 climbs to it monotonically (quadratically
 /// once close; about halving the gap per step when the root is nearly double, just above the
 /// threshold). Steps stop at a tolerance of 1e-15 on u, not after a fixed count; if rounding ever
 /// breaks monotonicity the bracket [lo, 1) is bisected instead.
-fn smallest_root(p: &[f64], mean: f64, t: f64) -> Option<f64> {
-    let f = |u: f64| g1(p, mean, 1.0 - t + t * u) - u;
+pub(crate) fn smallest_fixed_point(
+    big_f: &dyn Fn(f64) -> f64,
+    fp: &dyn Fn(f64) -> f64,
+) -> Option<f64> {
+    let f = |u: f64| big_f(u) - u;
     let mut u = 0.0f64;
     for _ in 0..500 {
         let fu = f(u);
         if fu <= 0.0 {
             return Some(u);
         }
-        let slope = t * g1_prime(p, mean, 1.0 - t + t * u) - 1.0;
+        let slope = fp(u) - 1.0;
         let next = if slope < 0.0 { u - fu / slope } else { 1.0 };
         if !(next > u && next < 1.0) {
             return bisect(&f, u);

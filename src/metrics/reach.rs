@@ -245,6 +245,80 @@ pub fn configuration_model_kappa(degrees: &[u32], order: &[u32]) -> Vec<Stat> {
     out
 }
 
+/// Configuration-model expectation of the largest cluster (in people) after removing
+/// `order[..n]`, for each n in `at` (increasing): site percolation on a configuration-model
+/// network with the original degrees, people kept as in the removal (Callaway, Newman, Strogatz
+/// & Watts 2000). With F0(x) = sum_k p_k phi_k x^k and F1(x) = sum_k k p_k phi_k x^(k-1) / <k>,
+/// u is the smallest root of u = 1 - F1(1) + F1(u) and the giant cluster holds
+/// N (F0(1) - F0(u)) people; below the residual threshold (kappa' <= 1) there is none (0).
+pub fn configuration_model_largest(degrees: &[u32], order: &[u32], at: &[usize]) -> Vec<Stat> {
+    configuration_model_largest_mean(degrees, &[order], at)
+}
+
+/// The same for the mean removal over several orders (seeded repeats of a random strategy):
+/// the kept counts per degree are averaged over the orders before the equation is solved.
+pub fn configuration_model_largest_mean(
+    degrees: &[u32],
+    orders: &[&[u32]],
+    at: &[usize],
+) -> Vec<Stat> {
+    let n_people = degrees.len();
+    let kmax = degrees.iter().copied().max().unwrap_or(0) as usize;
+    let r = orders.len().max(1) as u64;
+    // Kept counts summed over the orders (divided by r in the equation).
+    let mut kept = vec![0u64; kmax + 1];
+    for &d in degrees {
+        kept[d as usize] += r;
+    }
+    let ends: u64 = degrees.iter().map(|&d| d as u64).sum::<u64>() * r;
+    let giant = |kept: &[u64]| -> Stat {
+        if ends == 0 || n_people == 0 {
+            return Err("no contacts");
+        }
+        let e = ends as f64;
+        let kappa: f64 = kept
+            .iter()
+            .enumerate()
+            .map(|(k, &c)| (k * k.saturating_sub(1)) as f64 * c as f64)
+            .sum::<f64>()
+            / e;
+        if kappa <= 1.0 {
+            return Ok(0.0);
+        }
+        // Horner forms over the kept histogram.
+        let f1 = |x: f64| {
+            (1..kept.len())
+                .rev()
+                .fold(0.0, |acc, k| acc * x + k as f64 * kept[k] as f64)
+                / e
+        };
+        let f1p = |x: f64| {
+            (2..kept.len()).rev().fold(0.0, |acc, k| {
+                acc * x + (k * (k - 1)) as f64 * kept[k] as f64
+            }) / e
+        };
+        let f1_at_1 = f1(1.0);
+        let u = super::outlook::smallest_fixed_point(&|u| 1.0 - f1_at_1 + f1(u), &f1p)
+            .ok_or("did not converge (too close to the threshold)")?;
+        let f0 = |x: f64| kept.iter().rev().fold(0.0, |acc, &c| acc * x + c as f64);
+        Ok((f0(1.0) - f0(u)) / r as f64)
+    };
+    let mut out = Vec::with_capacity(at.len());
+    let mut removed = 0usize;
+    for &n in at {
+        while removed < n {
+            for o in orders {
+                if let Some(&v) = o.get(removed) {
+                    kept[degrees[v as usize] as usize] -= 1;
+                }
+            }
+            removed += 1;
+        }
+        out.push(giant(&kept));
+    }
+    out
+}
+
 /// The mean of several curves of the same length (seeded repeats of a random strategy): the
 /// mean largest cluster, and kappa' as the ratio of the mean sums, E[sum k'(k'-1)] / E[sum k'],
 /// the quantity methods.md §5 gives exactly for random removal.
