@@ -446,7 +446,7 @@ impl App {
             && is(f.area, &b.codes[2])
             && f.setting
                 .is_none_or(|s| s > 64 || b.settings[i] & (1 << (s - 1)) != 0)
-            && (!f.in_window || m.list.ranked[i].days_left.is_some_and(|d| d >= 0))
+            && (!f.in_window || b.in_window[i])
             && f.cluster.is_none_or(|c| b.component[i] == c)
     }
 
@@ -548,26 +548,31 @@ impl App {
             self.scope = None;
             return;
         }
-        let nodes: Vec<u32> = self
-            .rows
-            .iter()
-            .map(|&i| m.list.ranked[i as usize].node)
-            .collect();
-        let label = format!("{} ({} people)", self.filter_text(m), nodes.len());
+        let label = format!("{} ({} people)", self.filter_text(m), self.rows.len());
+        let nodes_of = |m: &Model, rows: &[u32]| -> Vec<u32> {
+            rows.iter()
+                .map(|&i| m.list.ranked[i as usize].node)
+                .collect()
+        };
         match &self.shared {
             // Large sets on a worker thread: the key is answered at once, the pane says
             // "computing" until the figures arrive (see `poll_jobs`).
-            Some(shared) if nodes.len() >= self.background_min => {
+            Some(shared) if self.rows.len() >= self.background_min => {
                 let (tx, rx) = std::sync::mpsc::channel();
                 let shared = std::sync::Arc::clone(shared);
+                let rows = self.rows.clone();
                 std::thread::spawn(move || {
+                    let nodes = nodes_of(&shared, &rows);
                     let s = scope_stats(&shared.d, &shared.stats.degrees, &nodes, label);
                     let _ = tx.send(s);
                 });
                 self.scope = None;
                 self.scope_pending = Some((self.filters.clone(), rx));
             }
-            _ => self.scope = Some(scope_stats(&m.d, &m.stats.degrees, &nodes, label)),
+            _ => {
+                let nodes = nodes_of(m, &self.rows);
+                self.scope = Some(scope_stats(&m.d, &m.stats.degrees, &nodes, label));
+            }
         }
     }
 

@@ -220,6 +220,8 @@ pub struct ByRank {
     pub component: Vec<u32>,
     /// Follow-up state from the export (index into FOLLOWUP_STATES; its length: none).
     pub followup: Vec<u8>,
+    /// Still inside the monitoring window (days left >= 0).
+    pub in_window: Vec<bool>,
 }
 
 /// Distinct non-empty values of a people attribute, sorted (at most 200).
@@ -359,6 +361,11 @@ impl Model {
                 .ranked
                 .iter()
                 .map(|r| stats.components.0[r.node as usize])
+                .collect(),
+            in_window: list
+                .ranked
+                .iter()
+                .map(|r| r.days_left.is_some_and(|d| d >= 0))
                 .collect(),
             followup: list
                 .ranked
