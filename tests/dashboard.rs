@@ -420,3 +420,28 @@ fn filtered_figures_on_a_worker_thread() {
     }
     assert!(app.scope.is_none() || app.scope_for == app.filters);
 }
+
+#[test]
+fn whole_network_figures_match_the_filtered_path_over_everyone() {
+    // The Degrees and Neighbours panes take the whole-network figures from the statistics and
+    // compute filtered ones with the same functions over a set of people: over everyone the two
+    // agree.
+    let dir = tempfile::tempdir().unwrap();
+    let (m, _) = setup(dir.path());
+    let all: Vec<u32> = (0..m.d.people() as u32).collect();
+    let s = hubwatch::dashboard::model::scope_stats(
+        &m.d,
+        &m.stats.degrees,
+        &all,
+        "whole network".into(),
+    );
+    assert_eq!(s.people, m.whole.people);
+    assert_eq!(s.histogram, m.whole.histogram);
+    assert_eq!(s.knn, m.whole.knn);
+    assert_eq!(s.contact_excess, m.whole.contact_excess);
+    assert_eq!(
+        (s.mean, s.edge_end_mean),
+        (m.whole.mean, m.whole.edge_end_mean)
+    );
+    assert_eq!(s.shares, m.whole.shares);
+}

@@ -7,7 +7,9 @@ use std::sync::{Arc, OnceLock};
 use crate::cli::{PriorityArgs, RankedList};
 use crate::error::Result;
 use crate::ingest::Dataset;
+use crate::metrics::degree::{degree_stats, DegreeStats};
 use crate::metrics::mixing::NullModel;
+use crate::metrics::neighbours::{neighbours_of, Neighbours};
 use crate::metrics::network::{compute, MetricOptions, NetworkStats};
 use crate::metrics::Stat;
 use crate::planning::{self, Plan, PlanOptions, Strategy};
@@ -46,90 +48,36 @@ pub struct ScopeStats {
     pub shares: (Stat, Stat, Stat),
 }
 
+impl ScopeStats {
+    /// Assemble from the degree statistics and neighbour figures of the same people.
+    pub fn from_parts(label: String, degree: &DegreeStats, nb: &Neighbours) -> ScopeStats {
+        ScopeStats {
+            label,
+            people: degree.n,
+            histogram: degree.histogram.clone(),
+            p: degree.p(),
+            q: degree.q(),
+            contact_excess: nb.contact_excess.clone(),
+            knn: nb.knn.clone(),
+            mean: degree.mean,
+            edge_end_mean: degree.edge_end_mean,
+            mean_excess: degree.mean_excess,
+            contact_mean: nb.contact_mean,
+            shares: (nb.share_more, nb.share_fewer, nb.share_equal),
+        }
+    }
+}
+
 /// Compute the degree figures over `members` (each member's contacts counted in the whole
-/// network, so for a whole cluster every contact is inside).
+/// network, so for a whole cluster every contact is inside), with the same functions as the
+/// whole-network statistics.
 pub fn scope_stats(d: &Dataset, degrees: &[u32], members: &[u32], label: String) -> ScopeStats {
-    let max = members
-        .iter()
-        .map(|&v| degrees[v as usize])
-        .max()
-        .unwrap_or(0) as usize;
-    let mut histogram = vec![0u64; max + 1];
-    let (mut s1, mut s2) = (0f64, 0f64);
-    for &v in members {
-        let k = degrees[v as usize] as usize;
-        histogram[k] += 1;
-        s1 += k as f64;
-        s2 += (k * k) as f64;
-    }
-    let n = members.len();
-    let p: Vec<f64> = histogram.iter().map(|&c| c as f64 / n as f64).collect();
-    let q: Vec<f64> = if s1 > 0.0 {
-        (0..max)
-            .map(|k| (k + 1) as f64 * histogram[k + 1] as f64 / s1)
-            .collect()
-    } else {
-        Vec::new()
-    };
-    // Contacts may lie outside `members` and have more contacts than any member: grown below.
-    let mut contact_excess = vec![0f64; max.max(1)];
-    let mut knn_sum = vec![0f64; max + 1];
-    let (mut active, mut contact_mean_sum) = (0usize, 0f64);
-    let (mut more, mut fewer, mut equal) = (0usize, 0usize, 0usize);
-    for &v in members {
-        let k = degrees[v as usize];
-        if k == 0 {
-            continue;
-        }
-        active += 1;
-        let mut sum = 0u64;
-        for &w in d.graph.neighbors_slice(v) {
-            let kw = degrees[w as usize];
-            sum += kw as u64;
-            let slot = (kw - 1) as usize;
-            if slot >= contact_excess.len() {
-                contact_excess.resize(slot + 1, 0.0);
-            }
-            contact_excess[slot] += 1.0 / k as f64;
-        }
-        let mean_nb = sum as f64 / k as f64;
-        knn_sum[k as usize] += mean_nb;
-        contact_mean_sum += mean_nb;
-        // Decided in integers: sum of contacts' degrees against k * k.
-        match sum.cmp(&(k as u64 * k as u64)) {
-            std::cmp::Ordering::Greater => more += 1,
-            std::cmp::Ordering::Less => fewer += 1,
-            std::cmp::Ordering::Equal => equal += 1,
-        }
-    }
-    if active > 0 {
-        contact_excess.iter_mut().for_each(|x| *x /= active as f64);
-    }
-    let knn = (1..=max)
-        .filter(|&k| histogram[k] > 0)
-        .map(|k| (k as u32, knn_sum[k] / histogram[k] as f64))
-        .collect();
-    let none = "no contacts in scope";
-    let ratio = |a: f64, b: f64| if b > 0.0 { Ok(a / b) } else { Err(none) };
-    let share = |x: usize| ratio(x as f64, active as f64);
-    ScopeStats {
+    let own: Vec<u32> = members.iter().map(|&v| degrees[v as usize]).collect();
+    ScopeStats::from_parts(
         label,
-        people: n,
-        histogram,
-        p,
-        q,
-        contact_excess,
-        knn,
-        mean: if n > 0 {
-            Ok(s1 / n as f64)
-        } else {
-            Err("nobody in scope")
-        },
-        edge_end_mean: ratio(s2, s1),
-        mean_excess: ratio(s2 - s1, s1),
-        contact_mean: ratio(contact_mean_sum, active as f64),
-        shares: (share(more), share(fewer), share(equal)),
-    }
+        &degree_stats(&own),
+        &neighbours_of(&d.graph, degrees, members.iter().copied()),
+    )
 }
 
 /// One row of the Clusters pane.
@@ -178,12 +126,6 @@ pub struct Model {
     pub clusters: Vec<ClusterRow>,
     /// Filter values.
     pub filter_values: FilterValues,
-    /// Per person: bit s-1 set when they have an exposure in setting s (first 64 settings).
-    pub setting_bits: Vec<u64>,
-    /// Per person: index of their role, status and area in `filter_values` (u16::MAX: none).
-    pub codes: [Vec<u16>; 3],
-    /// Each person's position in ID order.
-    pub id_rank: Vec<u32>,
     /// Indices into `list.ranked`, in ID order.
     pub by_id: Vec<u32>,
     /// Per ranked entry (rank order, so that filtering reads memory in sequence): role, status
@@ -320,8 +262,9 @@ impl Model {
             by_id[id_rank[r.node as usize] as usize] = i as u32;
         }
         by_id.retain(|&i| i != u32::MAX);
-        let all: Vec<u32> = (0..d.people() as u32).collect();
-        let whole = scope_stats(&d, &stats.degrees, &all, "whole network".into());
+        // Already computed with the statistics.
+        let whole =
+            ScopeStats::from_parts("whole network".into(), &stats.degree, &stats.neighbours);
         let clusters = cluster_rows(&d, &stats);
         let mut setting_bits = vec![0u64; d.people()];
         for e in 0..d.edges.len() {
@@ -395,8 +338,6 @@ impl Model {
             by_rank,
             orders,
             main_reason,
-            codes,
-            id_rank,
             by_id,
             summary,
             whole,
@@ -405,7 +346,6 @@ impl Model {
             plan,
             clusters,
             filter_values,
-            setting_bits,
             workspace_path,
             export_dir,
             theme: dash.theme.clone(),

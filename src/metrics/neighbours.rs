@@ -46,6 +46,12 @@ impl Neighbours {
 
 /// Compute neighbour figures from the adjacency and degree sequence.
 pub fn neighbours(g: &Adjacency, deg: &[u32]) -> Neighbours {
+    neighbours_of(g, deg, 0..deg.len() as u32)
+}
+
+/// The same figures over some of the people (each one's contacts counted in the whole network,
+/// whoever they are); the figures of the whole network when `people` is everyone.
+pub fn neighbours_of(g: &Adjacency, deg: &[u32], people: impl Iterator<Item = u32>) -> Neighbours {
     let n = deg.len();
     let max = deg.iter().copied().max().unwrap_or(0) as usize;
     let mut sums = vec![0u64; n];
@@ -55,7 +61,9 @@ pub fn neighbours(g: &Adjacency, deg: &[u32]) -> Neighbours {
     let mut knn_count = vec![0u64; max + 1];
     let mut contact_excess = vec![0.0f64; max.max(1)];
     let (mut s1, mut s2) = (0u128, 0u128);
-    for i in 0..n {
+    let mut count = 0usize;
+    for i in people.map(|i| i as usize) {
+        count += 1;
         let k = deg[i];
         s1 += u128::from(k);
         s2 += u128::from(k) * u128::from(k);
@@ -87,7 +95,7 @@ pub fn neighbours(g: &Adjacency, deg: &[u32]) -> Neighbours {
         .collect();
     if active == 0 {
         let u = Err("no contacts (every person has degree 0)");
-        let u0 = if n == 0 { Err("no people") } else { u };
+        let u0 = if count == 0 { Err("no people") } else { u };
         return Neighbours {
             neighbour_degree_sum: sums,
             n_active: 0,
