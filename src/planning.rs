@@ -293,10 +293,17 @@ fn mean_stats(curves: &[Vec<Stat>]) -> Vec<Stat> {
 
 /// T from the options or the export's secondary attack rate.
 pub fn transmissibility(d: &Dataset, given: Option<f64>) -> (Option<f64>, TSource) {
+    transmissibility_from(given, &crate::metrics::casedata::case_stats(d))
+}
+
+/// Same, from case statistics already computed.
+pub fn transmissibility_from(
+    given: Option<f64>,
+    cs: &crate::metrics::casedata::CaseStats,
+) -> (Option<f64>, TSource) {
     if let Some(t) = given {
         return (Some(t), TSource::User);
     }
-    let cs = crate::metrics::casedata::case_stats(d);
     match (cs.sar.p, cs.sar.wilson) {
         (Ok(p), Ok(band)) if cs.sar.n > 0 => (
             Some(p),
@@ -318,19 +325,27 @@ pub fn transmissibility(d: &Dataset, given: Option<f64>) -> (Option<f64>, TSourc
 /// Compute the outlook. `priority_order` is the ranked list's node order (needed only for the
 /// priority strategy; without it that strategy is skipped).
 pub fn plan(d: &Dataset, priority_order: Option<Vec<u32>>, opts: &PlanOptions) -> Plan {
-    plan_with_ranks(d, priority_order, opts, &reach::id_ranks(&d.ids))
+    let (t, source) = transmissibility(d, opts.transmissibility);
+    plan_with(
+        d,
+        priority_order,
+        opts,
+        &reach::id_ranks(&d.ids),
+        (t, source),
+    )
 }
 
-/// Same, with each person's position in ID order already known (see [`reach::id_ranks`]).
-pub fn plan_with_ranks(
+/// Same, with each person's position in ID order (see [`reach::id_ranks`]) and T with its
+/// source (see [`transmissibility_from`]) already known.
+pub fn plan_with(
     d: &Dataset,
     priority_order: Option<Vec<u32>>,
     opts: &PlanOptions,
     id_rank: &[u32],
+    (t, source): (Option<f64>, TSource),
 ) -> Plan {
     let degrees = crate::graph::degrees(&d.graph);
     let p = crate::metrics::degree::degree_stats(&degrees).p();
-    let (t, source) = transmissibility(d, opts.transmissibility);
     let at_t = match t {
         Some(t) => outlook::indicators(&p, t),
         None => {

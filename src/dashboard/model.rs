@@ -254,7 +254,9 @@ impl Model {
         // The outlook and the list's sorted orders at the same time.
         let (plan, orders) = std::thread::scope(|s| {
             let orders = s.spawn(|| sorted_orders(&list.ranked));
-            let plan = planning::plan_with_ranks(&d, Some(priority_order), &opts, &id_rank);
+            // T from the case statistics computed above, not a second pass.
+            let t = planning::transmissibility_from(opts.transmissibility, &stats.cases);
+            let plan = planning::plan_with(&d, Some(priority_order), &opts, &id_rank, t);
             (plan, orders.join().expect("sorting thread"))
         });
         let mut by_id = vec![u32::MAX; d.people()];
