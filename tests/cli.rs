@@ -1,18 +1,8 @@
 //! The built binary on the bundled sample and on bad input: stdout, stderr, exit codes.
 
-use std::process::Command;
+mod common;
 
-fn hubwatch(args: &[&str]) -> (i32, String, String) {
-    let out = Command::new(env!("CARGO_BIN_EXE_hubwatch"))
-        .args(args)
-        .output()
-        .expect("run hubwatch");
-    (
-        out.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&out.stdout).into_owned(),
-        String::from_utf8_lossy(&out.stderr).into_owned(),
-    )
-}
+use common::hubwatch;
 
 #[test]
 fn default_action_summarises_the_bundled_sample_with_the_caution() {

@@ -4,20 +4,8 @@
 
 mod common;
 
+use common::hubwatch;
 use hubwatch::planning::{plan, PlanOptions, Strategy, TSource};
-use std::process::Command;
-
-fn hubwatch(args: &[&str]) -> (i32, String, String) {
-    let out = Command::new(env!("CARGO_BIN_EXE_hubwatch"))
-        .args(args)
-        .output()
-        .expect("run hubwatch");
-    (
-        out.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&out.stdout).into_owned(),
-        String::from_utf8_lossy(&out.stderr).into_owned(),
-    )
-}
 
 #[test]
 fn karate_at_t_point_three() {

@@ -43,6 +43,22 @@ impl Tmux {
         String::from_utf8_lossy(&out.stdout).into_owned()
     }
 
+    /// The terminal is back in normal mode: canonical input and echo on (the `stty -a` the
+    /// script wrote after hubwatch ended), main screen.
+    fn assert_restored(&self, stty: &Path) {
+        let modes = std::fs::read_to_string(stty).unwrap();
+        let words: Vec<&str> = modes.split_whitespace().collect();
+        assert!(
+            words.contains(&"icanon") && words.contains(&"echo"),
+            "{modes}"
+        );
+        assert_eq!(
+            self.run(&["display", "-p", "-t", "hw", "#{alternate_on}"])
+                .trim(),
+            "0"
+        );
+    }
+
     fn capture(&self) -> String {
         self.run(&["capture-pane", "-p", "-t", "hw"])
     }
@@ -194,17 +210,7 @@ fn a_day_in_the_dashboard() {
         hubwatch::workspace::Workspace::open(&export.join("hubwatch-workspace.sqlite")).unwrap();
     assert_eq!(ws.get("P0000089").unwrap().unwrap().flags, ["call first"]);
     // The terminal is back in normal mode: canonical input and echo on, main screen.
-    let modes = std::fs::read_to_string(&stty).unwrap();
-    let words: Vec<&str> = modes.split_whitespace().collect();
-    assert!(
-        words.contains(&"icanon") && words.contains(&"echo"),
-        "{modes}"
-    );
-    assert_eq!(
-        t.run(&["display", "-p", "-t", "hw", "#{alternate_on}"])
-            .trim(),
-        "0"
-    );
+    t.assert_restored(&stty);
 }
 
 #[test]
@@ -236,17 +242,7 @@ fn a_panic_restores_the_terminal() {
     assert_ne!(status.trim(), "0");
     let err = std::fs::read_to_string(dir.path().join("stderr.txt")).unwrap();
     assert!(err.contains("panic requested"), "{err}");
-    let modes = std::fs::read_to_string(&stty).unwrap();
-    let words: Vec<&str> = modes.split_whitespace().collect();
-    assert!(
-        words.contains(&"icanon") && words.contains(&"echo"),
-        "{modes}"
-    );
-    assert_eq!(
-        t.run(&["display", "-p", "-t", "hw", "#{alternate_on}"])
-            .trim(),
-        "0"
-    );
+    t.assert_restored(&stty);
 }
 
 #[test]
@@ -292,15 +288,5 @@ fn sigterm_restores_the_terminal() {
         .unwrap();
     assert!(ok.success());
     wait_file(&done, 30);
-    let modes = std::fs::read_to_string(&stty).unwrap();
-    let words: Vec<&str> = modes.split_whitespace().collect();
-    assert!(
-        words.contains(&"icanon") && words.contains(&"echo"),
-        "{modes}"
-    );
-    assert_eq!(
-        t.run(&["display", "-p", "-t", "hw", "#{alternate_on}"])
-            .trim(),
-        "0"
-    );
+    t.assert_restored(&stty);
 }

@@ -86,3 +86,16 @@ pub fn load_view(paths: &[&Path], view: hubwatch::ingest::View) -> Dataset {
     let inputs: Vec<Input> = paths.iter().map(|p| Input::Path(p.to_path_buf())).collect();
     ingest::load(&inputs, &Config::default(), &opts).unwrap_or_else(|e| panic!("load failed: {e}"))
 }
+
+/// Run the built binary; (exit code, stdout, stderr).
+pub fn hubwatch(args: &[&str]) -> (i32, String, String) {
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_hubwatch"))
+        .args(args)
+        .output()
+        .expect("run hubwatch");
+    (
+        out.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
