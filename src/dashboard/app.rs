@@ -379,7 +379,7 @@ impl App {
             workspace_path: m.workspace_path.clone(),
         };
         app.refilter(m);
-        app.set_t(m, m.plan.t, true);
+        app.set_t(m, None);
         app.update_cluster_bridges(m);
         app
     }
@@ -598,24 +598,22 @@ impl App {
         }
     }
 
-    /// Set T (None keeps it unknown) and recompute the Outlook figures.
-    pub fn set_t(&mut self, m: &Model, t: Option<f64>, from_model: bool) {
-        let t = t
-            .map(|t| (t * 100.0).round() / 100.0)
-            .map(|t| t.clamp(0.0, 1.0));
-        let t = if from_model { m.plan.t } else { t };
-        let source = if from_model {
-            m.plan.assumption()
-        } else {
-            let was = match &m.plan.source {
-                TSource::User => "the value given".to_string(),
-                TSource::SecondaryAttackRate { .. } => "the secondary attack rate".to_string(),
-                TSource::Unknown(_) => "unknown".to_string(),
-            };
-            format!(
-                "T = {:.2} set with the keys (started from {was}; 0 goes back)",
-                t.unwrap_or(0.0)
-            )
+    /// Set T from the keys (None: back to the T the outlook was computed with, possibly
+    /// unknown) and recompute the Outlook figures.
+    pub fn set_t(&mut self, m: &Model, keyed: Option<f64>) {
+        let (t, source) = match keyed {
+            None => (m.plan.t, m.plan.assumption()),
+            Some(t) => {
+                let t = ((t * 100.0).round() / 100.0).clamp(0.0, 1.0);
+                let was = match &m.plan.source {
+                    TSource::User => "the value given",
+                    TSource::SecondaryAttackRate { .. } => "the secondary attack rate",
+                    TSource::Unknown(_) => "unknown",
+                };
+                let source =
+                    format!("T = {t:.2} set with the keys (started from {was}; 0 goes back)");
+                (Some(t), source)
+            }
         };
         let at_t = t.map(|t| outlook::indicators(&m.plan.p, t));
         let below = m
@@ -1076,9 +1074,9 @@ impl App {
                     _ => -0.1,
                 };
                 let t = self.outlook.t.unwrap_or(0.0) + step;
-                self.set_t(m, Some(t), false);
+                self.set_t(m, Some(t));
             }
-            Action::TReset => self.set_t(m, None, true),
+            Action::TReset => self.set_t(m, None),
         }
     }
 
