@@ -740,6 +740,13 @@ impl App {
         }
     }
 
+    /// Show a person again at a given position and sort (back in the walk, or after a change).
+    fn show_person(&mut self, m: &Model, node: u32, pos: ListPos, sort: (ContactSort, bool)) {
+        let mut v = self.person_view(m, node, sort);
+        v.pos = pos;
+        self.person = Some(v);
+    }
+
     fn open_person(&mut self, m: &Model, node: u32, push: bool) {
         if push {
             if let Some(p) = &self.person {
@@ -832,10 +839,8 @@ impl App {
                     self.refilter(m);
                 }
                 if let Some(p) = &self.person {
-                    let (pn, pos, sort) = (p.node, p.pos, p.sort);
-                    let mut v = self.person_view(m, pn, sort);
-                    v.pos = pos;
-                    self.person = Some(v);
+                    let (node, pos, sort) = (p.node, p.pos, p.sort);
+                    self.show_person(m, node, pos, sort);
                 }
                 true
             }
@@ -948,9 +953,7 @@ impl App {
             Action::Back => {
                 if self.pane == Pane::Person {
                     if let Some((node, pos, sort)) = self.history.pop() {
-                        let mut v = self.person_view(m, node, sort);
-                        v.pos = pos;
-                        self.person = Some(v);
+                        self.show_person(m, node, pos, sort);
                     } else {
                         self.pane = Pane::Priority;
                     }
