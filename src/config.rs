@@ -140,7 +140,7 @@ impl Config {
                 )));
             }
         }
-        crate::ingest::sniff::Separator::parse_setting(&self.csv.separator)?;
+        Separator::parse_setting(&self.csv.separator)?;
         if !matches!(self.dashboard.theme.as_str(), "dark" | "light" | "mono") {
             return Err(Error::Config(format!(
                 "[dashboard] theme = \"{}\": use \"dark\", \"light\" or \"mono\"",
@@ -170,6 +170,48 @@ fn overlay(base: &mut toml::Table, user: toml::Table) {
             (_, v) => {
                 base.insert(key, v);
             }
+        }
+    }
+}
+
+/// How fields are separated on a line.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Separator {
+    /// One byte: `,` `;` `\t` `|` or a single space.
+    Byte(u8),
+    /// Runs of spaces and tabs, leading and trailing ones ignored (sensor-study exports).
+    Whitespace,
+}
+
+impl Separator {
+    /// Parse the `[csv] separator` setting; `None` means "auto".
+    pub fn parse_setting(s: &str) -> Result<Option<Separator>> {
+        Ok(Some(match s {
+            "auto" | "" => return Ok(None),
+            "," => Separator::Byte(b','),
+            ";" => Separator::Byte(b';'),
+            "\t" | "\\t" | "tab" => Separator::Byte(b'\t'),
+            "|" => Separator::Byte(b'|'),
+            " " | "space" => Separator::Byte(b' '),
+            "whitespace" => Separator::Whitespace,
+            other => {
+                return Err(Error::Config(format!(
+                    "separator \"{other}\" is not supported: use auto, \",\", \";\", \"\\t\", \"|\", \" \" or whitespace"
+                )))
+            }
+        }))
+    }
+
+    /// A short human name, for reports.
+    pub fn describe(self) -> &'static str {
+        match self {
+            Separator::Byte(b',') => "comma",
+            Separator::Byte(b';') => "semicolon",
+            Separator::Byte(b'\t') => "tab",
+            Separator::Byte(b'|') => "pipe",
+            Separator::Byte(b' ') => "single space",
+            Separator::Byte(_) => "other",
+            Separator::Whitespace => "whitespace",
         }
     }
 }

@@ -9,24 +9,21 @@
 //!
 //! No stage reaches back: the graph opens no files, the summary reads a finished `Dataset`.
 
+pub mod analysis;
 pub mod cli;
 pub mod config;
-pub mod dashboard;
+pub mod dataset;
 pub mod error;
 pub mod export;
 pub mod graph;
 pub mod ids;
 pub mod ingest;
-pub mod lists;
 pub mod metrics;
-pub mod planning;
-pub mod priority;
 pub mod report;
 pub mod sample;
-pub mod sentinel;
 pub mod sort;
-pub mod summary;
 pub mod synth;
+pub mod tui;
 pub mod workspace;
 
 /// One line of caution shown with every output that names people.

@@ -17,7 +17,8 @@ use std::process::Command;
 use std::time::Instant;
 
 use hubwatch::config::Config;
-use hubwatch::ingest::{self, table::ReadOptions, Dataset, Input, LoadOptions};
+use hubwatch::dataset::{self, Dataset};
+use hubwatch::ingest::{table::ReadOptions, Input, LoadOptions};
 use serde_json::{json, Value};
 
 /// Build petgraph's adjacency-list `Graph` from the same pairs and time, on both structures,
@@ -90,32 +91,33 @@ fn one(dir: &Path) -> Result<(), String> {
         view: Default::default(),
     };
     let t = Instant::now();
-    let d = ingest::load(&[Input::Path(dir.to_path_buf())], &Config::default(), &opts)
+    let d = dataset::load(&[Input::Path(dir.to_path_buf())], &Config::default(), &opts)
         .map_err(|e| e.to_string())?;
     let total = t.elapsed().as_secs_f64();
     // Every statistic but the null model, then the null model alone (default settings) where
     // the export is small enough for it to be asked for.
     let t = Instant::now();
-    let no_null = hubwatch::metrics::network::MetricOptions {
+    let no_null = hubwatch::analysis::stats::MetricOptions {
         null_replicates: 0,
         ..Default::default()
     };
-    let stats = hubwatch::metrics::network::compute(&d, &no_null);
+    let stats = hubwatch::analysis::stats::compute(&d, &no_null);
     let stats_seconds = t.elapsed().as_secs_f64();
     // Ranking everyone with the default preset (after the statistics it reads).
-    let config = hubwatch::priority::PriorityConfig::load(None).map_err(|e| e.to_string())?;
+    let config =
+        hubwatch::analysis::priority::PriorityConfig::load(None).map_err(|e| e.to_string())?;
     let preset = config
         .preset("balanced")
         .map_err(|e| e.to_string())?
         .clone();
     let t = Instant::now();
-    let ranked = hubwatch::priority::rank(&d, &stats, &config, &preset, 14, &Default::default())
-        .map_err(|e| e.to_string())?;
+    let ranked =
+        hubwatch::analysis::ranking::rank(&d, &stats, &config, &preset, 14, &Default::default());
     let rank_seconds = t.elapsed().as_secs_f64();
     std::hint::black_box(&ranked);
     let null_seconds = if d.ledger.exposures.read <= 2_000_000 {
         let deg = hubwatch::graph::degrees(&d.graph);
-        let o = hubwatch::metrics::network::MetricOptions::default();
+        let o = hubwatch::analysis::stats::MetricOptions::default();
         let t = Instant::now();
         let null = hubwatch::metrics::mixing::null_model(
             &d.edges.a,
@@ -156,7 +158,7 @@ fn one(dir: &Path) -> Result<(), String> {
     let out = json!({
         "rows": d.ledger.exposures.read, "bytes": size, "people": d.people(), "pairs": d.edges.len(),
         "floor": floor, "total": total, "stages": d.timings,
-        "stats_seconds": stats_seconds, "rank_seconds": rank_seconds, "ranked": ranked.len(), "null_seconds": null_seconds, "peak_after_stats": ingest::peak_mib(),
+        "stats_seconds": stats_seconds, "rank_seconds": rank_seconds, "ranked": ranked.len(), "null_seconds": null_seconds, "peak_after_stats": hubwatch::ingest::peak_mib(),
         "csr_bytes": csr_bytes, "csr_walk": csr_walk,
         "components_seconds": components_seconds, "degree_curve_seconds": degree_curve_seconds,
         "acquaintance_curve_seconds": acquaintance_curve_seconds, "t_curve_seconds": t_curve_seconds, "max_degree": p.len() - 1,

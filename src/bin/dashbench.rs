@@ -15,12 +15,13 @@ use std::path::{Path, PathBuf};
 use std::time::Instant;
 
 use hubwatch::config::Config;
-use hubwatch::dashboard::app::App;
-use hubwatch::dashboard::keys::{Action, Pane};
-use hubwatch::dashboard::model::Model;
-use hubwatch::dashboard::theme::Theme;
-use hubwatch::dashboard::ui;
-use hubwatch::ingest::{self, table::ReadOptions, Input, LoadOptions};
+use hubwatch::dataset;
+use hubwatch::ingest::{table::ReadOptions, Input, LoadOptions};
+use hubwatch::tui::app::App;
+use hubwatch::tui::keys::{Action, Pane};
+use hubwatch::tui::model::Model;
+use hubwatch::tui::theme::Theme;
+use hubwatch::tui::ui;
 use ratatui::backend::TestBackend;
 use ratatui::Terminal;
 
@@ -103,7 +104,7 @@ fn one(dir: &Path) {
         view: Default::default(),
     };
     let d =
-        ingest::load(&[Input::Path(dir.to_path_buf())], &Config::default(), &opts).expect("load");
+        dataset::load(&[Input::Path(dir.to_path_buf())], &Config::default(), &opts).expect("load");
     let load_s = t.elapsed().as_secs_f64();
     let config = Config::default();
     let m = std::sync::Arc::new(
@@ -215,7 +216,7 @@ fn one(dir: &Path) {
         let t = b.key(&m, &mut app, Action::SortNext);
         record("priority: sort (s), every column again (kept)", t);
     }
-    while app.sort.0 != hubwatch::dashboard::app::SortCol::Rank {
+    while app.sort.0 != hubwatch::tui::app::SortCol::Rank {
         app.act(&m, Action::SortNext);
     }
     app.act(&m, Action::Search);

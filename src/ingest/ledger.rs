@@ -98,7 +98,7 @@ impl QuarantineReason {
 /// One quarantined row.
 #[derive(Debug, Clone, Serialize)]
 pub struct QuarantinedRow {
-    /// Index into [`crate::ingest::Dataset::files`].
+    /// Index into [`crate::dataset::Dataset::files`].
     pub file: usize,
     /// 1-based line (or record) in that file.
     pub line: u64,

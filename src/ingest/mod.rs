@@ -12,6 +12,9 @@ pub mod mapping;
 pub mod reconcile;
 pub mod sniff;
 pub mod table;
+pub mod view;
+
+pub use view::View;
 
 use std::collections::BTreeMap;
 use std::io::IsTerminal;
@@ -19,7 +22,6 @@ use std::path::{Path, PathBuf};
 
 use crate::config::{Config, EXPOSURE_FIELDS, PEOPLE_FIELDS};
 use crate::error::{Error, Result};
-use crate::graph::{self, Adjacency, Edges};
 use crate::ids::IdMap;
 use ledger::{Counts, FileReport, Ledger, QuarantineReason, QuarantinedRow, Role};
 use mapping::{ColumnRef, Mapping};
@@ -41,96 +43,6 @@ pub struct LoadOptions {
     pub view: View,
 }
 
-/// A sub-network: exposure rows kept by setting and by date. The people stay the same (N does
-/// not change); the ledger always accounts for every input row.
-#[derive(Debug, Clone, Default, PartialEq, Eq, serde::Serialize)]
-pub struct View {
-    /// Keep only rows whose setting is one of these (case-insensitive); empty = any.
-    pub settings: Vec<String>,
-    /// Drop rows whose setting is one of these.
-    pub exclude_settings: Vec<String>,
-    /// First day of the exposure-date window (rows without a date fall outside any window).
-    pub from: Option<i32>,
-    /// Last day of the window.
-    pub to: Option<i32>,
-}
-
-impl View {
-    /// True when every row is kept.
-    pub fn is_all(&self) -> bool {
-        *self == View::default()
-    }
-
-    /// A short description for reports.
-    pub fn describe(&self) -> String {
-        let mut parts = Vec::new();
-        if !self.settings.is_empty() {
-            parts.push(format!("setting {}", self.settings.join(" or ")));
-        }
-        if !self.exclude_settings.is_empty() {
-            parts.push(format!(
-                "every setting but {}",
-                self.exclude_settings.join(", ")
-            ));
-        }
-        match (self.from, self.to) {
-            (Some(a), Some(b)) => {
-                parts.push(format!("exposures {} to {}", dates::iso(a), dates::iso(b)))
-            }
-            (Some(a), None) => parts.push(format!("exposures from {}", dates::iso(a))),
-            (None, Some(b)) => parts.push(format!("exposures until {}", dates::iso(b))),
-            (None, None) => {}
-        }
-        if parts.is_empty() {
-            "all exposures".into()
-        } else {
-            parts.join("; ")
-        }
-    }
-}
-
-/// Which rows of `rows` the view keeps; unknown setting names are an error naming the known ones.
-fn view_mask(view: &View, rows: &ExposureRows, labels: &[String]) -> Result<Vec<bool>> {
-    let code_of = |name: &String| -> Result<u16> {
-        labels
-            .iter()
-            .position(|l| l.eq_ignore_ascii_case(name))
-            .map(|i| (i + 1) as u16)
-            .ok_or_else(|| {
-                Error::Usage(format!(
-                    "no exposure has setting \"{name}\"; settings in this export: {}",
-                    labels.join(", ")
-                ))
-            })
-    };
-    let include: Vec<u16> = view.settings.iter().map(code_of).collect::<Result<_>>()?;
-    let exclude: Vec<u16> = view
-        .exclude_settings
-        .iter()
-        .map(code_of)
-        .collect::<Result<_>>()?;
-    Ok((0..rows.keys.len())
-        .map(|r| {
-            let code = rows.setting.get(r).copied().unwrap_or(0);
-            if (!include.is_empty() && !include.contains(&code)) || exclude.contains(&code) {
-                return false;
-            }
-            if view.from.is_none() && view.to.is_none() {
-                return true;
-            }
-            let last = rows.last.get(r).copied().unwrap_or(reconcile::NO_DATE);
-            let day = if last != reconcile::NO_DATE {
-                last
-            } else {
-                rows.first.get(r).copied().unwrap_or(reconcile::NO_DATE)
-            };
-            day != reconcile::NO_DATE
-                && view.from.is_none_or(|f| day >= f)
-                && view.to.is_none_or(|t| day <= t)
-        })
-        .collect())
-}
-
 /// A source of table bytes: a path, or a table compiled into the binary.
 #[derive(Debug, Clone)]
 pub enum Input {
@@ -145,50 +57,28 @@ pub enum Input {
     },
 }
 
-/// Everything loaded: people, pairs, adjacency and the ledger.
-pub struct Dataset {
+/// What reading the inputs gives: people, their attributes, the usable exposure rows (not yet
+/// merged into pairs) and the ledger (used / merged counts are filled in when the rows are
+/// merged, see `dataset`).
+pub struct Loaded {
     /// Person ID <-> node index.
     pub ids: IdMap,
     /// Nodes `0..people_in_table` came from a people table; the rest are implied.
     pub people_in_table: u32,
-    /// People's attributes.
+    /// People's attributes, one value per node.
     pub attrs: Attributes,
-    /// Aggregated contact pairs.
-    pub edges: Edges,
-    /// Setting labels (code c is `settings[c - 1]`).
-    pub settings: Vec<String>,
-    /// The graph.
-    pub graph: Adjacency,
-    /// Unmapped columns of the exposures table(s), one value per usable exposure row, in input
-    /// order; `edge_of_row[r]` is the pair row r went into (both empty when there are none).
-    pub exposure_extras: Attributes,
-    /// The pair each usable exposure row went into (only when there are extra columns;
-    /// `u32::MAX` for rows outside the view).
-    pub edge_of_row: Vec<u32>,
-    /// The ledger of rows and problems.
+    /// Every usable exposure row, in input order.
+    pub rows: ExposureRows,
+    /// The ledger of rows and problems (used and merged still zero).
     pub ledger: Ledger,
     /// The as-of date used.
     pub as_of: i32,
-    /// Wall time of each load stage.
-    pub timings: Timings,
-    /// The sub-network the graph shows, and how many exposure rows it holds.
-    pub view: (View, u64),
-}
-
-/// Wall-clock seconds spent in each stage of a load (for the benchmark and `--verbose` use).
-#[derive(Debug, Clone, Copy, Default, serde::Serialize)]
-pub struct Timings {
-    /// Opening files, scanning lines and parsing text into frames (polars).
-    pub parse: f64,
-    /// Checking rows, parsing dates and numbers, interning IDs (the ledger).
-    pub reconcile: f64,
-    /// Sorting rows by pair and aggregating repeats.
-    pub merge_pairs: f64,
-    /// Building the adjacency (petgraph Csr).
-    pub graph: f64,
-    /// Peak resident memory (MiB) of the process after parse+reconcile, merge and graph
-    /// (Linux only; NaN elsewhere). The peak is monotonic, so each figure covers all earlier stages.
-    pub peak_mib: [f64; 3],
+    /// Seconds spent opening files, scanning lines and parsing text (polars).
+    pub parse_secs: f64,
+    /// Seconds spent checking rows, parsing fields and interning IDs.
+    pub reconcile_secs: f64,
+    /// Peak resident memory (MiB) after reading.
+    pub peak_mib: f64,
 }
 
 /// Peak resident memory of this process so far, in MiB (Linux `VmHWM`; NaN elsewhere).
@@ -202,23 +92,6 @@ pub fn peak_mib() -> f64 {
                 .and_then(|v| v.parse::<f64>().ok())
         })
         .map_or(f64::NAN, |kib| kib / 1024.0)
-}
-
-impl Dataset {
-    /// Number of people (nodes), implied ones included.
-    pub fn people(&self) -> usize {
-        self.ids.len()
-    }
-
-    /// People known only from exposures.
-    pub fn implied(&self) -> usize {
-        self.ids.len() - self.people_in_table as usize
-    }
-
-    /// True when a node came only from the exposures table.
-    pub fn is_implied(&self, node: u32) -> bool {
-        node >= self.people_in_table
-    }
 }
 
 /// An opened table with its role and mapping.
@@ -366,8 +239,8 @@ fn describe_format(meta: &table::TableMeta) -> String {
     }
 }
 
-/// Load the inputs: read, check, reconcile, aggregate, and build the graph.
-pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dataset> {
+/// Read the inputs: open, decide roles, check and reconcile every row into the ledger.
+pub fn read(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Loaded> {
     let t0 = std::time::Instant::now();
     let mut in_reconcile = 0.0;
     let mut tables = Vec::new();
@@ -453,32 +326,6 @@ pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dat
         people_in_table = 0;
     }
     rows.pad();
-    let read_done = t0.elapsed().as_secs_f64();
-    let peak_read = peak_mib();
-    let t1 = std::time::Instant::now();
-    let agg = graph::aggregate(&rows, !rows.extras.names.is_empty());
-    let merge_pairs = t1.elapsed().as_secs_f64();
-    let peak_merge = peak_mib();
-    // Exposure rows that were usable are used (first of their pair) or merged.
-    let mut start = 0;
-    for &(file, n) in &rows.per_file {
-        let used = agg.first_of_pair[start..start + n]
-            .iter()
-            .filter(|&&f| f)
-            .count() as u64;
-        let c = &mut ledger.files[file].counts;
-        c.used += used;
-        c.merged += n as u64 - used;
-        start += n;
-    }
-    for f in &ledger.files {
-        let total = if f.role == Role::People {
-            &mut ledger.people
-        } else {
-            &mut ledger.exposures
-        };
-        total.add(&f.counts);
-    }
     ledger.quarantined = people.quarantined;
     ledger.quarantined.append(&mut rows.quarantined);
     ledger.problems = problems;
@@ -487,60 +334,17 @@ pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dat
     for v in attrs.values.iter_mut() {
         v.resize(n, None);
     }
-    let settings = (0..rows.settings.len() as u32)
-        .map(|i| rows.settings.name(i).to_string())
-        .collect();
-    let exposure_extras = std::mem::take(&mut rows.extras);
-    let (edges, edge_of_row, rows_in_view) = if opts.view.is_all() {
-        (agg.edges, agg.edge_of_row, rows.keys.len() as u64)
-    } else {
-        // The ledger above counted every row; the network is built from the view's rows only.
-        let labels: Vec<String> = (0..rows.settings.len() as u32)
-            .map(|i| rows.settings.name(i).to_string())
-            .collect();
-        let keep = view_mask(&opts.view, &rows, &labels)?;
-        let sub = graph::aggregate(&rows.subset(&keep), !exposure_extras.names.is_empty());
-        // Rows outside the view map to no pair.
-        let mut sub_of_row = sub.edge_of_row.into_iter();
-        let edge_of_row = if exposure_extras.names.is_empty() {
-            Vec::new()
-        } else {
-            keep.iter()
-                .map(|&k| {
-                    if k {
-                        sub_of_row.next().unwrap_or(u32::MAX)
-                    } else {
-                        u32::MAX
-                    }
-                })
-                .collect()
-        };
-        let in_view = keep.iter().filter(|&&k| k).count() as u64;
-        (sub.edges, edge_of_row, in_view)
-    };
-    drop(rows);
-    let t2 = std::time::Instant::now();
-    let graph = graph::adjacency(n, &edges);
-    let timings = Timings {
-        parse: read_done - in_reconcile,
-        reconcile: in_reconcile,
-        merge_pairs,
-        graph: t2.elapsed().as_secs_f64(),
-        peak_mib: [peak_read, peak_merge, peak_mib()],
-    };
-    Ok(Dataset {
+    let read_secs = t0.elapsed().as_secs_f64();
+    Ok(Loaded {
         ids: people.ids,
         people_in_table,
         attrs,
-        edges,
-        settings,
-        graph,
+        rows,
         ledger,
         as_of: opts.as_of,
-        timings,
-        exposure_extras,
-        edge_of_row,
-        view: (opts.view.clone(), rows_in_view),
+        parse_secs: read_secs - in_reconcile,
+        reconcile_secs: in_reconcile,
+        peak_mib: peak_mib(),
     })
 }
 

@@ -4,49 +4,7 @@
 //! Detection only looks at the first lines; every decision can be overridden in the config
 //! (`[csv]`) or on the command line, and the decision taken is reported by `hubwatch check`.
 
-use crate::error::{Error, Result};
-
-/// How fields are separated on a line.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum Separator {
-    /// One byte: `,` `;` `\t` `|` or a single space.
-    Byte(u8),
-    /// Runs of spaces and tabs, leading and trailing ones ignored (sensor-study exports).
-    Whitespace,
-}
-
-impl Separator {
-    /// Parse the `[csv] separator` setting; `None` means "auto".
-    pub fn parse_setting(s: &str) -> Result<Option<Separator>> {
-        Ok(Some(match s {
-            "auto" | "" => return Ok(None),
-            "," => Separator::Byte(b','),
-            ";" => Separator::Byte(b';'),
-            "\t" | "\\t" | "tab" => Separator::Byte(b'\t'),
-            "|" => Separator::Byte(b'|'),
-            " " | "space" => Separator::Byte(b' '),
-            "whitespace" => Separator::Whitespace,
-            other => {
-                return Err(Error::Config(format!(
-                    "separator \"{other}\" is not supported: use auto, \",\", \";\", \"\\t\", \"|\", \" \" or whitespace"
-                )))
-            }
-        }))
-    }
-
-    /// A short human name, for reports.
-    pub fn describe(self) -> &'static str {
-        match self {
-            Separator::Byte(b',') => "comma",
-            Separator::Byte(b';') => "semicolon",
-            Separator::Byte(b'\t') => "tab",
-            Separator::Byte(b'|') => "pipe",
-            Separator::Byte(b' ') => "single space",
-            Separator::Byte(_) => "other",
-            Separator::Whitespace => "whitespace",
-        }
-    }
-}
+pub use crate::config::Separator;
 
 /// Bytes of a UTF-8 byte-order mark.
 pub const BOM: &[u8] = b"\xEF\xBB\xBF";

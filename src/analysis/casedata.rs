@@ -1,0 +1,182 @@
+//! Case statistics of an export: secondary attack rate among traced contacts (overall and per
+//! setting), the offspring distribution of cases and serial intervals.
+//!
+//! Definitions (stated in the README too):
+//! - A case is a person whose `role` is "case" (any letter case).
+//! - A contact of case u is anyone sharing an exposure pair with u. A contact v who is also a
+//!   case is a *secondary* case of u when v's onset date is after u's; equal or unknown onsets
+//!   make them co-primary cases, left out of both counts (methods sheet §7); a v whose onset is
+//!   before u's is not u's contact for this purpose (u would be v's secondary case).
+//! - Contacts lost to follow-up (`followup_status` "unreachable" or "lost", or "lost to
+//!   follow-up") and contacts known immune (`status` "immune") are left out and counted.
+//! - Each person counts once overall: at risk if they are a contact of some case, secondary if
+//!   they are a secondary case of some case. Per setting, through the settings of the pairs.
+//! - Offspring and serial intervals need infector -> infectee links (the `transmission` field);
+//!   without them they are undefined, never guessed from dates.
+
+use crate::dataset::Dataset;
+use crate::ingest::dates;
+use crate::metrics::cases::{self, Proportion, SerialInterval};
+use crate::metrics::fits::Sample;
+
+/// Case statistics.
+#[derive(Debug, Clone)]
+pub struct CaseStats {
+    /// People with role "case".
+    pub cases: usize,
+    /// Why case statistics are missing, if they are.
+    pub missing: Option<&'static str>,
+    /// SAR among traced contacts, all settings.
+    pub sar: Proportion,
+    /// SAR per setting label.
+    pub sar_by_setting: Vec<(String, Proportion)>,
+    /// Contacts left out: lost to follow-up.
+    pub lost: u64,
+    /// Contacts left out: immune.
+    pub immune: u64,
+    /// Case pairs left out as co-primary (same or unknown onset).
+    pub co_primary_pairs: u64,
+    /// Infector -> infectee links in the export.
+    pub links: u64,
+    /// Secondary cases per case (from links), when links exist.
+    pub offspring: Option<Sample>,
+    /// Serial intervals from links with both onset dates.
+    pub serial: SerialInterval,
+}
+
+fn lower(d: &Dataset, field: &str, i: usize) -> Option<String> {
+    d.attrs
+        .get(field, i as u32)
+        .map(|v| v.trim().to_ascii_lowercase())
+}
+
+/// Compute the case statistics of a dataset.
+pub fn case_stats(d: &Dataset) -> CaseStats {
+    let n = d.people();
+    let is_case: Vec<bool> = (0..n)
+        .map(|i| lower(d, "role", i).as_deref() == Some("case"))
+        .collect();
+    let onset: Vec<Option<i32>> = (0..n)
+        .map(|i| {
+            d.attrs
+                .get("onset_date", i as u32)
+                .and_then(|v| dates::parse_iso(v).ok())
+        })
+        .collect();
+    let lost: Vec<bool> = (0..n)
+        .map(|i| {
+            matches!(
+                lower(d, "followup_status", i).as_deref(),
+                Some("unreachable" | "lost" | "lost to follow-up" | "lost_to_follow_up")
+            )
+        })
+        .collect();
+    let immune: Vec<bool> = (0..n)
+        .map(|i| lower(d, "status", i).as_deref() == Some("immune"))
+        .collect();
+    let cases_n = is_case.iter().filter(|&&c| c).count();
+    let nset = d.settings.len();
+    // Per person: at risk / secondary, overall (index 0) and per setting code (1..=nset).
+    let mut at_risk = vec![vec![false; n]; nset + 1];
+    let mut secondary = vec![vec![false; n]; nset + 1];
+    let mut co_primary_pairs = 0u64;
+    for e in 0..d.edges.len() {
+        let (a, b) = (d.edges.a[e] as usize, d.edges.b[e] as usize);
+        if is_case[a] && is_case[b] {
+            match (onset[a], onset[b]) {
+                (Some(x), Some(y)) if x != y => {
+                    let later = if y > x { b } else { a };
+                    for slot in
+                        std::iter::once(0).chain(d.edges.settings(e).iter().map(|&c| c as usize))
+                    {
+                        at_risk[slot][later] = true;
+                        secondary[slot][later] = true;
+                    }
+                }
+                _ => co_primary_pairs += 1,
+            }
+            continue;
+        }
+        for (u, v) in [(a, b), (b, a)] {
+            if is_case[u] && !is_case[v] {
+                for slot in
+                    std::iter::once(0).chain(d.edges.settings(e).iter().map(|&c| c as usize))
+                {
+                    at_risk[slot][v] = true;
+                }
+            }
+        }
+    }
+    let count = |slot: usize| {
+        let (mut x, mut m, mut l, mut im) = (0u64, 0u64, 0u64, 0u64);
+        for v in 0..n {
+            if !at_risk[slot][v] {
+                continue;
+            }
+            if lost[v] && !secondary[slot][v] {
+                l += 1;
+            } else if immune[v] && !secondary[slot][v] {
+                im += 1;
+            } else {
+                m += 1;
+                x += u64::from(secondary[slot][v]);
+            }
+        }
+        (x, m, l, im)
+    };
+    let (x, m, lost_n, immune_n) = count(0);
+    let sar_by_setting = (1..=nset)
+        .map(|s| {
+            let (x, m, _, _) = count(s);
+            (d.settings[s - 1].clone(), cases::proportion(x, m))
+        })
+        .collect();
+    // Links: offspring per case and serial intervals.
+    let has_links = !d.edges.links_ab.is_empty();
+    let mut offspring_count = vec![0u64; n];
+    let mut intervals = Vec::new();
+    let mut links = 0u64;
+    if has_links {
+        for e in 0..d.edges.len() {
+            let (a, b) = (d.edges.a[e] as usize, d.edges.b[e] as usize);
+            for (infector, infectee, k) in
+                [(a, b, d.edges.links_ab[e]), (b, a, d.edges.links_ba[e])]
+            {
+                if k == 0 {
+                    continue;
+                }
+                links += 1;
+                offspring_count[infector] += 1;
+                if let (Some(x), Some(y)) = (onset[infector], onset[infectee]) {
+                    intervals.push(i64::from(y) - i64::from(x));
+                }
+            }
+        }
+    }
+    let offspring = has_links.then(|| {
+        let values: Vec<u64> = (0..n)
+            .filter(|&i| is_case[i])
+            .map(|i| offspring_count[i])
+            .collect();
+        Sample::from_values(&values)
+    });
+    let missing = if !d.attrs.names.iter().any(|c| c == "role") {
+        Some("the people table has no role column (case / contact)")
+    } else if cases_n == 0 {
+        Some("no person has role \"case\"")
+    } else {
+        None
+    };
+    CaseStats {
+        cases: cases_n,
+        missing,
+        sar: cases::proportion(x, m),
+        sar_by_setting,
+        lost: lost_n,
+        immune: immune_n,
+        co_primary_pairs,
+        links,
+        offspring,
+        serial: cases::serial_interval(&intervals),
+    }
+}

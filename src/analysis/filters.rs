@@ -1,0 +1,314 @@
+//! The one filter engine of the command line (`priority`, `export`, `outlook`) and the
+//! dashboard: which people of a ranked list to keep.
+//!
+//! [`Filters`] says what the user asked for, in words (attribute values, a setting label, a
+//! cluster). [`FilterIndex`] holds, once per ranked list and in rank order, every value a filter
+//! reads as a small integer, so that applying a filter is one sequential pass over arrays (the
+//! dashboard applies one on every key press, at millions of people). Attribute values compare
+//! trimmed and without case.
+
+use std::collections::HashMap;
+
+use crate::analysis::priority::Ranked;
+use crate::analysis::stats::NetworkStats;
+use crate::dataset::Dataset;
+use crate::error::{Error, Result};
+use crate::workspace::FOLLOWUP_STATES;
+
+/// People attributes a filter can ask for by value, in this order everywhere.
+pub const FIELDS: [&str; 4] = ["role", "status", "area", "age_group"];
+
+/// Follow-up words that count as reached (export spellings included).
+const REACHED: [&str; 3] = ["reached", "completed", "complete"];
+
+/// What to keep. The default keeps everyone.
+#[derive(Debug, Clone, Default, PartialEq, Eq)]
+pub struct Filters {
+    /// Required value of each field of [`FIELDS`] (case-insensitive).
+    pub equals: [Option<String>; 4],
+    /// Only people with an exposure in this setting (a label of the export).
+    pub setting: Option<String>,
+    /// Only people still inside their monitoring window.
+    pub still_in_window: bool,
+    /// Only people whose follow-up state is not reached or completed.
+    pub not_reached: bool,
+    /// Only people in this cluster (component label).
+    pub cluster: Option<u32>,
+}
+
+impl Filters {
+    /// True when nothing is filtered.
+    pub fn is_empty(&self) -> bool {
+        *self == Filters::default()
+    }
+
+    /// Set the value of a field of [`FIELDS`] by name.
+    pub fn set(&mut self, field: &str, value: Option<String>) {
+        if let Some(i) = FIELDS.iter().position(|&f| f == field) {
+            self.equals[i] = value;
+        }
+    }
+
+    /// The filters in words ("none" when empty), as every list and pane shows them.
+    pub fn describe(&self) -> String {
+        let mut parts: Vec<String> = FIELDS
+            .iter()
+            .zip(&self.equals)
+            .filter_map(|(f, v)| v.as_ref().map(|v| format!("{f}={v}")))
+            .collect();
+        if let Some(s) = &self.setting {
+            parts.push(format!("setting={s}"));
+        }
+        if self.still_in_window {
+            parts.push("still in window".into());
+        }
+        if self.not_reached {
+            parts.push("not reached".into());
+        }
+        if let Some(c) = self.cluster {
+            parts.push(format!("cluster #{}", c + 1));
+        }
+        if parts.is_empty() {
+            "none".into()
+        } else {
+            parts.join(", ")
+        }
+    }
+}
+
+/// The next value in a cycle through `values` (none -> first -> ... -> last -> none).
+pub fn cycle(now: Option<&str>, values: &[String]) -> Option<String> {
+    let next = match now.and_then(|v| values.iter().position(|x| x == v)) {
+        None => 0,
+        Some(i) => i + 1,
+    };
+    values.get(next).cloned()
+}
+
+/// Every filterable value of a ranked list, per entry in rank order.
+#[derive(Debug, Clone, Default)]
+pub struct FilterIndex {
+    /// Distinct values of each field of [`FIELDS`] (one spelling each, sorted without case).
+    pub values: [Vec<String>; 4],
+    /// Per field, per ranked entry: index into `values` (u32::MAX: none).
+    codes: [Vec<u32>; 4],
+    /// Settings of each entry's exposures, as bits (setting code c is bit c - 1; codes above
+    /// 64 are looked up in the graph when asked for).
+    settings: Vec<u64>,
+    /// Component label.
+    pub component: Vec<u32>,
+    /// Days left >= 0.
+    in_window: Vec<bool>,
+    /// Follow-up state as an index into FOLLOWUP_STATES (their count: none); the workspace's
+    /// state first, else the export's.
+    pub followup: Vec<u8>,
+    /// Follow-up reached or completed (workspace first, export spellings included).
+    reached: Vec<bool>,
+    /// Node of each entry.
+    nodes: Vec<u32>,
+}
+
+/// Distinct non-empty values of a people attribute, one spelling each, sorted without case.
+fn distinct(d: &Dataset, field: &str) -> Vec<String> {
+    let Some(c) = d.attrs.column(field) else {
+        return Vec::new();
+    };
+    let mut set = std::collections::BTreeMap::new();
+    for v in d.attrs.values[c].iter().flatten() {
+        let v = v.trim();
+        if !v.is_empty() {
+            set.entry(v.to_lowercase()).or_insert_with(|| v.to_string());
+        }
+    }
+    set.into_values().collect()
+}
+
+/// Each person's value of `field` as an index into `values` (u32::MAX: none).
+fn codes(d: &Dataset, field: &str, values: &[String]) -> Vec<u32> {
+    let index: HashMap<String, u32> = values
+        .iter()
+        .enumerate()
+        .map(|(i, v)| (v.to_lowercase(), i as u32))
+        .collect();
+    let mut out = vec![u32::MAX; d.people()];
+    if let Some(c) = d.attrs.column(field) {
+        for (node, v) in d.attrs.values[c].iter().enumerate() {
+            if let Some(&i) = v.as_ref().and_then(|v| index.get(&v.trim().to_lowercase())) {
+                out[node] = i;
+            }
+        }
+    }
+    out
+}
+
+/// The setting bits of every person (codes 1..=64).
+fn setting_bits(d: &Dataset) -> Vec<u64> {
+    let mut bits = vec![0u64; d.people()];
+    for e in 0..d.edges.len() {
+        let b = d
+            .edges
+            .settings(e)
+            .iter()
+            .filter(|c| (1..=64).contains(*c))
+            .fold(0u64, |acc, &c| acc | 1 << (c - 1));
+        bits[d.edges.a[e] as usize] |= b;
+        bits[d.edges.b[e] as usize] |= b;
+    }
+    bits
+}
+
+/// A follow-up word as an index into FOLLOWUP_STATES (their count when it is none of them).
+fn state_code(v: &str) -> u8 {
+    let v = v.trim().to_lowercase();
+    FOLLOWUP_STATES
+        .iter()
+        .position(|&s| s == v)
+        .unwrap_or(FOLLOWUP_STATES.len()) as u8
+}
+
+impl FilterIndex {
+    /// Index a ranked list; `followup` holds the workspace's states by person ID.
+    pub fn build(
+        d: &Dataset,
+        stats: &NetworkStats,
+        ranked: &[Ranked],
+        followup: &HashMap<String, String>,
+    ) -> FilterIndex {
+        let values = FIELDS.map(|f| distinct(d, f));
+        let by_node: Vec<Vec<u32>> = FIELDS
+            .iter()
+            .zip(&values)
+            .map(|(f, v)| codes(d, f, v))
+            .collect();
+        let bits = setting_bits(d);
+        let per = |f: &dyn Fn(&Ranked) -> u32| ranked.iter().map(f).collect::<Vec<u32>>();
+        let mut ix = FilterIndex {
+            codes: [0, 1, 2, 3].map(|c| per(&|r| by_node[c][r.node as usize])),
+            settings: ranked.iter().map(|r| bits[r.node as usize]).collect(),
+            component: per(&|r| stats.components.0[r.node as usize]),
+            in_window: ranked
+                .iter()
+                .map(|r| r.days_left.is_some_and(|x| x >= 0))
+                .collect(),
+            followup: Vec::with_capacity(ranked.len()),
+            reached: Vec::with_capacity(ranked.len()),
+            nodes: per(&|r| r.node),
+            values,
+        };
+        for r in ranked {
+            let state = followup
+                .get(d.ids.name(r.node))
+                .map(String::as_str)
+                .or_else(|| d.attrs.get("followup_status", r.node));
+            ix.followup
+                .push(state.map_or(FOLLOWUP_STATES.len() as u8, state_code));
+            ix.reached.push(
+                state.is_some_and(|v| REACHED.iter().any(|w| v.trim().eq_ignore_ascii_case(w))),
+            );
+        }
+        ix
+    }
+
+    /// Number of entries.
+    pub fn len(&self) -> usize {
+        self.nodes.len()
+    }
+
+    /// True when the list is empty.
+    pub fn is_empty(&self) -> bool {
+        self.nodes.is_empty()
+    }
+
+    /// A new workspace follow-up state for the entry at rank position `pos`.
+    pub fn set_followup(&mut self, pos: usize, state: &str) {
+        self.followup[pos] = state_code(state);
+        self.reached[pos] = REACHED.iter().any(|w| state.eq_ignore_ascii_case(w));
+    }
+
+    /// The filters resolved against this list: values as codes; an unknown setting is an error
+    /// naming the known ones.
+    pub fn matcher(&self, f: &Filters, d: &Dataset) -> Result<Matcher> {
+        let equals = [0, 1, 2, 3].map(|c| {
+            f.equals[c].as_ref().map(|v| {
+                let v = v.trim().to_lowercase();
+                self.values[c]
+                    .iter()
+                    .position(|x| x.to_lowercase() == v)
+                    .map_or(u32::MAX - 1, |i| i as u32)
+            })
+        });
+        let setting = match &f.setting {
+            None => None,
+            Some(label) => Some(setting_code(d, label)?),
+        };
+        // Codes beyond the bits: one pass over the graph for this setting.
+        let wide = setting.filter(|&c| c > 64).map(|c| {
+            self.nodes
+                .iter()
+                .map(|&n| {
+                    d.graph
+                        .edges_slice(n)
+                        .iter()
+                        .any(|&e| d.edges.settings(e as usize).contains(&c))
+                })
+                .collect()
+        });
+        Ok(Matcher {
+            equals,
+            setting,
+            wide,
+            still_in_window: f.still_in_window,
+            not_reached: f.not_reached,
+            cluster: f.cluster,
+        })
+    }
+
+    /// Whether the entry at rank position `i` passes.
+    pub fn keeps(&self, m: &Matcher, i: usize) -> bool {
+        m.equals
+            .iter()
+            .zip(&self.codes)
+            .all(|(want, codes)| want.is_none_or(|w| codes[i] == w))
+            && m.setting.is_none_or(|s| match &m.wide {
+                Some(w) => w[i],
+                None => self.settings[i] & (1 << (s - 1)) != 0,
+            })
+            && (!m.still_in_window || self.in_window[i])
+            && (!m.not_reached || !self.reached[i])
+            && m.cluster.is_none_or(|c| self.component[i] == c)
+    }
+
+    /// Rank positions of the entries the filters keep, in rank order.
+    pub fn apply(&self, f: &Filters, d: &Dataset) -> Result<Vec<u32>> {
+        let m = self.matcher(f, d)?;
+        Ok((0..self.len())
+            .filter(|&i| self.keeps(&m, i))
+            .map(|i| i as u32)
+            .collect())
+    }
+}
+
+/// Filters resolved against one [`FilterIndex`].
+#[derive(Debug, Clone)]
+pub struct Matcher {
+    equals: [Option<u32>; 4],
+    setting: Option<u16>,
+    wide: Option<Vec<bool>>,
+    still_in_window: bool,
+    not_reached: bool,
+    cluster: Option<u32>,
+}
+
+/// The code of a setting label (case-insensitive), or an error naming the export's settings.
+pub fn setting_code(d: &Dataset, label: &str) -> Result<u16> {
+    d.settings
+        .iter()
+        .position(|s| s.eq_ignore_ascii_case(label))
+        .map(|i| (i + 1) as u16)
+        .ok_or_else(|| {
+            Error::Usage(format!(
+                "no exposure has setting \"{label}\"; settings in this export: {}",
+                d.settings.join(", ")
+            ))
+        })
+}

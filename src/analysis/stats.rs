@@ -1,0 +1,182 @@
+//! All network statistics of one dataset, computed once (their JSON form, the contract of
+//! `hubwatch summary --json`, is `report::json`).
+
+use crate::dataset::Dataset;
+use crate::graph;
+use crate::metrics::{degree, fits, mixing, neighbours, structure, Stat};
+
+/// Settings of the statistics that have a cost or a random part.
+#[derive(Debug, Clone, Copy)]
+pub struct MetricOptions {
+    /// Degree-preserving randomisations for the null model (0 = skip).
+    pub null_replicates: usize,
+    /// Swap attempts per pair in each randomisation.
+    pub null_swaps_per_edge: usize,
+    /// Seed of the null model's random numbers.
+    pub seed: u64,
+}
+
+impl Default for MetricOptions {
+    fn default() -> Self {
+        MetricOptions {
+            null_replicates: 5,
+            null_swaps_per_edge: 10,
+            seed: 1,
+        }
+    }
+}
+
+/// Every statistic of the network.
+#[derive(Debug, Clone)]
+pub struct NetworkStats {
+    /// Degree of each person.
+    pub degrees: Vec<u32>,
+    /// Degree distribution and moments.
+    pub degree: degree::DegreeStats,
+    /// Neighbour degrees and the paradox.
+    pub neighbours: neighbours::Neighbours,
+    /// Degree assortativity r.
+    pub r: Stat,
+    /// Its jackknife standard error (variant A).
+    pub r_se: Stat,
+    /// r under the degree-preserving null model.
+    pub null: mixing::NullModel,
+    /// Clustering.
+    pub clustering: structure::Clustering,
+    /// k-core number of each person.
+    pub cores: Vec<u32>,
+    /// Articulation points.
+    pub bridges: Vec<u32>,
+    /// Component of each person, and component sizes.
+    pub components: (Vec<u32>, Vec<u32>),
+    /// Mixing by people's attributes (area, age group) where present.
+    pub attribute_mixing: Vec<(String, mixing::AttributeMixing)>,
+    /// Degree assortativity within each setting's sub-network.
+    pub r_by_setting: Vec<(String, Stat)>,
+    /// Fits of the degree distribution.
+    pub fits: DegreeFits,
+    /// Case statistics (attack rate, offspring, serial interval).
+    pub cases: super::casedata::CaseStats,
+}
+
+/// Fits of the degree distribution and which describes it best.
+#[derive(Debug, Clone)]
+pub struct DegreeFits {
+    /// Poisson.
+    pub poisson: fits::Fit,
+    /// Geometric.
+    pub geometric: fits::Fit,
+    /// Negative binomial with the profile interval for k.
+    pub negative_binomial: fits::NegBin,
+    /// Power-law tail (x_min by KS), or why none was fitted.
+    pub power_law: Result<fits::PowerLaw, &'static str>,
+    /// Model with the lowest AIC among the three whole-distribution models.
+    pub best: Option<&'static str>,
+}
+
+/// Smallest tail the power-law fit accepts (short tails give unstable alpha and small KS).
+pub const MIN_TAIL: u64 = 10;
+
+fn fit_degrees(histogram: &[u64]) -> DegreeFits {
+    let s = fits::Sample::from_counts(histogram.to_vec());
+    let poisson = fits::poisson(&s);
+    let geometric = fits::geometric(&s);
+    let negative_binomial = fits::negative_binomial(&s);
+    let best = [&poisson, &geometric, &negative_binomial.fit]
+        .into_iter()
+        .filter_map(|f| f.aic.ok().map(|a| (f.model, a)))
+        .min_by(|a, b| a.1.total_cmp(&b.1))
+        .map(|(m, _)| m);
+    DegreeFits {
+        poisson,
+        geometric,
+        negative_binomial,
+        power_law: fits::power_law(&s, MIN_TAIL),
+        best,
+    }
+}
+
+/// How many people `degree.top` lists.
+pub const TOP: usize = 20;
+
+/// People attributes whose mixing is reported.
+const MIXING_ATTRIBUTES: [&str; 2] = ["area", "age_group"];
+
+/// Compute every statistic.
+pub fn compute(d: &Dataset, opts: &MetricOptions) -> NetworkStats {
+    let deg = graph::degrees(&d.graph);
+    let (a, b) = (&d.edges.a, &d.edges.b);
+    let attribute_mixing = MIXING_ATTRIBUTES
+        .iter()
+        .filter_map(|name| {
+            let col = d.attrs.column(name)?;
+            let values = &d.attrs.values[col];
+            // Distinct values through a small map (a handful of groups, millions of people).
+            let mut index: hashbrown::HashMap<&str, usize> = hashbrown::HashMap::new();
+            let mut raw_group: Vec<Option<usize>> = Vec::with_capacity(d.people());
+            for i in 0..d.people() {
+                raw_group.push(values.get(i).and_then(|v| v.as_deref()).map(|v| {
+                    let next = index.len();
+                    *index.entry(v).or_insert(next)
+                }));
+            }
+            // Relabel so that groups are in sorted order.
+            let mut labels: Vec<(&str, usize)> = index.into_iter().collect();
+            labels.sort_unstable();
+            let mut rank = vec![0usize; labels.len()];
+            for (r, (_, old)) in labels.iter().enumerate() {
+                rank[*old] = r;
+            }
+            let group: Vec<Option<usize>> = raw_group.iter().map(|g| g.map(|g| rank[g])).collect();
+            let names = labels.into_iter().map(|(l, _)| l.to_string()).collect();
+            Some((
+                name.to_string(),
+                mixing::attribute_mixing(a, b, &group, names),
+            ))
+        })
+        .collect();
+    let r_by_setting = d
+        .settings
+        .iter()
+        .enumerate()
+        .map(|(i, label)| {
+            let code = (i + 1) as u16;
+            let sel: Vec<usize> = (0..d.edges.len())
+                .filter(|&e| d.edges.settings(e).contains(&code))
+                .collect();
+            let sa: Vec<u32> = sel.iter().map(|&e| a[e]).collect();
+            let sb: Vec<u32> = sel.iter().map(|&e| b[e]).collect();
+            // Degrees within the setting's own sub-network.
+            let mut sd = vec![0u32; d.people()];
+            for (&x, &y) in sa.iter().zip(&sb) {
+                sd[x as usize] += 1;
+                sd[y as usize] += 1;
+            }
+            (label.clone(), mixing::assortativity(&sa, &sb, &sd))
+        })
+        .collect();
+    let degree = degree::degree_stats(&deg);
+    NetworkStats {
+        cases: super::casedata::case_stats(d),
+        fits: fit_degrees(&degree.histogram),
+        degree,
+        neighbours: neighbours::neighbours(&d.graph, &deg),
+        r: mixing::assortativity(a, b, &deg),
+        r_se: mixing::jackknife_se(a, b, &deg),
+        null: mixing::null_model(
+            a,
+            b,
+            &deg,
+            opts.null_replicates,
+            opts.null_swaps_per_edge,
+            opts.seed,
+        ),
+        clustering: structure::clustering(&d.graph, &deg),
+        cores: structure::core_numbers(&d.graph, &deg),
+        bridges: structure::articulation_points(&d.graph),
+        components: graph::components(&d.graph),
+        attribute_mixing,
+        r_by_setting,
+        degrees: deg,
+    }
+}

@@ -1,0 +1,549 @@
+//! The command line, as clap reads it: the commands and the option blocks they share
+//! (loading, ranking, statistics), each declared once and flattened where used, with the
+//! conversions into the library's own request types.
+
+use std::path::{Path, PathBuf};
+
+use clap::{Args, Parser, Subcommand};
+
+use crate::analysis::filters::Filters;
+use crate::analysis::ranking::RankRequest;
+use crate::analysis::stats::MetricOptions;
+use crate::config::Config;
+use crate::dataset::Dataset;
+use crate::error::{Error, Result};
+use crate::ingest::{dates, mapping, table::ReadOptions, Input, LoadOptions};
+use crate::sample;
+use crate::workspace::Workspace;
+
+/// hubwatch: see who to reach first in a contact-tracing export.
+#[derive(Debug, Parser)]
+#[command(
+    name = "hubwatch",
+    version,
+    about,
+    args_conflicts_with_subcommands = true
+)]
+#[command(
+    after_help = "Exit codes: 0 success, 2 usage or configuration error, 3 file not found or unreadable, \
+4 input that cannot be read as a tracing export. Outputs support, and do not replace, the judgement of \
+public-health staff; treat every export as sensitive personal data."
+)]
+pub struct Cli {
+    /// What to do (default: the summary of PATH).
+    #[command(subcommand)]
+    pub command: Option<Command>,
+    /// Loading options and paths, for the default action.
+    #[command(flatten)]
+    pub load: LoadArgs,
+    /// Ranking options, for the dashboard.
+    #[command(flatten)]
+    pub rank: PriorityArgs,
+    /// Workspace file (flags, follow-up states, notes), for the dashboard.
+    #[arg(long, value_name = "FILE")]
+    pub workspace: Option<PathBuf>,
+}
+
+/// The commands.
+// Parsed once per run, so the size of the largest variant does not matter.
+#[allow(clippy::large_enum_variant)]
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// The terminal dashboard (what `hubwatch [PATH...]` opens on a terminal).
+    Dashboard {
+        /// Loading options and paths.
+        #[command(flatten)]
+        load: LoadArgs,
+        /// Ranking options.
+        #[command(flatten)]
+        rank: PriorityArgs,
+        /// Workspace file for flags, follow-up states and notes.
+        #[arg(long, value_name = "FILE")]
+        workspace: Option<PathBuf>,
+    },
+    /// Account for every input row: used, merged or quarantined, and every field problem.
+    Check {
+        /// Loading options and paths.
+        #[command(flatten)]
+        load: LoadArgs,
+        /// Write every quarantined row and field problem, with its reason and line, to FILE (CSV).
+        #[arg(long, value_name = "FILE")]
+        quarantine: Option<PathBuf>,
+        /// Print one JSON object instead of text.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Headline figures and statistics of the contact network.
+    Summary {
+        /// Loading options and paths.
+        #[command(flatten)]
+        load: LoadArgs,
+        /// Statistics options.
+        #[command(flatten)]
+        stats: StatsArgs,
+        /// Print one JSON object (keys documented in the README).
+        #[arg(long)]
+        json: bool,
+    },
+    /// The ranked follow-up list: who to reach first, and why.
+    Priority {
+        /// Loading options and paths.
+        #[command(flatten)]
+        load: LoadArgs,
+        /// Ranking options.
+        #[command(flatten)]
+        rank: PriorityArgs,
+        /// How many people to show (0 = all).
+        #[arg(long, default_value_t = 30, value_name = "N")]
+        top: usize,
+        /// Print one JSON object instead of text.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Epidemic threshold, expected outbreak size, and how many people to reach (and whom) to
+    /// bring R below 1.
+    Outlook(OutlookArgs),
+    /// Write a list for the callers: the priority list, the flagged people, or the quarantine.
+    Export(ExportArgs),
+    /// Set a person's follow-up state (to call, reached, unreachable, completed).
+    Followup {
+        /// Loading options and paths (the person must be in the export).
+        #[command(flatten)]
+        load: LoadArgs,
+        /// Person ID.
+        #[arg(long, value_name = "ID")]
+        person: String,
+        /// The new state.
+        #[arg(long, value_name = "STATE")]
+        set: String,
+        /// Workspace file (default: hubwatch-workspace.sqlite beside the export).
+        #[arg(long, value_name = "FILE")]
+        workspace: Option<PathBuf>,
+    },
+    /// Add or remove a manual flag on a person.
+    Flag {
+        /// Loading options and paths (the person must be in the export).
+        #[command(flatten)]
+        load: LoadArgs,
+        /// Person ID.
+        #[arg(long, value_name = "ID")]
+        person: String,
+        /// Flag to add.
+        #[arg(
+            long,
+            value_name = "FLAG",
+            required_unless_present = "remove",
+            conflicts_with = "remove"
+        )]
+        add: Option<String>,
+        /// Flag to remove.
+        #[arg(long, value_name = "FLAG")]
+        remove: Option<String>,
+        /// Workspace file (default: hubwatch-workspace.sqlite beside the export).
+        #[arg(long, value_name = "FILE")]
+        workspace: Option<PathBuf>,
+    },
+    /// Set or clear a person's note.
+    Note {
+        /// Loading options and paths (the person must be in the export).
+        #[command(flatten)]
+        load: LoadArgs,
+        /// Person ID.
+        #[arg(long, value_name = "ID")]
+        person: String,
+        /// The note (leave out to clear it).
+        #[arg(long, value_name = "TEXT")]
+        text: Option<String>,
+        /// Workspace file (default: hubwatch-workspace.sqlite beside the export).
+        #[arg(long, value_name = "FILE")]
+        workspace: Option<PathBuf>,
+    },
+    /// Show the workspace: every person's state, people no longer in the export, the audit.
+    Workspace {
+        /// Loading options and paths.
+        #[command(flatten)]
+        load: LoadArgs,
+        /// Workspace file (default: hubwatch-workspace.sqlite beside the export).
+        #[arg(long, value_name = "FILE")]
+        workspace: Option<PathBuf>,
+        /// Print one JSON object instead of text.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Write changes in a loop, printing each after it is committed (for the crash test).
+    #[command(hide = true)]
+    WorkspaceStress {
+        /// Workspace file.
+        #[arg(long)]
+        workspace: PathBuf,
+        /// Number of changes.
+        #[arg(long)]
+        count: usize,
+    },
+    /// Write an invented outbreak export (people.csv, exposures.csv, manifest.json).
+    Synth {
+        /// Number of people.
+        #[arg(long, default_value_t = 1000)]
+        people: usize,
+        /// Random seed: the same seed gives the same files.
+        #[arg(long, default_value_t = 1)]
+        seed: u64,
+        /// Folder to write into (created if needed).
+        #[arg(long, value_name = "DIR")]
+        out: PathBuf,
+        /// Last day of the scenario (YYYY-MM-DD; default: today).
+        #[arg(long, value_name = "DATE")]
+        end: Option<String>,
+    },
+}
+
+/// Options of `hubwatch outlook`.
+#[derive(Debug, Args)]
+pub struct OutlookArgs {
+    /// Loading options and paths.
+    #[command(flatten)]
+    pub load: LoadArgs,
+    /// Ranking options (for the priority strategy).
+    #[command(flatten)]
+    pub rank: PriorityArgs,
+    /// Transmissibility T in [0, 1] (default: the secondary attack rate of the export).
+    #[arg(long, value_name = "T")]
+    pub transmissibility: Option<f64>,
+    /// Strategies to follow (comma-separated; default all).
+    #[arg(long, value_enum, value_delimiter = ',')]
+    pub strategy: Vec<crate::analysis::planning::Strategy>,
+    /// Follow the reach curves up to N people (0 = everyone).
+    #[arg(long, default_value_t = 1000, value_name = "N")]
+    pub max_reach: usize,
+    /// Seeded repeats averaged for the random and acquaintance strategies.
+    #[arg(long, default_value_t = 10, value_name = "N")]
+    pub repeats: usize,
+    /// Seed of the first repeat.
+    #[arg(long, default_value_t = 1, value_name = "S")]
+    pub seed: u64,
+    /// Write the reach curves (every strategy, every n) to FILE.
+    #[arg(long, value_name = "FILE")]
+    pub curves_out: Option<PathBuf>,
+    /// Write the curve of R0 and final size over T to FILE.
+    #[arg(long, value_name = "FILE")]
+    pub t_curve_out: Option<PathBuf>,
+    /// Format of the curve files (default: from the extension).
+    #[arg(long, value_enum)]
+    pub format: Option<crate::export::Format>,
+    /// Replace existing curve files.
+    #[arg(long)]
+    pub force: bool,
+    /// Workspace file (follow-up states used by the priority strategy).
+    #[arg(long, value_name = "FILE")]
+    pub workspace: Option<PathBuf>,
+    /// Print one JSON object (keys documented in the README).
+    #[arg(long)]
+    pub json: bool,
+}
+
+/// Options of `hubwatch export`.
+#[derive(Debug, Args)]
+pub struct ExportArgs {
+    /// Loading options and paths.
+    #[command(flatten)]
+    pub load: LoadArgs,
+    /// Ranking options (for the priority and flagged lists).
+    #[command(flatten)]
+    pub rank: PriorityArgs,
+    /// Which list.
+    #[arg(long, value_enum, default_value = "priority")]
+    pub list: ListKind,
+    /// File format (default: from the extension of --out).
+    #[arg(long, value_enum)]
+    pub format: Option<crate::export::Format>,
+    /// Output file (with --split, one file per sheet: NAME-1ofK.EXT ...).
+    #[arg(long, value_name = "FILE")]
+    pub out: PathBuf,
+    /// Only the first N people (0 = all).
+    #[arg(long, default_value_t = 0, value_name = "N")]
+    pub top: usize,
+    /// Only these columns, in this order (comma-separated; see the full export for names).
+    #[arg(long = "columns", value_name = "A,B,...", value_delimiter = ',')]
+    pub export_columns: Vec<String>,
+    /// Write K call sheets balanced by count, households kept together.
+    #[arg(long, value_name = "K")]
+    pub split: Option<usize>,
+    /// Replace an existing file.
+    #[arg(long)]
+    pub force: bool,
+    /// Replace person IDs with a keyed hash (HMAC-SHA256) and drop direct identifiers.
+    #[arg(long)]
+    pub pseudonymise: bool,
+    /// File holding the pseudonymisation key (else HUBWATCH_PSEUDONYM_KEY).
+    #[arg(long, value_name = "FILE")]
+    pub key_file: Option<PathBuf>,
+    /// Workspace file for flags, follow-up states and notes.
+    #[arg(long, value_name = "FILE")]
+    pub workspace: Option<PathBuf>,
+    /// Size of the sentinel sample (with --list sentinel).
+    #[arg(long, default_value_t = 50, value_name = "N")]
+    pub sample: usize,
+    /// Seed of the sentinel sample (same seed, same sample).
+    #[arg(long, default_value_t = 1, value_name = "S")]
+    pub seed: u64,
+}
+
+/// Which list to export.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum ListKind {
+    /// The ranked follow-up list.
+    Priority,
+    /// Ranked people who carry a manual flag.
+    Flagged,
+    /// Every quarantined row and field problem.
+    Quarantine,
+    /// A sentinel sample: random people each replaced by one random contact (--sample, --seed).
+    Sentinel,
+}
+
+/// Options of the ranking, shared by `priority` and `export`.
+#[derive(Debug, Args, Clone, Default)]
+pub struct PriorityArgs {
+    /// Ranking preset (see config/priority.toml: balanced, "spread first", "window first").
+    #[arg(long, value_name = "NAME")]
+    pub preset: Option<String>,
+    /// Monitoring-window preset (covid-19, ebola, mpox, measles, or one of your own).
+    #[arg(long, value_name = "NAME")]
+    pub pathogen: Option<String>,
+    /// Monitoring window in days, overriding the pathogen preset.
+    #[arg(long, value_name = "DAYS")]
+    pub window_days: Option<u32>,
+    /// Priority settings file laid over config/priority.toml.
+    #[arg(long, value_name = "FILE")]
+    pub priority_config: Option<PathBuf>,
+    /// Only people with this role (case / contact).
+    #[arg(long, value_name = "ROLE")]
+    pub role: Option<String>,
+    /// Only people with this status.
+    #[arg(long, value_name = "STATUS")]
+    pub status: Option<String>,
+    /// Only people in this area.
+    #[arg(long, value_name = "AREA")]
+    pub area: Option<String>,
+    /// Only people in this age group.
+    #[arg(long, value_name = "GROUP")]
+    pub age_group: Option<String>,
+    /// Only people with an exposure in this setting.
+    #[arg(long, value_name = "LABEL")]
+    pub in_setting: Option<String>,
+    /// Only people still inside their monitoring window.
+    #[arg(long)]
+    pub still_in_window: bool,
+    /// Only people whose follow-up status is not reached or completed.
+    #[arg(long)]
+    pub not_reached: bool,
+    /// Only people in the same cluster as this person.
+    #[arg(long, value_name = "ID")]
+    pub cluster_of: Option<String>,
+}
+
+impl PriorityArgs {
+    /// The ranking request these options describe.
+    pub fn request(&self) -> RankRequest {
+        let mut filters = Filters {
+            setting: self.in_setting.clone(),
+            still_in_window: self.still_in_window,
+            not_reached: self.not_reached,
+            ..Filters::default()
+        };
+        filters.set("role", self.role.clone());
+        filters.set("status", self.status.clone());
+        filters.set("area", self.area.clone());
+        filters.set("age_group", self.age_group.clone());
+        RankRequest {
+            preset: self.preset.clone(),
+            pathogen: self.pathogen.clone(),
+            window_days: self.window_days,
+            priority_config: self.priority_config.clone(),
+            filters,
+            cluster_of: self.cluster_of.clone(),
+        }
+    }
+}
+
+/// Options of the statistics that cost time or use random numbers.
+#[derive(Debug, Args, Clone)]
+pub struct StatsArgs {
+    /// Degree-preserving randomisations for the null model of r (0 skips it).
+    #[arg(long, default_value_t = 5, value_name = "N")]
+    pub null_replicates: usize,
+    /// Swap attempts per contact pair in each randomisation.
+    #[arg(long, default_value_t = 10, value_name = "N")]
+    pub null_swaps: usize,
+    /// Seed of the null model's random numbers (same seed, same result).
+    #[arg(long, default_value_t = 1, value_name = "S")]
+    pub seed: u64,
+}
+
+impl Default for StatsArgs {
+    fn default() -> Self {
+        let o = MetricOptions::default();
+        StatsArgs {
+            null_replicates: o.null_replicates,
+            null_swaps: o.null_swaps_per_edge,
+            seed: o.seed,
+        }
+    }
+}
+
+impl StatsArgs {
+    /// As metric options.
+    pub fn options(&self) -> MetricOptions {
+        MetricOptions {
+            null_replicates: self.null_replicates,
+            null_swaps_per_edge: self.null_swaps,
+            seed: self.seed,
+        }
+    }
+}
+
+/// Options shared by every command that loads an export.
+#[derive(Debug, Args, Clone, Default)]
+pub struct LoadArgs {
+    /// Export files, or a folder holding them (default: the bundled sample scenario).
+    #[arg(value_name = "PATH")]
+    pub paths: Vec<PathBuf>,
+    /// Configuration file laid over the defaults (see config/default.toml).
+    #[arg(long, value_name = "FILE", global = true)]
+    pub config: Option<PathBuf>,
+    /// Map a field to a header or a 1-based column number: source_id=Reporter, source_id=2.
+    #[arg(long = "column", value_name = "FIELD=HEADER", global = true)]
+    pub columns: Vec<String>,
+    /// Date layout for non-ISO dates, e.g. "%d/%m/%Y".
+    #[arg(long, value_name = "LAYOUT", global = true)]
+    pub date_format: Option<String>,
+    /// Separator: auto, ",", ";", "\t" (or tab), "|", " " (or space), whitespace.
+    #[arg(long, value_name = "SEP", global = true)]
+    pub separator: Option<String>,
+    /// Whether the first line is a header: auto, yes or no.
+    #[arg(long, value_name = "WHEN", global = true)]
+    pub header: Option<String>,
+    /// Comment-line prefix ("" for none).
+    #[arg(long, value_name = "PREFIX", global = true)]
+    pub comment_prefix: Option<String>,
+    /// Reference date for future dates and monitoring windows (YYYY-MM-DD; default: today).
+    #[arg(long, value_name = "DATE", global = true)]
+    pub as_of: Option<String>,
+    /// Worksheet to read from a spreadsheet (default: the first).
+    #[arg(long, value_name = "NAME", global = true)]
+    pub sheet: Option<String>,
+    /// Treat IDs that differ only in letter case as the same person.
+    #[arg(long, global = true)]
+    pub ids_ignore_case: bool,
+    /// Build the network from exposures in this setting only (repeatable: any of them).
+    #[arg(long = "setting", value_name = "LABEL", global = true)]
+    pub settings: Vec<String>,
+    /// Leave out exposures in this setting (repeatable).
+    #[arg(long = "exclude-setting", value_name = "LABEL", global = true)]
+    pub exclude_settings: Vec<String>,
+    /// Only exposures on or after this date (YYYY-MM-DD).
+    #[arg(long, value_name = "DATE", global = true)]
+    pub from: Option<String>,
+    /// Only exposures on or before this date (YYYY-MM-DD).
+    #[arg(long, value_name = "DATE", global = true)]
+    pub to: Option<String>,
+    /// Only exposures in the last N days up to the as-of date (N = 1: the as-of day itself).
+    #[arg(long, value_name = "N", global = true, conflicts_with_all = ["from", "to"])]
+    pub last_days: Option<u32>,
+}
+
+impl LoadArgs {
+    /// The effective configuration: defaults, the config file, then command-line options.
+    pub fn config(&self) -> Result<Config> {
+        let mut c = Config::load(self.config.as_deref())?;
+        if let Some(f) = &self.date_format {
+            c.dates.format = f.clone();
+        }
+        if let Some(s) = &self.separator {
+            c.csv.separator = s.clone();
+        }
+        if let Some(h) = &self.header {
+            c.csv.header = h.clone();
+        }
+        if let Some(p) = &self.comment_prefix {
+            c.csv.comment_prefix = p.clone();
+        }
+        if self.ids_ignore_case {
+            c.ids.case_sensitive = false;
+        }
+        c.validate()?;
+        Ok(c)
+    }
+
+    /// Load options from the flags.
+    pub fn options(&self, progress: bool) -> Result<LoadOptions> {
+        let overrides = self
+            .columns
+            .iter()
+            .map(|c| mapping::parse_override(c))
+            .collect::<Result<_>>()?;
+        let as_of = match &self.as_of {
+            Some(v) => super::parse_day("--as-of", v)?,
+            None => super::today(),
+        };
+        let view = crate::ingest::View {
+            settings: self.settings.clone(),
+            exclude_settings: self.exclude_settings.clone(),
+            from: match (&self.from, self.last_days) {
+                (Some(v), _) => Some(super::parse_day("--from", v)?),
+                (None, Some(n)) if n >= 1 => Some(as_of - n as i32 + 1),
+                (None, Some(_)) => {
+                    return Err(Error::Usage("--last-days must be at least 1".into()))
+                }
+                (None, None) => None,
+            },
+            to: match (&self.to, self.last_days) {
+                (Some(v), _) => Some(super::parse_day("--to", v)?),
+                (None, Some(_)) => Some(as_of),
+                (None, None) => None,
+            },
+        };
+        if let (Some(f), Some(t)) = (view.from, view.to) {
+            if f > t {
+                return Err(Error::Usage(format!(
+                    "--from {} is after --to {}",
+                    dates::iso(f),
+                    dates::iso(t)
+                )));
+            }
+        }
+        Ok(LoadOptions {
+            view,
+            overrides,
+            as_of,
+            read: ReadOptions {
+                sheet: self.sheet.clone(),
+                chunk_rows: 0,
+            },
+            progress,
+        })
+    }
+
+    /// The inputs: the paths given, or the bundled sample.
+    pub fn inputs(&self) -> Vec<Input> {
+        if self.paths.is_empty() {
+            sample::inputs()
+        } else {
+            self.paths.iter().map(|p| Input::Path(p.clone())).collect()
+        }
+    }
+
+    /// The workspace file: the one given, else the default beside the first input (the one
+    /// place that decides it).
+    pub fn workspace(&self, given: Option<&Path>) -> PathBuf {
+        given
+            .map(Path::to_path_buf)
+            .unwrap_or_else(|| Workspace::default_path(self.paths.first().map(|p| p.as_path())))
+    }
+
+    /// Load the export described by these arguments.
+    pub fn load(&self) -> Result<Dataset> {
+        let config = self.config()?;
+        crate::dataset::load(&self.inputs(), &config, &self.options(true)?)
+    }
+}

@@ -1,0 +1,11 @@
+//! One file per command: each loads what it needs, builds one `Report` and prints or writes
+//! its renderings. Arguments come from `cli::args`; nothing here computes a statistic.
+
+pub mod check;
+pub mod dashboard;
+pub mod export;
+pub mod outlook;
+pub mod priority;
+pub mod state;
+pub mod summary;
+pub mod synth;

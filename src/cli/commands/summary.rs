@@ -1,0 +1,31 @@
+//! `hubwatch summary` (and the default action without a terminal): headline figures and every
+//! statistic, as text or as the JSON contract.
+
+use crate::cli::{emit, to_json, LoadArgs, StatsArgs};
+use crate::error::{Error, Result};
+use crate::report::{json, summary, Parts, Report};
+
+/// Print the summary of the export.
+pub fn run(load: &LoadArgs, stats: &StatsArgs, as_json: bool) -> Result<()> {
+    let parts = Parts {
+        metrics: stats.options(),
+        ..Parts::default()
+    };
+    let r = Report::build(load.load()?, parts)?;
+    if !as_json {
+        return emit(&summary::summary_text(&r.summary, &r.stats, &r.d));
+    }
+    let mut v = serde_json::to_value(&r.summary)
+        .map_err(|e| Error::Usage(format!("JSON output failed: {e}")))?;
+    if let serde_json::Value::Object(o) = &mut v {
+        let mut extra = json::stats_members(&r.stats, &r.d);
+        // Component sizes sit under the summary's own `components` object.
+        if let (Some(sizes), Some(serde_json::Value::Object(c))) =
+            (extra.remove("components_sizes"), o.get_mut("components"))
+        {
+            c.insert("sizes".into(), sizes);
+        }
+        o.extend(extra);
+    }
+    emit(&to_json(&v)?)
+}

@@ -1,0 +1,109 @@
+//! The command line: `args` declares it (clap), `commands` holds one file per command, and
+//! [`run`] sends a parsed command line to its command. Every command that takes PATH uses the
+//! bundled sample scenario when none is given.
+
+pub mod args;
+pub mod commands;
+
+use std::io::Write;
+use std::path::Path;
+
+pub use args::{Cli, Command, ListKind, LoadArgs, PriorityArgs, StatsArgs};
+
+use crate::error::{Error, Result};
+use crate::workspace::{PersonState, Workspace};
+
+/// Today's local date as a day number.
+pub fn today() -> i32 {
+    crate::ingest::dates::to_days(chrono::Local::now().date_naive())
+}
+
+/// Parse a `YYYY-MM-DD` argument.
+pub fn parse_day(flag: &str, v: &str) -> Result<i32> {
+    crate::ingest::dates::parse_iso(v.trim())
+        .map_err(|_| Error::Usage(format!("{flag} {v}: expected a date as YYYY-MM-DD")))
+}
+
+/// The workspace's states, if the workspace exists (it is never created just to read it).
+pub fn workspace_states(path: &Path) -> Result<Vec<PersonState>> {
+    if path.exists() {
+        Workspace::open(path)?.all()
+    } else {
+        Ok(Vec::new())
+    }
+}
+
+/// Write to stdout; a closed pipe (`hubwatch … | head`) ends quietly.
+pub fn emit(text: &str) -> Result<()> {
+    let mut out = std::io::stdout().lock();
+    match out.write_all(text.as_bytes()).and_then(|_| out.flush()) {
+        Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => std::process::exit(0),
+        r => r.map_err(|e| Error::io("<stdout>", e)),
+    }
+}
+
+/// Pretty JSON with a final newline.
+pub fn to_json<T: serde::Serialize>(v: &T) -> Result<String> {
+    serde_json::to_string_pretty(v)
+        .map(|s| s + "\n")
+        .map_err(|e| Error::Usage(format!("JSON output failed: {e}")))
+}
+
+/// Run the parsed command line.
+pub fn run(cli: Cli) -> Result<()> {
+    use commands as c;
+    match cli.command {
+        None if crate::tui::interactive() => c::dashboard::run(&cli.load, &cli.rank, cli.workspace),
+        None => c::summary::run(&cli.load, &StatsArgs::default(), false),
+        Some(Command::Dashboard {
+            load,
+            rank,
+            workspace,
+        }) => c::dashboard::run(&load, &rank, workspace),
+        Some(Command::Summary { load, stats, json }) => c::summary::run(&load, &stats, json),
+        Some(Command::Check {
+            load,
+            quarantine,
+            json,
+        }) => c::check::run(&load, quarantine.as_deref(), json),
+        Some(Command::Priority {
+            load,
+            rank,
+            top,
+            json,
+        }) => c::priority::run(&load, &rank, top, json),
+        Some(Command::Outlook(o)) => c::outlook::run(&o),
+        Some(Command::Export(e)) => c::export::run(&e),
+        Some(Command::Followup {
+            load,
+            person,
+            set,
+            workspace,
+        }) => c::state::followup(&load, workspace.as_deref(), &person, &set),
+        Some(Command::Flag {
+            load,
+            person,
+            add,
+            remove,
+            workspace,
+        }) => c::state::flag(&load, workspace.as_deref(), &person, add, remove),
+        Some(Command::Note {
+            load,
+            person,
+            text,
+            workspace,
+        }) => c::state::note(&load, workspace.as_deref(), &person, text.as_deref()),
+        Some(Command::Workspace {
+            load,
+            workspace,
+            json,
+        }) => c::state::show(&load, workspace.as_deref(), json),
+        Some(Command::WorkspaceStress { workspace, count }) => c::state::stress(&workspace, count),
+        Some(Command::Synth {
+            people,
+            seed,
+            out,
+            end,
+        }) => c::synth::run(people, seed, &out, end.as_deref()),
+    }
+}

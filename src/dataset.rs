@@ -1,0 +1,173 @@
+//! Rows -> network: the people and exposure rows that `ingest` read, merged into contact pairs
+//! (`graph`), with the adjacency, the setting labels and the finished ledger. Every command and
+//! the dashboard start from one [`Dataset`]; nothing above this layer opens an input file.
+
+use crate::config::Config;
+use crate::error::Result;
+use crate::graph::{self, Adjacency, Edges};
+use crate::ids::IdMap;
+use crate::ingest::ledger::{Ledger, Role};
+use crate::ingest::reconcile::Attributes;
+use crate::ingest::{self, peak_mib, view, Input, LoadOptions, Loaded, View};
+
+/// Everything loaded: people, pairs, adjacency and the ledger.
+pub struct Dataset {
+    /// Person ID <-> node index.
+    pub ids: IdMap,
+    /// Nodes `0..people_in_table` came from a people table; the rest are implied.
+    pub people_in_table: u32,
+    /// People's attributes.
+    pub attrs: Attributes,
+    /// Aggregated contact pairs.
+    pub edges: Edges,
+    /// Setting labels (code c is `settings[c - 1]`).
+    pub settings: Vec<String>,
+    /// The graph.
+    pub graph: Adjacency,
+    /// Unmapped columns of the exposures table(s), one value per usable exposure row, in input
+    /// order; `edge_of_row[r]` is the pair row r went into (both empty when there are none).
+    pub exposure_extras: Attributes,
+    /// The pair each usable exposure row went into (only when there are extra columns;
+    /// `u32::MAX` for rows outside the view).
+    pub edge_of_row: Vec<u32>,
+    /// The ledger of rows and problems.
+    pub ledger: Ledger,
+    /// The as-of date used.
+    pub as_of: i32,
+    /// Wall time of each load stage.
+    pub timings: Timings,
+    /// The sub-network the graph shows, and how many exposure rows it holds.
+    pub view: (View, u64),
+}
+
+/// Wall-clock seconds spent in each stage of a load (for the benchmark).
+#[derive(Debug, Clone, Copy, Default, serde::Serialize)]
+pub struct Timings {
+    /// Opening files, scanning lines and parsing text into frames (polars).
+    pub parse: f64,
+    /// Checking rows, parsing dates and numbers, interning IDs (the ledger).
+    pub reconcile: f64,
+    /// Sorting rows by pair and aggregating repeats.
+    pub merge_pairs: f64,
+    /// Building the adjacency (petgraph Csr).
+    pub graph: f64,
+    /// Peak resident memory (MiB) of the process after parse+reconcile, merge and graph
+    /// (Linux only; NaN elsewhere). The peak is monotonic, so each figure covers all earlier stages.
+    pub peak_mib: [f64; 3],
+}
+
+impl Dataset {
+    /// Number of people (nodes), implied ones included.
+    pub fn people(&self) -> usize {
+        self.ids.len()
+    }
+
+    /// People known only from exposures.
+    pub fn implied(&self) -> usize {
+        self.ids.len() - self.people_in_table as usize
+    }
+
+    /// True when a node came only from the exposures table.
+    pub fn is_implied(&self, node: u32) -> bool {
+        node >= self.people_in_table
+    }
+}
+
+/// Read the inputs and build the network: read, check, reconcile, merge pairs, adjacency.
+pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dataset> {
+    build(ingest::read(inputs, config, opts)?, &opts.view)
+}
+
+/// Merge the rows into pairs, finish the ledger (used / merged) and build the adjacency of the
+/// view's rows.
+pub fn build(loaded: Loaded, view: &View) -> Result<Dataset> {
+    let Loaded {
+        ids,
+        people_in_table,
+        attrs,
+        mut rows,
+        mut ledger,
+        as_of,
+        parse_secs,
+        reconcile_secs,
+        peak_mib: peak_read,
+    } = loaded;
+    let t1 = std::time::Instant::now();
+    let agg = graph::aggregate(&rows, !rows.extras.names.is_empty());
+    let merge_pairs = t1.elapsed().as_secs_f64();
+    let peak_merge = peak_mib();
+    count_used(&mut ledger, &rows.per_file, &agg.first_of_pair);
+    let settings: Vec<String> = (0..rows.settings.len() as u32)
+        .map(|i| rows.settings.name(i).to_string())
+        .collect();
+    let exposure_extras = std::mem::take(&mut rows.extras);
+    let (edges, edge_of_row, rows_in_view) = if view.is_all() {
+        (agg.edges, agg.edge_of_row, rows.keys.len() as u64)
+    } else {
+        // The ledger above counted every row; the network is built from the view's rows only.
+        let keep = view::mask(view, &rows, &settings)?;
+        let sub = graph::aggregate(&rows.subset(&keep), !exposure_extras.names.is_empty());
+        let edge_of_row = if exposure_extras.names.is_empty() {
+            Vec::new()
+        } else {
+            // Rows outside the view map to no pair.
+            let mut sub_of_row = sub.edge_of_row.into_iter();
+            keep.iter()
+                .map(|&k| match k {
+                    true => sub_of_row.next().unwrap_or(u32::MAX),
+                    false => u32::MAX,
+                })
+                .collect()
+        };
+        let in_view = keep.iter().filter(|&&k| k).count() as u64;
+        (sub.edges, edge_of_row, in_view)
+    };
+    drop(rows);
+    let t2 = std::time::Instant::now();
+    let graph = graph::adjacency(ids.len(), &edges);
+    let timings = Timings {
+        parse: parse_secs,
+        reconcile: reconcile_secs,
+        merge_pairs,
+        graph: t2.elapsed().as_secs_f64(),
+        peak_mib: [peak_read, peak_merge, peak_mib()],
+    };
+    Ok(Dataset {
+        ids,
+        people_in_table,
+        attrs,
+        edges,
+        settings,
+        graph,
+        ledger,
+        as_of,
+        timings,
+        exposure_extras,
+        edge_of_row,
+        view: (view.clone(), rows_in_view),
+    })
+}
+
+/// Exposure rows that were usable are used (the first of their pair) or merged; then the
+/// per-table totals.
+fn count_used(ledger: &mut Ledger, per_file: &[(usize, usize)], first_of_pair: &[bool]) {
+    let mut start = 0;
+    for &(file, n) in per_file {
+        let used = first_of_pair[start..start + n]
+            .iter()
+            .filter(|&&f| f)
+            .count() as u64;
+        let c = &mut ledger.files[file].counts;
+        c.used += used;
+        c.merged += n as u64 - used;
+        start += n;
+    }
+    for f in &ledger.files {
+        let total = if f.role == Role::People {
+            &mut ledger.people
+        } else {
+            &mut ledger.exposures
+        };
+        total.add(&f.counts);
+    }
+}

@@ -1,0 +1,440 @@
+//! Exports the callers can work from: a table written as CSV, JSON, Parquet or xlsx, always with
+//! the caution line and what is needed to trace it back (as-of date, preset, weights, window,
+//! checksums of the input files).
+//!
+//! Safety: files are written to a temporary file in the same folder, synced, then renamed, and
+//! are created readable by their owner only (0600); an existing file is replaced only with
+//! `--force`; text cells that a spreadsheet would run as a formula (starting with = + - @, tab
+//! or carriage return) are prefixed with an apostrophe, as common guidance on CSV injection
+//! recommends (OWASP, "CSV Injection"); `--pseudonymise` replaces person IDs with a keyed hash
+//! (HMAC-SHA256) and drops direct identifiers.
+
+use std::io::{Read, Write};
+use std::path::{Path, PathBuf};
+
+use hmac::{Hmac, Mac};
+use sha2::{Digest, Sha256};
+
+use crate::error::{Error, Result};
+
+/// One cell of an export.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Cell {
+    /// Text (escaped against formula injection when written).
+    Text(String),
+    /// A number we computed (written as is).
+    Num(f64),
+    /// A whole number we computed.
+    Int(i64),
+    /// Yes / no.
+    Bool(bool),
+    /// Nothing.
+    Empty,
+}
+
+impl Cell {
+    fn text(&self) -> String {
+        match self {
+            Cell::Text(s) => escape_formula(s),
+            Cell::Num(x) => format!("{x}"),
+            Cell::Int(i) => i.to_string(),
+            Cell::Bool(b) => b.to_string(),
+            Cell::Empty => String::new(),
+        }
+    }
+
+    fn json(&self) -> serde_json::Value {
+        match self {
+            Cell::Text(s) => escape_formula(s).into(),
+            Cell::Num(x) => serde_json::json!(x),
+            Cell::Int(i) => serde_json::json!(i),
+            Cell::Bool(b) => serde_json::json!(b),
+            Cell::Empty => serde_json::Value::Null,
+        }
+    }
+}
+
+/// A table to export.
+#[derive(Debug, Clone, Default)]
+pub struct ExportTable {
+    /// Column names.
+    pub columns: Vec<String>,
+    /// Rows, one cell per column.
+    pub rows: Vec<Vec<Cell>>,
+}
+
+/// What travels with every export.
+#[derive(Debug, Clone, Default)]
+pub struct Metadata {
+    /// Key, value pairs in order (caution first).
+    pub entries: Vec<(String, String)>,
+}
+
+/// File formats.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum Format {
+    /// Comma-separated text, metadata as leading `#` lines.
+    Csv,
+    /// One JSON object: metadata, columns, rows.
+    Json,
+    /// Apache Parquet, metadata in the file's key-value metadata.
+    Parquet,
+    /// Excel workbook: the list, and an "about" sheet with the metadata.
+    Xlsx,
+}
+
+/// The format given, else the one the extension of `out` names.
+pub fn format_for(out: &Path, given: Option<Format>) -> Result<Format> {
+    if let Some(f) = given {
+        return Ok(f);
+    }
+    match out
+        .extension()
+        .map(|e| e.to_string_lossy().to_lowercase())
+        .as_deref()
+    {
+        Some("csv") => Ok(Format::Csv),
+        Some("json") => Ok(Format::Json),
+        Some("parquet") => Ok(Format::Parquet),
+        Some("xlsx") => Ok(Format::Xlsx),
+        _ => Err(Error::Usage(format!(
+            "{}: give --format csv|json|parquet|xlsx (the extension does not say)",
+            out.display()
+        ))),
+    }
+}
+
+/// Neutralise a cell a spreadsheet would read as a formula: prefix an apostrophe.
+pub fn escape_formula(s: &str) -> String {
+    if s.starts_with(['=', '+', '-', '@', '\t', '\r']) {
+        format!("'{s}")
+    } else {
+        s.to_string()
+    }
+}
+
+/// HMAC-SHA256 of the ID under the key, as the first 32 hex digits (128 bits).
+pub fn pseudonym(key: &[u8], id: &str) -> String {
+    let mut mac =
+        <Hmac<Sha256> as Mac>::new_from_slice(key).expect("HMAC takes keys of any length");
+    mac.update(id.as_bytes());
+    mac.finalize()
+        .into_bytes()
+        .iter()
+        .take(16)
+        .map(|b| format!("{b:02x}"))
+        .collect()
+}
+
+/// The pseudonymisation key: from HUBWATCH_PSEUDONYM_KEY or the key file; never stored.
+pub fn pseudonym_key(key_file: Option<&Path>) -> Result<Vec<u8>> {
+    let key = match key_file {
+        Some(p) => std::fs::read_to_string(p)
+            .map_err(|e| Error::io(p, e))?
+            .trim()
+            .to_string(),
+        None => std::env::var("HUBWATCH_PSEUDONYM_KEY").unwrap_or_default(),
+    };
+    if key.len() < 16 {
+        return Err(Error::Usage(
+            "--pseudonymise needs a key of at least 16 characters, in HUBWATCH_PSEUDONYM_KEY or a file given with --key-file; hubwatch will not pseudonymise without one".into(),
+        ));
+    }
+    Ok(key.into_bytes())
+}
+
+/// SHA-256 of a file, hex.
+pub fn file_sha256(path: &Path) -> Result<String> {
+    let mut f = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
+    let mut h = Sha256::new();
+    let mut buf = vec![0u8; 1 << 20];
+    loop {
+        let n = f.read(&mut buf).map_err(|e| Error::io(path, e))?;
+        if n == 0 {
+            break;
+        }
+        h.update(&buf[..n]);
+    }
+    Ok(h.finalize().iter().map(|b| format!("{b:02x}")).collect())
+}
+
+fn csv_field(v: &str) -> String {
+    if v.contains([',', '"', '\n', '\r']) {
+        format!("\"{}\"", v.replace('"', "\"\""))
+    } else {
+        v.to_string()
+    }
+}
+
+fn bytes(t: &ExportTable, meta: &Metadata, format: Format, path: &Path) -> Result<Vec<u8>> {
+    match format {
+        Format::Csv => {
+            let mut s = String::new();
+            for (k, v) in &meta.entries {
+                s.push_str(&format!("# {k}: {}\n", v.replace('\n', " ")));
+            }
+            s.push_str(
+                &t.columns
+                    .iter()
+                    .map(|c| csv_field(c))
+                    .collect::<Vec<_>>()
+                    .join(","),
+            );
+            s.push('\n');
+            for r in &t.rows {
+                s.push_str(
+                    &r.iter()
+                        .map(|c| csv_field(&c.text()))
+                        .collect::<Vec<_>>()
+                        .join(","),
+                );
+                s.push('\n');
+            }
+            Ok(s.into_bytes())
+        }
+        Format::Json => {
+            let meta: serde_json::Map<String, serde_json::Value> = meta
+                .entries
+                .iter()
+                .map(|(k, v)| (k.clone(), v.clone().into()))
+                .collect();
+            let rows: Vec<serde_json::Value> = t
+                .rows
+                .iter()
+                .map(|r| {
+                    serde_json::Value::Object(
+                        t.columns
+                            .iter()
+                            .cloned()
+                            .zip(r.iter().map(Cell::json))
+                            .collect(),
+                    )
+                })
+                .collect();
+            let v = serde_json::json!({"metadata": meta, "columns": t.columns, "rows": rows});
+            serde_json::to_vec_pretty(&v).map_err(|e| Error::format(path, e.to_string()))
+        }
+        Format::Parquet => {
+            use polars::prelude::*;
+            let cols: Vec<Column> = t
+                .columns
+                .iter()
+                .enumerate()
+                .map(|(i, name)| {
+                    let v: Vec<Option<String>> = t
+                        .rows
+                        .iter()
+                        .map(|r| (r[i] != Cell::Empty).then(|| r[i].text()))
+                        .collect();
+                    Column::new(name.as_str().into(), v)
+                })
+                .collect();
+            let mut df = DataFrame::new(t.rows.len(), cols).map_err(|e| Error::Polars {
+                path: path.to_path_buf(),
+                source: e,
+            })?;
+            let mut buf = Vec::new();
+            let kv =
+                polars::io::parquet::write::KeyValueMetadata::from_static(meta.entries.clone());
+            ParquetWriter::new(&mut buf)
+                .with_key_value_metadata(Some(kv))
+                .finish(&mut df)
+                .map_err(|e| Error::Polars {
+                    path: path.to_path_buf(),
+                    source: e,
+                })?;
+            Ok(buf)
+        }
+        Format::Xlsx => {
+            let err = |e: rust_xlsxwriter::XlsxError| Error::format(path, e.to_string());
+            let mut book = rust_xlsxwriter::Workbook::new();
+            let sheet = book.add_worksheet();
+            sheet.set_name("list").map_err(err)?;
+            for (c, name) in t.columns.iter().enumerate() {
+                sheet.write_string(0, c as u16, name).map_err(err)?;
+            }
+            for (r, row) in t.rows.iter().enumerate() {
+                let r = r as u32 + 1;
+                for (c, cell) in row.iter().enumerate() {
+                    let c = c as u16;
+                    match cell {
+                        Cell::Num(x) => sheet.write_number(r, c, *x).map(|_| ()),
+                        Cell::Int(i) => sheet.write_number(r, c, *i as f64).map(|_| ()),
+                        Cell::Bool(b) => sheet.write_boolean(r, c, *b).map(|_| ()),
+                        Cell::Text(_) => sheet.write_string(r, c, cell.text()).map(|_| ()),
+                        Cell::Empty => Ok(()),
+                    }
+                    .map_err(err)?;
+                }
+            }
+            let about = book.add_worksheet();
+            about.set_name("about").map_err(err)?;
+            for (i, (k, v)) in meta.entries.iter().enumerate() {
+                about.write_string(i as u32, 0, k).map_err(err)?;
+                about.write_string(i as u32, 1, v).map_err(err)?;
+            }
+            book.save_to_buffer().map_err(err)
+        }
+    }
+}
+
+/// Write the table to `out` (atomically, 0600); refuse to replace a file unless `force`.
+pub fn write(
+    t: &ExportTable,
+    meta: &Metadata,
+    format: Format,
+    out: &Path,
+    force: bool,
+) -> Result<()> {
+    if out.exists() && !force {
+        return Err(Error::Usage(format!(
+            "{} exists; add --force to replace it",
+            out.display()
+        )));
+    }
+    let b = bytes(t, meta, format, out)?;
+    write_private(out, &b)
+}
+
+/// Keep only `wanted` columns, in that order; an unknown name is an error listing the columns.
+pub fn select_columns(t: ExportTable, wanted: &[String]) -> Result<ExportTable> {
+    let idx: Vec<usize> = wanted
+        .iter()
+        .map(|w| {
+            t.columns.iter().position(|c| c == w.trim()).ok_or_else(|| {
+                Error::Usage(format!(
+                    "--columns: no column \"{}\"; columns: {}",
+                    w.trim(),
+                    t.columns.join(", ")
+                ))
+            })
+        })
+        .collect::<Result<_>>()?;
+    Ok(ExportTable {
+        columns: idx.iter().map(|&i| t.columns[i].clone()).collect(),
+        rows: t
+            .rows
+            .into_iter()
+            .map(|r| idx.iter().map(|&i| r[i].clone()).collect())
+            .collect(),
+    })
+}
+
+/// Split rows into `k` call sheets balanced by count, keeping each group (household) on one
+/// sheet: groups are taken in the order of their best-ranked member and each goes to the sheet
+/// with the fewest rows so far (ties to the first sheet). Rows keep their order within a sheet.
+pub fn split_sheets(groups: &[Option<String>], k: usize) -> Vec<Vec<usize>> {
+    let k = k.max(1);
+    let mut order: Vec<(usize, Vec<usize>)> = Vec::new();
+    let mut index: std::collections::HashMap<&str, usize> = std::collections::HashMap::new();
+    for (row, g) in groups.iter().enumerate() {
+        match g.as_deref() {
+            Some(key) if !key.is_empty() => match index.get(key) {
+                Some(&i) => order[i].1.push(row),
+                None => {
+                    index.insert(key, order.len());
+                    order.push((row, vec![row]));
+                }
+            },
+            _ => order.push((row, vec![row])),
+        }
+    }
+    let mut sheets: Vec<Vec<usize>> = vec![Vec::new(); k];
+    for (_, rows) in order {
+        let target = (0..k).min_by_key(|&s| (sheets[s].len(), s)).unwrap_or(0);
+        sheets[target].extend(rows);
+    }
+    for s in sheets.iter_mut() {
+        s.sort_unstable();
+    }
+    sheets
+}
+
+/// File name of sheet `i` (0-based) of `k`: `list.csv` -> `list-1of3.csv`.
+pub fn sheet_path(out: &Path, i: usize, k: usize) -> PathBuf {
+    let stem = out
+        .file_stem()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "export".into());
+    let ext = out
+        .extension()
+        .map(|e| format!(".{}", e.to_string_lossy()))
+        .unwrap_or_default();
+    out.with_file_name(format!("{stem}-{}of{k}{ext}", i + 1))
+}
+
+/// Write a file atomically (temporary file in the same folder, fsync, rename), mode 0600.
+pub fn write_private(path: &Path, bytes: &[u8]) -> Result<()> {
+    let dir = path
+        .parent()
+        .filter(|p| !p.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    let name = path
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "out".into());
+    let tmp = dir.join(format!(".{name}.{}.tmp", std::process::id()));
+    let mut opts = std::fs::OpenOptions::new();
+    opts.write(true).create_new(true);
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::OpenOptionsExt;
+        opts.mode(0o600);
+    }
+    let result = (|| {
+        let mut f = opts.open(&tmp)?;
+        f.write_all(bytes)?;
+        f.sync_all()?;
+        std::fs::rename(&tmp, path)?;
+        if let Ok(d) = std::fs::File::open(dir) {
+            let _ = d.sync_all();
+        }
+        Ok(())
+    })();
+    result.map_err(|e| {
+        let _ = std::fs::remove_file(&tmp);
+        Error::io(path, e)
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn formula_cells_are_neutralised() {
+        // Characters from OWASP's "CSV Injection" guidance.
+        for s in ["=1+1", "+1", "-2", "@SUM(A1)", "\tx", "\rx"] {
+            assert!(escape_formula(s).starts_with('\''), "{s:?}");
+        }
+        assert_eq!(escape_formula("P0001"), "P0001");
+    }
+
+    #[test]
+    fn pseudonyms_are_keyed_and_stable() {
+        // HMAC-SHA256 test vector, RFC 4231 case 2: key "Jefe", data "what do ya want for nothing?".
+        assert_eq!(
+            pseudonym(b"Jefe", "what do ya want for nothing?"),
+            "5bdcc146bf60754e6a042426089575c7"
+        );
+        assert_ne!(
+            pseudonym(b"key-one-0123456789", "P1"),
+            pseudonym(b"key-two-0123456789", "P1")
+        );
+    }
+
+    #[test]
+    fn sheets_keep_households_together_and_balance() {
+        let g: Vec<Option<String>> = ["H1", "H2", "H1", "H3", "H3", "H3", "H4"]
+            .iter()
+            .map(|s| Some(s.to_string()))
+            .collect();
+        let sheets = split_sheets(&g, 2);
+        // H1 (rows 0, 2) -> sheet 0; H2 (row 1) -> sheet 1; H3 (3 rows) -> sheet 1; H4 -> sheet 0.
+        assert_eq!(sheets, vec![vec![0, 2, 6], vec![1, 3, 4, 5]]);
+        assert_eq!(
+            sheet_path(Path::new("/x/list.csv"), 1, 3),
+            Path::new("/x/list-2of3.csv")
+        );
+    }
+}

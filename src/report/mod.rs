@@ -1,0 +1,88 @@
+//! One computed report and its renderings. [`Report::build`] runs the analyses of one dataset
+//! once (statistics, ranking, outlook, as asked); the submodules turn it into text, JSON and
+//! tables: `check` (the ledger), `summary` (text), `json` (the summary's JSON contract),
+//! `priority` (the list), `outlook` (threshold and reach-out), `tables` (the exported lists),
+//! `meta` (the one metadata builder of every file) and `fmt` (the one formatter of a statistic).
+//! Nothing here reads an input file; files are written by `export`.
+
+pub mod check;
+pub mod fmt;
+pub mod json;
+pub mod meta;
+pub mod outlook;
+pub mod priority;
+pub mod summary;
+pub mod tables;
+
+use crate::analysis::planning::{self, Plan, PlanOptions};
+use crate::analysis::ranking::{rank_list, RankRequest, RankedList};
+use crate::analysis::stats::{self, MetricOptions, NetworkStats};
+use crate::analysis::summary::{summarise, Summary};
+use crate::dataset::Dataset;
+use crate::error::Result;
+use crate::workspace::PersonState;
+
+/// What to compute beside the statistics.
+#[derive(Debug, Clone, Default)]
+pub struct Parts {
+    /// Options of the statistics (null model).
+    pub metrics: MetricOptions,
+    /// Rank the people with these settings.
+    pub rank: Option<RankRequest>,
+    /// Compute the outlook with these options (the priority strategy follows the list).
+    pub plan: Option<PlanOptions>,
+    /// Workspace states (follow-up first from here).
+    pub states: Vec<PersonState>,
+}
+
+/// Everything one run shows, computed once.
+pub struct Report {
+    /// The dataset.
+    pub d: Dataset,
+    /// Headline counts.
+    pub summary: Summary,
+    /// Every network statistic.
+    pub stats: NetworkStats,
+    /// The ranked list, if asked.
+    pub list: Option<RankedList>,
+    /// The outlook, if asked.
+    pub plan: Option<Plan>,
+    /// Workspace states.
+    pub states: Vec<PersonState>,
+}
+
+impl Report {
+    /// Compute the parts asked for, each once.
+    pub fn build(d: Dataset, parts: Parts) -> Result<Report> {
+        // Fail on a bad preset or pathogen before the statistics.
+        if let Some(req) = &parts.rank {
+            crate::analysis::ranking::settings(req)?;
+        }
+        let stats = stats::compute(&d, &parts.metrics);
+        let list = match &parts.rank {
+            Some(req) => Some(rank_list(&d, &stats, req, &parts.states)?),
+            None => None,
+        };
+        let plan = parts.plan.as_ref().map(|opts| {
+            let order = opts
+                .strategies
+                .contains(&planning::Strategy::Priority)
+                .then(|| {
+                    list.as_ref()
+                        .map(|l| l.ranked.iter().map(|r| r.node).collect())
+                })
+                .flatten();
+            let id_rank = crate::metrics::reach::id_ranks(&d.ids);
+            let t = planning::transmissibility_from(opts.transmissibility, &stats.cases);
+            planning::plan_with(&d, order, opts, &id_rank, t)
+        });
+        Ok(Report {
+            summary: summarise(&d),
+            stats,
+            list,
+            plan,
+            states: parts.states,
+            d,
+        })
+    }
+}

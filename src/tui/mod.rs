@@ -1,0 +1,244 @@
+//! The terminal dashboard: `hubwatch [PATH...]` on a terminal.
+//!
+//! Data flow: the export is loaded and every figure computed once ([`model`]); key presses
+//! change the state ([`app`]), looked up in one key table ([`keys`]); [`ui`] draws the state and
+//! computes nothing. The terminal is restored on quit, on error, on panic and on SIGTERM, SIGHUP
+//! or SIGINT.
+
+pub mod app;
+pub mod keys;
+pub mod model;
+pub mod theme;
+pub mod ui;
+
+use std::io::IsTerminal;
+use std::path::PathBuf;
+use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::Arc;
+use std::time::Duration;
+
+use crossterm::event::{
+    self, DisableMouseCapture, EnableMouseCapture, Event, KeyEventKind, MouseButton, MouseEventKind,
+};
+use crossterm::execute;
+use crossterm::terminal::{
+    disable_raw_mode, enable_raw_mode, EnterAlternateScreen, LeaveAlternateScreen,
+};
+use ratatui::backend::CrosstermBackend;
+use ratatui::Terminal;
+
+use crate::analysis::ranking::RankRequest;
+use crate::config::Config;
+use crate::error::{Error, Result};
+use crate::ingest::{Input, LoadOptions};
+use crate::workspace::Workspace;
+
+use app::App;
+use keys::{Action, Pane};
+use model::Model;
+use theme::Theme;
+
+/// True when NO_COLOR is set to a non-empty value (no-color.org).
+pub fn no_color() -> bool {
+    std::env::var_os("NO_COLOR").is_some_and(|v| !v.is_empty())
+}
+
+/// True when both stdin and stdout are terminals (else the default action prints the summary).
+pub fn interactive() -> bool {
+    std::io::stdin().is_terminal() && std::io::stdout().is_terminal()
+}
+
+/// What the dashboard opens: the inputs and every setting, decided by the caller.
+#[derive(Debug, Clone)]
+pub struct Start {
+    /// Export files or folders.
+    pub inputs: Vec<Input>,
+    /// The effective configuration.
+    pub config: Config,
+    /// Loading options.
+    pub load: LoadOptions,
+    /// How to rank.
+    pub rank: RankRequest,
+    /// The workspace file (it need not exist yet).
+    pub workspace: PathBuf,
+}
+
+/// Load, compute and build the state (everything before the first frame).
+pub fn prepare(start: &Start) -> Result<(Model, App)> {
+    let d = crate::dataset::load(&start.inputs, &start.config, &start.load)?;
+    if std::io::stderr().is_terminal() {
+        eprintln!(
+            "hubwatch: {} people, {} contacts loaded; computing statistics, ranking and outlook …",
+            d.people(),
+            d.edges.len()
+        );
+    }
+    let ws_path = start.workspace.clone();
+    let states = if ws_path.exists() {
+        Workspace::open(&ws_path)?.all()?
+    } else {
+        Vec::new()
+    };
+    let export_dir = ws_path
+        .parent()
+        .filter(|p| !p.as_os_str().is_empty())
+        .map(|p| p.to_path_buf())
+        .unwrap_or_else(|| PathBuf::from("."));
+    let model = Model::build(
+        d,
+        &start.rank,
+        &states,
+        ws_path,
+        export_dir,
+        &start.config.dashboard,
+    )?;
+    let app = App::new(&model, states);
+    Ok((model, app))
+}
+
+fn restore_terminal() {
+    let _ = disable_raw_mode();
+    let _ = execute!(std::io::stdout(), DisableMouseCapture, LeaveAlternateScreen);
+    let _ = execute!(std::io::stdout(), crossterm::cursor::Show);
+}
+
+/// Restores the terminal when dropped (normal return, error, or unwinding panic).
+struct Guard;
+
+impl Drop for Guard {
+    fn drop(&mut self) {
+        restore_terminal();
+    }
+}
+
+/// Open the dashboard.
+pub fn run(start: Start) -> Result<()> {
+    if !interactive() {
+        return Err(Error::Usage(
+            "the dashboard needs a terminal; use `hubwatch summary` (or priority, outlook, export) in scripts".into(),
+        ));
+    }
+    let progress = std::io::stderr().is_terminal();
+    if progress {
+        eprintln!("hubwatch: loading …");
+    }
+    let t = std::time::Instant::now();
+    let (model, mut app) = prepare(&start)?;
+    if progress {
+        eprintln!(
+            "hubwatch: ready in {:.1} s ({} people, {} contacts); opening the dashboard",
+            t.elapsed().as_secs_f64(),
+            model.d.people(),
+            model.d.edges.len()
+        );
+    }
+    let theme = Theme::pick(&model.theme, no_color());
+    let model = Arc::new(model);
+    app.shared = Some(Arc::clone(&model));
+    // Signals: ask the loop to stop, so the terminal is restored on the way out.
+    let stop = Arc::new(AtomicBool::new(false));
+    for sig in [
+        signal_hook::consts::SIGTERM,
+        signal_hook::consts::SIGHUP,
+        signal_hook::consts::SIGINT,
+    ] {
+        signal_hook::flag::register(sig, Arc::clone(&stop))
+            .map_err(|e| Error::Usage(format!("cannot watch signals: {e}")))?;
+    }
+    // Panics: restore before the message is printed (the guard also runs while unwinding).
+    let previous = std::panic::take_hook();
+    std::panic::set_hook(Box::new(move |info| {
+        restore_terminal();
+        previous(info);
+    }));
+    let io = |e: std::io::Error| Error::Usage(format!("terminal: {e}"));
+    enable_raw_mode().map_err(io)?;
+    let _guard = Guard;
+    execute!(std::io::stdout(), EnterAlternateScreen, EnableMouseCapture).map_err(io)?;
+    let mut terminal = Terminal::new(CrosstermBackend::new(std::io::stdout())).map_err(io)?;
+    terminal.clear().map_err(io)?;
+    let size = terminal.size().map_err(io)?;
+    app.resized(&model, size.width, size.height);
+    let mut dirty = true;
+    let mut null_shown = model.null.get().is_some();
+    while !app.quit && !stop.load(Ordering::Relaxed) {
+        if dirty {
+            terminal
+                .draw(|f| ui::draw(f, &model, &app, &theme))
+                .map_err(io)?;
+            dirty = false;
+            // Hidden hook for the end-to-end test that a panic restores the terminal.
+            if std::env::var_os("HUBWATCH_TEST_PANIC").is_some() {
+                panic!("panic requested by HUBWATCH_TEST_PANIC");
+            }
+        }
+        if app.poll_jobs() {
+            dirty = true;
+        }
+        let wait = if app.scope_pending.is_some() { 30 } else { 200 };
+        if !event::poll(Duration::from_millis(wait)).map_err(io)? {
+            // Redraw once when the background null model arrives.
+            if !null_shown && model.null.get().is_some() {
+                null_shown = true;
+                dirty = true;
+            }
+            continue;
+        }
+        dirty = handle_event(&model, &mut app, event::read().map_err(io)?);
+    }
+    drop(terminal);
+    Ok(())
+}
+
+/// Apply one terminal event to the state; true when a redraw is needed.
+pub fn handle_event(model: &Model, app: &mut App, ev: Event) -> bool {
+    match ev {
+        Event::Key(key) if key.kind != KeyEventKind::Release => {
+            if app.input.is_some() {
+                app.type_key(model, key.code);
+            } else if let Some(action) = keys::lookup(app.pane, &key) {
+                app.act(model, action);
+            }
+            true
+        }
+        Event::Resize(w, h) => {
+            app.resized(model, w, h);
+            true
+        }
+        Event::Mouse(mouse) => {
+            let area = ratatui::layout::Rect::new(0, 0, app.size.0, app.size.1);
+            let a = ui::areas(area);
+            match mouse.kind {
+                MouseEventKind::ScrollDown => {
+                    for _ in 0..3 {
+                        app.act(model, Action::Down);
+                    }
+                    true
+                }
+                MouseEventKind::ScrollUp => {
+                    for _ in 0..3 {
+                        app.act(model, Action::Up);
+                    }
+                    true
+                }
+                MouseEventKind::Down(MouseButton::Left) => {
+                    if mouse.row == a.tabs.y {
+                        if let Some(p) = ui::tab_at(mouse.column) {
+                            app.act(model, Action::Go(p));
+                        }
+                    } else if mouse.row >= a.body.y + 2 && mouse.row < a.body.bottom() {
+                        let i = (mouse.row - a.body.y - 2) as usize;
+                        match app.pane {
+                            Pane::Priority => app.click_row(model, i),
+                            Pane::Clusters => app.click_cluster(model, i),
+                            _ => {}
+                        }
+                    }
+                    true
+                }
+                _ => false,
+            }
+        }
+        _ => false,
+    }
+}

@@ -1,0 +1,423 @@
+//! Everything the dashboard shows, computed once when the export is loaded (and, for a selected
+//! cluster, once when it is selected). The draw code only reads from here.
+
+use std::path::PathBuf;
+use std::sync::{Arc, OnceLock};
+
+use crate::analysis::planning::{self, Plan, PlanOptions, Strategy};
+use crate::analysis::priority::Ranked;
+use crate::analysis::ranking::{rank_list, RankRequest, RankedList};
+use crate::analysis::stats::{compute, MetricOptions, NetworkStats};
+use crate::analysis::summary::{summarise, Summary};
+use crate::dataset::Dataset;
+use crate::error::Result;
+use crate::metrics::degree::{degree_stats, DegreeStats};
+use crate::metrics::mixing::NullModel;
+use crate::metrics::neighbours::{neighbours_of, Neighbours};
+use crate::metrics::Stat;
+use crate::workspace::PersonState;
+
+/// Degree figures of the whole network or of one cluster (what the Degrees and Neighbours panes
+/// show).
+#[derive(Debug, Clone, PartialEq)]
+pub struct ScopeStats {
+    /// "whole network" or "cluster #3 (120 people)".
+    pub label: String,
+    /// People in scope.
+    pub people: usize,
+    /// People per degree (index k).
+    pub histogram: Vec<u64>,
+    /// p_k.
+    pub p: Vec<f64>,
+    /// q_k = (k+1) p_{k+1} / <k>.
+    pub q: Vec<f64>,
+    /// Observed: followed from each person with contacts to their contacts, the share of
+    /// contacts with k other contacts (each person weighted equally).
+    pub contact_excess: Vec<f64>,
+    /// k_nn(k): mean over people with k contacts of their contacts' mean degree.
+    pub knn: Vec<(u32, f64)>,
+    /// <k>.
+    pub mean: Stat,
+    /// <k^2>/<k>: mean degree at the end of a random exposure (paradox, version a).
+    pub edge_end_mean: Stat,
+    /// Mean excess degree (<k^2> - <k>)/<k>.
+    pub mean_excess: Stat,
+    /// Mean over people with contacts of their contacts' mean degree (version b).
+    pub contact_mean: Stat,
+    /// Shares whose contacts have more / fewer / as many contacts (version c).
+    pub shares: (Stat, Stat, Stat),
+}
+
+impl ScopeStats {
+    /// Assemble from the degree statistics and neighbour figures of the same people.
+    pub fn from_parts(label: String, degree: &DegreeStats, nb: &Neighbours) -> ScopeStats {
+        ScopeStats {
+            label,
+            people: degree.n,
+            histogram: degree.histogram.clone(),
+            p: degree.p(),
+            q: degree.q(),
+            contact_excess: nb.contact_excess.clone(),
+            knn: nb.knn.clone(),
+            mean: degree.mean,
+            edge_end_mean: degree.edge_end_mean,
+            mean_excess: degree.mean_excess,
+            contact_mean: nb.contact_mean,
+            shares: (nb.share_more, nb.share_fewer, nb.share_equal),
+        }
+    }
+}
+
+/// Compute the degree figures over `members` (each member's contacts counted in the whole
+/// network, so for a whole cluster every contact is inside), with the same functions as the
+/// whole-network statistics.
+pub fn scope_stats(d: &Dataset, degrees: &[u32], members: &[u32], label: String) -> ScopeStats {
+    let own: Vec<u32> = members.iter().map(|&v| degrees[v as usize]).collect();
+    ScopeStats::from_parts(
+        label,
+        &degree_stats(&own),
+        &neighbours_of(&d.graph, degrees, members.iter().copied()),
+    )
+}
+
+/// One row of the Clusters pane.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ClusterRow {
+    /// Component label.
+    pub label: u32,
+    /// People.
+    pub size: u32,
+    /// Contacts inside.
+    pub contacts: u64,
+    /// Bridges (articulation points) inside.
+    pub bridges: u32,
+    /// The person with the most contacts (ID) and their degree.
+    pub hub: (String, u32),
+}
+
+/// Distinct values of the filterable attributes (for cycling through them with a key).
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct FilterValues {
+    /// Roles seen.
+    pub role: Vec<String>,
+    /// Statuses seen.
+    pub status: Vec<String>,
+    /// Areas seen.
+    pub area: Vec<String>,
+}
+
+/// The precomputed model.
+pub struct Model {
+    /// The loaded export.
+    pub d: Dataset,
+    /// Headline counts.
+    pub summary: Summary,
+    /// Every statistic.
+    pub stats: NetworkStats,
+    /// Whole-network degree figures.
+    pub whole: ScopeStats,
+    /// The ranked list of everyone (no filters; the dashboard filters).
+    pub list: RankedList,
+    /// Position of each person in `list.ranked` (u32::MAX: not ranked).
+    pub rank_pos: Vec<u32>,
+    /// Outlook (reach curves to `reach_limit` people).
+    pub plan: Plan,
+    /// Components, largest first.
+    pub clusters: Vec<ClusterRow>,
+    /// Filter values.
+    pub filter_values: FilterValues,
+    /// Indices into `list.ranked`, in ID order.
+    pub by_id: Vec<u32>,
+    /// Per ranked entry (rank order, so that filtering reads memory in sequence): role, status
+    /// and area codes, setting bits, component label, and the export's follow-up state as an
+    /// index into the workspace's states (their count: none).
+    pub by_rank: ByRank,
+    /// Ranked indices sorted by contacts (most first), cases met (most first) and days left
+    /// (fewest first), ties in rank order; computed at load beside the outlook.
+    pub orders: [Vec<u32>; 3],
+    /// Per ranked entry: the score component that contributes most ("why is this person
+    /// here?").
+    pub main_reason: Vec<&'static str>,
+    /// Where flags and follow-up states are kept.
+    pub workspace_path: PathBuf,
+    /// Folder for exports of the current view.
+    pub export_dir: PathBuf,
+    /// Theme name from the configuration.
+    pub theme: String,
+    /// Seconds spent computing (after the load).
+    pub compute_seconds: f64,
+    /// The null model of r, computed in the background (it takes seconds at a million rows);
+    /// empty until done.
+    pub null: Arc<OnceLock<NullModel>>,
+}
+
+/// Filterable values per ranked entry (see [`Model::by_rank`]).
+#[derive(Debug, Clone, Default)]
+pub struct ByRank {
+    /// Role, status, area codes.
+    pub codes: [Vec<u16>; 3],
+    /// Setting bits.
+    pub settings: Vec<u64>,
+    /// Component label.
+    pub component: Vec<u32>,
+    /// Follow-up state from the export (index into FOLLOWUP_STATES; its length: none).
+    pub followup: Vec<u8>,
+    /// Still inside the monitoring window (days left >= 0).
+    pub in_window: Vec<bool>,
+}
+
+/// Distinct non-empty values of a people attribute, sorted (at most 200).
+fn distinct(d: &Dataset, field: &str) -> Vec<String> {
+    let Some(c) = d.attrs.column(field) else {
+        return Vec::new();
+    };
+    // One spelling per value, compared without case (the filter compares the same way).
+    let mut set = std::collections::BTreeMap::new();
+    for v in d.attrs.values[c].iter().flatten() {
+        let v = v.trim();
+        if !v.is_empty() && set.len() < 200 {
+            set.entry(v.to_lowercase()).or_insert_with(|| v.to_string());
+        }
+    }
+    set.into_values().collect()
+}
+
+/// Each person's value of `field` as an index into `values` (case-insensitive; u16::MAX: none).
+fn codes(d: &Dataset, field: &str, values: &[String]) -> Vec<u16> {
+    let index: std::collections::HashMap<String, u16> = values
+        .iter()
+        .enumerate()
+        .map(|(i, v)| (v.to_lowercase(), i as u16))
+        .collect();
+    let mut out = vec![u16::MAX; d.people()];
+    if let Some(c) = d.attrs.column(field) {
+        for (node, v) in d.attrs.values[c].iter().enumerate() {
+            if let Some(v) = v {
+                if let Some(&i) = index.get(&v.trim().to_lowercase()) {
+                    out[node] = i;
+                }
+            }
+        }
+    }
+    out
+}
+
+impl Model {
+    /// Compute everything from a loaded export.
+    pub fn build(
+        d: Dataset,
+        rank: &RankRequest,
+        states: &[PersonState],
+        workspace_path: PathBuf,
+        export_dir: PathBuf,
+        dash: &crate::config::DashboardConfig,
+    ) -> Result<Model> {
+        let t = std::time::Instant::now();
+        // Everything but the null model now; the null model on a background thread.
+        let stats = compute(
+            &d,
+            &MetricOptions {
+                null_replicates: 0,
+                ..Default::default()
+            },
+        );
+        let null = Arc::new(OnceLock::new());
+        {
+            let cell = Arc::clone(&null);
+            let (a, b, deg) = (d.edges.a.clone(), d.edges.b.clone(), stats.degrees.clone());
+            let o = MetricOptions::default();
+            std::thread::spawn(move || {
+                let r = crate::metrics::mixing::null_model(
+                    &a,
+                    &b,
+                    &deg,
+                    o.null_replicates,
+                    o.null_swaps_per_edge,
+                    o.seed,
+                );
+                let _ = cell.set(r);
+            });
+        }
+        let summary = summarise(&d);
+        let list = rank_list(&d, &stats, rank, states)?;
+        let mut rank_pos = vec![u32::MAX; d.people()];
+        for (i, r) in list.ranked.iter().enumerate() {
+            rank_pos[r.node as usize] = i as u32;
+        }
+        let opts = PlanOptions {
+            max_reach: dash.reach_limit.min(d.people()).max(1),
+            repeats: dash.reach_repeats.max(1),
+            ..Default::default()
+        };
+        let priority_order: Vec<u32> = list.ranked.iter().map(|r| r.node).collect();
+        let id_rank = crate::metrics::reach::id_ranks(&d.ids);
+        // The outlook and the list's sorted orders at the same time.
+        let (plan, orders) = std::thread::scope(|s| {
+            let orders = s.spawn(|| sorted_orders(&list.ranked));
+            // T from the case statistics computed above, not a second pass.
+            let t = planning::transmissibility_from(opts.transmissibility, &stats.cases);
+            let plan = planning::plan_with(&d, Some(priority_order), &opts, &id_rank, t);
+            (plan, orders.join().expect("sorting thread"))
+        });
+        let mut by_id = vec![u32::MAX; d.people()];
+        for (i, r) in list.ranked.iter().enumerate() {
+            by_id[id_rank[r.node as usize] as usize] = i as u32;
+        }
+        by_id.retain(|&i| i != u32::MAX);
+        // Already computed with the statistics.
+        let whole =
+            ScopeStats::from_parts("whole network".into(), &stats.degree, &stats.neighbours);
+        let clusters = cluster_rows(&d, &stats);
+        let mut setting_bits = vec![0u64; d.people()];
+        for e in 0..d.edges.len() {
+            let mut bits = 0u64;
+            for &c in d.edges.settings(e) {
+                if (1..=64).contains(&c) {
+                    bits |= 1 << (c - 1);
+                }
+            }
+            setting_bits[d.edges.a[e] as usize] |= bits;
+            setting_bits[d.edges.b[e] as usize] |= bits;
+        }
+        let filter_values = FilterValues {
+            role: distinct(&d, "role"),
+            status: distinct(&d, "status"),
+            area: distinct(&d, "area"),
+        };
+        let codes = [
+            codes(&d, "role", &filter_values.role),
+            codes(&d, "status", &filter_values.status),
+            codes(&d, "area", &filter_values.area),
+        ];
+        let states = crate::workspace::FOLLOWUP_STATES;
+        let by_rank = ByRank {
+            codes: [0, 1, 2].map(|c| {
+                list.ranked
+                    .iter()
+                    .map(|r| codes[c][r.node as usize])
+                    .collect()
+            }),
+            settings: list
+                .ranked
+                .iter()
+                .map(|r| setting_bits[r.node as usize])
+                .collect(),
+            component: list
+                .ranked
+                .iter()
+                .map(|r| stats.components.0[r.node as usize])
+                .collect(),
+            in_window: list
+                .ranked
+                .iter()
+                .map(|r| r.days_left.is_some_and(|d| d >= 0))
+                .collect(),
+            followup: list
+                .ranked
+                .iter()
+                .map(|r| {
+                    let v = d
+                        .attrs
+                        .get("followup_status", r.node)
+                        .map(|v| v.trim().to_lowercase());
+                    v.and_then(|v| states.iter().position(|&s| s == v))
+                        .unwrap_or(states.len()) as u8
+                })
+                .collect(),
+        };
+        let main_reason = list
+            .ranked
+            .iter()
+            .map(|r| {
+                r.parts(&list.preset.1)
+                    .into_iter()
+                    .max_by(|a, b| a.contribution.total_cmp(&b.contribution))
+                    .map(|p| p.name)
+                    .unwrap_or("")
+            })
+            .collect();
+        Ok(Model {
+            by_rank,
+            orders,
+            main_reason,
+            by_id,
+            summary,
+            whole,
+            list,
+            rank_pos,
+            plan,
+            clusters,
+            filter_values,
+            workspace_path,
+            export_dir,
+            theme: dash.theme.clone(),
+            compute_seconds: t.elapsed().as_secs_f64(),
+            null,
+            stats,
+            d,
+        })
+    }
+
+    /// Wait until the background work is done (tests and benchmarks).
+    pub fn wait_background(&self) {
+        while self.null.get().is_none() {
+            std::thread::sleep(std::time::Duration::from_millis(5));
+        }
+    }
+
+    /// The ranked entry of a person, if ranked.
+    pub fn ranked(&self, node: u32) -> Option<&Ranked> {
+        self.rank_pos
+            .get(node as usize)
+            .filter(|&&p| p != u32::MAX)
+            .map(|&p| &self.list.ranked[p as usize])
+    }
+
+    /// The strategies of the outlook, in report order.
+    pub fn strategies(&self) -> impl Iterator<Item = Strategy> + '_ {
+        self.plan.strategies.iter().map(|s| s.strategy)
+    }
+}
+
+/// The list sorted by contacts, cases met and days left (stable, so ties keep rank order).
+fn sorted_orders(ranked: &[Ranked]) -> [Vec<u32>; 3] {
+    let base: Vec<u32> = (0..ranked.len() as u32).collect();
+    let mut by_degree = base.clone();
+    by_degree.sort_by_key(|&i| std::cmp::Reverse(ranked[i as usize].degree));
+    let mut by_cases = base.clone();
+    by_cases.sort_by(|&a, &b| ranked[b as usize].raw[1].total_cmp(&ranked[a as usize].raw[1]));
+    let mut by_days = base;
+    by_days.sort_by_key(|&i| ranked[i as usize].days_left.unwrap_or(i32::MAX));
+    [by_degree, by_cases, by_days]
+}
+
+fn cluster_rows(d: &Dataset, stats: &NetworkStats) -> Vec<ClusterRow> {
+    let (labels, sizes) = &stats.components;
+    let mut contacts = vec![0u64; sizes.len()];
+    for &a in &d.edges.a {
+        contacts[labels[a as usize] as usize] += 1;
+    }
+    let mut bridges = vec![0u32; sizes.len()];
+    for &b in &stats.bridges {
+        bridges[labels[b as usize] as usize] += 1;
+    }
+    let mut hub = vec![(u32::MAX, 0u32); sizes.len()];
+    for (v, &l) in labels.iter().enumerate() {
+        let k = stats.degrees[v];
+        let h = &mut hub[l as usize];
+        if h.0 == u32::MAX || k > h.1 {
+            *h = (v as u32, k);
+        }
+    }
+    let mut rows: Vec<ClusterRow> = (0..sizes.len())
+        .map(|l| ClusterRow {
+            label: l as u32,
+            size: sizes[l],
+            contacts: contacts[l],
+            bridges: bridges[l],
+            hub: (d.ids.name(hub[l].0).to_string(), hub[l].1),
+        })
+        .collect();
+    rows.sort_by(|a, b| b.size.cmp(&a.size).then(a.label.cmp(&b.label)));
+    rows
+}

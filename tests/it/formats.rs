@@ -1,0 +1,343 @@
+//! The same small export in every supported format gives the identical graph and ledger.
+
+use crate::common;
+
+use std::fs;
+use std::io::Write;
+use std::path::{Path, PathBuf};
+
+use common::{edge_set, load};
+use polars::prelude::*;
+
+/// The rows of the test export: source, target, date, setting.
+const ROWS: [(&str, &str, &str, &str); 6] = [
+    ("C1", "C2", "2024-03-01", "household"),
+    ("C2", "C1", "2024-03-02", "household"),
+    ("C1", "C3", "2024-03-03", "school, class 2"),
+    ("C3", "C4", "2024-03-04", "workplace"),
+    ("C4", "C4", "2024-03-04", "workplace"),
+    ("C5", "C6", "2024-03-05", "community"),
+];
+
+fn delimited(sep: &str, eol: &str, bom: bool, comments: bool, quote_all: bool) -> Vec<u8> {
+    let q = |v: &str| {
+        if quote_all || v.contains(sep) {
+            format!("\"{v}\"")
+        } else {
+            v.to_string()
+        }
+    };
+    let mut s = String::new();
+    if bom {
+        s.push('\u{feff}');
+    }
+    if comments {
+        s.push_str("# exported by an invented system");
+        s.push_str(eol);
+        s.push_str("# second comment line");
+        s.push_str(eol);
+    }
+    s.push_str(
+        &["source_id", "target_id", "exposure_date", "setting"]
+            .map(q)
+            .join(sep),
+    );
+    s.push_str(eol);
+    for (a, b, d, st) in ROWS {
+        s.push_str(&[a, b, d, st].map(q).join(sep));
+        s.push_str(eol);
+    }
+    s.into_bytes()
+}
+
+fn frame() -> DataFrame {
+    let col = |i: usize| -> Vec<&str> { ROWS.iter().map(|r| [r.0, r.1, r.2, r.3][i]).collect() };
+    df!(
+        "source_id" => col(0),
+        "target_id" => col(1),
+        "exposure_date" => col(2),
+        "setting" => col(3),
+    )
+    .unwrap()
+}
+
+fn write(dir: &Path, name: &str, bytes: &[u8]) -> PathBuf {
+    let p = dir.join(name);
+    fs::write(&p, bytes).unwrap();
+    p
+}
+
+fn variants(dir: &Path) -> Vec<PathBuf> {
+    let mut v = vec![
+        write(dir, "comma.csv", &delimited(",", "\n", false, false, false)),
+        write(
+            dir,
+            "semicolon.csv",
+            &delimited(";", "\n", false, false, false),
+        ),
+        write(dir, "tab.tsv", &delimited("\t", "\n", false, false, false)),
+        write(dir, "pipe.txt", &delimited("|", "\n", false, false, false)),
+        write(
+            dir,
+            "bom_crlf.csv",
+            &delimited(",", "\r\n", true, false, false),
+        ),
+        write(
+            dir,
+            "comments.csv",
+            &delimited(",", "\n", false, true, false),
+        ),
+        write(dir, "quoted.csv", &delimited(",", "\r\n", true, true, true)),
+    ];
+    // Whitespace runs: the setting has a space inside, so quote-free layout needs a token
+    // without spaces; use a separate file where settings are single words.
+    let mut ws = String::from("source_id   target_id exposure_date  setting\n");
+    for (a, b, d, st) in ROWS {
+        ws.push_str(&format!(
+            "  {a}\t {b}  {d}   {}\n",
+            st.replace(", class 2", "")
+        ));
+    }
+    v.push(write(dir, "spaces.dat", ws.as_bytes()));
+    // gzip of the comma file.
+    let mut gz = flate2::write::GzEncoder::new(Vec::new(), flate2::Compression::default());
+    gz.write_all(&delimited(",", "\n", false, false, false))
+        .unwrap();
+    v.push(write(dir, "comma.csv.gz", &gz.finish().unwrap()));
+    // Parquet and NDJSON through polars.
+    let pq = dir.join("table.parquet");
+    ParquetWriter::new(fs::File::create(&pq).unwrap())
+        .finish(&mut frame())
+        .unwrap();
+    v.push(pq);
+    let nd = dir.join("table.ndjson");
+    JsonWriter::new(fs::File::create(&nd).unwrap())
+        .with_json_format(JsonFormat::JsonLines)
+        .finish(&mut frame())
+        .unwrap();
+    v.push(nd);
+    // A spreadsheet, with dates as real date cells (Excel serial numbers).
+    let xl = dir.join("table.xlsx");
+    let mut book = rust_xlsxwriter::Workbook::new();
+    let sheet = book.add_worksheet();
+    let datefmt = rust_xlsxwriter::Format::new().set_num_format("yyyy-mm-dd");
+    for (c, h) in ["source_id", "target_id", "exposure_date", "setting"]
+        .iter()
+        .enumerate()
+    {
+        sheet.write_string(0, c as u16, *h).unwrap();
+    }
+    for (r, (a, b, d, st)) in ROWS.iter().enumerate() {
+        let r = r as u32 + 1;
+        sheet.write_string(r, 0, *a).unwrap();
+        sheet.write_string(r, 1, *b).unwrap();
+        let dt = rust_xlsxwriter::ExcelDateTime::parse_from_str(d).unwrap();
+        sheet
+            .write_datetime_with_format(r, 2, &dt, &datefmt)
+            .unwrap();
+        sheet.write_string(r, 3, *st).unwrap();
+    }
+    book.save(&xl).unwrap();
+    v.push(xl);
+    v
+}
+
+#[test]
+fn every_format_gives_the_same_graph_and_ledger() {
+    let dir = tempfile::tempdir().unwrap();
+    let files = variants(dir.path());
+    let reference = load(&[&files[0]], &[]);
+    let pairs = edge_set(&reference);
+    assert_eq!(pairs.len(), 4);
+    assert_eq!(reference.people(), 6);
+    let dates_of = |d: &hubwatch::dataset::Dataset| -> Vec<(i32, i32)> {
+        let mut v: Vec<(i32, i32)> = (0..d.edges.len())
+            .map(|e| (d.edges.first[e], d.edges.last[e]))
+            .collect();
+        v.sort();
+        v
+    };
+    for f in &files {
+        let d = load(&[f], &[]);
+        let name = f.file_name().unwrap().to_string_lossy();
+        assert_eq!(edge_set(&d), pairs, "{name}");
+        assert_eq!(d.ledger.exposures, reference.ledger.exposures, "{name}");
+        assert_eq!(dates_of(&d), dates_of(&reference), "{name}: dates differ");
+        assert!(
+            d.ledger.problems.is_empty(),
+            "{name}: {:?}",
+            d.ledger.problems
+        );
+        assert_eq!(d.settings.len(), 4, "{name}: {:?}", d.settings);
+        // The self-exposure is quarantined on the same line or record in every format.
+        let q = &d.ledger.quarantined[0];
+        let expect = match name.as_ref() {
+            "comments.csv" | "quoted.csv" => 8,
+            "table.parquet" => 5,
+            "table.ndjson" => 5,
+            _ => 6,
+        };
+        assert_eq!(q.line, expect, "{name}");
+    }
+}
+
+#[test]
+fn a_folder_is_sorted_by_columns_not_names() {
+    let dir = tempfile::tempdir().unwrap();
+    write(dir.path(), "a.csv", b"from,to,date\nX1,X2,2024-01-01\n");
+    write(
+        dir.path(),
+        "b.csv",
+        b"ID,role\nX1,case\nX2,contact\nX3,contact\n",
+    );
+    write(
+        dir.path(),
+        "notes.txt",
+        b"just some notes\nnothing tabular here\n",
+    );
+    let d = load(&[dir.path()], &[]);
+    let roles: Vec<(String, &str)> = d
+        .ledger
+        .files
+        .iter()
+        .map(|f| {
+            (
+                f.path.file_name().unwrap().to_string_lossy().into_owned(),
+                f.role.name(),
+            )
+        })
+        .collect();
+    assert_eq!(
+        roles,
+        [
+            ("b.csv".to_string(), "people"),
+            ("a.csv".to_string(), "exposures")
+        ]
+    );
+    assert_eq!(
+        d.ledger.ignored.len(),
+        1,
+        "notes.txt is reported as ignored"
+    );
+    assert_eq!((d.people(), d.implied(), d.edges.len()), (3, 0, 1));
+}
+
+#[test]
+fn quoted_fields_may_hold_newlines_and_lines_stay_exact() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = write(
+        dir.path(),
+        "q.csv",
+        b"source_id,target_id,setting\nA,B,\"two\nlines\"\nA,A,x\nB,C,\"a, b\"\n",
+    );
+    let d = load(&[&f], &[]);
+    assert_eq!(d.edges.len(), 2);
+    assert_eq!(
+        d.ledger.quarantined[0].line, 4,
+        "line numbers count the embedded newline"
+    );
+}
+
+#[test]
+fn typed_parquet_columns_read_as_their_values() {
+    // Integer IDs, a Date column and a Datetime column, as pandas or R would write them.
+    // Day numbers computed with Python's datetime: 2024-03-01 is 19783 days after 1970-01-01;
+    // 2024-02-28 09:30 is 1709112600000 ms after it.
+    let dir = tempfile::tempdir().unwrap();
+    let mut df = df!(
+        "source_id" => [1i64, 2, 3],
+        "target_id" => [2i64, 1, 4],
+        "exposure_date" => [19783i32, 19784, 19785],
+        "first_exposure_date" => [1_709_112_600_000i64, 1_709_112_600_000, 1_709_112_600_000],
+    )
+    .unwrap();
+    df.try_apply("exposure_date", |s| s.cast(&DataType::Date))
+        .unwrap();
+    df.try_apply("first_exposure_date", |s| {
+        s.cast(&DataType::Datetime(TimeUnit::Milliseconds, None))
+    })
+    .unwrap();
+    let pq = dir.path().join("typed.parquet");
+    ParquetWriter::new(fs::File::create(&pq).unwrap())
+        .finish(&mut df)
+        .unwrap();
+    let d = load(&[&pq], &[]);
+    assert!(d.ledger.problems.is_empty(), "{:?}", d.ledger.problems);
+    assert_eq!(
+        edge_set(&d),
+        [
+            ("1".to_string(), "2".to_string(), 2),
+            ("3".to_string(), "4".to_string(), 1)
+        ]
+    );
+    let e = (0..d.edges.len())
+        .find(|&e| d.ids.name(d.edges.a[e]) == "1")
+        .unwrap();
+    assert_eq!(hubwatch::ingest::dates::iso(d.edges.first[e]), "2024-02-28");
+    assert_eq!(hubwatch::ingest::dates::iso(d.edges.last[e]), "2024-03-02");
+}
+
+#[test]
+fn reading_in_many_small_chunks_changes_nothing() {
+    // The loader parses text in chunks (about 48 MB each; here forced down to a line or two);
+    // line numbers, ledger and graph must not depend on the chunk size.
+    use hubwatch::config::Config;
+    use hubwatch::dataset::load as load_inputs;
+    use hubwatch::ingest::{dates, table::ReadOptions, Input, LoadOptions};
+    let dir = tempfile::tempdir().unwrap();
+    let mut text = String::from("# a comment\nsource_id,target_id,exposure_date,duration_min\n");
+    for i in 0..200 {
+        match i % 17 {
+            3 => text.push_str(&format!("P{i},P{i},2024-03-01,5\n")),
+            5 => text.push('\n'),
+            7 => text.push_str(&format!("P{i},P{},2024-02-30,5,extra\n", i + 1)),
+            11 => text.push_str(&format!("P{i},P{},2024-02-30,-5\n", i % 9)),
+            _ => text.push_str(&format!(
+                "P{},P{},2024-03-0{},{}\n",
+                i % 13,
+                i % 7 + 20,
+                i % 9 + 1,
+                i
+            )),
+        }
+    }
+    let f = write(dir.path(), "many.csv", text.as_bytes());
+    let run = |chunk_rows: usize| {
+        let opts = LoadOptions {
+            overrides: Vec::new(),
+            as_of: dates::parse_iso("2030-01-01").unwrap(),
+            read: ReadOptions {
+                sheet: None,
+                chunk_rows,
+            },
+            progress: false,
+            view: Default::default(),
+        };
+        load_inputs(&[Input::Path(f.clone())], &Config::default(), &opts).unwrap()
+    };
+    let whole = run(0);
+    for chunk_rows in [1, 2, 5] {
+        let d = run(chunk_rows);
+        assert_eq!(edge_set(&d), edge_set(&whole), "chunk_rows {chunk_rows}");
+        assert_eq!(d.ledger.exposures, whole.ledger.exposures);
+        let lines = |d: &hubwatch::dataset::Dataset| -> (Vec<u64>, Vec<(u64, String)>) {
+            (
+                d.ledger.quarantined.iter().map(|q| q.line).collect(),
+                d.ledger
+                    .problems
+                    .iter()
+                    .map(|p| (p.line, p.column.clone()))
+                    .collect(),
+            )
+        };
+        assert_eq!(lines(&d), lines(&whole), "chunk_rows {chunk_rows}");
+    }
+    // Spot-check one line number by hand: row i = 3 is on line 3 + 3 = 6 (two lines before
+    // the data, plus blank lines at i = 5 only after it).
+    assert!(whole
+        .ledger
+        .quarantined
+        .iter()
+        .any(|q| q.line == 6 && q.reason.code() == "self_exposure"));
+    assert!(whole.ledger.exposures.balanced());
+}
