@@ -7,6 +7,8 @@ use std::path::PathBuf;
 
 use petgraph::visit::EdgeRef;
 
+pub use crate::analysis::filters::Filters;
+use crate::analysis::filters::{cycle, FIELDS};
 use crate::analysis::planning::{Strategy, TSource};
 use crate::analysis::priority::{Part, Ranked};
 use crate::ingest::dates;
@@ -92,23 +94,6 @@ impl ContactSort {
             ContactSort::Id => "ID",
         }
     }
-}
-
-/// Filters shared by every pane.
-#[derive(Debug, Clone, Default, PartialEq)]
-pub struct Filters {
-    /// Role (index into the model's values).
-    pub role: Option<usize>,
-    /// Status.
-    pub status: Option<usize>,
-    /// Area.
-    pub area: Option<usize>,
-    /// Setting code (1-based).
-    pub setting: Option<u16>,
-    /// Only people still inside their window.
-    pub in_window: bool,
-    /// Only one cluster (component label).
-    pub cluster: Option<u32>,
 }
 
 /// A scrolling list position.
@@ -409,46 +394,8 @@ impl App {
     }
 
     /// The filters in words (always shown).
-    pub fn filter_text(&self, m: &Model) -> String {
-        let mut parts = Vec::new();
-        let v = &m.filter_values;
-        if let Some(i) = self.filters.role {
-            parts.push(format!("role={}", v.role[i]));
-        }
-        if let Some(i) = self.filters.status {
-            parts.push(format!("status={}", v.status[i]));
-        }
-        if let Some(i) = self.filters.area {
-            parts.push(format!("area={}", v.area[i]));
-        }
-        if let Some(s) = self.filters.setting {
-            parts.push(format!("setting={}", m.d.settings[s as usize - 1]));
-        }
-        if self.filters.in_window {
-            parts.push("still in window".into());
-        }
-        if let Some(c) = self.filters.cluster {
-            parts.push(format!("cluster #{}", c + 1));
-        }
-        if parts.is_empty() {
-            "none".into()
-        } else {
-            parts.join(", ")
-        }
-    }
-
-    /// Whether the filters keep ranked entry `i` (reads the rank-ordered arrays).
-    fn keeps(&self, m: &Model, i: usize) -> bool {
-        let f = &self.filters;
-        let b = &m.by_rank;
-        let is = |want: Option<usize>, codes: &[u16]| want.is_none_or(|v| codes[i] as usize == v);
-        is(f.role, &b.codes[0])
-            && is(f.status, &b.codes[1])
-            && is(f.area, &b.codes[2])
-            && f.setting
-                .is_none_or(|s| s > 64 || b.settings[i] & (1 << (s - 1)) != 0)
-            && (!f.in_window || b.in_window[i])
-            && f.cluster.is_none_or(|c| b.component[i] == c)
+    pub fn filter_text(&self, _m: &Model) -> String {
+        self.filters.describe()
     }
 
     /// All ranked indices in the order of a sort column (ascending as the column reads:
@@ -467,7 +414,7 @@ impl App {
             SortCol::Cases => m.orders[1].clone(),
             SortCol::DaysLeft => m.orders[2].clone(),
             SortCol::Followup => {
-                let mut key = m.by_rank.followup.clone();
+                let mut key = m.index.followup.clone();
                 for (id, st) in &self.states {
                     if let (Some(p), Some(f)) = (rank_of(m, id), st.followup.as_deref()) {
                         if let Some(k) = FOLLOWUP_STATES.iter().position(|&x| x == f) {
@@ -502,6 +449,13 @@ impl App {
         v
     }
 
+    /// The next value of a people attribute filter (field `c` of [`FIELDS`]).
+    fn cycle_field(&mut self, m: &Model, c: usize) {
+        let next = cycle(self.filters.equals[c].as_deref(), &m.index.values[c]);
+        self.filters.set(FIELDS[c], next);
+        self.refilter(m);
+    }
+
     /// Rebuild the priority rows after a filter or sort change, keeping the selected person.
     pub fn refilter(&mut self, m: &Model) {
         let keep_node = self
@@ -514,7 +468,10 @@ impl App {
         let filtered = self.filters != Filters::default();
         if filtered && self.mask_for.as_ref() != Some(&self.filters) {
             // One pass in rank order (sequential), then the sorted order only reads the mask.
-            let mask: Vec<bool> = (0..ranked.len()).map(|i| self.keeps(m, i)).collect();
+            let mask: Vec<bool> = match m.index.matcher(&self.filters, &m.d) {
+                Ok(k) => (0..ranked.len()).map(|i| m.index.keeps(&k, i)).collect(),
+                Err(_) => vec![true; ranked.len()],
+            };
             self.mask = mask;
             self.mask_for = Some(self.filters.clone());
         }
@@ -993,28 +950,15 @@ impl App {
                     self.refilter(m);
                 }
             }
-            Action::FilterRole => {
-                self.filters.role = cycle(self.filters.role, m.filter_values.role.len());
-                self.refilter(m);
-            }
-            Action::FilterStatus => {
-                self.filters.status = cycle(self.filters.status, m.filter_values.status.len());
-                self.refilter(m);
-            }
-            Action::FilterArea => {
-                self.filters.area = cycle(self.filters.area, m.filter_values.area.len());
-                self.refilter(m);
-            }
+            Action::FilterRole => self.cycle_field(m, 0),
+            Action::FilterStatus => self.cycle_field(m, 1),
+            Action::FilterArea => self.cycle_field(m, 2),
             Action::FilterSetting => {
-                self.filters.setting = cycle(
-                    self.filters.setting.map(|s| s as usize - 1),
-                    m.d.settings.len(),
-                )
-                .map(|i| i as u16 + 1);
+                self.filters.setting = cycle(self.filters.setting.as_deref(), &m.d.settings);
                 self.refilter(m);
             }
             Action::FilterWindow => {
-                self.filters.in_window = !self.filters.in_window;
+                self.filters.still_in_window = !self.filters.still_in_window;
                 self.refilter(m);
             }
             Action::ClearFilters => {
@@ -1280,14 +1224,6 @@ fn rank_of(m: &Model, id: &str) -> Option<u32> {
         .get(id)
         .and_then(|node| m.rank_pos.get(node as usize).copied())
         .filter(|&p| p != u32::MAX)
-}
-
-fn cycle(now: Option<usize>, len: usize) -> Option<usize> {
-    match now {
-        None if len > 0 => Some(0),
-        Some(i) if i + 1 < len => Some(i + 1),
-        _ => None,
-    }
 }
 
 fn sort_contacts(c: &mut [ContactRow], (col, desc): (ContactSort, bool)) {

@@ -4,9 +4,10 @@
 use std::path::PathBuf;
 use std::sync::{Arc, OnceLock};
 
+use crate::analysis::filters::FilterIndex;
 use crate::analysis::planning::{self, Plan, PlanOptions, Strategy};
 use crate::analysis::priority::Ranked;
-use crate::analysis::ranking::{rank_list, RankRequest, RankedList};
+use crate::analysis::ranking::{followup_map, rank_list, RankRequest, RankedList};
 use crate::analysis::stats::{compute, MetricOptions, NetworkStats};
 use crate::analysis::summary::{summarise, Summary};
 use crate::dataset::Dataset;
@@ -95,17 +96,6 @@ pub struct ClusterRow {
     pub hub: (String, u32),
 }
 
-/// Distinct values of the filterable attributes (for cycling through them with a key).
-#[derive(Debug, Clone, Default, PartialEq)]
-pub struct FilterValues {
-    /// Roles seen.
-    pub role: Vec<String>,
-    /// Statuses seen.
-    pub status: Vec<String>,
-    /// Areas seen.
-    pub area: Vec<String>,
-}
-
 /// The precomputed model.
 pub struct Model {
     /// The loaded export.
@@ -124,14 +114,11 @@ pub struct Model {
     pub plan: Plan,
     /// Components, largest first.
     pub clusters: Vec<ClusterRow>,
-    /// Filter values.
-    pub filter_values: FilterValues,
+
     /// Indices into `list.ranked`, in ID order.
     pub by_id: Vec<u32>,
-    /// Per ranked entry (rank order, so that filtering reads memory in sequence): role, status
-    /// and area codes, setting bits, component label, and the export's follow-up state as an
-    /// index into the workspace's states (their count: none).
-    pub by_rank: ByRank,
+    /// Every filterable value per ranked entry, in rank order (the one filter engine).
+    pub index: FilterIndex,
     /// Ranked indices sorted by contacts (most first), cases met (most first) and days left
     /// (fewest first), ties in rank order; computed at load beside the outlook.
     pub orders: [Vec<u32>; 3],
@@ -149,57 +136,6 @@ pub struct Model {
     /// The null model of r, computed in the background (it takes seconds at a million rows);
     /// empty until done.
     pub null: Arc<OnceLock<NullModel>>,
-}
-
-/// Filterable values per ranked entry (see [`Model::by_rank`]).
-#[derive(Debug, Clone, Default)]
-pub struct ByRank {
-    /// Role, status, area codes.
-    pub codes: [Vec<u16>; 3],
-    /// Setting bits.
-    pub settings: Vec<u64>,
-    /// Component label.
-    pub component: Vec<u32>,
-    /// Follow-up state from the export (index into FOLLOWUP_STATES; its length: none).
-    pub followup: Vec<u8>,
-    /// Still inside the monitoring window (days left >= 0).
-    pub in_window: Vec<bool>,
-}
-
-/// Distinct non-empty values of a people attribute, sorted (at most 200).
-fn distinct(d: &Dataset, field: &str) -> Vec<String> {
-    let Some(c) = d.attrs.column(field) else {
-        return Vec::new();
-    };
-    // One spelling per value, compared without case (the filter compares the same way).
-    let mut set = std::collections::BTreeMap::new();
-    for v in d.attrs.values[c].iter().flatten() {
-        let v = v.trim();
-        if !v.is_empty() && set.len() < 200 {
-            set.entry(v.to_lowercase()).or_insert_with(|| v.to_string());
-        }
-    }
-    set.into_values().collect()
-}
-
-/// Each person's value of `field` as an index into `values` (case-insensitive; u16::MAX: none).
-fn codes(d: &Dataset, field: &str, values: &[String]) -> Vec<u16> {
-    let index: std::collections::HashMap<String, u16> = values
-        .iter()
-        .enumerate()
-        .map(|(i, v)| (v.to_lowercase(), i as u16))
-        .collect();
-    let mut out = vec![u16::MAX; d.people()];
-    if let Some(c) = d.attrs.column(field) {
-        for (node, v) in d.attrs.values[c].iter().enumerate() {
-            if let Some(v) = v {
-                if let Some(&i) = index.get(&v.trim().to_lowercase()) {
-                    out[node] = i;
-                }
-            }
-        }
-    }
-    out
 }
 
 impl Model {
@@ -268,63 +204,7 @@ impl Model {
         let whole =
             ScopeStats::from_parts("whole network".into(), &stats.degree, &stats.neighbours);
         let clusters = cluster_rows(&d, &stats);
-        let mut setting_bits = vec![0u64; d.people()];
-        for e in 0..d.edges.len() {
-            let mut bits = 0u64;
-            for &c in d.edges.settings(e) {
-                if (1..=64).contains(&c) {
-                    bits |= 1 << (c - 1);
-                }
-            }
-            setting_bits[d.edges.a[e] as usize] |= bits;
-            setting_bits[d.edges.b[e] as usize] |= bits;
-        }
-        let filter_values = FilterValues {
-            role: distinct(&d, "role"),
-            status: distinct(&d, "status"),
-            area: distinct(&d, "area"),
-        };
-        let codes = [
-            codes(&d, "role", &filter_values.role),
-            codes(&d, "status", &filter_values.status),
-            codes(&d, "area", &filter_values.area),
-        ];
-        let states = crate::workspace::FOLLOWUP_STATES;
-        let by_rank = ByRank {
-            codes: [0, 1, 2].map(|c| {
-                list.ranked
-                    .iter()
-                    .map(|r| codes[c][r.node as usize])
-                    .collect()
-            }),
-            settings: list
-                .ranked
-                .iter()
-                .map(|r| setting_bits[r.node as usize])
-                .collect(),
-            component: list
-                .ranked
-                .iter()
-                .map(|r| stats.components.0[r.node as usize])
-                .collect(),
-            in_window: list
-                .ranked
-                .iter()
-                .map(|r| r.days_left.is_some_and(|d| d >= 0))
-                .collect(),
-            followup: list
-                .ranked
-                .iter()
-                .map(|r| {
-                    let v = d
-                        .attrs
-                        .get("followup_status", r.node)
-                        .map(|v| v.trim().to_lowercase());
-                    v.and_then(|v| states.iter().position(|&s| s == v))
-                        .unwrap_or(states.len()) as u8
-                })
-                .collect(),
-        };
+        let index = FilterIndex::build(&d, &stats, &list.ranked, &followup_map(states));
         let main_reason = list
             .ranked
             .iter()
@@ -337,7 +217,7 @@ impl Model {
             })
             .collect();
         Ok(Model {
-            by_rank,
+            index,
             orders,
             main_reason,
             by_id,
@@ -347,7 +227,6 @@ impl Model {
             rank_pos,
             plan,
             clusters,
-            filter_values,
             workspace_path,
             export_dir,
             theme: dash.theme.clone(),

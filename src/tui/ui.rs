@@ -11,7 +11,7 @@ use ratatui::Frame;
 
 use crate::analysis::planning::MODEL_CAUTION_SHORT;
 use crate::ingest::dates;
-use crate::metrics::Stat;
+use crate::report::fmt::{pct, short as f};
 use crate::tui::app::{App, Overlay, Purpose, CUTOFFS, MIN_SIZE};
 use crate::tui::keys::{self, Pane};
 use crate::tui::model::Model;
@@ -66,20 +66,6 @@ pub fn tab_at(x: u16) -> Option<Pane> {
 
 fn tab_label(p: Pane) -> String {
     format!(" {} {} ", p.index() + 1, p.name())
-}
-
-fn f(v: Stat, digits: usize) -> String {
-    match v {
-        Ok(x) if x.is_finite() => format!("{x:.digits$}"),
-        _ => "–".to_string(),
-    }
-}
-
-fn pct(v: Stat) -> String {
-    match v {
-        Ok(x) if x.is_finite() => format!("{:.1}%", 100.0 * x),
-        _ => "–".to_string(),
-    }
 }
 
 fn block<'a>(title: String, th: &Theme) -> Block<'a> {

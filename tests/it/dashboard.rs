@@ -198,7 +198,7 @@ fn filters_flags_notes_follow_up_and_export() {
     let all = app.rows.len();
     // Role filter: everyone shown has that role; it is visible in the context line.
     app.act(&m, Action::FilterRole);
-    let role = m.filter_values.role[0].clone();
+    let role = m.index.values[0][0].clone();
     assert!(app.rows.len() < all);
     for &i in &app.rows {
         let node = m.list.ranked[i as usize].node;
