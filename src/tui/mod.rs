@@ -8,6 +8,8 @@
 pub mod app;
 pub mod keys;
 pub mod model;
+pub mod panes;
+pub mod state;
 pub mod theme;
 pub mod ui;
 

@@ -1,0 +1,66 @@
+//! Background work of the dashboard: the Degrees and Neighbours figures of a large filtered set
+//! computed on a worker thread, so that the key returns at once.
+
+use super::{App, Filters};
+use crate::tui::model::{scope_stats, Model};
+
+impl App {
+    /// Recompute the Degrees and Neighbours figures for the people the filters keep (their
+    /// contacts counted in the whole network); whole network when no filter is on.
+    pub fn rescope(&mut self, m: &Model) {
+        self.scope_for = self.filters.clone();
+        self.scope_pending = None;
+        if self.filters == Filters::default() {
+            self.scope = None;
+            return;
+        }
+        let label = format!("{} ({} people)", self.filter_text(m), self.rows.len());
+        let nodes_of = |m: &Model, rows: &[u32]| -> Vec<u32> {
+            rows.iter()
+                .map(|&i| m.list.ranked[i as usize].node)
+                .collect()
+        };
+        match &self.shared {
+            // Large sets on a worker thread: the key is answered at once, the pane says
+            // "computing" until the figures arrive (see `poll_jobs`).
+            Some(shared) if self.rows.len() >= self.background_min => {
+                let (tx, rx) = std::sync::mpsc::channel();
+                let shared = std::sync::Arc::clone(shared);
+                let rows = self.rows.clone();
+                std::thread::spawn(move || {
+                    let nodes = nodes_of(&shared, &rows);
+                    let s = scope_stats(&shared.d, &shared.stats.degrees, &nodes, label);
+                    let _ = tx.send(s);
+                });
+                self.scope = None;
+                self.scope_pending = Some((self.filters.clone(), rx));
+            }
+            _ => {
+                let nodes = nodes_of(m, &self.rows);
+                self.scope = Some(scope_stats(&m.d, &m.stats.degrees, &nodes, label));
+            }
+        }
+    }
+
+    /// Take finished background work; true when something arrived (redraw).
+    pub fn poll_jobs(&mut self) -> bool {
+        let Some((filters, rx)) = &self.scope_pending else {
+            return false;
+        };
+        match rx.try_recv() {
+            Ok(s) => {
+                if *filters == self.filters {
+                    self.scope = Some(s);
+                }
+                self.scope_pending = None;
+                true
+            }
+            Err(std::sync::mpsc::TryRecvError::Empty) => false,
+            Err(std::sync::mpsc::TryRecvError::Disconnected) => {
+                self.scope_pending = None;
+                self.say("the filtered figures could not be computed", true);
+                true
+            }
+        }
+    }
+}

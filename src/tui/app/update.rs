@@ -1,0 +1,426 @@
+//! How actions and typed text change the dashboard's state: the one dispatch of every
+//! `Action`, the prompt (search, flag, note, export path) and the export of the view.
+
+use std::path::PathBuf;
+
+use super::{
+    page_rows, rank_of, App, ContactSort, Input, ListPos, Overlay, Purpose, SortCol, CUTOFFS,
+};
+use crate::analysis::filters::{cycle, Filters};
+use crate::analysis::priority::Ranked;
+use crate::ingest::dates;
+use crate::report::meta::Meta;
+use crate::tui::keys::{Action, Pane};
+use crate::tui::model::Model;
+use crate::tui::state::sort_contacts;
+use crate::workspace::{PersonState, FOLLOWUP_STATES};
+
+impl App {
+    /// Handle a key's action.
+    pub fn act(&mut self, m: &Model, action: Action) {
+        self.act_inner(m, action);
+        if self.filters != self.scope_for && matches!(self.pane, Pane::Degrees | Pane::Neighbours) {
+            self.rescope(m);
+        }
+    }
+
+    pub(super) fn act_inner(&mut self, m: &Model, action: Action) {
+        self.message = None;
+        if let Overlay::Quarantine(pos) = self.overlay {
+            let len = m.d.ledger.quarantined.len() + m.d.ledger.problems.len();
+            let page = page_rows(self.size, 0);
+            let mut lp = ListPos {
+                selected: pos,
+                offset: pos,
+            };
+            match action {
+                Action::Back | Action::Quarantine => self.overlay = Overlay::None,
+                Action::Quit => self.quit = true,
+                a => {
+                    lp.step(a, len, page);
+                    self.overlay = Overlay::Quarantine(lp.selected);
+                }
+            }
+            return;
+        }
+        if self.overlay == Overlay::Help {
+            self.overlay = Overlay::None;
+            if action == Action::Quit {
+                self.quit = true;
+            }
+            return;
+        }
+        let page = page_rows(self.size, 0);
+        match action {
+            Action::Quit => self.quit = true,
+            Action::Help => self.overlay = Overlay::Help,
+            Action::NextPane => self.pane = Pane::ALL[(self.pane.index() + 1) % 7],
+            Action::PrevPane => self.pane = Pane::ALL[(self.pane.index() + 6) % 7],
+            Action::Go(p) => self.pane = p,
+            Action::Up
+            | Action::Down
+            | Action::PageUp
+            | Action::PageDown
+            | Action::Home
+            | Action::End => match self.pane {
+                Pane::Priority => {
+                    self.prio.step(action, self.rows.len(), page);
+                }
+                Pane::Clusters => {
+                    self.clusters.step(action, m.clusters.len(), page);
+                    self.update_cluster_bridges(m);
+                }
+                Pane::Person => {
+                    if let Some(p) = &mut self.person {
+                        let page = page_rows(self.size, 12);
+                        p.pos.step(action, p.contacts.len(), page);
+                    }
+                }
+                Pane::Overview if action == Action::Down => {
+                    self.overlay = Overlay::Quarantine(0);
+                }
+                _ => {}
+            },
+            Action::Open => match self.pane {
+                Pane::Priority => {
+                    if let Some(node) = self.target(m) {
+                        self.history.clear();
+                        self.person = None;
+                        self.open_person(m, node, false);
+                    }
+                }
+                Pane::Person => {
+                    let next = self
+                        .person
+                        .as_ref()
+                        .and_then(|p| p.contacts.get(p.pos.selected))
+                        .map(|c| c.node);
+                    if let Some(n) = next {
+                        self.open_person(m, n, true);
+                    }
+                }
+                Pane::Clusters => {
+                    if let Some(c) = m.clusters.get(self.clusters.selected) {
+                        self.filters.cluster = Some(c.label);
+                        self.refilter(m);
+                        self.say(
+                            format!(
+                                "filtered to cluster #{} ({} people); x clears",
+                                c.label + 1,
+                                c.size
+                            ),
+                            false,
+                        );
+                    }
+                }
+                _ => {}
+            },
+            Action::Back => {
+                if self.pane == Pane::Person {
+                    if let Some((node, pos, sort)) = self.history.pop() {
+                        self.show_person(m, node, pos, sort);
+                    } else {
+                        self.pane = Pane::Priority;
+                    }
+                }
+            }
+            Action::Search => {
+                self.input = Some(Input {
+                    purpose: Purpose::Search,
+                    text: String::new(),
+                });
+            }
+            Action::Quarantine => self.overlay = Overlay::Quarantine(0),
+            Action::LogScale => self.log_scale = !self.log_scale,
+            Action::Cutoff => self.cutoff = (self.cutoff + 1) % CUTOFFS.len(),
+            Action::SortNext | Action::SortReverse => {
+                if self.pane == Pane::Person {
+                    if let Some(p) = &mut self.person {
+                        let (col, desc) = p.sort;
+                        p.sort = if action == Action::SortReverse {
+                            (col, !desc)
+                        } else {
+                            let i = ContactSort::ALL.iter().position(|&c| c == col).unwrap_or(0);
+                            (ContactSort::ALL[(i + 1) % ContactSort::ALL.len()], true)
+                        };
+                        sort_contacts(&mut p.contacts, p.sort);
+                        p.pos = ListPos::default();
+                    }
+                } else {
+                    let (col, desc) = self.sort;
+                    self.sort = if action == Action::SortReverse {
+                        (col, !desc)
+                    } else {
+                        let i = SortCol::ALL.iter().position(|&c| c == col).unwrap_or(0);
+                        (SortCol::ALL[(i + 1) % SortCol::ALL.len()], false)
+                    };
+                    self.refilter(m);
+                }
+            }
+            Action::FilterRole => self.cycle_field(m, 0),
+            Action::FilterStatus => self.cycle_field(m, 1),
+            Action::FilterArea => self.cycle_field(m, 2),
+            Action::FilterSetting => {
+                self.filters.setting = cycle(self.filters.setting.as_deref(), &m.d.settings);
+                self.refilter(m);
+            }
+            Action::FilterWindow => {
+                self.filters.still_in_window = !self.filters.still_in_window;
+                self.refilter(m);
+            }
+            Action::ClearFilters => {
+                self.filters = Filters::default();
+                self.scope = None;
+                self.refilter(m);
+                self.say("filters cleared", false);
+            }
+            Action::Flag => {
+                if self.target(m).is_some() {
+                    self.input = Some(Input {
+                        purpose: Purpose::Flag,
+                        text: String::new(),
+                    });
+                }
+            }
+            Action::Note => {
+                if let Some(node) = self.target(m) {
+                    let old = self
+                        .states
+                        .get(m.d.ids.name(node))
+                        .and_then(|s| s.note.clone())
+                        .unwrap_or_default();
+                    self.input = Some(Input {
+                        purpose: Purpose::Note,
+                        text: old,
+                    });
+                }
+            }
+            Action::Followup => {
+                if let Some(node) = self.target(m) {
+                    let now = self
+                        .states
+                        .get(m.d.ids.name(node))
+                        .and_then(|s| s.followup.clone());
+                    let i = now
+                        .and_then(|s| FOLLOWUP_STATES.iter().position(|&x| x == s))
+                        .map(|i| (i + 1) % FOLLOWUP_STATES.len())
+                        .unwrap_or(0);
+                    let state = FOLLOWUP_STATES[i];
+                    if self.write_state(m, node, |w, id| w.set_followup(id, state)) {
+                        self.say(
+                            format!("{}: follow-up set to {state}", m.d.ids.name(node)),
+                            false,
+                        );
+                    }
+                }
+            }
+            Action::Export => {
+                let name = format!("hubwatch-view-{}.csv", dates::iso(m.d.as_of));
+                self.input = Some(Input {
+                    purpose: Purpose::Export,
+                    text: m.export_dir.join(name).display().to_string(),
+                });
+            }
+            Action::TUp | Action::TDown | Action::TUpBig | Action::TDownBig => {
+                let step = match action {
+                    Action::TUp => 0.01,
+                    Action::TDown => -0.01,
+                    Action::TUpBig => 0.1,
+                    _ => -0.1,
+                };
+                let t = self.outlook.t.unwrap_or(0.0) + step;
+                self.set_t(m, Some(t));
+            }
+            Action::TReset => self.set_t(m, None),
+        }
+    }
+
+    /// A character typed into the open prompt (or Backspace / Enter / Esc).
+    pub fn type_key(&mut self, m: &Model, key: crossterm::event::KeyCode) {
+        use crossterm::event::KeyCode as K;
+        let Some(input) = &mut self.input else {
+            return;
+        };
+        match key {
+            K::Esc => {
+                self.input = None;
+                return;
+            }
+            K::Enter => {
+                let input = self.input.take().expect("input open");
+                self.commit(m, input);
+                return;
+            }
+            K::Backspace => {
+                input.text.pop();
+            }
+            K::Char(c) if !c.is_control() => {
+                if input.text.chars().count() < 500 {
+                    input.text.push(c);
+                }
+            }
+            _ => return,
+        }
+        if input.purpose == Purpose::Search {
+            let text = input.text.clone();
+            self.search(m, &text);
+        }
+    }
+
+    /// Move the priority selection to the first person whose ID matches `text` (exact first,
+    /// then by prefix, case-insensitive).
+    pub fn search(&mut self, m: &Model, text: &str) {
+        if text.is_empty() {
+            return;
+        }
+        if self.pane != Pane::Priority && self.pane != Pane::Person {
+            self.pane = Pane::Priority;
+        }
+        if self.row_of.len() != m.list.ranked.len() {
+            self.row_of.clear();
+            self.row_of.resize(m.list.ranked.len(), u32::MAX);
+            for (p, &i) in self.rows.iter().enumerate() {
+                self.row_of[i as usize] = p as u32;
+            }
+        }
+        let found = match rank_of(m, text) {
+            Some(i) => Some(self.row_of[i as usize]).filter(|&p| p != u32::MAX),
+            None => {
+                // IDs in text order: binary search for the prefix, then the first one shown.
+                let ids = &m.d.ids;
+                let name = |i: u32| ids.name(m.list.ranked[i as usize].node);
+                let start = m.by_id.partition_point(|&i| name(i) < text);
+                let sorted = m
+                    .by_id
+                    .get(start..)
+                    .unwrap_or(&[])
+                    .iter()
+                    .take_while(|&&i| name(i).starts_with(text))
+                    .map(|&i| self.row_of[i as usize])
+                    .find(|&p| p != u32::MAX);
+                // Numeric IDs are in number order, and case may differ: then scan the rows.
+                sorted.or_else(|| {
+                    let lower = text.to_lowercase();
+                    self.rows
+                        .iter()
+                        .position(|&i| {
+                            let id = name(i);
+                            id.len() >= lower.len()
+                                && id.as_bytes()[..lower.len()]
+                                    .eq_ignore_ascii_case(lower.as_bytes())
+                        })
+                        .map(|p| p as u32)
+                })
+            }
+        };
+        match found {
+            Some(p) => {
+                self.pane = Pane::Priority;
+                self.prio.selected = p as usize;
+                let page = page_rows(self.size, 0);
+                self.prio.clamp(self.rows.len(), page);
+            }
+            None => {
+                let hidden = m.d.ids.get(text).is_some();
+                self.say(
+                    if hidden {
+                        format!("{text} is in the export but hidden by the filters (x clears them)")
+                    } else {
+                        format!("no person ID starts with {text}")
+                    },
+                    !hidden,
+                );
+            }
+        }
+    }
+
+    pub(super) fn commit(&mut self, m: &Model, input: Input) {
+        match input.purpose {
+            Purpose::Search => {}
+            Purpose::Flag => {
+                let Some(node) = self.target(m) else { return };
+                let flag = if input.text.trim().is_empty() {
+                    "call first".to_string()
+                } else {
+                    input.text.trim().to_string()
+                };
+                let has = self
+                    .states
+                    .get(m.d.ids.name(node))
+                    .is_some_and(|s| s.flags.contains(&flag));
+                let ok = if has {
+                    self.write_state(m, node, |w, id| w.remove_flag(id, &flag))
+                } else {
+                    self.write_state(m, node, |w, id| w.add_flag(id, &flag))
+                };
+                if ok {
+                    let verb = if has { "removed" } else { "added" };
+                    self.say(
+                        format!("{}: flag \"{flag}\" {verb}", m.d.ids.name(node)),
+                        false,
+                    );
+                }
+            }
+            Purpose::Note => {
+                let Some(node) = self.target(m) else { return };
+                let text = input.text.trim().to_string();
+                let note = (!text.is_empty()).then_some(text.as_str());
+                if self.write_state(m, node, |w, id| w.set_note(id, note)) {
+                    self.say(format!("{}: note saved", m.d.ids.name(node)), false);
+                }
+            }
+            Purpose::Export => {
+                let path = PathBuf::from(input.text.trim());
+                match self.export_view(m, &path) {
+                    Ok(n) => self.say(format!("wrote {n} people to {}", path.display()), false),
+                    Err(e) => self.say(format!("export failed: {e}"), true),
+                }
+            }
+        }
+    }
+
+    /// Write the priority list as shown (filters and sort) with the export module.
+    pub fn export_view(&self, m: &Model, path: &std::path::Path) -> crate::error::Result<usize> {
+        let format = crate::export::format_for(path, None)?;
+        let ranked: Vec<Ranked> = self
+            .rows
+            .iter()
+            .map(|&i| m.list.ranked[i as usize].clone())
+            .collect();
+        let states: Vec<PersonState> = self.states.values().cloned().collect();
+        let direct = Vec::new();
+        let ids = crate::report::tables::Ids {
+            d: &m.d,
+            key: None,
+            direct_identifiers: &direct,
+        };
+        let mut table = crate::report::tables::priority_table(
+            &ids,
+            &ranked,
+            &m.list.preset.1,
+            &states,
+            0,
+            false,
+        );
+        // The rank column numbers the rows as shown; keep the list's own rank beside it.
+        if let Some(c) = table.columns.iter().position(|c| c == "rank") {
+            table.columns[c] = "row".into();
+            table.columns.insert(c + 1, "rank".into());
+            for (row, &i) in table.rows.iter_mut().zip(&self.rows) {
+                row.insert(c + 1, crate::export::Cell::Int(i as i64 + 1));
+            }
+        }
+        let sort = format!(
+            "{}{}",
+            self.sort.0.name(),
+            if self.sort.1 { " (reversed)" } else { "" }
+        );
+        let meta = Meta::new(&m.d, "dashboard view")
+            .ranking(&m.list)
+            .with("filters", self.filter_text(m))
+            .with("sort", sort)
+            .finish();
+        crate::export::write(&table, &meta, format, path, false)?;
+        Ok(table.rows.len())
+    }
+}

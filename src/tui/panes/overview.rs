@@ -1,0 +1,131 @@
+//! The Overview pane: what was loaded (files, rows, network) and the headline figures.
+
+use ratatui::layout::{Constraint, Layout, Rect};
+use ratatui::text::{Line, Span};
+use ratatui::widgets::{Paragraph, Wrap};
+use ratatui::Frame;
+
+use crate::ingest::dates;
+use crate::report::fmt::{pct, short as f};
+use crate::tui::app::App;
+use crate::tui::model::Model;
+use crate::tui::theme::Theme;
+use crate::tui::ui::block;
+
+pub fn render(frame: &mut Frame, area: Rect, m: &Model, _app: &App, th: &Theme) {
+    let [left, right] =
+        Layout::horizontal([Constraint::Percentage(50), Constraint::Percentage(50)]).areas(area);
+    let d = &m.d;
+    let s = &m.summary;
+    let l = &d.ledger;
+    let mut lines = vec![Line::from(Span::styled("Files", th.title))];
+    for file in &l.files {
+        lines.push(Line::from(format!(
+            "  {} — {:?}, {}",
+            file.path.display(),
+            file.role,
+            file.format
+        )));
+    }
+    for (path, why) in &l.ignored {
+        lines.push(Line::from(Span::styled(
+            format!("  ignored {}: {why}", path.display()),
+            th.dim,
+        )));
+    }
+    lines.push(Line::from(""));
+    lines.push(Line::from(Span::styled(
+        "Rows (read = used + merged + quarantined)",
+        th.title,
+    )));
+    for (name, c) in [("exposures", &l.exposures), ("people", &l.people)] {
+        lines.push(Line::from(format!(
+            "  {name:<9} {} = {} + {} + {}   field problems {}",
+            c.read, c.used, c.merged, c.quarantined, c.field_problems
+        )));
+    }
+    lines.push(Line::from(Span::styled(
+        "  r: list the quarantined rows and field problems",
+        th.dim,
+    )));
+    lines.push(Line::from(""));
+    lines.push(Line::from(Span::styled("Network", th.title)));
+    lines.push(Line::from(format!(
+        "  people {} · contacts {} · implied {} · isolated {}",
+        s.people, s.contacts, s.implied, s.isolated
+    )));
+    lines.push(Line::from(format!(
+        "  components {} · largest {} ({})",
+        s.components.count,
+        s.components.largest,
+        pct(s.components.largest_share.ok_or("none"))
+    )));
+    lines.push(Line::from(""));
+    lines.push(Line::from(Span::styled(crate::CAUTION, th.warn)));
+    frame.render_widget(
+        Paragraph::new(lines)
+            .wrap(Wrap { trim: false })
+            .block(block("1 Overview — what was loaded".into(), th)),
+        left,
+    );
+    let st = &m.stats;
+    let w = &m.whole;
+    let r_line = match m.null.get() {
+        Some(null) => format!(
+            "  r = {} ± {} (jackknife SE); null model {} ± {}",
+            f(st.r, 3),
+            f(st.r_se, 3),
+            f(null.mean, 3),
+            f(null.sd, 3)
+        ),
+        None => format!(
+            "  r = {} ± {} (jackknife SE); null model: computing …",
+            f(st.r, 3),
+            f(st.r_se, 3)
+        ),
+    };
+    let fig = |label: &str, v: String| {
+        Line::from(vec![
+            Span::styled(format!("  {label:<44}"), th.text),
+            Span::styled(v, th.title),
+        ])
+    };
+    let lines = vec![
+        Line::from(Span::styled("Headline figures", th.title)),
+        fig("mean contacts <k>", f(w.mean, 2)),
+        fig(
+            "contacts at the end of an exposure <k²>/<k>",
+            f(w.edge_end_mean, 2),
+        ),
+        fig("mean excess degree (<k²> − <k>)/<k>", f(w.mean_excess, 2)),
+        fig("their contacts have more contacts", pct(w.shares.0)),
+        fig("their contacts' mean contacts", f(w.contact_mean, 2)),
+        Line::from(Span::styled("  degree mixing:", th.text)),
+        Line::from(r_line),
+        fig("transitivity", f(st.clustering.transitivity, 3)),
+        fig(
+            "largest cluster share",
+            pct(s.components.largest_share.ok_or("none")),
+        ),
+        fig(
+            "bridges (articulation points)",
+            st.bridges.len().to_string(),
+        ),
+        Line::from(""),
+        Line::from(Span::styled("Settings of this view", th.title)),
+        Line::from(format!("  as of {}", dates::iso(d.as_of))),
+        Line::from(format!("  view: {}", d.view.0.describe())),
+        Line::from(format!(
+            "  window: {} {} days ({})",
+            m.list.window.pathogen, m.list.window.days, m.list.window.source
+        )),
+        Line::from(format!("  ranking preset: {}", m.list.preset.0)),
+        Line::from(format!("  workspace: {}", m.workspace_path.display())),
+    ];
+    frame.render_widget(
+        Paragraph::new(lines)
+            .wrap(Wrap { trim: false })
+            .block(block("Figures".into(), th)),
+        right,
+    );
+}

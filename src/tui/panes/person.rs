@@ -1,0 +1,189 @@
+//! The Person pane: one person, their score parts, state, history and contacts.
+
+use ratatui::layout::{Constraint, Layout, Rect};
+use ratatui::text::{Line, Span};
+use ratatui::widgets::{Paragraph, Row, Table, Wrap};
+use ratatui::Frame;
+
+use super::*;
+use crate::ingest::dates;
+use crate::tui::app::App;
+use crate::tui::model::Model;
+use crate::tui::theme::Theme;
+use crate::tui::ui::block;
+
+pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
+    let Some(p) = &app.person else {
+        frame.render_widget(
+            Paragraph::new(vec![
+                Line::from("No person open."),
+                Line::from("Open one from the Priority pane (Enter), or find one with /."),
+            ])
+            .block(block("6 Person".into(), th)),
+            area,
+        );
+        return;
+    };
+    let [top, bottom] = Layout::vertical([Constraint::Length(12), Constraint::Min(5)]).areas(area);
+    let [about, score, state] = Layout::horizontal([
+        Constraint::Percentage(34),
+        Constraint::Percentage(33),
+        Constraint::Percentage(33),
+    ])
+    .areas(top);
+    let mut lines: Vec<Line> = p
+        .attrs
+        .iter()
+        .map(|(k, v)| Line::from(format!("  {k}: {v}")))
+        .collect();
+    if let Some((rank, r)) = &p.ranked {
+        lines.insert(
+            0,
+            Line::from(Span::styled(
+                format!(
+                    "  rank {rank} · {} contacts · window end {} ({} days left){}",
+                    r.degree,
+                    r.window_end.map(dates::iso).unwrap_or_else(|| "–".into()),
+                    days(r.days_left),
+                    if r.overdue { " · OVERDUE" } else { "" }
+                ),
+                if r.overdue { th.warn } else { th.title },
+            )),
+        );
+    }
+    let depth = app.history.len();
+    frame.render_widget(
+        Paragraph::new(lines)
+            .wrap(Wrap { trim: true })
+            .block(block(format!("6 Person — {} · depth {depth}", p.id), th)),
+        about,
+    );
+    let lines: Vec<Line> = p
+        .parts
+        .iter()
+        .map(|part| {
+            Line::from(format!(
+                "  {:<14} {:>9.2} → {:.3}",
+                part.name, part.raw, part.contribution
+            ))
+        })
+        .collect();
+    let total = p.ranked.as_ref().map(|(_, r)| r.score).unwrap_or(0.0);
+    frame.render_widget(
+        Paragraph::new(lines).block(block(
+            format!("Score {total:.3}: raw value → contribution"),
+            th,
+        )),
+        score,
+    );
+    let mut lines = Vec::new();
+    match &p.state {
+        Some(s) => {
+            lines.push(Line::from(format!(
+                "  follow-up: {}",
+                s.followup.as_deref().unwrap_or("–")
+            )));
+            lines.push(Line::from(format!("  flags: {}", s.flags.join(", "))));
+            lines.push(Line::from(format!(
+                "  note: {}",
+                s.note.as_deref().unwrap_or("–")
+            )));
+        }
+        None => lines.push(Line::from(
+            "  nothing recorded yet (f flag, u follow-up, n note)",
+        )),
+    }
+    for c in p.history.iter().rev().take(5) {
+        lines.push(Line::from(Span::styled(
+            format!(
+                "  {} {} {}: {} → {}",
+                c.at.get(..16).unwrap_or(&c.at),
+                c.user,
+                c.field,
+                c.old_value.as_deref().unwrap_or("–"),
+                c.new_value.as_deref().unwrap_or("–")
+            ),
+            th.dim,
+        )));
+    }
+    frame.render_widget(
+        Paragraph::new(lines)
+            .wrap(Wrap { trim: true })
+            .block(block("Follow-up (workspace) and history".into(), th)),
+        state,
+    );
+    let page = bottom.height.saturating_sub(3) as usize;
+    let rows: Vec<Row> = p
+        .contacts
+        .iter()
+        .enumerate()
+        .skip(p.pos.offset)
+        .take(page)
+        .map(|(i, c)| {
+            let row = Row::new(vec![
+                c.id.clone(),
+                c.degree.to_string(),
+                c.first.map(dates::iso).unwrap_or_else(|| "–".into()),
+                c.last.map(dates::iso).unwrap_or_else(|| "–".into()),
+                c.minutes
+                    .map(|x| format!("{x:.0}"))
+                    .unwrap_or_else(|| "–".into()),
+                c.rows.to_string(),
+                c.settings.clone(),
+                c.named.to_string(),
+                c.followup.clone(),
+            ]);
+            if i == p.pos.selected {
+                row.style(th.selected)
+            } else {
+                row.style(th.text)
+            }
+        })
+        .collect();
+    let (col, desc) = p.sort;
+    frame.render_widget(
+        Table::new(
+            rows,
+            [
+                Constraint::Length(12),
+                Constraint::Length(8),
+                Constraint::Length(11),
+                Constraint::Length(11),
+                Constraint::Length(8),
+                Constraint::Length(5),
+                Constraint::Length(18),
+                Constraint::Length(14),
+                Constraint::Min(10),
+            ],
+        )
+        .header(
+            Row::new(vec![
+                "contact",
+                "contacts",
+                "first",
+                "last",
+                "minutes",
+                "rows",
+                "settings",
+                "who named",
+                "follow-up",
+            ])
+            .style(th.title),
+        )
+        .block(block(
+            format!(
+                "Contacts: {} · sorted by {}{} · Enter opens one",
+                p.contacts.len(),
+                col.name(),
+                if desc {
+                    " (high first)"
+                } else {
+                    " (low first)"
+                }
+            ),
+            th,
+        )),
+        bottom,
+    );
+    let _ = m;
+}

@@ -1,0 +1,127 @@
+//! The Priority pane: the filtered, sorted follow-up list with its marks.
+
+use ratatui::layout::{Constraint, Rect};
+use ratatui::text::Span;
+use ratatui::widgets::{Row, Table};
+use ratatui::Frame;
+
+use super::*;
+use crate::ingest::dates;
+use crate::tui::app::App;
+use crate::tui::model::Model;
+use crate::tui::theme::Theme;
+use crate::tui::ui::block;
+
+pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
+    let page = area.height.saturating_sub(3) as usize;
+    // Columns by width: on narrow screens the "mostly", "cases met" and "window end" columns
+    // go, so that IDs are never cut.
+    const COLUMNS: [(&str, u16); 11] = [
+        ("rank", 7),
+        ("ID", 12),
+        ("score", 7),
+        ("mostly", 13),
+        ("contacts", 8),
+        ("cases met", 9),
+        ("window end", 11),
+        ("days left", 9),
+        ("marks", 5),
+        ("follow-up", 12),
+        ("flags", 10),
+    ];
+    let wide = area.width >= 118;
+    let shown = |c: usize| wide || !matches!(c, 3 | 5 | 6);
+    let pos = app.prio;
+    let rows: Vec<Row> = app
+        .rows
+        .iter()
+        .enumerate()
+        .skip(pos.offset)
+        .take(page)
+        .map(|(i, &ri)| {
+            let r = &m.list.ranked[ri as usize];
+            let mut marks = String::new();
+            if r.high_degree {
+                marks.push('H');
+            }
+            if r.bridge {
+                marks.push('B');
+            }
+            if r.overdue {
+                marks.push('!');
+            }
+            let cells = [
+                (ri + 1).to_string(),
+                m.d.ids.name(r.node).to_string(),
+                format!("{:.3}", r.score),
+                m.main_reason[ri as usize].to_string(),
+                r.degree.to_string(),
+                format!("{}", r.raw[1]),
+                r.window_end.map(dates::iso).unwrap_or_else(|| "–".into()),
+                days(r.days_left),
+                marks,
+                app.followup(m, r.node),
+                app.flags(m, r.node),
+            ];
+            let row = Row::new(
+                cells
+                    .into_iter()
+                    .enumerate()
+                    .filter(|(c, _)| shown(*c))
+                    .map(|(_, s)| s),
+            );
+            if i == pos.selected {
+                row.style(th.selected)
+            } else if r.overdue {
+                row.style(th.warn)
+            } else {
+                row.style(th.text)
+            }
+        })
+        .collect();
+    let (col, desc) = app.sort;
+    let title = format!(
+        "5 Priority — {} of {} people · sorted by {}{} · preset {} · row {}",
+        app.rows.len(),
+        m.list.ranked.len(),
+        col.name(),
+        if desc { " (reversed)" } else { "" },
+        m.list.preset.0,
+        if app.rows.is_empty() {
+            0
+        } else {
+            pos.selected + 1
+        },
+    );
+    frame.render_widget(
+        Table::new(
+            rows,
+            COLUMNS
+                .iter()
+                .enumerate()
+                .filter(|(c, _)| shown(*c))
+                .map(|(c, &(_, w))| {
+                    if c == COLUMNS.len() - 1 {
+                        Constraint::Min(w)
+                    } else {
+                        Constraint::Length(w)
+                    }
+                }),
+        )
+        .header(
+            Row::new(
+                COLUMNS
+                    .iter()
+                    .enumerate()
+                    .filter(|(c, _)| shown(*c))
+                    .map(|(_, &(name, _))| name),
+            )
+            .style(th.title),
+        )
+        .block(block(title, th).title_bottom(Span::styled(
+            "marks: H more contacts than a typical contact's contact · B bridge · ! window over, not completed",
+            th.dim,
+        ))),
+        area,
+    );
+}
