@@ -10,7 +10,8 @@
 use petgraph::csr::Csr;
 use petgraph::Undirected;
 
-use crate::ingest::reconcile::{ExposureRows, NO_DATE};
+use crate::ingest::reconcile::NO_DATE;
+use crate::ingest::rows::ExposureRows;
 use crate::sort::radix_sort_pairs;
 
 /// The adjacency: node weights unused, edge weight = index into [`Edges`].

@@ -10,6 +10,7 @@ pub mod formats;
 pub mod ledger;
 pub mod mapping;
 pub mod reconcile;
+pub mod rows;
 pub mod sniff;
 pub mod table;
 pub mod view;
@@ -25,7 +26,8 @@ use crate::error::{Error, Result};
 use crate::ids::IdMap;
 use ledger::{Counts, FileReport, Ledger, QuarantineReason, QuarantinedRow, Role};
 use mapping::{ColumnRef, Mapping};
-use reconcile::{Attributes, ExposureRows, FieldChecker, FileCtx, PeopleBuilder};
+use reconcile::{Attributes, FieldChecker, FileCtx, PeopleBuilder};
+use rows::ExposureRows;
 use table::{ReadOptions, Table};
 
 /// Options of one load.

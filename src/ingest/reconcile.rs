@@ -1,4 +1,5 @@
-//! Frames -> people, exposure rows and aggregated contact pairs, filling the ledger.
+//! Frames -> people and their attributes, with the field checks every table shares, filling
+//! the ledger (exposure rows: `rows`).
 //!
 //! People rows are interned first, so the people table fixes the first node indices; exposure
 //! rows are checked for usable IDs *before* their IDs are interned, so a quarantined row adds
@@ -9,7 +10,7 @@ use polars::prelude::*;
 use super::dates::{self, DateParser, DateProblem};
 use super::ledger::{Counts, FieldProblem, ProblemKind, QuarantineReason, QuarantinedRow};
 use super::mapping::Mapping;
-use super::table::{Chunk, LineMap, TableMeta};
+use super::table::{Chunk, TableMeta};
 use crate::error::{Error, Result};
 use crate::ids::IdMap;
 
@@ -37,7 +38,7 @@ impl Attributes {
         self.values[c].get(node as usize)?.as_deref()
     }
 
-    fn ensure_column(&mut self, name: &str, nodes: usize) -> usize {
+    pub(super) fn ensure_column(&mut self, name: &str, nodes: usize) -> usize {
         match self.column(name) {
             Some(c) => c,
             None => {
@@ -61,7 +62,7 @@ pub struct FileCtx<'a> {
     pub counts: Counts,
 }
 
-fn text_column<'a>(
+pub(super) fn text_column<'a>(
     frame: &'a DataFrame,
     idx: Option<usize>,
     path: &std::path::Path,
@@ -79,19 +80,19 @@ fn text_column<'a>(
 }
 
 /// Values of an optional column as an iterator of `Option<&str>` (all `None` if unmapped).
-fn values<'a>(col: Option<&'a StringChunked>, n: usize) -> Values<'a> {
+pub(super) fn values<'a>(col: Option<&'a StringChunked>, n: usize) -> Values<'a> {
     match col {
         Some(c) => Box::new(c.iter()),
         None => Box::new(std::iter::repeat_n(None, n)),
     }
 }
 
-fn trimmed(v: Option<&str>) -> Option<&str> {
+pub(super) fn trimmed(v: Option<&str>) -> Option<&str> {
     v.map(str::trim).filter(|s| !s.is_empty())
 }
 
 /// The row's values comma-joined, for the quarantine report.
-fn raw_row(frame: &DataFrame, row: usize) -> String {
+pub(super) fn raw_row(frame: &DataFrame, row: usize) -> String {
     frame
         .columns()
         .iter()
@@ -124,7 +125,7 @@ impl FieldChecker {
         }
     }
 
-    fn problem(
+    pub(super) fn problem(
         &mut self,
         ctx: &mut FileCtx,
         line: u64,
@@ -384,393 +385,4 @@ impl PeopleBuilder {
 }
 
 /// An optional column's values, row by row.
-type Values<'a> = Box<dyn Iterator<Item = Option<&'a str>> + Send + 'a>;
-
-/// Below this many usable rows in a chunk, a second thread costs more than it saves.
-const PARALLEL_ROWS: usize = 50_000;
-
-/// The optional exposure columns of one chunk: (column index, values).
-struct OptionalColumns<'a> {
-    last: (Option<usize>, Values<'a>),
-    first: (Option<usize>, Values<'a>),
-    setting: (Option<usize>, Values<'a>),
-    minutes: (Option<usize>, Values<'a>),
-}
-
-/// The part of [`ExposureRows`] that field checks write.
-struct FieldStage<'s> {
-    last: &'s mut Vec<i32>,
-    first: &'s mut Vec<i32>,
-    minutes: &'s mut Vec<f32>,
-    setting: &'s mut Vec<u16>,
-    settings: &'s mut IdMap,
-    setting_spellings: &'s mut hashbrown::HashMap<Box<str>, u16>,
-}
-
-impl FieldStage<'_> {
-    /// Check dates, durations and settings of the usable rows, in row order.
-    fn run(
-        &mut self,
-        cols: OptionalColumns,
-        usable: &[u32],
-        lines: &LineMap,
-        ctx: &mut FileCtx,
-        checker: &mut FieldChecker,
-    ) {
-        let OptionalColumns {
-            last,
-            first,
-            setting,
-            minutes,
-        } = cols;
-        let (last_c, first_c, set_c, min_c) = (last.0, first.0, setting.0, minutes.0);
-        let rows = last
-            .1
-            .zip(first.1)
-            .zip(setting.1.zip(minutes.1))
-            .enumerate();
-        let mut next = usable.iter().peekable();
-        for (row, ((l, f), (st, mi))) in rows {
-            if next.peek().is_none_or(|&&u| u as usize != row) {
-                continue;
-            }
-            next.next();
-            let line = lines.line(row);
-            let ld = checker.date(ctx, line, last_c, l);
-            let mut fd = checker.date(ctx, line, first_c, f);
-            if ld != NO_DATE && fd != NO_DATE && fd > ld {
-                let v = f.unwrap_or("").trim().to_string();
-                let msg = format!(
-                    "first exposure after the last exposure ({}); left empty",
-                    dates::iso(ld)
-                );
-                checker.problem(
-                    ctx,
-                    line,
-                    first_c.unwrap_or(0),
-                    &v,
-                    ProblemKind::DateOrder,
-                    msg,
-                );
-                fd = NO_DATE;
-            }
-            if last_c.is_some() {
-                self.last.push(ld);
-            }
-            if first_c.is_some() {
-                self.first.push(fd);
-            }
-            if min_c.is_some() {
-                self.minutes.push(checker.minutes(ctx, line, min_c, mi));
-            }
-            if set_c.is_some() {
-                let code = match trimmed(st) {
-                    None => 0,
-                    Some(label) => match self.setting_spellings.get(label) {
-                        Some(&c) => c,
-                        None => {
-                            let (i, _) = self.settings.intern(label);
-                            let c = u16::try_from(i + 1).unwrap_or(u16::MAX);
-                            self.setting_spellings.insert(label.into(), c);
-                            c
-                        }
-                    },
-                };
-                self.setting.push(code);
-            }
-        }
-    }
-}
-
-/// Append the values of unmapped columns for the usable rows of a chunk. `rows_after` is the
-/// number of usable rows stored once this chunk is counted; columns that earlier files lacked
-/// are padded with empty values first.
-fn keep_extra_columns(
-    extras: &mut Attributes,
-    frame: &DataFrame,
-    meta: &TableMeta,
-    mapping: &Mapping,
-    usable: &[u32],
-    rows_after: usize,
-) -> Result<()> {
-    let before = rows_after - usable.len();
-    for c in (0..meta.columns.len()).filter(|c| !mapping.fields.values().any(|i| i == c)) {
-        let k = extras.ensure_column(&meta.columns[c], before);
-        let col = text_column(frame, Some(c), &meta.path)?
-            .into_iter()
-            .flat_map(|s| s.iter());
-        let values = &mut extras.values[k];
-        values.resize(before, None);
-        let mut next = usable.iter().peekable();
-        for (row, v) in col.enumerate() {
-            if next.peek().is_some_and(|&&u| u as usize == row) {
-                next.next();
-                values.push(trimmed(v).map(Into::into));
-            }
-        }
-    }
-    for v in extras.values.iter_mut() {
-        v.resize(rows_after, None);
-    }
-    Ok(())
-}
-
-/// Exposure rows kept for aggregation, in input order.
-#[derive(Debug, Default)]
-pub struct ExposureRows {
-    /// `min(a, b) << 32 | max(a, b)` for each usable row.
-    pub keys: Vec<u64>,
-    /// True when the row named the smaller node as source.
-    pub forward: Vec<bool>,
-    /// Last exposure date (day number or NO_DATE), if the field is mapped anywhere.
-    pub last: Vec<i32>,
-    /// First exposure date.
-    pub first: Vec<i32>,
-    /// Minutes (NaN when missing).
-    pub minutes: Vec<f32>,
-    /// Setting code (0 = none; `settings.name(code - 1)` otherwise).
-    pub setting: Vec<u16>,
-    /// Distinct setting labels.
-    pub settings: IdMap,
-    /// Each spelling seen -> its setting code (saves folding case on every row).
-    setting_spellings: hashbrown::HashMap<Box<str>, u16>,
-    /// (file index, number of usable rows) in read order.
-    pub per_file: Vec<(usize, usize)>,
-    /// Rows quarantined.
-    pub quarantined: Vec<QuarantinedRow>,
-    /// Columns of the exposures table(s) that map to no field: kept per usable row.
-    pub extras: Attributes,
-    /// 1 when the row is a known infector -> infectee link (source infected target), else 0;
-    /// empty when no file maps the `transmission` field.
-    pub links: Vec<u8>,
-}
-
-impl ExposureRows {
-    /// An empty store; setting labels compare case-insensitively.
-    pub fn new() -> ExposureRows {
-        ExposureRows {
-            settings: IdMap::new(false),
-            ..ExposureRows::default()
-        }
-    }
-
-    /// Process one chunk of an exposures file, interning IDs into `ids`.
-    pub fn add_chunk(
-        &mut self,
-        ctx: &mut FileCtx,
-        chunk: &Chunk,
-        ids: &mut IdMap,
-        checker: &mut FieldChecker,
-    ) -> Result<()> {
-        let frame = &chunk.frame;
-        let meta = ctx.meta;
-        let m = ctx.mapping;
-        let (src_c, tgt_c) = (m.get("source_id"), m.get("target_id"));
-        let (last_c, first_c, set_c, min_c) = (
-            m.get("exposure_date"),
-            m.get("first_exposure_date"),
-            m.get("setting"),
-            m.get("duration_min"),
-        );
-        if ctx.counts.read == 0 {
-            checker.check_ambiguity(meta, frame, &[last_c, first_c])?;
-        }
-        let n = frame.height();
-        let src = text_column(frame, src_c, &meta.path)?;
-        let tgt = text_column(frame, tgt_c, &meta.path)?;
-        let (Some(src), Some(tgt)) = (src, tgt) else {
-            return Err(Error::format(
-                &meta.path,
-                "source_id and target_id must be mapped",
-            ));
-        };
-        if self.per_file.last().is_none_or(|(f, _)| *f != ctx.file) {
-            self.per_file.push((ctx.file, 0));
-        }
-        // A field this file maps but an earlier file did not: pad the earlier rows first.
-        let done = self.keys.len();
-        if last_c.is_some() && self.last.len() < done {
-            self.last.resize(done, NO_DATE);
-        }
-        if first_c.is_some() && self.first.len() < done {
-            self.first.resize(done, NO_DATE);
-        }
-        if min_c.is_some() && self.minutes.len() < done {
-            self.minutes.resize(done, f32::NAN);
-        }
-        if set_c.is_some() && self.setting.len() < done {
-            self.setting.resize(done, 0);
-        }
-        // Stage A: which rows can form an exposure. A quarantined row adds nothing, so this
-        // decision comes before any ID is interned.
-        let mut usable: Vec<u32> = Vec::with_capacity(n);
-        let mut pairs: Vec<(&str, &str)> = Vec::with_capacity(n);
-        for (row, (s, t)) in src.iter().zip(tgt.iter()).enumerate() {
-            ctx.counts.read += 1;
-            let (s, t) = (trimmed(s), trimmed(t));
-            let reason = match (s, t) {
-                (None, _) => QuarantineReason::MissingId {
-                    field: "source_id".into(),
-                },
-                (_, None) => QuarantineReason::MissingId {
-                    field: "target_id".into(),
-                },
-                (Some(a), Some(b)) if ids.same(a, b) => QuarantineReason::SelfExposure,
-                (Some(a), Some(b)) => {
-                    usable.push(row as u32);
-                    pairs.push((a, b));
-                    continue;
-                }
-            };
-            ctx.counts.quarantined += 1;
-            self.quarantined.push(QuarantinedRow {
-                file: ctx.file,
-                line: chunk.lines.line(row),
-                reason,
-                raw: raw_row(frame, row),
-            });
-        }
-        // Stages B (field checks) and C (interning IDs) touch disjoint data, so they run on
-        // two threads at once; B's problems are counted in its own context and added back.
-        let mut fctx = FileCtx {
-            file: ctx.file,
-            meta,
-            mapping: m,
-            counts: Counts::default(),
-        };
-        let ExposureRows {
-            keys,
-            forward,
-            last,
-            first,
-            minutes,
-            setting,
-            settings,
-            setting_spellings,
-            per_file,
-            ..
-        } = self;
-        let mut field_stage = FieldStage {
-            last,
-            first,
-            minutes,
-            setting,
-            settings,
-            setting_spellings,
-        };
-        let cols = OptionalColumns {
-            last: (last_c, values(text_column(frame, last_c, &meta.path)?, n)),
-            first: (first_c, values(text_column(frame, first_c, &meta.path)?, n)),
-            setting: (set_c, values(text_column(frame, set_c, &meta.path)?, n)),
-            minutes: (min_c, values(text_column(frame, min_c, &meta.path)?, n)),
-        };
-        let intern = |keys: &mut Vec<u64>, forward: &mut Vec<bool>, ids: &mut IdMap| {
-            keys.reserve(pairs.len());
-            forward.reserve(pairs.len());
-            for &(s, t) in &pairs {
-                let (a, _) = ids.intern(s);
-                let (b, _) = ids.intern(t);
-                let (lo, hi) = if a < b { (a, b) } else { (b, a) };
-                keys.push(u64::from(lo) << 32 | u64::from(hi));
-                forward.push(a < b);
-            }
-        };
-        if usable.len() < PARALLEL_ROWS {
-            field_stage.run(cols, &usable, &chunk.lines, &mut fctx, checker);
-            intern(keys, forward, ids);
-        } else {
-            std::thread::scope(|sc| {
-                let h =
-                    sc.spawn(|| field_stage.run(cols, &usable, &chunk.lines, &mut fctx, checker));
-                intern(keys, forward, ids);
-                h.join().map_err(|_| {
-                    Error::format(
-                        &meta.path,
-                        "internal error: field checks failed; please report",
-                    )
-                })
-            })?;
-        }
-        ctx.counts.field_problems += fctx.counts.field_problems;
-        keep_extra_columns(&mut self.extras, frame, meta, m, &usable, self.keys.len())?;
-        if let Some(c) = m.get("transmission") {
-            let before = self.keys.len() - usable.len();
-            self.links.resize(before, 0);
-            let col = text_column(frame, Some(c), &meta.path)?
-                .into_iter()
-                .flat_map(|s| s.iter());
-            let mut next = usable.iter().peekable();
-            for (row, v) in col.enumerate() {
-                if next.peek().is_none_or(|&&u| u as usize != row) {
-                    continue;
-                }
-                next.next();
-                let flag = match trimmed(v).map(str::to_ascii_lowercase).as_deref() {
-                    None | Some("no" | "n" | "false" | "f" | "0") => 0,
-                    Some("yes" | "y" | "true" | "t" | "1") => 1,
-                    Some(other) => {
-                        let msg = "not yes or no; read as no".to_string();
-                        checker.problem(
-                            ctx,
-                            chunk.lines.line(row),
-                            c,
-                            other,
-                            ProblemKind::UnreadableFlag,
-                            msg,
-                        );
-                        0
-                    }
-                };
-                self.links.push(flag);
-            }
-        }
-        if let Some(last) = per_file.last_mut() {
-            last.1 += usable.len();
-        }
-        Ok(())
-    }
-
-    /// The rows for which `keep` is true (same order), for a sub-network view.
-    pub fn subset(&self, keep: &[bool]) -> ExposureRows {
-        fn pick<T: Copy>(v: &[T], keep: &[bool]) -> Vec<T> {
-            if v.is_empty() {
-                return Vec::new();
-            }
-            v.iter()
-                .zip(keep)
-                .filter(|(_, &k)| k)
-                .map(|(x, _)| *x)
-                .collect()
-        }
-        ExposureRows {
-            keys: pick(&self.keys, keep),
-            forward: pick(&self.forward, keep),
-            last: pick(&self.last, keep),
-            first: pick(&self.first, keep),
-            minutes: pick(&self.minutes, keep),
-            setting: pick(&self.setting, keep),
-            links: pick(&self.links, keep),
-            ..ExposureRows::new()
-        }
-    }
-
-    /// Pad attribute arrays when files differ in which optional fields they map, so that
-    /// every array has one entry per usable row.
-    pub fn pad(&mut self) {
-        let n = self.keys.len();
-        for v in [&mut self.last, &mut self.first] {
-            if !v.is_empty() && v.len() < n {
-                v.resize(n, NO_DATE);
-            }
-        }
-        if !self.minutes.is_empty() && self.minutes.len() < n {
-            self.minutes.resize(n, f32::NAN);
-        }
-        if !self.setting.is_empty() && self.setting.len() < n {
-            self.setting.resize(n, 0);
-        }
-        if !self.links.is_empty() && self.links.len() < n {
-            self.links.resize(n, 0);
-        }
-    }
-}
+pub(super) type Values<'a> = Box<dyn Iterator<Item = Option<&'a str>> + Send + 'a>;

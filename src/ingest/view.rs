@@ -2,7 +2,8 @@
 //! the same (N does not change) and the ledger still accounts for every row.
 
 use super::dates;
-use super::reconcile::{ExposureRows, NO_DATE};
+use super::reconcile::NO_DATE;
+use super::rows::ExposureRows;
 use crate::error::{Error, Result};
 
 /// A sub-network: exposure rows kept by setting and by date. The people stay the same (N does
