@@ -1,13 +1,17 @@
 //! hubwatch: contact-tracing networks from tracing exports.
 //!
-//! Data flows one way:
+//! Data flows one way, each layer importing only the ones before it (checked by
+//! `tests/it/layers.rs`):
 //!
 //! ```text
-//! files --ingest--> frames (polars) --reconcile--> people, exposure rows, ledger
-//!       --graph--> contact pairs + adjacency (petgraph Csr) --summary--> figures -> CLI / JSON
+//! files --ingest--> rows + ledger --dataset--> pairs + adjacency (petgraph Csr)
+//!       --metrics--> statistics --analysis--> ranking, outlook, sentinel
+//!       --report--> one Report: text, JSON, tables, metadata --export--> files
+//!       --> cli (commands) and tui (the dashboard)
 //! ```
 //!
-//! No stage reaches back: the graph opens no files, the summary reads a finished `Dataset`.
+//! `error`, `sort`, `ids`, `config`, `export` (the one writer) and `workspace` sit below all
+//! of it.
 
 pub mod analysis;
 pub mod cli;

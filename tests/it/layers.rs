@@ -159,3 +159,25 @@ fn the_import_reader_sees_groups_and_paths() {
         vec!["tui", "cli"]
     );
 }
+
+#[test]
+fn the_contributor_guide_names_every_source_file() {
+    let root = Path::new(env!("CARGO_MANIFEST_DIR"));
+    let guide = std::fs::read_to_string(root.join("DEVELOPERS.md")).unwrap();
+    let mut files = Vec::new();
+    rust_files(&root.join("src"), &mut files);
+    let missing: Vec<String> = files
+        .iter()
+        .map(|f| f.strip_prefix(root).unwrap().display().to_string())
+        .filter(|rel| {
+            let (dir, name) = rel.rsplit_once('/').unwrap();
+            let listed_in_dir = guide.contains(&format!("{dir}/"))
+                && (guide.contains(&format!(" {name}")) || guide.contains(&format!("{dir}/<")));
+            !guide.contains(rel.as_str()) && !listed_in_dir
+        })
+        .collect();
+    assert!(
+        missing.is_empty(),
+        "DEVELOPERS.md's layout does not name: {missing:?}"
+    );
+}
