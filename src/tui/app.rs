@@ -16,8 +16,16 @@ use crate::analysis::planning::TSource;
 use crate::metrics::outlook;
 use crate::tui::keys::Pane;
 use crate::tui::model::{Model, ScopeStats};
+use crate::tui::panes::degrees::{self, DegreesView};
 pub use crate::tui::state::*;
 use crate::workspace::{PersonState, Workspace, FOLLOWUP_STATES};
+
+/// The view models of the panes that need one.
+#[derive(Debug, Clone, Default)]
+pub struct Views {
+    /// The Degrees pane.
+    pub degrees: DegreesView,
+}
 
 /// The dashboard state.
 pub struct App {
@@ -76,6 +84,8 @@ pub struct App {
     pub cutoff: usize,
     /// Outlook at the current T.
     pub outlook: OutlookNow,
+    /// The panes' view models, recomputed when the state changes (draw code only lays them out).
+    pub views: Views,
     /// Workspace state by person ID.
     pub states: HashMap<String, PersonState>,
     /// Workspace file.
@@ -123,11 +133,18 @@ impl App {
             },
             states,
             workspace_path: m.workspace_path.clone(),
+            views: Views::default(),
         };
         app.refilter(m);
         app.set_t(m, None);
         app.update_cluster_bridges(m);
+        app.refresh_views(m);
         app
+    }
+
+    /// Recompute the panes' view models from the state.
+    pub fn refresh_views(&mut self, m: &Model) {
+        self.views.degrees = degrees::view(m, self);
     }
 
     /// The degree figures in scope: the selected cluster's, else the whole network's.

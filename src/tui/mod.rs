@@ -174,7 +174,7 @@ pub fn run(start: Start) -> Result<()> {
                 panic!("panic requested by HUBWATCH_TEST_PANIC");
             }
         }
-        if app.poll_jobs() {
+        if app.poll_jobs(&model) {
             dirty = true;
         }
         let wait = if app.scope_pending.is_some() { 30 } else { 200 };

@@ -404,7 +404,7 @@ fn filtered_figures_on_a_worker_thread() {
     assert!(app.scope_pending.is_some());
     assert!(text(&m, &app, dir.path()).contains("Computing the figures"));
     let start = std::time::Instant::now();
-    while !app.poll_jobs() {
+    while !app.poll_jobs(&m) {
         assert!(start.elapsed().as_secs() < 30, "no result");
         std::thread::sleep(std::time::Duration::from_millis(5));
     }
@@ -417,7 +417,7 @@ fn filtered_figures_on_a_worker_thread() {
     app.act(&m, Action::Go(Pane::Priority));
     app.act(&m, Action::FilterArea);
     while app.scope_pending.is_some() {
-        app.poll_jobs();
+        app.poll_jobs(&m);
         std::thread::sleep(std::time::Duration::from_millis(5));
     }
     assert!(app.scope.is_none() || app.scope_for == app.filters);
@@ -441,4 +441,26 @@ fn whole_network_figures_match_the_filtered_path_over_everyone() {
         (m.whole.mean, m.whole.edge_end_mean)
     );
     assert_eq!(s.shares, m.whole.shares);
+}
+
+#[test]
+fn the_degrees_view_is_recomputed_when_the_state_changes() {
+    // The draw code only lays out `app.views`; each action that changes what the pane shows
+    // recomputes it (issue 11: no fitting or cut-offs in render code).
+    let dir = tempfile::tempdir().unwrap();
+    let (m, mut app) = setup(dir.path());
+    let before = app.views.degrees.clone();
+    assert_eq!(before.p.len(), before.kmax + 1);
+    // Fitted values at every k shown (Poisson and geometric are defined at every k).
+    assert_eq!(before.fits[0].len(), before.kmax + 1);
+    app.act(&m, Action::Cutoff);
+    assert_ne!(app.views.degrees.kmax, before.kmax, "a new tail cut-off");
+    app.act(&m, Action::LogScale);
+    assert!(app.views.degrees.log);
+    assert!(app.views.degrees.title.contains("log scale"));
+    // A filter: the figures follow it, without the whole-network fits.
+    app.act(&m, Action::Go(Pane::Degrees));
+    app.act(&m, Action::FilterRole);
+    assert!(app.views.degrees.fits.iter().all(Vec::is_empty));
+    assert!(app.views.degrees.title.contains("role="));
 }

@@ -43,7 +43,7 @@ impl App {
     }
 
     /// Take finished background work; true when something arrived (redraw).
-    pub fn poll_jobs(&mut self) -> bool {
+    pub fn poll_jobs(&mut self, m: &Model) -> bool {
         let Some((filters, rx)) = &self.scope_pending else {
             return false;
         };
@@ -53,6 +53,7 @@ impl App {
                     self.scope = Some(s);
                 }
                 self.scope_pending = None;
+                self.refresh_views(m);
                 true
             }
             Err(std::sync::mpsc::TryRecvError::Empty) => false,

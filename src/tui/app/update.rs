@@ -22,6 +22,7 @@ impl App {
         if self.filters != self.scope_for && matches!(self.pane, Pane::Degrees | Pane::Neighbours) {
             self.rescope(m);
         }
+        self.refresh_views(m);
     }
 
     pub(super) fn act_inner(&mut self, m: &Model, action: Action) {
