@@ -64,7 +64,7 @@ impl Bench {
     fn degrees_after_filter(&mut self, m: &Model, app: &mut App) -> [(&'static str, f64); 2] {
         let key = self.key(m, app, Action::Go(Pane::Degrees));
         let t0 = Instant::now();
-        while app.scope_pending.is_some() && !app.poll_jobs(&m) {
+        while app.scope_pending.is_some() && !app.poll_jobs(m) {
             std::thread::sleep(std::time::Duration::from_millis(1));
         }
         self.draw(m, app);
