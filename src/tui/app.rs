@@ -17,6 +17,7 @@ use crate::metrics::outlook;
 use crate::tui::keys::Pane;
 use crate::tui::model::{Model, ScopeStats};
 use crate::tui::panes::degrees::{self, DegreesView};
+use crate::tui::panes::outlook::{self as outlook_pane, OutlookView};
 pub use crate::tui::state::*;
 use crate::workspace::{PersonState, Workspace, FOLLOWUP_STATES};
 
@@ -25,6 +26,8 @@ use crate::workspace::{PersonState, Workspace, FOLLOWUP_STATES};
 pub struct Views {
     /// The Degrees pane.
     pub degrees: DegreesView,
+    /// The Outlook pane.
+    pub outlook: OutlookView,
 }
 
 /// The dashboard state.
@@ -86,6 +89,8 @@ pub struct App {
     pub outlook: OutlookNow,
     /// The panes' view models, recomputed when the state changes (draw code only lays them out).
     pub views: Views,
+    /// The reach chart shows everyone followed (else it zooms to the R = 1 crossings).
+    pub reach_all: bool,
     /// Workspace state by person ID.
     pub states: HashMap<String, PersonState>,
     /// Workspace file.
@@ -134,6 +139,7 @@ impl App {
             states,
             workspace_path: m.workspace_path.clone(),
             views: Views::default(),
+            reach_all: false,
         };
         app.refilter(m);
         app.set_t(m, None);
@@ -145,6 +151,7 @@ impl App {
     /// Recompute the panes' view models from the state.
     pub fn refresh_views(&mut self, m: &Model) {
         self.views.degrees = degrees::view(m, self);
+        self.views.outlook = outlook_pane::view(m, self);
     }
 
     /// The degree figures in scope: the selected cluster's, else the whole network's.

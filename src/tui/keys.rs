@@ -124,6 +124,8 @@ pub enum Action {
     TDownBig,
     /// T back to where it came from.
     TReset,
+    /// The reach chart: zoom to where the strategies cross R = 1, or show everyone followed.
+    ReachZoom,
 }
 
 /// Where a binding works.
@@ -371,6 +373,13 @@ pub const BINDINGS: &[Binding] = &[
         "T as estimated",
         true,
     ),
+    b(
+        &[K::Char('z')],
+        In(P::Outlook),
+        A::ReachZoom,
+        "zoom: R = 1 crossings / all",
+        false,
+    ),
 ];
 
 /// Every action, for the completeness test.
@@ -409,6 +418,7 @@ pub fn all_actions() -> Vec<Action> {
         A::TUpBig,
         A::TDownBig,
         A::TReset,
+        A::ReachZoom,
     ];
     v.extend(Pane::ALL.iter().map(|&p| A::Go(p)));
     v

@@ -125,6 +125,8 @@ pub struct Model {
     /// Per ranked entry: the score component that contributes most ("why is this person
     /// here?").
     pub main_reason: Vec<&'static str>,
+    /// The quarantine overlay's lines, formatted once: (text, is a field problem).
+    pub quarantine_lines: Vec<(String, bool)>,
     /// Where flags and follow-up states are kept.
     pub workspace_path: PathBuf,
     /// Folder for exports of the current view.
@@ -216,7 +218,9 @@ impl Model {
                     .unwrap_or("")
             })
             .collect();
+        let quarantine_lines = quarantine_lines(&d.ledger);
         Ok(Model {
+            quarantine_lines,
             index,
             orders,
             main_reason,
@@ -299,4 +303,36 @@ fn cluster_rows(d: &Dataset, stats: &NetworkStats) -> Vec<ClusterRow> {
         .collect();
     rows.sort_by(|a, b| b.size.cmp(&a.size).then(a.label.cmp(&b.label)));
     rows
+}
+
+/// Every quarantined row and field problem as one line of the overlay.
+fn quarantine_lines(l: &crate::ingest::ledger::Ledger) -> Vec<(String, bool)> {
+    let file = |i: usize| {
+        l.files
+            .get(i)
+            .map(|f| f.path.display().to_string())
+            .unwrap_or_default()
+    };
+    let rows = l.quarantined.iter().map(|q| {
+        let text = format!(
+            " quarantined  {}:{}  {}  {}",
+            file(q.file),
+            q.line,
+            q.reason.code(),
+            q.raw
+        );
+        (text, false)
+    });
+    let problems = l.problems.iter().map(|p| {
+        let text = format!(
+            " field        {}:{}  {} = {:?}  {}",
+            file(p.file),
+            p.line,
+            p.column,
+            p.value,
+            p.reason
+        );
+        (text, true)
+    });
+    rows.chain(problems).collect()
 }

@@ -200,42 +200,17 @@ fn quarantine(frame: &mut Frame, area: Rect, m: &Model, pos: usize, th: &Theme) 
     let l = &m.d.ledger;
     let r = centred(area, area.width.saturating_sub(4), area.height);
     let page = r.height.saturating_sub(2) as usize;
-    let file = |i: usize| {
-        l.files
-            .get(i)
-            .map(|f| f.path.display().to_string())
-            .unwrap_or_default()
-    };
-    let lines: Vec<Line> = l
-        .quarantined
+    let lines: Vec<Line> = m
+        .quarantine_lines
         .iter()
-        .map(|q| {
-            Line::from(Span::styled(
-                format!(
-                    " quarantined  {}:{}  {}  {}",
-                    file(q.file),
-                    q.line,
-                    q.reason.code(),
-                    q.raw
-                ),
-                th.text,
-            ))
-        })
-        .chain(l.problems.iter().map(|p| {
-            Line::from(Span::styled(
-                format!(
-                    " field        {}:{}  {} = {:?}  {}",
-                    file(p.file),
-                    p.line,
-                    p.column,
-                    p.value,
-                    p.reason
-                ),
-                th.dim,
-            ))
-        }))
         .skip(pos)
         .take(page)
+        .map(|(text, field)| {
+            Line::from(Span::styled(
+                text.as_str(),
+                if *field { th.dim } else { th.text },
+            ))
+        })
         .collect();
     frame.render_widget(Clear, r);
     frame.render_widget(

@@ -464,3 +464,27 @@ fn the_degrees_view_is_recomputed_when_the_state_changes() {
     assert!(app.views.degrees.fits.iter().all(Vec::is_empty));
     assert!(app.views.degrees.title.contains("role="));
 }
+
+#[test]
+fn the_reach_chart_zooms_to_the_crossings_and_z_shows_everyone() {
+    // Every strategy crosses R = 1 early on the sample: the chart shows a little past the last
+    // crossing, and z toggles to everyone followed (issue 11's pane fix).
+    let dir = tempfile::tempdir().unwrap();
+    let (m, mut app) = setup(dir.path());
+    let all = m.plan.strategies[0].len();
+    let last = app
+        .outlook
+        .below
+        .iter()
+        .flat_map(|(_, a, b)| [*a, *b])
+        .flatten()
+        .max()
+        .expect("a crossing on the sample");
+    let v = &app.views.outlook;
+    assert!(v.x_max >= last && v.x_max < all, "{} {last} {all}", v.x_max);
+    assert!(v.range.contains(&format!("of {all}")));
+    app.act(&m, Action::Go(Pane::Outlook));
+    app.act(&m, Action::ReachZoom);
+    assert_eq!(app.views.outlook.x_max, all);
+    assert!(app.views.outlook.range.is_empty());
+}

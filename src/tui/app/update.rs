@@ -233,6 +233,7 @@ impl App {
                 self.set_t(m, Some(t));
             }
             Action::TReset => self.set_t(m, None),
+            Action::ReachZoom => self.reach_all = !self.reach_all,
         }
     }
 

@@ -1,4 +1,8 @@
 //! The Outlook pane: threshold, expected outbreak size and residual R against people reached.
+//!
+//! [`view`] decides what the chart shows (the curves thinned to at most about 400 points, the
+//! range: zoomed to where the strategies cross R = 1, or everyone followed) and whether R0 is
+//! above the threshold; [`render`] lays it out.
 
 use ratatui::layout::{Constraint, Layout, Rect};
 use ratatui::symbols::Marker;
@@ -13,6 +17,7 @@ use crate::tui::model::Model;
 use crate::tui::theme::Theme;
 use crate::tui::ui::block;
 
+/// Lay out the pane.
 pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
     let [top, chart] = Layout::vertical([Constraint::Length(14), Constraint::Min(8)]).areas(area);
     let [figs, reach] =
@@ -25,10 +30,10 @@ pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
         f(plan.at_t.kappa, 3),
         f(plan.at_t.threshold, 3)
     )));
+    let v = &app.views.outlook;
     match &o.at_t {
         Some(at) => {
-            let r0 = at.r0.unwrap_or(0.0);
-            let (word, style) = if r0 > 1.0 {
+            let (word, style) = if v.above {
                 ("above the threshold", th.warn)
             } else {
                 ("below the threshold", th.good)
@@ -42,7 +47,7 @@ pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
                 pct(at.final_size),
                 pct(at.takeoff_probability)
             )));
-            if r0 <= 1.0 {
+            if !v.above {
                 lines.push(Line::from(format!(
                     "  mean outbreak size below threshold: {}",
                     f(at.mean_outbreak_size, 1)
@@ -104,25 +109,16 @@ pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
         )),
         reach,
     );
-    let t = o.t.unwrap_or(0.0);
+    let t = v.t;
     let markers = [Marker::Braille, Marker::Dot, Marker::Bar, Marker::Block];
     let glyph = ["⠒", "•", "▄", "█"];
-    let series: Vec<Vec<(f64, f64)>> = plan
-        .strategies
-        .iter()
-        .map(|s| {
-            let step = (s.len() / 400).max(1);
-            (0..=s.len())
-                .step_by(step)
-                .map(|n| (n as f64, t * s.curve.kappa[n].unwrap_or(0.0)))
-                .collect()
-        })
-        .collect();
+    let series = &v.series;
+    let limit = v.x_max;
     let one = [(0.0, 1.0), (limit as f64, 1.0)];
     let mut sets: Vec<Dataset> = plan
         .strategies
         .iter()
-        .zip(&series)
+        .zip(series)
         .enumerate()
         .map(|(i, (s, pts))| {
             Dataset::default()
@@ -141,14 +137,11 @@ pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
             .style(th.dim)
             .data(&one),
     );
-    let ymax = series
-        .iter()
-        .flat_map(|s| s.iter().map(|p| p.1))
-        .fold(1.5, f64::max);
+    let ymax = v.y_max;
     frame.render_widget(
         Chart::new(sets)
             .block(block(
-                format!("Residual R = T·κ′ against people reached (T = {t:.2}; + − ] [ move T, 0 resets)"),
+                format!("Residual R = T·κ′ against people reached{} (T = {t:.2}; + − ] [ move T, 0 resets, z zoom)", v.range),
                 th,
             ))
             .x_axis(
@@ -175,4 +168,77 @@ pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
             .hidden_legend_constraints((Constraint::Ratio(2, 3), Constraint::Ratio(2, 3))),
         chart,
     );
+}
+
+/// What the Outlook pane's chart and verdict show.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct OutlookView {
+    /// T of the curves (0 when unknown).
+    pub t: f64,
+    /// R0 above 1 at T.
+    pub above: bool,
+    /// Residual R per strategy, (people reached, R), thinned.
+    pub series: Vec<Vec<(f64, f64)>>,
+    /// Right end of the x axis.
+    pub x_max: usize,
+    /// Top of the y axis.
+    pub y_max: f64,
+    /// The range in words, for the title ("" when everyone is shown).
+    pub range: String,
+}
+
+/// The chart's range: a little past the last R = 1 crossing of any strategy (graph or model),
+/// or everyone followed when asked, or when no strategy crosses.
+fn x_range(app: &App, limit: usize) -> usize {
+    let last = app
+        .outlook
+        .below
+        .iter()
+        .flat_map(|(_, real, model)| [*real, *model])
+        .flatten()
+        .max();
+    match last {
+        Some(n) if !app.reach_all => (n + n / 2).max(10).min(limit),
+        _ => limit,
+    }
+}
+
+/// The pane's figures for the state.
+pub fn view(m: &Model, app: &App) -> OutlookView {
+    let plan = &m.plan;
+    let t = app.outlook.t.unwrap_or(0.0);
+    let limit = plan.strategies.first().map(|s| s.len()).unwrap_or(0);
+    let x_max = x_range(app, limit);
+    let series: Vec<Vec<(f64, f64)>> = plan
+        .strategies
+        .iter()
+        .map(|s| {
+            let end = x_max.min(s.len());
+            let step = (end / 400).max(1);
+            (0..=end)
+                .step_by(step)
+                .map(|n| (n as f64, t * s.curve.kappa[n].unwrap_or(0.0)))
+                .collect()
+        })
+        .collect();
+    let y_max = series
+        .iter()
+        .flat_map(|s| s.iter().map(|p| p.1))
+        .fold(1.5, f64::max);
+    let range = match x_max < limit {
+        true => format!(" · first {x_max} of {limit} (z shows all)"),
+        false => String::new(),
+    };
+    OutlookView {
+        t,
+        above: app
+            .outlook
+            .at_t
+            .as_ref()
+            .is_some_and(|at| at.r0.unwrap_or(0.0) > 1.0),
+        series,
+        x_max,
+        y_max,
+        range,
+    }
 }
