@@ -143,7 +143,7 @@ pub fn draw(frame: &mut Frame, m: &Model, app: &App, th: &Theme) {
         ))
     };
     frame.render_widget(Paragraph::new(status), a.status);
-    let footer: Vec<Span> = keys::footer(app.pane)
+    let footer: Vec<Span> = footer_fit(keys::footer(app.pane), a.footer.width as usize)
         .into_iter()
         .flat_map(|(k, h)| {
             [
@@ -224,6 +224,27 @@ fn quarantine(frame: &mut Frame, area: Rect, m: &Model, pos: usize, th: &Theme) 
         )),
         r,
     );
+}
+
+/// The footer's keys that fit in `width` columns, in the table's order; when some are left
+/// out, the help key ("?") is kept, since the overlay lists them all.
+pub fn footer_fit(items: Vec<(String, &'static str)>, width: usize) -> Vec<(String, &'static str)> {
+    let len = |(k, h): &(String, &str)| k.chars().count() + h.chars().count() + 3;
+    if items.iter().map(len).sum::<usize>() <= width {
+        return items;
+    }
+    let help = items.iter().find(|(k, _)| k == "?").cloned();
+    let mut used = help.as_ref().map_or(0, len);
+    let mut out = Vec::new();
+    for it in items.into_iter().filter(|(k, _)| k != "?") {
+        if used + len(&it) > width {
+            break;
+        }
+        used += len(&it);
+        out.push(it);
+    }
+    out.extend(help);
+    out
 }
 
 /// The plain text of a rendered buffer (for tests and the tmux notes).

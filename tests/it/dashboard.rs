@@ -488,3 +488,19 @@ fn the_reach_chart_zooms_to_the_crossings_and_z_shows_everyone() {
     assert_eq!(app.views.outlook.x_max, all);
     assert!(app.views.outlook.range.is_empty());
 }
+
+#[test]
+fn the_footer_keeps_what_fits_and_always_the_help_key() {
+    // At 120 columns the Priority pane's keys do not all fit: the footer drops the last ones
+    // and keeps "?", so no key is cut in the middle (issue 11's pane fix).
+    let items = keys::footer(Pane::Priority);
+    let kept = ui::footer_fit(items.clone(), 120);
+    assert!(kept.len() < items.len());
+    assert!(kept.iter().any(|(k, _)| k == "?"));
+    let width: usize = kept
+        .iter()
+        .map(|(k, h)| k.chars().count() + h.chars().count() + 3)
+        .sum();
+    assert!(width <= 120, "{width}");
+    assert_eq!(ui::footer_fit(items.clone(), 10_000), items);
+}

@@ -156,13 +156,27 @@ pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
             format!("  {name}: r = {}", f(mx.r, 3)),
             th.title,
         )));
-        let head: String = groups.iter().map(|g| format!(" {:>8.8}", g)).collect();
-        lines.push(Line::from(format!("  {:<10}{head}", "")));
+        // Columns by letter; each row names its letter and the group in full (the key).
+        let code = |i: usize| char::from(b'A' + i as u8);
+        let width = groups
+            .iter()
+            .map(|g| g.chars().count())
+            .max()
+            .unwrap_or(0)
+            .min(24);
+        let head: String = (0..groups.len())
+            .map(|j| format!(" {:>6}", code(j)))
+            .collect();
+        lines.push(Line::from(format!("  {:<w$}{head}", "", w = width + 2)));
         for (i, g) in groups.iter().enumerate() {
             let row: String = (0..groups.len())
-                .map(|j| format!(" {:>8}", mx.pairs[i][j]))
+                .map(|j| format!(" {:>6}", mx.pairs[i][j]))
                 .collect();
-            lines.push(Line::from(format!("  {:<10.10}{row}", g)));
+            lines.push(Line::from(format!(
+                "  {} {:<width$.width$}{row}",
+                code(i),
+                g
+            )));
         }
     }
     for (setting, r) in &m.stats.r_by_setting {
