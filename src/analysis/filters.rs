@@ -12,7 +12,8 @@ use std::collections::HashMap;
 use crate::analysis::priority::Ranked;
 use crate::analysis::stats::NetworkStats;
 use crate::dataset::Dataset;
-use crate::error::{Error, Result};
+use crate::error::Result;
+use crate::ingest::view::setting_code;
 use crate::workspace::FOLLOWUP_STATES;
 
 /// People attributes a filter can ask for by value, in this order everywhere.
@@ -239,7 +240,7 @@ impl FilterIndex {
         });
         let setting = match &f.setting {
             None => None,
-            Some(label) => Some(setting_code(d, label)?),
+            Some(label) => Some(setting_code(&d.settings, label)?),
         };
         // Codes beyond the bits: one pass over the graph for this setting.
         let wide = setting.filter(|&c| c > 64).map(|c| {
@@ -297,18 +298,4 @@ pub struct Matcher {
     still_in_window: bool,
     not_reached: bool,
     cluster: Option<u32>,
-}
-
-/// The code of a setting label (case-insensitive), or an error naming the export's settings.
-pub fn setting_code(d: &Dataset, label: &str) -> Result<u16> {
-    d.settings
-        .iter()
-        .position(|s| s.eq_ignore_ascii_case(label))
-        .map(|i| (i + 1) as u16)
-        .ok_or_else(|| {
-            Error::Usage(format!(
-                "no exposure has setting \"{label}\"; settings in this export: {}",
-                d.settings.join(", ")
-            ))
-        })
 }

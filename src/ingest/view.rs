@@ -54,20 +54,24 @@ impl View {
     }
 }
 
+/// The code of a setting label (case-insensitive; code c is `labels[c - 1]`), or an error
+/// naming the export's settings.
+pub fn setting_code(labels: &[String], name: &str) -> Result<u16> {
+    labels
+        .iter()
+        .position(|l| l.eq_ignore_ascii_case(name))
+        .map(|i| (i + 1) as u16)
+        .ok_or_else(|| {
+            Error::Usage(format!(
+                "no exposure has setting \"{name}\"; settings in this export: {}",
+                labels.join(", ")
+            ))
+        })
+}
+
 /// Which rows of `rows` the view keeps; unknown setting names are an error naming the known ones.
 pub fn mask(view: &View, rows: &ExposureRows, labels: &[String]) -> Result<Vec<bool>> {
-    let code_of = |name: &String| -> Result<u16> {
-        labels
-            .iter()
-            .position(|l| l.eq_ignore_ascii_case(name))
-            .map(|i| (i + 1) as u16)
-            .ok_or_else(|| {
-                Error::Usage(format!(
-                    "no exposure has setting \"{name}\"; settings in this export: {}",
-                    labels.join(", ")
-                ))
-            })
-    };
+    let code_of = |name: &String| setting_code(labels, name);
     let include: Vec<u16> = view.settings.iter().map(code_of).collect::<Result<_>>()?;
     let exclude: Vec<u16> = view
         .exclude_settings
