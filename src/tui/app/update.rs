@@ -27,28 +27,7 @@ impl App {
 
     pub(super) fn act_inner(&mut self, m: &Model, action: Action) {
         self.message = None;
-        if let Overlay::Quarantine(pos) = self.overlay {
-            let len = m.d.ledger.quarantined.len() + m.d.ledger.problems.len();
-            let page = page_rows(self.size, 0);
-            let mut lp = ListPos {
-                selected: pos,
-                offset: pos,
-            };
-            match action {
-                Action::Back | Action::Quarantine => self.overlay = Overlay::None,
-                Action::Quit => self.quit = true,
-                a => {
-                    lp.step(a, len, page);
-                    self.overlay = Overlay::Quarantine(lp.selected);
-                }
-            }
-            return;
-        }
-        if self.overlay == Overlay::Help {
-            self.overlay = Overlay::None;
-            if action == Action::Quit {
-                self.quit = true;
-            }
+        if self.overlay_key(m, action) {
             return;
         }
         let page = page_rows(self.size, 0);
@@ -63,59 +42,8 @@ impl App {
             | Action::PageUp
             | Action::PageDown
             | Action::Home
-            | Action::End => match self.pane {
-                Pane::Priority => {
-                    self.prio.step(action, self.rows.len(), page);
-                }
-                Pane::Clusters => {
-                    self.clusters.step(action, m.clusters.len(), page);
-                    self.update_cluster_bridges(m);
-                }
-                Pane::Person => {
-                    if let Some(p) = &mut self.person {
-                        let page = page_rows(self.size, 12);
-                        p.pos.step(action, p.contacts.len(), page);
-                    }
-                }
-                Pane::Overview if action == Action::Down => {
-                    self.overlay = Overlay::Quarantine(0);
-                }
-                _ => {}
-            },
-            Action::Open => match self.pane {
-                Pane::Priority => {
-                    if let Some(node) = self.target(m) {
-                        self.history.clear();
-                        self.person = None;
-                        self.open_person(m, node, false);
-                    }
-                }
-                Pane::Person => {
-                    let next = self
-                        .person
-                        .as_ref()
-                        .and_then(|p| p.contacts.get(p.pos.selected))
-                        .map(|c| c.node);
-                    if let Some(n) = next {
-                        self.open_person(m, n, true);
-                    }
-                }
-                Pane::Clusters => {
-                    if let Some(c) = m.clusters.get(self.clusters.selected) {
-                        self.filters.cluster = Some(c.label);
-                        self.refilter(m);
-                        self.say(
-                            format!(
-                                "filtered to cluster #{} ({} people); x clears",
-                                c.label + 1,
-                                c.size
-                            ),
-                            false,
-                        );
-                    }
-                }
-                _ => {}
-            },
+            | Action::End => self.move_in_pane(m, action, page),
+            Action::Open => self.open_in_pane(m),
             Action::Back => {
                 if self.pane == Pane::Person {
                     if let Some((node, pos, sort)) = self.history.pop() {
@@ -134,30 +62,7 @@ impl App {
             Action::Quarantine => self.overlay = Overlay::Quarantine(0),
             Action::LogScale => self.log_scale = !self.log_scale,
             Action::Cutoff => self.cutoff = (self.cutoff + 1) % CUTOFFS.len(),
-            Action::SortNext | Action::SortReverse => {
-                if self.pane == Pane::Person {
-                    if let Some(p) = &mut self.person {
-                        let (col, desc) = p.sort;
-                        p.sort = if action == Action::SortReverse {
-                            (col, !desc)
-                        } else {
-                            let i = ContactSort::ALL.iter().position(|&c| c == col).unwrap_or(0);
-                            (ContactSort::ALL[(i + 1) % ContactSort::ALL.len()], true)
-                        };
-                        sort_contacts(&mut p.contacts, p.sort);
-                        p.pos = ListPos::default();
-                    }
-                } else {
-                    let (col, desc) = self.sort;
-                    self.sort = if action == Action::SortReverse {
-                        (col, !desc)
-                    } else {
-                        let i = SortCol::ALL.iter().position(|&c| c == col).unwrap_or(0);
-                        (SortCol::ALL[(i + 1) % SortCol::ALL.len()], false)
-                    };
-                    self.refilter(m);
-                }
-            }
+            Action::SortNext | Action::SortReverse => self.sort_by(m, action),
             Action::FilterRole => self.cycle_field(m, 0),
             Action::FilterStatus => self.cycle_field(m, 1),
             Action::FilterArea => self.cycle_field(m, 2),
@@ -175,13 +80,154 @@ impl App {
                 self.refilter(m);
                 self.say("filters cleared", false);
             }
-            Action::Flag => {
-                if self.target(m).is_some() {
-                    self.input = Some(Input {
-                        purpose: Purpose::Flag,
-                        text: String::new(),
-                    });
+            Action::Flag | Action::Note | Action::Followup => self.person_state(m, action),
+            Action::Export => {
+                let name = format!("hubwatch-view-{}.csv", dates::iso(m.d.as_of));
+                self.input = Some(Input {
+                    purpose: Purpose::Export,
+                    text: m.export_dir.join(name).display().to_string(),
+                });
+            }
+            Action::TUp | Action::TDown | Action::TUpBig | Action::TDownBig => {
+                let step = match action {
+                    Action::TUp => 0.01,
+                    Action::TDown => -0.01,
+                    Action::TUpBig => 0.1,
+                    _ => -0.1,
+                };
+                let t = self.outlook.t.unwrap_or(0.0) + step;
+                self.set_t(m, Some(t));
+            }
+            Action::TReset => self.set_t(m, None),
+            Action::ReachZoom => self.reach_all = !self.reach_all,
+        }
+    }
+
+    /// Keys while an overlay is open: the quarantine list scrolls, help closes on any key.
+    /// True when the key was the overlay's.
+    fn overlay_key(&mut self, m: &Model, action: Action) -> bool {
+        if let Overlay::Quarantine(pos) = self.overlay {
+            let len = m.d.ledger.quarantined.len() + m.d.ledger.problems.len();
+            let page = page_rows(self.size, 0);
+            let mut lp = ListPos {
+                selected: pos,
+                offset: pos,
+            };
+            match action {
+                Action::Back | Action::Quarantine => self.overlay = Overlay::None,
+                Action::Quit => self.quit = true,
+                a => {
+                    lp.step(a, len, page);
+                    self.overlay = Overlay::Quarantine(lp.selected);
                 }
+            }
+            return true;
+        }
+        if self.overlay == Overlay::Help {
+            self.overlay = Overlay::None;
+            if action == Action::Quit {
+                self.quit = true;
+            }
+            return true;
+        }
+        false
+    }
+
+    /// Up, down, page and ends in the pane's list (Down on the Overview opens the quarantine).
+    fn move_in_pane(&mut self, m: &Model, action: Action, page: usize) {
+        match self.pane {
+            Pane::Priority => {
+                self.prio.step(action, self.rows.len(), page);
+            }
+            Pane::Clusters => {
+                self.clusters.step(action, m.clusters.len(), page);
+                self.update_cluster_bridges(m);
+            }
+            Pane::Person => {
+                if let Some(p) = &mut self.person {
+                    let page = page_rows(self.size, 12);
+                    p.pos.step(action, p.contacts.len(), page);
+                }
+            }
+            Pane::Overview if action == Action::Down => {
+                self.overlay = Overlay::Quarantine(0);
+            }
+            _ => {}
+        }
+    }
+
+    /// Enter: open the selected person or contact, or filter to the selected cluster.
+    fn open_in_pane(&mut self, m: &Model) {
+        match self.pane {
+            Pane::Priority => {
+                if let Some(node) = self.target(m) {
+                    self.history.clear();
+                    self.person = None;
+                    self.open_person(m, node, false);
+                }
+            }
+            Pane::Person => {
+                let next = self
+                    .person
+                    .as_ref()
+                    .and_then(|p| p.contacts.get(p.pos.selected))
+                    .map(|c| c.node);
+                if let Some(n) = next {
+                    self.open_person(m, n, true);
+                }
+            }
+            Pane::Clusters => {
+                if let Some(c) = m.clusters.get(self.clusters.selected) {
+                    self.filters.cluster = Some(c.label);
+                    self.refilter(m);
+                    self.say(
+                        format!(
+                            "filtered to cluster #{} ({} people); x clears",
+                            c.label + 1,
+                            c.size
+                        ),
+                        false,
+                    );
+                }
+            }
+            _ => {}
+        }
+    }
+
+    /// Sort the list (or the person's contacts) by the next column, or reverse the sort.
+    fn sort_by(&mut self, m: &Model, action: Action) {
+        if self.pane == Pane::Person {
+            if let Some(p) = &mut self.person {
+                let (col, desc) = p.sort;
+                p.sort = if action == Action::SortReverse {
+                    (col, !desc)
+                } else {
+                    let i = ContactSort::ALL.iter().position(|&c| c == col).unwrap_or(0);
+                    (ContactSort::ALL[(i + 1) % ContactSort::ALL.len()], true)
+                };
+                sort_contacts(&mut p.contacts, p.sort);
+                p.pos = ListPos::default();
+            }
+        } else {
+            let (col, desc) = self.sort;
+            self.sort = if action == Action::SortReverse {
+                (col, !desc)
+            } else {
+                let i = SortCol::ALL.iter().position(|&c| c == col).unwrap_or(0);
+                (SortCol::ALL[(i + 1) % SortCol::ALL.len()], false)
+            };
+            self.refilter(m);
+        }
+    }
+
+    /// Flag, note (prompts) or the next follow-up state of the person the action applies to.
+    fn person_state(&mut self, m: &Model, action: Action) {
+        match action {
+            Action::Flag if self.target(m).is_some() => {
+                self.input = Some(Input {
+                    purpose: Purpose::Flag,
+                    text: String::new(),
+                });
             }
             Action::Note => {
                 if let Some(node) = self.target(m) {
@@ -215,25 +261,7 @@ impl App {
                     }
                 }
             }
-            Action::Export => {
-                let name = format!("hubwatch-view-{}.csv", dates::iso(m.d.as_of));
-                self.input = Some(Input {
-                    purpose: Purpose::Export,
-                    text: m.export_dir.join(name).display().to_string(),
-                });
-            }
-            Action::TUp | Action::TDown | Action::TUpBig | Action::TDownBig => {
-                let step = match action {
-                    Action::TUp => 0.01,
-                    Action::TDown => -0.01,
-                    Action::TUpBig => 0.1,
-                    _ => -0.1,
-                };
-                let t = self.outlook.t.unwrap_or(0.0) + step;
-                self.set_t(m, Some(t));
-            }
-            Action::TReset => self.set_t(m, None),
-            Action::ReachZoom => self.reach_all = !self.reach_all,
+            _ => {}
         }
     }
 
