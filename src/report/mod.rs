@@ -49,6 +49,8 @@ pub struct Report {
     pub plan: Option<Plan>,
     /// Workspace states.
     pub states: Vec<PersonState>,
+    /// Each person's position in ID order, when the outlook needed it.
+    pub id_rank: Option<Vec<u32>>,
 }
 
 impl Report {
@@ -63,6 +65,7 @@ impl Report {
             Some(req) => Some(rank_list(&d, &stats, req, &parts.states)?),
             None => None,
         };
+        let mut id_rank = None;
         let plan = parts.plan.as_ref().map(|opts| {
             let order = opts
                 .strategies
@@ -72,9 +75,11 @@ impl Report {
                         .map(|l| l.ranked.iter().map(|r| r.node).collect())
                 })
                 .flatten();
-            let id_rank = crate::metrics::reach::id_ranks(&d.ids);
+            let ranks = crate::metrics::reach::id_ranks(&d.ids);
             let t = planning::transmissibility_from(opts.transmissibility, &stats.cases);
-            planning::plan_with(&d, order, opts, &id_rank, t)
+            let plan = planning::plan_with(&d, order, opts, &ranks, t);
+            id_rank = Some(ranks);
+            plan
         });
         Ok(Report {
             summary: summarise(&d),
@@ -82,6 +87,7 @@ impl Report {
             list,
             plan,
             states: parts.states,
+            id_rank,
             d,
         })
     }

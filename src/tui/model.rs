@@ -5,17 +5,18 @@ use std::path::PathBuf;
 use std::sync::{Arc, OnceLock};
 
 use crate::analysis::filters::FilterIndex;
-use crate::analysis::planning::{self, Plan, PlanOptions, Strategy};
+use crate::analysis::planning::{Plan, PlanOptions, Strategy};
 use crate::analysis::priority::Ranked;
-use crate::analysis::ranking::{followup_map, rank_list, RankRequest, RankedList};
-use crate::analysis::stats::{compute, MetricOptions, NetworkStats};
-use crate::analysis::summary::{summarise, Summary};
+use crate::analysis::ranking::{followup_map, RankRequest, RankedList};
+use crate::analysis::stats::{MetricOptions, NetworkStats};
+use crate::analysis::summary::Summary;
 use crate::dataset::Dataset;
 use crate::error::Result;
 use crate::metrics::degree::{degree_stats, DegreeStats};
 use crate::metrics::mixing::NullModel;
 use crate::metrics::neighbours::{neighbours_of, Neighbours};
 use crate::metrics::Stat;
+use crate::report::{Parts, Report};
 use crate::workspace::PersonState;
 
 /// Degree figures of the whole network or of one cluster (what the Degrees and Neighbours panes
@@ -152,51 +153,42 @@ impl Model {
     ) -> Result<Model> {
         let t = std::time::Instant::now();
         // Everything but the null model now; the null model on a background thread.
-        let stats = compute(
-            &d,
-            &MetricOptions {
+        // The statistics without the null model, the list and the outlook: one report. The
+        // null model on a background thread (it takes seconds at a million rows).
+        let parts = Parts {
+            metrics: MetricOptions {
                 null_replicates: 0,
                 ..Default::default()
             },
+            rank: Some(rank.clone()),
+            plan: Some(PlanOptions {
+                max_reach: dash.reach_limit.min(d.people()).max(1),
+                repeats: dash.reach_repeats.max(1),
+                strategies: Strategy::ALL.to_vec(),
+                ..Default::default()
+            }),
+            states: states.to_vec(),
+        };
+        let Report {
+            d,
+            summary,
+            stats,
+            list,
+            plan,
+            id_rank,
+            ..
+        } = Report::build(d, parts)?;
+        let (list, plan) = (
+            list.expect("ranking asked for"),
+            plan.expect("outlook asked for"),
         );
-        let null = Arc::new(OnceLock::new());
-        {
-            let cell = Arc::clone(&null);
-            let (a, b, deg) = (d.edges.a.clone(), d.edges.b.clone(), stats.degrees.clone());
-            let o = MetricOptions::default();
-            std::thread::spawn(move || {
-                let r = crate::metrics::mixing::null_model(
-                    &a,
-                    &b,
-                    &deg,
-                    o.null_replicates,
-                    o.null_swaps_per_edge,
-                    o.seed,
-                );
-                let _ = cell.set(r);
-            });
-        }
-        let summary = summarise(&d);
-        let list = rank_list(&d, &stats, rank, states)?;
+        let id_rank = id_rank.unwrap_or_else(|| crate::metrics::reach::id_ranks(&d.ids));
+        let null = background_null_model(&d, &stats.degrees);
         let mut rank_pos = vec![u32::MAX; d.people()];
         for (i, r) in list.ranked.iter().enumerate() {
             rank_pos[r.node as usize] = i as u32;
         }
-        let opts = PlanOptions {
-            max_reach: dash.reach_limit.min(d.people()).max(1),
-            repeats: dash.reach_repeats.max(1),
-            ..Default::default()
-        };
-        let priority_order: Vec<u32> = list.ranked.iter().map(|r| r.node).collect();
-        let id_rank = crate::metrics::reach::id_ranks(&d.ids);
-        // The outlook and the list's sorted orders at the same time.
-        let (plan, orders) = std::thread::scope(|s| {
-            let orders = s.spawn(|| sorted_orders(&list.ranked));
-            // T from the case statistics computed above, not a second pass.
-            let t = planning::transmissibility_from(opts.transmissibility, &stats.cases);
-            let plan = planning::plan_with(&d, Some(priority_order), &opts, &id_rank, t);
-            (plan, orders.join().expect("sorting thread"))
-        });
+        let orders = sorted_orders(&list.ranked);
         let mut by_id = vec![u32::MAX; d.people()];
         for (i, r) in list.ranked.iter().enumerate() {
             by_id[id_rank[r.node as usize] as usize] = i as u32;
@@ -335,4 +327,24 @@ fn quarantine_lines(l: &crate::ingest::ledger::Ledger) -> Vec<(String, bool)> {
         (text, true)
     });
     rows.chain(problems).collect()
+}
+
+/// The null model of r, computed on a background thread; the cell is empty until it is done.
+fn background_null_model(d: &Dataset, degrees: &[u32]) -> Arc<OnceLock<NullModel>> {
+    let null = Arc::new(OnceLock::new());
+    let cell = Arc::clone(&null);
+    let (a, b, deg) = (d.edges.a.clone(), d.edges.b.clone(), degrees.to_vec());
+    let o = MetricOptions::default();
+    std::thread::spawn(move || {
+        let r = crate::metrics::mixing::null_model(
+            &a,
+            &b,
+            &deg,
+            o.null_replicates,
+            o.null_swaps_per_edge,
+            o.seed,
+        );
+        let _ = cell.set(r);
+    });
+    null
 }
