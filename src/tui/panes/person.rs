@@ -7,12 +7,12 @@ use ratatui::Frame;
 
 use super::*;
 use crate::ingest::dates;
-use crate::tui::app::App;
+use crate::tui::app::{App, PersonView};
 use crate::tui::model::Model;
 use crate::tui::theme::Theme;
 use crate::tui::ui::block;
 
-pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
+pub fn render(frame: &mut Frame, area: Rect, _m: &Model, app: &App, th: &Theme) {
     let Some(p) = &app.person else {
         frame.render_widget(
             Paragraph::new(vec![
@@ -31,6 +31,14 @@ pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
         Constraint::Percentage(33),
     ])
     .areas(top);
+    render_about(frame, about, app, p, th);
+    render_score(frame, score, p, th);
+    render_state(frame, state, p, th);
+    render_contacts(frame, bottom, p, th);
+}
+
+/// Who the person is: rank, contacts, window and the people-table attributes.
+fn render_about(frame: &mut Frame, area: Rect, app: &App, p: &PersonView, th: &Theme) {
     let mut lines: Vec<Line> = p
         .attrs
         .iter()
@@ -56,8 +64,12 @@ pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
         Paragraph::new(lines)
             .wrap(Wrap { trim: true })
             .block(block(format!("6 Person — {} · depth {depth}", p.id), th)),
-        about,
+        area,
     );
+}
+
+/// The score and what each component adds.
+fn render_score(frame: &mut Frame, area: Rect, p: &PersonView, th: &Theme) {
     let lines: Vec<Line> = p
         .parts
         .iter()
@@ -74,8 +86,12 @@ pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
             format!("Score {total:.3}: raw value → contribution"),
             th,
         )),
-        score,
+        area,
     );
+}
+
+/// The workspace state and the last changes.
+fn render_state(frame: &mut Frame, area: Rect, p: &PersonView, th: &Theme) {
     let mut lines = Vec::new();
     match &p.state {
         Some(s) => {
@@ -110,9 +126,13 @@ pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
         Paragraph::new(lines)
             .wrap(Wrap { trim: true })
             .block(block("Follow-up (workspace) and history".into(), th)),
-        state,
+        area,
     );
-    let page = bottom.height.saturating_sub(3) as usize;
+}
+
+/// The person's contacts, sorted, the selected one highlighted.
+fn render_contacts(frame: &mut Frame, area: Rect, p: &PersonView, th: &Theme) {
+    let page = area.height.saturating_sub(3) as usize;
     let rows: Vec<Row> = p
         .contacts
         .iter()
@@ -183,7 +203,6 @@ pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
             ),
             th,
         )),
-        bottom,
+        area,
     );
-    let _ = m;
 }
