@@ -10,7 +10,7 @@ use ratatui::Frame;
 use super::*;
 use crate::report::fmt::{pct, short as f};
 use crate::tui::app::{App, CUTOFFS};
-use crate::tui::model::Model;
+use crate::tui::model::{Model, ScopeStats};
 use crate::tui::theme::Theme;
 use crate::tui::ui::block;
 
@@ -24,6 +24,13 @@ pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
     let [left, right] =
         Layout::horizontal([Constraint::Percentage(50), Constraint::Percentage(50)]).areas(charts);
     let kmax = cutoff_k(&sc.histogram, CUTOFFS[app.cutoff]).max(1);
+    render_knn(frame, left, sc, kmax, th);
+    render_excess(frame, right, app, sc, kmax, th);
+    render_bottom(frame, bottom, m, sc, th);
+}
+
+/// k_nn(k) against the flat line an uncorrelated network gives.
+fn render_knn(frame: &mut Frame, area: Rect, sc: &ScopeStats, kmax: usize, th: &Theme) {
     let knn: Vec<(f64, f64)> = sc
         .knn
         .iter()
@@ -69,8 +76,19 @@ pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
         )
         .legend_position(Some(LegendPosition::TopRight))
         .hidden_legend_constraints((Constraint::Ratio(2, 3), Constraint::Ratio(2, 3))),
-        left,
+        area,
     );
+}
+
+/// The observed neighbour degrees against q_k.
+fn render_excess(
+    frame: &mut Frame,
+    area: Rect,
+    app: &App,
+    sc: &ScopeStats,
+    kmax: usize,
+    th: &Theme,
+) {
     let log = app.log_scale;
     let obs: Vec<(f64, f64)> = sc
         .contact_excess
@@ -119,10 +137,14 @@ pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
         .y_axis(y_axis(ymax2, log, th))
         .legend_position(Some(LegendPosition::TopRight))
         .hidden_legend_constraints((Constraint::Ratio(2, 3), Constraint::Ratio(2, 3))),
-        right,
+        area,
     );
+}
+
+/// The friendship paradox and the mixing matrices.
+fn render_bottom(frame: &mut Frame, area: Rect, m: &Model, sc: &ScopeStats, th: &Theme) {
     let [paradox, mixing] =
-        Layout::horizontal([Constraint::Percentage(45), Constraint::Percentage(55)]).areas(bottom);
+        Layout::horizontal([Constraint::Percentage(45), Constraint::Percentage(55)]).areas(area);
     let lines = vec![
         Line::from(format!(
             "  (a) end of a random exposure <k²>/<k>: {}",
