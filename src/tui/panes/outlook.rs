@@ -22,152 +22,9 @@ pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
     let [top, chart] = Layout::vertical([Constraint::Length(14), Constraint::Min(8)]).areas(area);
     let [figs, reach] =
         Layout::horizontal([Constraint::Percentage(50), Constraint::Percentage(50)]).areas(top);
-    let o = &app.outlook;
-    let mut lines = vec![Line::from(Span::styled(format!("  {}", o.source), th.text))];
-    let plan = &m.plan;
-    lines.push(Line::from(format!(
-        "  mean excess degree κ {} · threshold T_c {}",
-        f(plan.at_t.kappa, 3),
-        f(plan.at_t.threshold, 3)
-    )));
-    let v = &app.views.outlook;
-    match &o.at_t {
-        Some(at) => {
-            let (word, style) = if v.above {
-                ("above the threshold", th.warn)
-            } else {
-                ("below the threshold", th.good)
-            };
-            lines.push(Line::from(Span::styled(
-                format!("  R0 = T·κ = {} ({word})", f(at.r0, 3)),
-                style,
-            )));
-            lines.push(Line::from(format!(
-                "  expected outbreak size {} of people · take-off probability {}",
-                pct(at.final_size),
-                pct(at.takeoff_probability)
-            )));
-            if !v.above {
-                lines.push(Line::from(format!(
-                    "  mean outbreak size below threshold: {}",
-                    f(at.mean_outbreak_size, 1)
-                )));
-            }
-        }
-        None => lines.push(Line::from(Span::styled(
-            "  T unknown: + sets one (no secondary attack rate in this export)",
-            th.warn,
-        ))),
-    }
-    if let Some((lo, hi)) = &plan.band {
-        lines.push(Line::from(Span::styled(
-            format!(
-                "  over the SAR band: R0 {} to {} · size {} to {}",
-                f(lo.r0, 2),
-                f(hi.r0, 2),
-                pct(lo.final_size),
-                pct(hi.final_size)
-            ),
-            th.dim,
-        )));
-    }
-    lines.push(Line::from(Span::styled(MODEL_CAUTION_SHORT, th.warn)));
-    frame.render_widget(
-        Paragraph::new(lines).wrap(Wrap { trim: true }).block(block(
-            "7 Outlook — threshold and expected outbreak size".into(),
-            th,
-        )),
-        figs,
-    );
-    let mut lines = Vec::new();
-    let limit = plan.strategies.first().map(|s| s.len()).unwrap_or(0);
-    for (s, below, model) in &o.below {
-        let real = match below {
-            Some(n) => format!("reach {n} to bring R below 1"),
-            None => format!("R stays ≥ 1 within {limit}"),
-        };
-        let model = match model {
-            Some(n) => format!("model: {n}"),
-            None => "model: not within".into(),
-        };
-        lines.push(Line::from(vec![
-            Span::styled(format!("  {:<13}", s.name()), th.title),
-            Span::styled(format!("{real:<32}"), th.text),
-            Span::styled(model, th.dim),
-        ]));
-    }
-    for s in &plan.strategies {
-        lines.push(Line::from(Span::styled(
-            format!("  {}: {}", s.strategy.name(), s.strategy.rule()),
-            th.dim,
-        )));
-    }
-    frame.render_widget(
-        Paragraph::new(lines).wrap(Wrap { trim: true }).block(block(
-            "Reaching people first (they no longer pass it on)".into(),
-            th,
-        )),
-        reach,
-    );
-    let t = v.t;
-    let markers = [Marker::Braille, Marker::Dot, Marker::Bar, Marker::Block];
-    let glyph = ["⠒", "•", "▄", "█"];
-    let series = &v.series;
-    let limit = v.x_max;
-    let one = [(0.0, 1.0), (limit as f64, 1.0)];
-    let mut sets: Vec<Dataset> = plan
-        .strategies
-        .iter()
-        .zip(series)
-        .enumerate()
-        .map(|(i, (s, pts))| {
-            Dataset::default()
-                .name(format!("{} {}", glyph[i % 4], s.strategy.name()))
-                .marker(markers[i % 4])
-                .graph_type(GraphType::Line)
-                .style(th.series[i % 5])
-                .data(pts)
-        })
-        .collect();
-    sets.push(
-        Dataset::default()
-            .name("─ R = 1")
-            .marker(Marker::Braille)
-            .graph_type(GraphType::Line)
-            .style(th.dim)
-            .data(&one),
-    );
-    let ymax = v.y_max;
-    frame.render_widget(
-        Chart::new(sets)
-            .block(block(
-                format!("Residual R = T·κ′ against people reached{} (T = {t:.2}; + − ] [ move T, 0 resets, z zoom)", v.range),
-                th,
-            ))
-            .x_axis(
-                Axis::default()
-                    .bounds([0.0, limit.max(1) as f64])
-                    .labels(vec![
-                        Line::from("0"),
-                        Line::from(format!("{}", limit / 2)),
-                        Line::from(format!("{limit}")),
-                    ])
-                    .style(th.dim),
-            )
-            .y_axis(
-                Axis::default()
-                    .bounds([0.0, ymax])
-                    .labels(vec![
-                        Line::from("0"),
-                        Line::from(format!("{:.2}", ymax / 2.0)),
-                        Line::from(format!("{ymax:.2}")),
-                    ])
-                    .style(th.dim),
-            )
-            .legend_position(Some(LegendPosition::TopRight))
-            .hidden_legend_constraints((Constraint::Ratio(2, 3), Constraint::Ratio(2, 3))),
-        chart,
-    );
+    render_figures(frame, figs, m, app, th);
+    render_reach(frame, reach, m, app, th);
+    render_chart(frame, chart, m, app, th);
 }
 
 /// What the Outlook pane's chart and verdict show.
@@ -241,4 +98,164 @@ pub fn view(m: &Model, app: &App) -> OutlookView {
         y_max,
         range,
     }
+}
+
+/// The indicators at T, with the model caution.
+fn render_figures(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
+    let o = &app.outlook;
+    let mut lines = vec![Line::from(Span::styled(format!("  {}", o.source), th.text))];
+    let plan = &m.plan;
+    lines.push(Line::from(format!(
+        "  mean excess degree κ {} · threshold T_c {}",
+        f(plan.at_t.kappa, 3),
+        f(plan.at_t.threshold, 3)
+    )));
+    let v = &app.views.outlook;
+    match &o.at_t {
+        Some(at) => {
+            let (word, style) = if v.above {
+                ("above the threshold", th.warn)
+            } else {
+                ("below the threshold", th.good)
+            };
+            lines.push(Line::from(Span::styled(
+                format!("  R0 = T·κ = {} ({word})", f(at.r0, 3)),
+                style,
+            )));
+            lines.push(Line::from(format!(
+                "  expected outbreak size {} of people · take-off probability {}",
+                pct(at.final_size),
+                pct(at.takeoff_probability)
+            )));
+            if !v.above {
+                lines.push(Line::from(format!(
+                    "  mean outbreak size below threshold: {}",
+                    f(at.mean_outbreak_size, 1)
+                )));
+            }
+        }
+        None => lines.push(Line::from(Span::styled(
+            "  T unknown: + sets one (no secondary attack rate in this export)",
+            th.warn,
+        ))),
+    }
+    if let Some((lo, hi)) = &plan.band {
+        lines.push(Line::from(Span::styled(
+            format!(
+                "  over the SAR band: R0 {} to {} · size {} to {}",
+                f(lo.r0, 2),
+                f(hi.r0, 2),
+                pct(lo.final_size),
+                pct(hi.final_size)
+            ),
+            th.dim,
+        )));
+    }
+    lines.push(Line::from(Span::styled(MODEL_CAUTION_SHORT, th.warn)));
+    frame.render_widget(
+        Paragraph::new(lines).wrap(Wrap { trim: true }).block(block(
+            "7 Outlook — threshold and expected outbreak size".into(),
+            th,
+        )),
+        area,
+    );
+}
+
+/// Per strategy: how many people to reach to bring R below 1.
+fn render_reach(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
+    let (o, plan) = (&app.outlook, &m.plan);
+    let mut lines = Vec::new();
+    let limit = plan.strategies.first().map(|s| s.len()).unwrap_or(0);
+    for (s, below, model) in &o.below {
+        let real = match below {
+            Some(n) => format!("reach {n} to bring R below 1"),
+            None => format!("R stays ≥ 1 within {limit}"),
+        };
+        let model = match model {
+            Some(n) => format!("model: {n}"),
+            None => "model: not within".into(),
+        };
+        lines.push(Line::from(vec![
+            Span::styled(format!("  {:<13}", s.name()), th.title),
+            Span::styled(format!("{real:<32}"), th.text),
+            Span::styled(model, th.dim),
+        ]));
+    }
+    for s in &plan.strategies {
+        lines.push(Line::from(Span::styled(
+            format!("  {}: {}", s.strategy.name(), s.strategy.rule()),
+            th.dim,
+        )));
+    }
+    frame.render_widget(
+        Paragraph::new(lines).wrap(Wrap { trim: true }).block(block(
+            "Reaching people first (they no longer pass it on)".into(),
+            th,
+        )),
+        area,
+    );
+}
+
+/// Residual R against people reached, per strategy, with R = 1.
+fn render_chart(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
+    let (v, plan) = (&app.views.outlook, &m.plan);
+    let t = v.t;
+    let markers = [Marker::Braille, Marker::Dot, Marker::Bar, Marker::Block];
+    let glyph = ["⠒", "•", "▄", "█"];
+    let series = &v.series;
+    let limit = v.x_max;
+    let one = [(0.0, 1.0), (limit as f64, 1.0)];
+    let mut sets: Vec<Dataset> = plan
+        .strategies
+        .iter()
+        .zip(series)
+        .enumerate()
+        .map(|(i, (s, pts))| {
+            Dataset::default()
+                .name(format!("{} {}", glyph[i % 4], s.strategy.name()))
+                .marker(markers[i % 4])
+                .graph_type(GraphType::Line)
+                .style(th.series[i % 5])
+                .data(pts)
+        })
+        .collect();
+    sets.push(
+        Dataset::default()
+            .name("─ R = 1")
+            .marker(Marker::Braille)
+            .graph_type(GraphType::Line)
+            .style(th.dim)
+            .data(&one),
+    );
+    let ymax = v.y_max;
+    frame.render_widget(
+        Chart::new(sets)
+            .block(block(
+                format!("Residual R = T·κ′ against people reached{} (T = {t:.2}; + − ] [ move T, 0 resets, z zoom)", v.range),
+                th,
+            ))
+            .x_axis(
+                Axis::default()
+                    .bounds([0.0, limit.max(1) as f64])
+                    .labels(vec![
+                        Line::from("0"),
+                        Line::from(format!("{}", limit / 2)),
+                        Line::from(format!("{limit}")),
+                    ])
+                    .style(th.dim),
+            )
+            .y_axis(
+                Axis::default()
+                    .bounds([0.0, ymax])
+                    .labels(vec![
+                        Line::from("0"),
+                        Line::from(format!("{:.2}", ymax / 2.0)),
+                        Line::from(format!("{ymax:.2}")),
+                    ])
+                    .style(th.dim),
+            )
+            .legend_position(Some(LegendPosition::TopRight))
+            .hidden_legend_constraints((Constraint::Ratio(2, 3), Constraint::Ratio(2, 3))),
+        area,
+    );
 }

@@ -15,8 +15,13 @@ use crate::tui::ui::block;
 pub fn render(frame: &mut Frame, area: Rect, m: &Model, _app: &App, th: &Theme) {
     let [left, right] =
         Layout::horizontal([Constraint::Percentage(50), Constraint::Percentage(50)]).areas(area);
-    let d = &m.d;
-    let s = &m.summary;
+    render_loaded(frame, left, m, th);
+    render_figures(frame, right, m, th);
+}
+
+/// Files, rows and the network, with the caution.
+fn render_loaded(frame: &mut Frame, area: Rect, m: &Model, th: &Theme) {
+    let (d, s) = (&m.d, &m.summary);
     let l = &d.ledger;
     let mut lines = vec![Line::from(Span::styled("Files", th.title))];
     for file in &l.files {
@@ -66,8 +71,13 @@ pub fn render(frame: &mut Frame, area: Rect, m: &Model, _app: &App, th: &Theme) 
         Paragraph::new(lines)
             .wrap(Wrap { trim: false })
             .block(block("1 Overview — what was loaded".into(), th)),
-        left,
+        area,
     );
+}
+
+/// The headline figures and the settings of this view.
+fn render_figures(frame: &mut Frame, area: Rect, m: &Model, th: &Theme) {
+    let (d, s) = (&m.d, &m.summary);
     let st = &m.stats;
     let w = &m.whole;
     let r_line = match m.null.get() {
@@ -126,6 +136,6 @@ pub fn render(frame: &mut Frame, area: Rect, m: &Model, _app: &App, th: &Theme) 
         Paragraph::new(lines)
             .wrap(Wrap { trim: false })
             .block(block("Figures".into(), th)),
-        right,
+        area,
     );
 }
