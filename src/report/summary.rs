@@ -35,6 +35,20 @@ fn fit_line(f: &DegreeFits) -> String {
 /// Plain-text rendering of the summary.
 pub fn summary_text(sum: &Summary, net: &NetworkStats, d: &Dataset) -> String {
     let mut s = String::new();
+    write_counts(&mut s, sum, d);
+    write_shape(&mut s, net);
+    write_cases(&mut s, &net.cases);
+    let _ = writeln!(
+        s,
+        "\nThe configuration-model reading of these figures assumes uncorrelated degrees and a\n\
+         tree-like network; compare r with its randomisations and mind the clustering."
+    );
+    let _ = writeln!(s, "\n{}", crate::CAUTION);
+    s
+}
+
+/// The files, then people, contacts, rows and components.
+fn write_counts(s: &mut String, sum: &Summary, d: &Dataset) {
     let _ = writeln!(
         s,
         "hubwatch summary (as of {}; network of {}: {} exposure rows)",
@@ -84,6 +98,10 @@ pub fn summary_text(sum: &Summary, net: &NetworkStats, d: &Dataset) -> String {
     for (k, v) in rows {
         let _ = writeln!(s, "  {k:<50} {v}");
     }
+}
+
+/// Degrees, the friendship paradox, mixing, clustering and the best fit.
+fn write_shape(s: &mut String, net: &NetworkStats) {
     let nb = &net.neighbours;
     let r = match (net.r, net.r_se) {
         (Ok(r), Ok(se)) => format!("{r:.3} ± {se:.3}"),
@@ -135,7 +153,10 @@ pub fn summary_text(sum: &Summary, net: &NetworkStats, d: &Dataset) -> String {
     for (k, v) in stats {
         let _ = writeln!(s, "  {k:<50} {v}");
     }
-    let c = &net.cases;
+}
+
+/// Case statistics: SAR, offspring, serial interval.
+fn write_cases(s: &mut String, c: &crate::analysis::casedata::CaseStats) {
     let _ = writeln!(s, "\nCases");
     match c.missing {
         Some(why) => {
@@ -175,11 +196,4 @@ pub fn summary_text(sum: &Summary, net: &NetworkStats, d: &Dataset) -> String {
             }
         }
     }
-    let _ = writeln!(
-        s,
-        "\nThe configuration-model reading of these figures assumes uncorrelated degrees and a\n\
-         tree-like network; compare r with its randomisations and mind the clustering."
-    );
-    let _ = writeln!(s, "\n{}", crate::CAUTION);
-    s
 }
