@@ -168,114 +168,125 @@ fn csv_field(v: &str) -> String {
 
 fn bytes(t: &ExportTable, meta: &Metadata, format: Format, path: &Path) -> Result<Vec<u8>> {
     match format {
-        Format::Csv => {
-            let mut s = String::new();
-            for (k, v) in &meta.entries {
-                s.push_str(&format!("# {k}: {}\n", v.replace('\n', " ")));
-            }
-            s.push_str(
-                &t.columns
+        Format::Csv => Ok(csv_bytes(t, meta)),
+        Format::Json => json_bytes(t, meta, path),
+        Format::Parquet => parquet_bytes(t, meta, path),
+        Format::Xlsx => xlsx_bytes(t, meta, path),
+    }
+}
+
+/// CSV: metadata as leading `# key: value` lines, then the table.
+fn csv_bytes(t: &ExportTable, meta: &Metadata) -> Vec<u8> {
+    let mut s = String::new();
+    for (k, v) in &meta.entries {
+        s.push_str(&format!("# {k}: {}\n", v.replace('\n', " ")));
+    }
+    s.push_str(
+        &t.columns
+            .iter()
+            .map(|c| csv_field(c))
+            .collect::<Vec<_>>()
+            .join(","),
+    );
+    s.push('\n');
+    for r in &t.rows {
+        s.push_str(
+            &r.iter()
+                .map(|c| csv_field(&c.text()))
+                .collect::<Vec<_>>()
+                .join(","),
+        );
+        s.push('\n');
+    }
+    s.into_bytes()
+}
+
+/// One JSON object: metadata, columns, rows.
+fn json_bytes(t: &ExportTable, meta: &Metadata, path: &Path) -> Result<Vec<u8>> {
+    let meta: serde_json::Map<String, serde_json::Value> = meta
+        .entries
+        .iter()
+        .map(|(k, v)| (k.clone(), v.clone().into()))
+        .collect();
+    let rows: Vec<serde_json::Value> = t
+        .rows
+        .iter()
+        .map(|r| {
+            serde_json::Value::Object(
+                t.columns
                     .iter()
-                    .map(|c| csv_field(c))
-                    .collect::<Vec<_>>()
-                    .join(","),
-            );
-            s.push('\n');
-            for r in &t.rows {
-                s.push_str(
-                    &r.iter()
-                        .map(|c| csv_field(&c.text()))
-                        .collect::<Vec<_>>()
-                        .join(","),
-                );
-                s.push('\n');
-            }
-            Ok(s.into_bytes())
-        }
-        Format::Json => {
-            let meta: serde_json::Map<String, serde_json::Value> = meta
-                .entries
-                .iter()
-                .map(|(k, v)| (k.clone(), v.clone().into()))
-                .collect();
-            let rows: Vec<serde_json::Value> = t
+                    .cloned()
+                    .zip(r.iter().map(Cell::json))
+                    .collect(),
+            )
+        })
+        .collect();
+    let v = serde_json::json!({"metadata": meta, "columns": t.columns, "rows": rows});
+    serde_json::to_vec_pretty(&v).map_err(|e| Error::format(path, e.to_string()))
+}
+
+/// Parquet, the metadata in the file's key-value metadata.
+fn parquet_bytes(t: &ExportTable, meta: &Metadata, path: &Path) -> Result<Vec<u8>> {
+    use polars::prelude::*;
+    let cols: Vec<Column> = t
+        .columns
+        .iter()
+        .enumerate()
+        .map(|(i, name)| {
+            let v: Vec<Option<String>> = t
                 .rows
                 .iter()
-                .map(|r| {
-                    serde_json::Value::Object(
-                        t.columns
-                            .iter()
-                            .cloned()
-                            .zip(r.iter().map(Cell::json))
-                            .collect(),
-                    )
-                })
+                .map(|r| (r[i] != Cell::Empty).then(|| r[i].text()))
                 .collect();
-            let v = serde_json::json!({"metadata": meta, "columns": t.columns, "rows": rows});
-            serde_json::to_vec_pretty(&v).map_err(|e| Error::format(path, e.to_string()))
-        }
-        Format::Parquet => {
-            use polars::prelude::*;
-            let cols: Vec<Column> = t
-                .columns
-                .iter()
-                .enumerate()
-                .map(|(i, name)| {
-                    let v: Vec<Option<String>> = t
-                        .rows
-                        .iter()
-                        .map(|r| (r[i] != Cell::Empty).then(|| r[i].text()))
-                        .collect();
-                    Column::new(name.as_str().into(), v)
-                })
-                .collect();
-            let mut df = DataFrame::new(t.rows.len(), cols).map_err(|e| Error::Polars {
-                path: path.to_path_buf(),
-                source: e,
-            })?;
-            let mut buf = Vec::new();
-            let kv =
-                polars::io::parquet::write::KeyValueMetadata::from_static(meta.entries.clone());
-            ParquetWriter::new(&mut buf)
-                .with_key_value_metadata(Some(kv))
-                .finish(&mut df)
-                .map_err(|e| Error::Polars {
-                    path: path.to_path_buf(),
-                    source: e,
-                })?;
-            Ok(buf)
-        }
-        Format::Xlsx => {
-            let err = |e: rust_xlsxwriter::XlsxError| Error::format(path, e.to_string());
-            let mut book = rust_xlsxwriter::Workbook::new();
-            let sheet = book.add_worksheet();
-            sheet.set_name("list").map_err(err)?;
-            for (c, name) in t.columns.iter().enumerate() {
-                sheet.write_string(0, c as u16, name).map_err(err)?;
+            Column::new(name.as_str().into(), v)
+        })
+        .collect();
+    let mut df = DataFrame::new(t.rows.len(), cols).map_err(|e| Error::Polars {
+        path: path.to_path_buf(),
+        source: e,
+    })?;
+    let mut buf = Vec::new();
+    let kv = polars::io::parquet::write::KeyValueMetadata::from_static(meta.entries.clone());
+    ParquetWriter::new(&mut buf)
+        .with_key_value_metadata(Some(kv))
+        .finish(&mut df)
+        .map_err(|e| Error::Polars {
+            path: path.to_path_buf(),
+            source: e,
+        })?;
+    Ok(buf)
+}
+
+/// An xlsx workbook: the list, and an "about" sheet with the metadata.
+fn xlsx_bytes(t: &ExportTable, meta: &Metadata, path: &Path) -> Result<Vec<u8>> {
+    let err = |e: rust_xlsxwriter::XlsxError| Error::format(path, e.to_string());
+    let mut book = rust_xlsxwriter::Workbook::new();
+    let sheet = book.add_worksheet();
+    sheet.set_name("list").map_err(err)?;
+    for (c, name) in t.columns.iter().enumerate() {
+        sheet.write_string(0, c as u16, name).map_err(err)?;
+    }
+    for (r, row) in t.rows.iter().enumerate() {
+        let r = r as u32 + 1;
+        for (c, cell) in row.iter().enumerate() {
+            let c = c as u16;
+            match cell {
+                Cell::Num(x) => sheet.write_number(r, c, *x).map(|_| ()),
+                Cell::Int(i) => sheet.write_number(r, c, *i as f64).map(|_| ()),
+                Cell::Bool(b) => sheet.write_boolean(r, c, *b).map(|_| ()),
+                Cell::Text(_) => sheet.write_string(r, c, cell.text()).map(|_| ()),
+                Cell::Empty => Ok(()),
             }
-            for (r, row) in t.rows.iter().enumerate() {
-                let r = r as u32 + 1;
-                for (c, cell) in row.iter().enumerate() {
-                    let c = c as u16;
-                    match cell {
-                        Cell::Num(x) => sheet.write_number(r, c, *x).map(|_| ()),
-                        Cell::Int(i) => sheet.write_number(r, c, *i as f64).map(|_| ()),
-                        Cell::Bool(b) => sheet.write_boolean(r, c, *b).map(|_| ()),
-                        Cell::Text(_) => sheet.write_string(r, c, cell.text()).map(|_| ()),
-                        Cell::Empty => Ok(()),
-                    }
-                    .map_err(err)?;
-                }
-            }
-            let about = book.add_worksheet();
-            about.set_name("about").map_err(err)?;
-            for (i, (k, v)) in meta.entries.iter().enumerate() {
-                about.write_string(i as u32, 0, k).map_err(err)?;
-                about.write_string(i as u32, 1, v).map_err(err)?;
-            }
-            book.save_to_buffer().map_err(err)
+            .map_err(err)?;
         }
     }
+    let about = book.add_worksheet();
+    about.set_name("about").map_err(err)?;
+    for (i, (k, v)) in meta.entries.iter().enumerate() {
+        about.write_string(i as u32, 0, k).map_err(err)?;
+        about.write_string(i as u32, 1, v).map_err(err)?;
+    }
+    book.save_to_buffer().map_err(err)
 }
 
 /// Write the table to `out` (atomically, 0600); refuse to replace a file unless `force`.
