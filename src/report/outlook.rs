@@ -5,7 +5,7 @@ use std::fmt::Write as _;
 
 use serde_json::{json, Map, Value};
 
-use crate::analysis::planning::{checkpoints, Plan, TSource, MODEL_CAUTION};
+use crate::analysis::planning::{checkpoints, Plan, StrategyCurve, TSource, MODEL_CAUTION};
 use crate::export::{Cell, ExportTable};
 use crate::metrics::{outlook, Stat};
 use crate::report::json::put;
@@ -76,10 +76,17 @@ pub fn json(plan: &Plan, ids: &crate::ids::IdMap) -> Value {
     o.insert("max_reach".into(), json!(plan.max_reach));
     let t = plan.t;
     let strategies: Vec<Value> = plan
-            .strategies
-            .iter()
-            .map(|s| {
-                let points: Vec<Value> = (0..=s.len())
+        .strategies
+        .iter()
+        .map(|s| strategy_json(s, t, ids))
+        .collect();
+    o.insert("strategies".into(), Value::Array(strategies));
+    Value::Object(o)
+}
+
+/// One strategy's reach curve with its points and the first people reached.
+fn strategy_json(s: &StrategyCurve, t: Option<f64>, ids: &crate::ids::IdMap) -> Value {
+    let points: Vec<Value> = (0..=s.len())
                     .map(|n| {
                         json!({
                             "reached": n,
@@ -92,29 +99,25 @@ pub fn json(plan: &Plan, ids: &crate::ids::IdMap) -> Value {
                         })
                     })
                     .collect();
-                let below = t.and_then(|t| s.below_one(t));
-                let mut so = Map::new();
-                so.insert("strategy".into(), s.strategy.name().into());
-                so.insert("rule".into(), s.strategy.rule().into());
-                so.insert("repeats".into(), json!(s.repeats));
-                so.insert("reach_for_r_below_1".into(), json!(below));
-                so.insert(
-                    "model_reach_for_r_below_1".into(),
-                    json!(t.and_then(|t| s.model_below_one(t))),
-                );
-                if !s.order.is_empty() {
-                    let upto = below.unwrap_or(s.len()).min(s.order.len()).min(100);
-                    so.insert(
-                        "first_reached".into(),
-                        s.order[..upto].iter().map(|&v| ids.name(v)).collect(),
-                    );
-                }
-                so.insert("points".into(), Value::Array(points));
-                Value::Object(so)
-            })
-            .collect();
-    o.insert("strategies".into(), Value::Array(strategies));
-    Value::Object(o)
+    let below = t.and_then(|t| s.below_one(t));
+    let mut so = Map::new();
+    so.insert("strategy".into(), s.strategy.name().into());
+    so.insert("rule".into(), s.strategy.rule().into());
+    so.insert("repeats".into(), json!(s.repeats));
+    so.insert("reach_for_r_below_1".into(), json!(below));
+    so.insert(
+        "model_reach_for_r_below_1".into(),
+        json!(t.and_then(|t| s.model_below_one(t))),
+    );
+    if !s.order.is_empty() {
+        let upto = below.unwrap_or(s.len()).min(s.order.len()).min(100);
+        so.insert(
+            "first_reached".into(),
+            s.order[..upto].iter().map(|&v| ids.name(v)).collect(),
+        );
+    }
+    so.insert("points".into(), Value::Array(points));
+    Value::Object(so)
 }
 
 /// The text report.
@@ -170,65 +173,77 @@ pub fn text(plan: &Plan, ids: &crate::ids::IdMap) -> String {
         "Reaching people (they no longer pass it on), followed for {limit}:"
     );
     for sc in &plan.strategies {
-        let _ = writeln!(s);
-        let _ = writeln!(s, "{}: {}", sc.strategy.name(), sc.strategy.rule());
-        match plan.t {
-            Some(t) => {
-                let model = match sc.model_below_one(t) {
-                    Some(n) => format!("{n}"),
-                    None => "not within the curve".to_string(),
-                };
-                match sc.below_one(t) {
-                    Some(n) => {
-                        let _ = writeln!(
-                                s,
-                                "  reach {n} people to bring R below 1 (configuration model says {model})"
-                            );
-                    }
-                    None => {
-                        let _ = writeln!(
+        strategy_text(&mut s, plan, sc, &limit, ids);
+    }
+    s
+}
+
+/// One strategy in the text report: how many to reach, the first names, the curve at
+/// checkpoints.
+fn strategy_text(
+    s: &mut String,
+    plan: &Plan,
+    sc: &StrategyCurve,
+    limit: &str,
+    ids: &crate::ids::IdMap,
+) {
+    let f = crate::report::fmt::dashed;
+    let _ = writeln!(s);
+    let _ = writeln!(s, "{}: {}", sc.strategy.name(), sc.strategy.rule());
+    match plan.t {
+        Some(t) => {
+            let model = match sc.model_below_one(t) {
+                Some(n) => format!("{n}"),
+                None => "not within the curve".to_string(),
+            };
+            match sc.below_one(t) {
+                Some(n) => {
+                    let _ = writeln!(
+                        s,
+                        "  reach {n} people to bring R below 1 (configuration model says {model})"
+                    );
+                }
+                None => {
+                    let _ = writeln!(
                                 s,
                                 "  R stays at or above 1 within {limit} reached ({} people); configuration model says {model}",
                                 sc.len()
                             );
-                    }
-                }
-                if !sc.order.is_empty() {
-                    let upto = sc.below_one(t).unwrap_or(sc.len()).min(10);
-                    if upto > 0 {
-                        let names: Vec<&str> =
-                            sc.order[..upto].iter().map(|&v| ids.name(v)).collect();
-                        let _ = writeln!(s, "  first: {}", names.join(", "));
-                    }
                 }
             }
-            None => {
-                let _ = writeln!(s, "  (R needs T; mean excess degree shown)");
+            if !sc.order.is_empty() {
+                let upto = sc.below_one(t).unwrap_or(sc.len()).min(10);
+                if upto > 0 {
+                    let names: Vec<&str> = sc.order[..upto].iter().map(|&v| ids.name(v)).collect();
+                    let _ = writeln!(s, "  first: {}", names.join(", "));
+                }
             }
         }
+        None => {
+            let _ = writeln!(s, "  (R needs T; mean excess degree shown)");
+        }
+    }
+    let _ = writeln!(
+        s,
+        "  {:>9}  {:>11}  {:>8}  {:>15}  {:>12}  {:>13}",
+        "reached", "mean excess", "R", "largest cluster", "model excess", "model largest"
+    );
+    for n in checkpoints(sc.len()) {
         let _ = writeln!(
             s,
             "  {:>9}  {:>11}  {:>8}  {:>15}  {:>12}  {:>13}",
-            "reached", "mean excess", "R", "largest cluster", "model excess", "model largest"
+            n,
+            f(sc.curve.kappa[n], 3),
+            plan.t
+                .map(|t| f(sc.r(t, n), 3))
+                .unwrap_or_else(|| "-".into()),
+            format!("{:.1}", sc.curve.largest[n]),
+            f(sc.model_kappa[n], 3),
+            sc.model_largest[n]
+                .map(|x| format!("{x:.1}"))
+                .unwrap_or_else(|_| "-".into())
         );
-        for n in checkpoints(sc.len()) {
-            let _ = writeln!(
-                s,
-                "  {:>9}  {:>11}  {:>8}  {:>15}  {:>12}  {:>13}",
-                n,
-                f(sc.curve.kappa[n], 3),
-                plan.t
-                    .map(|t| f(sc.r(t, n), 3))
-                    .unwrap_or_else(|| "-".into()),
-                format!("{:.1}", sc.curve.largest[n]),
-                f(sc.model_kappa[n], 3),
-                sc.model_largest[n]
-                    .map(|x| format!("{x:.1}"))
-                    .unwrap_or_else(|_| "-".into())
-            );
-        }
     }
-    s
 }
 
 /// The reach curves as one table (for CSV/JSON/Parquet/xlsx export).
