@@ -12,23 +12,53 @@ use crate::tui::model::Model;
 use crate::tui::theme::Theme;
 use crate::tui::ui::block;
 
+// Columns by width: on narrow screens the "mostly", "cases met" and "window end" columns
+// go, so that IDs are never cut.
+const COLUMNS: [(&str, u16); 11] = [
+    ("rank", 7),
+    ("ID", 12),
+    ("score", 7),
+    ("mostly", 13),
+    ("contacts", 8),
+    ("cases met", 9),
+    ("window end", 11),
+    ("days left", 9),
+    ("marks", 5),
+    ("follow-up", 12),
+    ("flags", 10),
+];
+
+/// The cells of ranked entry `ri` (every column; the caller keeps those shown).
+fn cells(m: &Model, app: &App, ri: u32) -> [String; 11] {
+    let r = &m.list.ranked[ri as usize];
+    let mut marks = String::new();
+    if r.high_degree {
+        marks.push('H');
+    }
+    if r.bridge {
+        marks.push('B');
+    }
+    if r.overdue {
+        marks.push('!');
+    }
+    [
+        (ri + 1).to_string(),
+        m.d.ids.name(r.node).to_string(),
+        format!("{:.3}", r.score),
+        m.main_reason[ri as usize].to_string(),
+        r.degree.to_string(),
+        format!("{}", r.raw[1]),
+        r.window_end.map(dates::iso).unwrap_or_else(|| "–".into()),
+        days(r.days_left),
+        marks,
+        app.followup(m, r.node),
+        app.flags(m, r.node),
+    ]
+}
+
+/// Lay out the pane.
 pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
     let page = area.height.saturating_sub(3) as usize;
-    // Columns by width: on narrow screens the "mostly", "cases met" and "window end" columns
-    // go, so that IDs are never cut.
-    const COLUMNS: [(&str, u16); 11] = [
-        ("rank", 7),
-        ("ID", 12),
-        ("score", 7),
-        ("mostly", 13),
-        ("contacts", 8),
-        ("cases met", 9),
-        ("window end", 11),
-        ("days left", 9),
-        ("marks", 5),
-        ("follow-up", 12),
-        ("flags", 10),
-    ];
     let wide = area.width >= 118;
     let shown = |c: usize| wide || !matches!(c, 3 | 5 | 6);
     let pos = app.prio;
@@ -40,31 +70,8 @@ pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
         .take(page)
         .map(|(i, &ri)| {
             let r = &m.list.ranked[ri as usize];
-            let mut marks = String::new();
-            if r.high_degree {
-                marks.push('H');
-            }
-            if r.bridge {
-                marks.push('B');
-            }
-            if r.overdue {
-                marks.push('!');
-            }
-            let cells = [
-                (ri + 1).to_string(),
-                m.d.ids.name(r.node).to_string(),
-                format!("{:.3}", r.score),
-                m.main_reason[ri as usize].to_string(),
-                r.degree.to_string(),
-                format!("{}", r.raw[1]),
-                r.window_end.map(dates::iso).unwrap_or_else(|| "–".into()),
-                days(r.days_left),
-                marks,
-                app.followup(m, r.node),
-                app.flags(m, r.node),
-            ];
             let row = Row::new(
-                cells
+                cells(m, app, ri)
                     .into_iter()
                     .enumerate()
                     .filter(|(c, _)| shown(*c))
