@@ -70,57 +70,9 @@ pub fn block<'a>(title: String, th: &Theme) -> Block<'a> {
         .border_style(th.border)
 }
 
-/// Draw the whole screen.
-pub fn draw(frame: &mut Frame, m: &Model, app: &App, th: &Theme) {
-    let area = frame.area();
-    if area.width < MIN_SIZE.0 || area.height < MIN_SIZE.1 {
-        let text = vec![
-            Line::from(Span::styled("hubwatch", th.title)),
-            Line::from(format!(
-                "Make the window at least {}×{} (it is {}×{}).",
-                MIN_SIZE.0, MIN_SIZE.1, area.width, area.height
-            )),
-            Line::from("q quits."),
-        ];
-        frame.render_widget(Paragraph::new(text).wrap(Wrap { trim: true }), area);
-        return;
-    }
-    let a = areas(area);
-    let tabs: Vec<Span> = Pane::ALL
-        .iter()
-        .flat_map(|&p| {
-            let label = tab_label(p);
-            let span = if p == app.pane {
-                Span::styled(format!("[{}]", label.trim()), th.selected)
-            } else {
-                Span::styled(label, th.text)
-            };
-            [span, Span::raw(" ")]
-        })
-        .collect();
-    frame.render_widget(Paragraph::new(Line::from(tabs)), a.tabs);
-    let (pathogen, days) = (&m.list.window.pathogen, m.list.window.days);
-    let context = format!(
-        "as of {} · view: {} · window: {pathogen} {days} days · filters: {}",
-        dates::iso(m.d.as_of),
-        m.d.view.0.describe(),
-        app.filter_text(m)
-    );
-    frame.render_widget(
-        Paragraph::new(Line::from(Span::styled(context, th.dim))),
-        a.context,
-    );
-    match app.pane {
-        Pane::Overview => panes::overview::render(frame, a.body, m, app, th),
-        Pane::Degrees => panes::degrees::render(frame, a.body, m, app, th),
-        Pane::Neighbours => panes::neighbours::render(frame, a.body, m, app, th),
-        Pane::Clusters => panes::clusters::render(frame, a.body, m, app, th),
-        Pane::Priority => panes::priority::render(frame, a.body, m, app, th),
-        Pane::Person => panes::person::render(frame, a.body, m, app, th),
-        Pane::Outlook => panes::outlook::render(frame, a.body, m, app, th),
-    }
-    // Status: prompt, message, or the caution.
-    let status = if let Some(input) = &app.input {
+/// The status line: the open prompt, the last message, or the caution.
+fn status_line<'a>(app: &'a App, th: &Theme) -> Line<'a> {
+    if let Some(input) = &app.input {
         let label = match input.purpose {
             Purpose::Search => "find ID",
             Purpose::Flag => "flag (Enter: \"call first\"; a flag the person has is removed)",
@@ -141,8 +93,64 @@ pub fn draw(frame: &mut Frame, m: &Model, app: &App, th: &Theme) {
             "Supports, does not replace, public-health judgement · sensitive personal data",
             th.dim,
         ))
-    };
-    frame.render_widget(Paragraph::new(status), a.status);
+    }
+}
+
+/// The tab bar, the pane shown in brackets.
+fn tab_line(app: &App, th: &Theme) -> Line<'static> {
+    let tabs: Vec<Span> = Pane::ALL
+        .iter()
+        .flat_map(|&p| {
+            let label = tab_label(p);
+            let span = if p == app.pane {
+                Span::styled(format!("[{}]", label.trim()), th.selected)
+            } else {
+                Span::styled(label, th.text)
+            };
+            [span, Span::raw(" ")]
+        })
+        .collect();
+    Line::from(tabs)
+}
+
+/// Draw the whole screen.
+pub fn draw(frame: &mut Frame, m: &Model, app: &App, th: &Theme) {
+    let area = frame.area();
+    if area.width < MIN_SIZE.0 || area.height < MIN_SIZE.1 {
+        let text = vec![
+            Line::from(Span::styled("hubwatch", th.title)),
+            Line::from(format!(
+                "Make the window at least {}×{} (it is {}×{}).",
+                MIN_SIZE.0, MIN_SIZE.1, area.width, area.height
+            )),
+            Line::from("q quits."),
+        ];
+        frame.render_widget(Paragraph::new(text).wrap(Wrap { trim: true }), area);
+        return;
+    }
+    let a = areas(area);
+    frame.render_widget(Paragraph::new(tab_line(app, th)), a.tabs);
+    let (pathogen, days) = (&m.list.window.pathogen, m.list.window.days);
+    let context = format!(
+        "as of {} · view: {} · window: {pathogen} {days} days · filters: {}",
+        dates::iso(m.d.as_of),
+        m.d.view.0.describe(),
+        app.filter_text(m)
+    );
+    frame.render_widget(
+        Paragraph::new(Line::from(Span::styled(context, th.dim))),
+        a.context,
+    );
+    match app.pane {
+        Pane::Overview => panes::overview::render(frame, a.body, m, app, th),
+        Pane::Degrees => panes::degrees::render(frame, a.body, m, app, th),
+        Pane::Neighbours => panes::neighbours::render(frame, a.body, m, app, th),
+        Pane::Clusters => panes::clusters::render(frame, a.body, m, app, th),
+        Pane::Priority => panes::priority::render(frame, a.body, m, app, th),
+        Pane::Person => panes::person::render(frame, a.body, m, app, th),
+        Pane::Outlook => panes::outlook::render(frame, a.body, m, app, th),
+    }
+    frame.render_widget(Paragraph::new(status_line(app, th)), a.status);
     let footer: Vec<Span> = footer_fit(keys::footer(app.pane), a.footer.width as usize)
         .into_iter()
         .flat_map(|(k, h)| {
