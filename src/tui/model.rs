@@ -189,27 +189,13 @@ impl Model {
             rank_pos[r.node as usize] = i as u32;
         }
         let orders = sorted_orders(&list.ranked);
-        let mut by_id = vec![u32::MAX; d.people()];
-        for (i, r) in list.ranked.iter().enumerate() {
-            by_id[id_rank[r.node as usize] as usize] = i as u32;
-        }
-        by_id.retain(|&i| i != u32::MAX);
+        let by_id = in_id_order(&list.ranked, &id_rank);
         // Already computed with the statistics.
         let whole =
             ScopeStats::from_parts("whole network".into(), &stats.degree, &stats.neighbours);
         let clusters = cluster_rows(&d, &stats);
         let index = FilterIndex::build(&d, &stats, &list.ranked, &followup_map(states));
-        let main_reason = list
-            .ranked
-            .iter()
-            .map(|r| {
-                r.parts(&list.preset.1)
-                    .into_iter()
-                    .max_by(|a, b| a.contribution.total_cmp(&b.contribution))
-                    .map(|p| p.name)
-                    .unwrap_or("")
-            })
-            .collect();
+        let main_reason = main_reasons(&list);
         let quarantine_lines = quarantine_lines(&d.ledger);
         Ok(Model {
             quarantine_lines,
@@ -347,4 +333,28 @@ fn background_null_model(d: &Dataset, degrees: &[u32]) -> Arc<OnceLock<NullModel
         let _ = cell.set(r);
     });
     null
+}
+
+/// Indices into the ranked list in ID order (`id_rank`: each person's place in ID order).
+fn in_id_order(ranked: &[Ranked], id_rank: &[u32]) -> Vec<u32> {
+    let mut by_id = vec![u32::MAX; id_rank.len()];
+    for (i, r) in ranked.iter().enumerate() {
+        by_id[id_rank[r.node as usize] as usize] = i as u32;
+    }
+    by_id.retain(|&i| i != u32::MAX);
+    by_id
+}
+
+/// Per ranked entry: the score component that contributes most.
+fn main_reasons(list: &RankedList) -> Vec<&'static str> {
+    list.ranked
+        .iter()
+        .map(|r| {
+            r.parts(&list.preset.1)
+                .into_iter()
+                .max_by(|a, b| a.contribution.total_cmp(&b.contribution))
+                .map(|p| p.name)
+                .unwrap_or("")
+        })
+        .collect()
 }

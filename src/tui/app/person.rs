@@ -11,6 +11,43 @@ use crate::tui::state::sort_contacts;
 use crate::workspace::Workspace;
 
 impl App {
+    /// One contact `w` of `node`, over pair `ei`.
+    fn contact_row(&self, m: &Model, node: u32, w: u32, ei: usize) -> ContactRow {
+        let d = &m.d;
+        let ed = &d.edges;
+        let date = |x: i32| (x != crate::ingest::reconcile::NO_DATE).then_some(x);
+        let named_by_a = ed.a_named_b[ei];
+        let named_by_b = ed.rows[ei] - named_by_a;
+        let (mine, theirs) = if ed.a[ei] == node {
+            (named_by_a, named_by_b)
+        } else {
+            (named_by_b, named_by_a)
+        };
+        let named = match (mine > 0, theirs > 0) {
+            (true, true) => "both",
+            (true, false) => "named them",
+            (false, true) => "named by them",
+            (false, false) => "-",
+        };
+        ContactRow {
+            node: w,
+            id: d.ids.name(w).to_string(),
+            degree: m.stats.degrees[w as usize],
+            first: date(ed.first[ei]),
+            last: date(ed.last[ei]),
+            minutes: Some(ed.minutes[ei]).filter(|x| !x.is_nan()),
+            rows: ed.rows[ei],
+            settings: ed
+                .settings(ei)
+                .iter()
+                .map(|&c| d.settings[c as usize - 1].as_str())
+                .collect::<Vec<_>>()
+                .join(","),
+            named,
+            followup: self.followup(m, w),
+        }
+    }
+
     /// Build the view of one person.
     pub fn person_view(&self, m: &Model, node: u32, sort: (ContactSort, bool)) -> PersonView {
         let d = &m.d;
@@ -46,42 +83,7 @@ impl App {
         let mut contacts: Vec<ContactRow> = d
             .graph
             .edges(node)
-            .map(|e| {
-                let w = e.target();
-                let ei = *e.weight() as usize;
-                let ed = &d.edges;
-                let date = |x: i32| (x != crate::ingest::reconcile::NO_DATE).then_some(x);
-                let named_by_a = ed.a_named_b[ei];
-                let named_by_b = ed.rows[ei] - named_by_a;
-                let (mine, theirs) = if ed.a[ei] == node {
-                    (named_by_a, named_by_b)
-                } else {
-                    (named_by_b, named_by_a)
-                };
-                let named = match (mine > 0, theirs > 0) {
-                    (true, true) => "both",
-                    (true, false) => "named them",
-                    (false, true) => "named by them",
-                    (false, false) => "-",
-                };
-                ContactRow {
-                    node: w,
-                    id: d.ids.name(w).to_string(),
-                    degree: m.stats.degrees[w as usize],
-                    first: date(ed.first[ei]),
-                    last: date(ed.last[ei]),
-                    minutes: Some(ed.minutes[ei]).filter(|x| !x.is_nan()),
-                    rows: ed.rows[ei],
-                    settings: ed
-                        .settings(ei)
-                        .iter()
-                        .map(|&c| d.settings[c as usize - 1].as_str())
-                        .collect::<Vec<_>>()
-                        .join(","),
-                    named,
-                    followup: self.followup(m, w),
-                }
-            })
+            .map(|e| self.contact_row(m, node, e.target(), *e.weight() as usize))
             .collect();
         sort_contacts(&mut contacts, sort);
         PersonView {
