@@ -244,7 +244,6 @@ fn describe_format(meta: &table::TableMeta) -> String {
 /// Read the inputs: open, decide roles, check and reconcile every row into the ledger.
 pub fn read(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Loaded> {
     let t0 = std::time::Instant::now();
-    let mut in_reconcile = 0.0;
     let mut tables = Vec::new();
     let mut ignored = Vec::new();
     for input in inputs {
@@ -254,76 +253,31 @@ pub fn read(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Loa
         return Err(Error::Usage("no input given".into()));
     }
     let planned = plan(tables, config, &opts.overrides, &mut ignored)?;
-    let progress = Progress::new(opts.progress);
-    let mut ledger = Ledger {
-        ignored,
-        ..Ledger::default()
+    let mut r = Reading {
+        ledger: Ledger {
+            ignored,
+            ..Ledger::default()
+        },
+        people: PeopleBuilder::new(config.ids.case_sensitive),
+        rows: ExposureRows::new(),
+        problems: Vec::new(),
+        people_in_table: 0,
+        in_reconcile: 0.0,
+        progress: Progress::new(opts.progress),
     };
-    let mut people = PeopleBuilder::new(config.ids.case_sensitive);
-    let mut rows = ExposureRows::new();
-    let mut problems = Vec::new();
-    let mut people_in_table = 0u32;
-    for Planned {
-        table,
-        role,
-        mapping,
-    } in planned
-    {
-        let file = ledger.files.len();
-        let meta = table.meta.clone();
-        let mut checker = FieldChecker::new(&config.dates.format, meta.excel_serials, opts.as_of);
-        let mut ctx = FileCtx {
-            file,
-            meta: &meta,
-            mapping: &mapping,
-            counts: Counts::default(),
-        };
-        if role == Role::Exposures && people_in_table == 0 {
-            people_in_table = people.ids.len() as u32;
-        }
-        let rejected = table.read(&opts.read, |chunk| {
-            let t = std::time::Instant::now();
-            match role {
-                Role::People => people.add_chunk(&mut ctx, &chunk, &mut checker)?,
-                Role::Exposures => {
-                    rows.add_chunk(&mut ctx, &chunk, &mut people.ids, &mut checker)?
-                }
-            }
-            progress.tick(&meta.path, ctx.counts.read);
-            in_reconcile += t.elapsed().as_secs_f64();
-            Ok(())
-        })?;
-        let sink = if role == Role::People {
-            &mut people.quarantined
-        } else {
-            &mut rows.quarantined
-        };
-        for r in rejected {
-            ctx.counts.read += 1;
-            ctx.counts.quarantined += 1;
-            sink.push(QuarantinedRow {
-                file,
-                line: r.line,
-                reason: QuarantineReason::WrongFieldCount { detail: r.reason },
-                raw: r.raw,
-            });
-        }
-        problems.append(&mut checker.problems);
-        let named: BTreeMap<String, String> = mapping
-            .fields
-            .iter()
-            .map(|(f, &i)| (f.clone(), meta.columns[i].clone()))
-            .collect();
-        ledger.files.push(FileReport {
-            path: meta.path.clone(),
-            role,
-            format: describe_format(&meta),
-            header: !meta.headerless,
-            mapping: named,
-            counts: ctx.counts,
-        });
+    for p in planned {
+        r.table(p, config, opts)?;
     }
-    progress.finish();
+    r.progress.finish();
+    let Reading {
+        mut ledger,
+        people,
+        mut rows,
+        problems,
+        mut people_in_table,
+        in_reconcile,
+        ..
+    } = r;
     if !ledger.files.iter().any(|f| f.role == Role::People) {
         people_in_table = 0;
     }
@@ -348,6 +302,83 @@ pub fn read(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Loa
         reconcile_secs: in_reconcile,
         peak_mib: peak_mib(),
     })
+}
+
+/// The state of one load while its tables are read.
+struct Reading {
+    ledger: Ledger,
+    people: PeopleBuilder,
+    rows: ExposureRows,
+    problems: Vec<ledger::FieldProblem>,
+    people_in_table: u32,
+    in_reconcile: f64,
+    progress: Progress,
+}
+
+impl Reading {
+    /// Read one table in chunks into the people or the exposure rows, and its ledger entry.
+    fn table(&mut self, planned: Planned, config: &Config, opts: &LoadOptions) -> Result<()> {
+        let Planned {
+            table,
+            role,
+            mapping,
+        } = planned;
+        let file = self.ledger.files.len();
+        let meta = table.meta.clone();
+        let mut checker = FieldChecker::new(&config.dates.format, meta.excel_serials, opts.as_of);
+        let mut ctx = FileCtx {
+            file,
+            meta: &meta,
+            mapping: &mapping,
+            counts: Counts::default(),
+        };
+        if role == Role::Exposures && self.people_in_table == 0 {
+            self.people_in_table = self.people.ids.len() as u32;
+        }
+        let rejected = table.read(&opts.read, |chunk| {
+            let t = std::time::Instant::now();
+            match role {
+                Role::People => self.people.add_chunk(&mut ctx, &chunk, &mut checker)?,
+                Role::Exposures => {
+                    self.rows
+                        .add_chunk(&mut ctx, &chunk, &mut self.people.ids, &mut checker)?
+                }
+            }
+            self.progress.tick(&meta.path, ctx.counts.read);
+            self.in_reconcile += t.elapsed().as_secs_f64();
+            Ok(())
+        })?;
+        let sink = if role == Role::People {
+            &mut self.people.quarantined
+        } else {
+            &mut self.rows.quarantined
+        };
+        for r in rejected {
+            ctx.counts.read += 1;
+            ctx.counts.quarantined += 1;
+            sink.push(QuarantinedRow {
+                file,
+                line: r.line,
+                reason: QuarantineReason::WrongFieldCount { detail: r.reason },
+                raw: r.raw,
+            });
+        }
+        self.problems.append(&mut checker.problems);
+        let named: BTreeMap<String, String> = mapping
+            .fields
+            .iter()
+            .map(|(f, &i)| (f.clone(), meta.columns[i].clone()))
+            .collect();
+        self.ledger.files.push(FileReport {
+            path: meta.path.clone(),
+            role,
+            format: describe_format(&meta),
+            header: !meta.headerless,
+            mapping: named,
+            counts: ctx.counts,
+        });
+        Ok(())
+    }
 }
 
 /// A spinner with the row count, shown only on a terminal.
