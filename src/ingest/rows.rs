@@ -215,49 +215,8 @@ impl ExposureRows {
         if self.per_file.last().is_none_or(|(f, _)| *f != ctx.file) {
             self.per_file.push((ctx.file, 0));
         }
-        // A field this file maps but an earlier file did not: pad the earlier rows first.
-        let done = self.keys.len();
-        if last_c.is_some() && self.last.len() < done {
-            self.last.resize(done, NO_DATE);
-        }
-        if first_c.is_some() && self.first.len() < done {
-            self.first.resize(done, NO_DATE);
-        }
-        if min_c.is_some() && self.minutes.len() < done {
-            self.minutes.resize(done, f32::NAN);
-        }
-        if set_c.is_some() && self.setting.len() < done {
-            self.setting.resize(done, 0);
-        }
-        // Stage A: which rows can form an exposure. A quarantined row adds nothing, so this
-        // decision comes before any ID is interned.
-        let mut usable: Vec<u32> = Vec::with_capacity(n);
-        let mut pairs: Vec<(&str, &str)> = Vec::with_capacity(n);
-        for (row, (s, t)) in src.iter().zip(tgt.iter()).enumerate() {
-            ctx.counts.read += 1;
-            let (s, t) = (trimmed(s), trimmed(t));
-            let reason = match (s, t) {
-                (None, _) => QuarantineReason::MissingId {
-                    field: "source_id".into(),
-                },
-                (_, None) => QuarantineReason::MissingId {
-                    field: "target_id".into(),
-                },
-                (Some(a), Some(b)) if ids.same(a, b) => QuarantineReason::SelfExposure,
-                (Some(a), Some(b)) => {
-                    usable.push(row as u32);
-                    pairs.push((a, b));
-                    continue;
-                }
-            };
-            ctx.counts.quarantined += 1;
-            self.quarantined.push(QuarantinedRow {
-                file: ctx.file,
-                line: chunk.lines.line(row),
-                reason,
-                raw: raw_row(frame, row),
-            });
-        }
+        self.pad_new_fields([last_c, first_c, min_c, set_c]);
+        let (usable, pairs) = self.usable_rows(ctx, chunk, src, tgt, ids);
         // Stages B (field checks) and C (interning IDs) touch disjoint data, so they run on
         // two threads at once; B's problems are counted in its own context and added back.
         let mut fctx = FileCtx {
@@ -356,6 +315,64 @@ impl ExposureRows {
             last.1 += usable.len();
         }
         Ok(())
+    }
+
+    /// A field this file maps but an earlier file did not: pad the earlier rows first.
+    fn pad_new_fields(&mut self, [last_c, first_c, min_c, set_c]: [Option<usize>; 4]) {
+        let done = self.keys.len();
+        if last_c.is_some() && self.last.len() < done {
+            self.last.resize(done, NO_DATE);
+        }
+        if first_c.is_some() && self.first.len() < done {
+            self.first.resize(done, NO_DATE);
+        }
+        if min_c.is_some() && self.minutes.len() < done {
+            self.minutes.resize(done, f32::NAN);
+        }
+        if set_c.is_some() && self.setting.len() < done {
+            self.setting.resize(done, 0);
+        }
+    }
+
+    /// Stage A: which rows can form an exposure (both IDs present, not the same person). A
+    /// quarantined row adds nothing, so this decision comes before any ID is interned.
+    fn usable_rows<'a>(
+        &mut self,
+        ctx: &mut FileCtx,
+        chunk: &Chunk,
+        src: &'a StringChunked,
+        tgt: &'a StringChunked,
+        ids: &IdMap,
+    ) -> (Vec<u32>, Vec<(&'a str, &'a str)>) {
+        let (frame, n) = (&chunk.frame, src.len());
+        let mut usable: Vec<u32> = Vec::with_capacity(n);
+        let mut pairs: Vec<(&str, &str)> = Vec::with_capacity(n);
+        for (row, (s, t)) in src.iter().zip(tgt.iter()).enumerate() {
+            ctx.counts.read += 1;
+            let (s, t) = (trimmed(s), trimmed(t));
+            let reason = match (s, t) {
+                (None, _) => QuarantineReason::MissingId {
+                    field: "source_id".into(),
+                },
+                (_, None) => QuarantineReason::MissingId {
+                    field: "target_id".into(),
+                },
+                (Some(a), Some(b)) if ids.same(a, b) => QuarantineReason::SelfExposure,
+                (Some(a), Some(b)) => {
+                    usable.push(row as u32);
+                    pairs.push((a, b));
+                    continue;
+                }
+            };
+            ctx.counts.quarantined += 1;
+            self.quarantined.push(QuarantinedRow {
+                file: ctx.file,
+                line: chunk.lines.line(row),
+                reason,
+                raw: raw_row(frame, row),
+            });
+        }
+        (usable, pairs)
     }
 
     /// The rows for which `keep` is true (same order), for a sub-network view.
