@@ -234,7 +234,6 @@ impl ExposureRows {
             setting,
             settings,
             setting_spellings,
-            per_file,
             ..
         } = self;
         let mut field_stage = FieldStage {
@@ -281,38 +280,52 @@ impl ExposureRows {
         ctx.counts.field_problems += fctx.counts.field_problems;
         keep_extra_columns(&mut self.extras, frame, meta, m, &usable, self.keys.len())?;
         if let Some(c) = m.get("transmission") {
-            let before = self.keys.len() - usable.len();
-            self.links.resize(before, 0);
-            let col = text_column(frame, Some(c), &meta.path)?
-                .into_iter()
-                .flat_map(|s| s.iter());
-            let mut next = usable.iter().peekable();
-            for (row, v) in col.enumerate() {
-                if next.peek().is_none_or(|&&u| u as usize != row) {
-                    continue;
-                }
-                next.next();
-                let flag = match trimmed(v).map(str::to_ascii_lowercase).as_deref() {
-                    None | Some("no" | "n" | "false" | "f" | "0") => 0,
-                    Some("yes" | "y" | "true" | "t" | "1") => 1,
-                    Some(other) => {
-                        let msg = "not yes or no; read as no".to_string();
-                        checker.problem(
-                            ctx,
-                            chunk.lines.line(row),
-                            c,
-                            other,
-                            ProblemKind::UnreadableFlag,
-                            msg,
-                        );
-                        0
-                    }
-                };
-                self.links.push(flag);
-            }
+            self.read_links(ctx, chunk, checker, c, &usable)?;
         }
-        if let Some(last) = per_file.last_mut() {
+        if let Some(last) = self.per_file.last_mut() {
             last.1 += usable.len();
+        }
+        Ok(())
+    }
+
+    /// The `transmission` column of the usable rows as 0/1 links (an unreadable value is a
+    /// field problem and reads as no).
+    fn read_links(
+        &mut self,
+        ctx: &mut FileCtx,
+        chunk: &Chunk,
+        checker: &mut FieldChecker,
+        c: usize,
+        usable: &[u32],
+    ) -> Result<()> {
+        let before = self.keys.len() - usable.len();
+        self.links.resize(before, 0);
+        let col = text_column(&chunk.frame, Some(c), &ctx.meta.path)?
+            .into_iter()
+            .flat_map(|s| s.iter());
+        let mut next = usable.iter().peekable();
+        for (row, v) in col.enumerate() {
+            if next.peek().is_none_or(|&&u| u as usize != row) {
+                continue;
+            }
+            next.next();
+            let flag = match trimmed(v).map(str::to_ascii_lowercase).as_deref() {
+                None | Some("no" | "n" | "false" | "f" | "0") => 0,
+                Some("yes" | "y" | "true" | "t" | "1") => 1,
+                Some(other) => {
+                    let msg = "not yes or no; read as no".to_string();
+                    checker.problem(
+                        ctx,
+                        chunk.lines.line(row),
+                        c,
+                        other,
+                        ProblemKind::UnreadableFlag,
+                        msg,
+                    );
+                    0
+                }
+            };
+            self.links.push(flag);
         }
         Ok(())
     }
