@@ -76,7 +76,97 @@ pub fn case_stats(d: &Dataset) -> CaseStats {
         .collect();
     let cases_n = is_case.iter().filter(|&&c| c).count();
     let nset = d.settings.len();
-    // Per person: at risk / secondary, overall (index 0) and per setting code (1..=nset).
+    let (at_risk, secondary, co_primary_pairs) = exposed(d, &is_case, &onset);
+    let count = |slot: usize| {
+        let (mut x, mut m, mut l, mut im) = (0u64, 0u64, 0u64, 0u64);
+        for v in 0..n {
+            if !at_risk[slot][v] {
+                continue;
+            }
+            if lost[v] && !secondary[slot][v] {
+                l += 1;
+            } else if immune[v] && !secondary[slot][v] {
+                im += 1;
+            } else {
+                m += 1;
+                x += u64::from(secondary[slot][v]);
+            }
+        }
+        (x, m, l, im)
+    };
+    let (x, m, lost_n, immune_n) = count(0);
+    let sar_by_setting = (1..=nset)
+        .map(|s| {
+            let (x, m, _, _) = count(s);
+            (d.settings[s - 1].clone(), cases::proportion(x, m))
+        })
+        .collect();
+    let (links, offspring, intervals) = linked(d, &is_case, &onset);
+    let missing = if !d.attrs.names.iter().any(|c| c == "role") {
+        Some("the people table has no role column (case / contact)")
+    } else if cases_n == 0 {
+        Some("no person has role \"case\"")
+    } else {
+        None
+    };
+    CaseStats {
+        cases: cases_n,
+        missing,
+        sar: cases::proportion(x, m),
+        sar_by_setting,
+        lost: lost_n,
+        immune: immune_n,
+        co_primary_pairs,
+        links,
+        offspring,
+        serial: cases::serial_interval(&intervals),
+    }
+}
+
+/// Explicit infector -> infectee links: their count, the offspring of each case, and the
+/// serial intervals where both onsets are known. No links: no offspring sample.
+fn linked(d: &Dataset, is_case: &[bool], onset: &[Option<i32>]) -> (u64, Option<Sample>, Vec<i64>) {
+    let n = d.people();
+    let has_links = !d.edges.links_ab.is_empty();
+    let mut offspring_count = vec![0u64; n];
+    let mut intervals = Vec::new();
+    let mut links = 0u64;
+    if has_links {
+        for e in 0..d.edges.len() {
+            let (a, b) = (d.edges.a[e] as usize, d.edges.b[e] as usize);
+            for (infector, infectee, k) in
+                [(a, b, d.edges.links_ab[e]), (b, a, d.edges.links_ba[e])]
+            {
+                if k == 0 {
+                    continue;
+                }
+                links += 1;
+                offspring_count[infector] += 1;
+                if let (Some(x), Some(y)) = (onset[infector], onset[infectee]) {
+                    intervals.push(i64::from(y) - i64::from(x));
+                }
+            }
+        }
+    }
+    let offspring = has_links.then(|| {
+        let values: Vec<u64> = (0..n)
+            .filter(|&i| is_case[i])
+            .map(|i| offspring_count[i])
+            .collect();
+        Sample::from_values(&values)
+    });
+    (links, offspring, intervals)
+}
+
+/// Per person, overall (slot 0) and per setting code (1..=settings): at risk (a contact of a
+/// case, or the later case of a dated case pair) and secondary (that later case); and the case
+/// pairs without an order (co-primary).
+fn exposed(
+    d: &Dataset,
+    is_case: &[bool],
+    onset: &[Option<i32>],
+) -> (Vec<Vec<bool>>, Vec<Vec<bool>>, u64) {
+    let (n, nset) = (d.people(), d.settings.len());
     let mut at_risk = vec![vec![false; n]; nset + 1];
     let mut secondary = vec![vec![false; n]; nset + 1];
     let mut co_primary_pairs = 0u64;
@@ -107,76 +197,5 @@ pub fn case_stats(d: &Dataset) -> CaseStats {
             }
         }
     }
-    let count = |slot: usize| {
-        let (mut x, mut m, mut l, mut im) = (0u64, 0u64, 0u64, 0u64);
-        for v in 0..n {
-            if !at_risk[slot][v] {
-                continue;
-            }
-            if lost[v] && !secondary[slot][v] {
-                l += 1;
-            } else if immune[v] && !secondary[slot][v] {
-                im += 1;
-            } else {
-                m += 1;
-                x += u64::from(secondary[slot][v]);
-            }
-        }
-        (x, m, l, im)
-    };
-    let (x, m, lost_n, immune_n) = count(0);
-    let sar_by_setting = (1..=nset)
-        .map(|s| {
-            let (x, m, _, _) = count(s);
-            (d.settings[s - 1].clone(), cases::proportion(x, m))
-        })
-        .collect();
-    // Links: offspring per case and serial intervals.
-    let has_links = !d.edges.links_ab.is_empty();
-    let mut offspring_count = vec![0u64; n];
-    let mut intervals = Vec::new();
-    let mut links = 0u64;
-    if has_links {
-        for e in 0..d.edges.len() {
-            let (a, b) = (d.edges.a[e] as usize, d.edges.b[e] as usize);
-            for (infector, infectee, k) in
-                [(a, b, d.edges.links_ab[e]), (b, a, d.edges.links_ba[e])]
-            {
-                if k == 0 {
-                    continue;
-                }
-                links += 1;
-                offspring_count[infector] += 1;
-                if let (Some(x), Some(y)) = (onset[infector], onset[infectee]) {
-                    intervals.push(i64::from(y) - i64::from(x));
-                }
-            }
-        }
-    }
-    let offspring = has_links.then(|| {
-        let values: Vec<u64> = (0..n)
-            .filter(|&i| is_case[i])
-            .map(|i| offspring_count[i])
-            .collect();
-        Sample::from_values(&values)
-    });
-    let missing = if !d.attrs.names.iter().any(|c| c == "role") {
-        Some("the people table has no role column (case / contact)")
-    } else if cases_n == 0 {
-        Some("no person has role \"case\"")
-    } else {
-        None
-    };
-    CaseStats {
-        cases: cases_n,
-        missing,
-        sar: cases::proportion(x, m),
-        sar_by_setting,
-        lost: lost_n,
-        immune: immune_n,
-        co_primary_pairs,
-        links,
-        offspring,
-        serial: cases::serial_interval(&intervals),
-    }
+    (at_risk, secondary, co_primary_pairs)
 }
