@@ -332,6 +332,54 @@ pub fn plan(d: &Dataset, priority_order: Option<Vec<u32>>, opts: &PlanOptions) -
     )
 }
 
+/// One strategy's reach curve beside the configuration model's (None: the priority strategy
+/// without a priority order).
+fn strategy_curve(
+    d: &Dataset,
+    degrees: &[u32],
+    s: Strategy,
+    priority_order: Option<&[u32]>,
+    opts: &PlanOptions,
+    id_rank: &[u32],
+) -> Option<StrategyCurve> {
+    if s.averaged() {
+        let (curves, models, orders) = repeated(d, degrees, s, opts);
+        let len = orders.iter().map(|o| o.len()).min().unwrap_or(0);
+        let at = model_points(len);
+        let refs: Vec<&[u32]> = orders.iter().map(|o| o.as_slice()).collect();
+        return Some(StrategyCurve {
+            strategy: s,
+            curve: reach::average(&curves),
+            model_largest: spread(
+                reach::configuration_model_largest_mean(degrees, &refs, &at),
+                &at,
+                len,
+            ),
+            model_kappa: mean_stats(&models),
+            order: Vec::new(),
+            repeats: curves.len(),
+        });
+    }
+    let order = match s {
+        Strategy::Degree => reach::degree_order_by(&d.graph, id_rank),
+        _ => priority_order?.to_vec(),
+    };
+    let order = truncate(order, opts.max_reach);
+    let at = model_points(order.len());
+    Some(StrategyCurve {
+        strategy: s,
+        model_largest: spread(
+            reach::configuration_model_largest(degrees, &order, &at),
+            &at,
+            order.len(),
+        ),
+        curve: reach::reach_curve(&d.graph, &order).into(),
+        model_kappa: reach::configuration_model_kappa(degrees, &order),
+        order,
+        repeats: 1,
+    })
+}
+
 /// Same, with each person's position in ID order (see [`reach::id_ranks`]) and T with its
 /// source (see [`transmissibility_from`]) already known.
 pub fn plan_with(
@@ -366,50 +414,11 @@ pub fn plan_with(
         _ => None,
     };
     let curve = outlook::curve(&p, opts.curve_points);
-    let mut strategies = Vec::new();
-    for &s in &opts.strategies {
-        let sc = if s.averaged() {
-            let (curves, models, orders) = repeated(d, &degrees, s, opts);
-            let len = orders.iter().map(|o| o.len()).min().unwrap_or(0);
-            let at = model_points(len);
-            let refs: Vec<&[u32]> = orders.iter().map(|o| o.as_slice()).collect();
-            StrategyCurve {
-                strategy: s,
-                curve: reach::average(&curves),
-                model_largest: spread(
-                    reach::configuration_model_largest_mean(&degrees, &refs, &at),
-                    &at,
-                    len,
-                ),
-                model_kappa: mean_stats(&models),
-                order: Vec::new(),
-                repeats: curves.len(),
-            }
-        } else {
-            let order = match s {
-                Strategy::Degree => reach::degree_order_by(&d.graph, id_rank),
-                _ => match &priority_order {
-                    Some(o) => o.clone(),
-                    None => continue,
-                },
-            };
-            let order = truncate(order, opts.max_reach);
-            let at = model_points(order.len());
-            StrategyCurve {
-                strategy: s,
-                model_largest: spread(
-                    reach::configuration_model_largest(&degrees, &order, &at),
-                    &at,
-                    order.len(),
-                ),
-                curve: reach::reach_curve(&d.graph, &order).into(),
-                model_kappa: reach::configuration_model_kappa(&degrees, &order),
-                order,
-                repeats: 1,
-            }
-        };
-        strategies.push(sc);
-    }
+    let strategies = opts
+        .strategies
+        .iter()
+        .filter_map(|&s| strategy_curve(d, &degrees, s, priority_order.as_deref(), opts, id_rank))
+        .collect();
     Plan {
         t,
         source,
