@@ -201,3 +201,30 @@ fn priority_list_as_json_carries_the_caution_and_the_settings() {
     assert_eq!(code, 2);
     assert!(err.contains("no preset \"fastest\""), "{err}");
 }
+
+#[test]
+fn the_quarantine_file_neutralises_formula_cells() {
+    // A raw row a spreadsheet would run as a formula is written with a leading apostrophe, as
+    // every file of the one writer (OWASP, "CSV Injection"). Issue 11: check's quarantine file
+    // goes through that writer.
+    let dir = tempfile::tempdir().unwrap();
+    let e = dir.path().join("exposures.csv");
+    std::fs::write(&e, "source_id,target_id\nA,B\n+cmd|calc,+cmd|calc\n").unwrap();
+    let q = dir.path().join("q.csv");
+    let (code, _, err) = hubwatch(&[
+        "check",
+        e.to_str().unwrap(),
+        "--as-of",
+        "2026-11-28",
+        "--quarantine",
+        q.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let text = std::fs::read_to_string(&q).unwrap();
+    let row = text
+        .lines()
+        .find(|l| l.starts_with("quarantined"))
+        .unwrap_or_else(|| panic!("{text}"));
+    // The raw row is one quoted cell, its first character no longer a formula sign.
+    assert!(row.contains(",\"'+cmd|calc,+cmd|calc\","), "{row}");
+}
