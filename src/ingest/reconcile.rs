@@ -279,6 +279,46 @@ impl PeopleBuilder {
         }
     }
 
+    /// Keep one people row's attribute values; a value that differs from the one kept for the
+    /// same person is a field problem (the first is kept).
+    fn set_attributes(
+        &mut self,
+        ctx: &mut FileCtx,
+        checker: &mut FieldChecker,
+        pc: &PeopleColumns,
+        (row, line): (usize, u64),
+        (node, id): (u32, &str),
+    ) {
+        for (c, col) in pc.cols.iter().enumerate() {
+            if c == pc.id_col {
+                continue;
+            }
+            let raw = trimmed(col.get(row));
+            let value: Option<String> = if pc.date_cols.contains(&Some(c)) {
+                let d = checker.date(ctx, line, Some(c), raw);
+                (d != NO_DATE).then(|| dates::iso(d))
+            } else {
+                raw.map(str::to_string)
+            };
+            let Some(value) = value else { continue };
+            let slot = &mut self.attrs.values[pc.attr_of[c]][node as usize];
+            match slot {
+                None => *slot = Some(value.into()),
+                Some(old) if **old != *value => {
+                    let (f, l) = self.first_line[node as usize];
+                    let at = if f == ctx.file {
+                        format!("line {l}")
+                    } else {
+                        format!("file {} line {l}", f + 1)
+                    };
+                    let msg = format!("person {id} repeated; kept \"{old}\" from {at}");
+                    checker.problem(ctx, line, c, &value, ProblemKind::ConflictingValue, msg);
+                }
+                Some(_) => {}
+            }
+        }
+    }
+
     /// Process one chunk of a people file.
     pub fn add_chunk(
         &mut self,
@@ -351,37 +391,25 @@ impl PeopleBuilder {
             } else {
                 ctx.counts.merged += 1;
             }
-            for (c, col) in cols.iter().enumerate() {
-                if c == id_col {
-                    continue;
-                }
-                let raw = trimmed(col.get(row));
-                let value: Option<String> = if date_cols.contains(&Some(c)) {
-                    let d = checker.date(ctx, line, Some(c), raw);
-                    (d != NO_DATE).then(|| dates::iso(d))
-                } else {
-                    raw.map(str::to_string)
-                };
-                let Some(value) = value else { continue };
-                let slot = &mut self.attrs.values[attr_of[c]][node as usize];
-                match slot {
-                    None => *slot = Some(value.into()),
-                    Some(old) if **old != *value => {
-                        let (f, l) = self.first_line[node as usize];
-                        let at = if f == ctx.file {
-                            format!("line {l}")
-                        } else {
-                            format!("file {} line {l}", f + 1)
-                        };
-                        let msg = format!("person {id} repeated; kept \"{old}\" from {at}");
-                        checker.problem(ctx, line, c, &value, ProblemKind::ConflictingValue, msg);
-                    }
-                    Some(_) => {}
-                }
-            }
+            let pc = PeopleColumns {
+                cols: &cols,
+                id_col,
+                date_cols: &date_cols,
+                attr_of: &attr_of,
+            };
+            self.set_attributes(ctx, checker, &pc, (row, line), (node, id));
         }
         Ok(())
     }
+}
+
+/// The columns of one people chunk: text columns, which holds the ID, which are dates, and the
+/// attribute each one fills.
+struct PeopleColumns<'a> {
+    cols: &'a [&'a StringChunked],
+    id_col: usize,
+    date_cols: &'a [Option<usize>],
+    attr_of: &'a [usize],
 }
 
 /// An optional column's values, row by row.
