@@ -137,11 +137,9 @@ fn cell_text(cell: &Data) -> Option<String> {
 
 /// Read the first (or the named) worksheet; the first non-empty row is the header.
 /// Positions are the spreadsheet's own row numbers; fully empty rows are skipped.
-pub fn read_excel(path: &Path, sheet: Option<&str>) -> Result<Table> {
-    let mut book = open_workbook_auto(path)
-        .map_err(|e| Error::format(path, format!("not a readable spreadsheet: {e}")))?;
-    let names = book.sheet_names().to_vec();
-    let name = match sheet {
+/// The worksheet asked for, or the first; an unknown name lists the workbook's sheets.
+fn pick_sheet(path: &Path, names: &[String], sheet: Option<&str>) -> Result<String> {
+    match sheet {
         Some(s) => names
             .iter()
             .find(|n| n.as_str() == s)
@@ -154,12 +152,20 @@ pub fn read_excel(path: &Path, sheet: Option<&str>) -> Result<Table> {
                         names.join(", ")
                     ),
                 )
-            })?,
+            }),
         None => names
             .first()
             .cloned()
-            .ok_or_else(|| Error::format(path, "the workbook has no worksheet"))?,
-    };
+            .ok_or_else(|| Error::format(path, "the workbook has no worksheet")),
+    }
+}
+
+/// Read one worksheet: the first non-empty row is the header; a row with values beyond the
+/// named columns is set aside with its row number.
+pub fn read_excel(path: &Path, sheet: Option<&str>) -> Result<Table> {
+    let mut book = open_workbook_auto(path)
+        .map_err(|e| Error::format(path, format!("not a readable spreadsheet: {e}")))?;
+    let name = pick_sheet(path, &book.sheet_names(), sheet)?;
     let range = book
         .worksheet_range(&name)
         .map_err(|e| Error::format(path, format!("worksheet \"{name}\": {e}")))?;
