@@ -135,8 +135,6 @@ fn cell_text(cell: &Data) -> Option<String> {
     }
 }
 
-/// Read the first (or the named) worksheet; the first non-empty row is the header.
-/// Positions are the spreadsheet's own row numbers; fully empty rows are skipped.
 /// The worksheet asked for, or the first; an unknown name lists the workbook's sheets.
 fn pick_sheet(path: &Path, names: &[String], sheet: Option<&str>) -> Result<String> {
     match sheet {
@@ -160,8 +158,9 @@ fn pick_sheet(path: &Path, names: &[String], sheet: Option<&str>) -> Result<Stri
     }
 }
 
-/// Read one worksheet: the first non-empty row is the header; a row with values beyond the
-/// named columns is set aside with its row number.
+/// Read the first (or the named) worksheet; the first non-empty row is the header.
+/// Positions are the spreadsheet's own row numbers; fully empty rows are skipped; a row with
+/// values beyond the named columns is set aside with its row number.
 pub fn read_excel(path: &Path, sheet: Option<&str>) -> Result<Table> {
     let mut book = open_workbook_auto(path)
         .map_err(|e| Error::format(path, format!("not a readable spreadsheet: {e}")))?;
