@@ -17,6 +17,7 @@ use crate::metrics::outlook;
 use crate::tui::keys::Pane;
 use crate::tui::model::{Model, ScopeStats};
 use crate::tui::panes::degrees::{self, DegreesView};
+use crate::tui::panes::neighbours::{self, NeighboursView};
 use crate::tui::panes::outlook::{self as outlook_pane, OutlookView};
 pub use crate::tui::state::*;
 use crate::workspace::{PersonState, Workspace, FOLLOWUP_STATES};
@@ -26,6 +27,8 @@ use crate::workspace::{PersonState, Workspace, FOLLOWUP_STATES};
 pub struct Views {
     /// The Degrees pane.
     pub degrees: DegreesView,
+    /// The Neighbours pane.
+    pub neighbours: NeighboursView,
     /// The Outlook pane.
     pub outlook: OutlookView,
 }
@@ -151,6 +154,7 @@ impl App {
     /// Recompute the panes' view models from the state.
     pub fn refresh_views(&mut self, m: &Model) {
         self.views.degrees = degrees::view(m, self);
+        self.views.neighbours = neighbours::view(m, self);
         self.views.outlook = outlook_pane::view(m, self);
     }
 

@@ -14,6 +14,64 @@ use crate::tui::model::{Model, ScopeStats};
 use crate::tui::theme::Theme;
 use crate::tui::ui::block;
 
+/// The two charts' points and ranges, computed when the state changes.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct NeighboursView {
+    /// Largest k shown.
+    pub kmax: usize,
+    /// Log scale.
+    pub log: bool,
+    /// k_nn(k) up to kmax.
+    pub knn: Vec<(f64, f64)>,
+    /// The flat line <k²>/<k> of an uncorrelated network.
+    pub flat: [(f64, f64); 2],
+    /// Top of the k_nn axis.
+    pub knn_max: f64,
+    /// Observed other contacts of a contact, and q_k, up to kmax.
+    pub observed: Vec<(f64, f64)>,
+    /// q_k.
+    pub predicted: Vec<(f64, f64)>,
+    /// Top of that axis.
+    pub excess_max: f64,
+}
+
+/// The pane's figures for the state.
+pub fn view(m: &Model, app: &App) -> NeighboursView {
+    let sc = app.scope(m);
+    let kmax = cutoff_k(&sc.histogram, CUTOFFS[app.cutoff]).max(1);
+    let log = app.log_scale;
+    let knn: Vec<(f64, f64)> = sc
+        .knn
+        .iter()
+        .filter(|(k, _)| (*k as usize) <= kmax)
+        .map(|&(k, v)| (k as f64, v))
+        .collect();
+    let flat_y = sc.edge_end_mean.unwrap_or(0.0);
+    let pts = |v: &[f64]| -> Vec<(f64, f64)> {
+        v.iter()
+            .enumerate()
+            .take(kmax)
+            .map(|(k, &p)| (k as f64, y_of(p, log)))
+            .collect()
+    };
+    NeighboursView {
+        kmax,
+        log,
+        knn_max: knn.iter().map(|p| p.1).fold(flat_y, f64::max) * 1.1,
+        knn,
+        flat: [(0.0, flat_y), (kmax as f64 + 1.0, flat_y)],
+        observed: pts(&sc.contact_excess),
+        predicted: pts(&sc.q),
+        excess_max: sc
+            .contact_excess
+            .iter()
+            .chain(sc.q.iter())
+            .cloned()
+            .fold(0.0, f64::max),
+    }
+}
+
+/// Lay out the pane.
 pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
     if computing(frame, area, m, app, th) {
         return;
@@ -23,23 +81,15 @@ pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
         Layout::vertical([Constraint::Min(8), Constraint::Length(10)]).areas(area);
     let [left, right] =
         Layout::horizontal([Constraint::Percentage(50), Constraint::Percentage(50)]).areas(charts);
-    let kmax = cutoff_k(&sc.histogram, CUTOFFS[app.cutoff]).max(1);
-    render_knn(frame, left, sc, kmax, th);
-    render_excess(frame, right, app, sc, kmax, th);
+    let v = &app.views.neighbours;
+    render_knn(frame, left, sc, v, th);
+    render_excess(frame, right, v, th);
     render_bottom(frame, bottom, m, sc, th);
 }
 
 /// k_nn(k) against the flat line an uncorrelated network gives.
-fn render_knn(frame: &mut Frame, area: Rect, sc: &ScopeStats, kmax: usize, th: &Theme) {
-    let knn: Vec<(f64, f64)> = sc
-        .knn
-        .iter()
-        .filter(|(k, _)| (*k as usize) <= kmax)
-        .map(|&(k, v)| (k as f64, v))
-        .collect();
-    let flat_y = sc.edge_end_mean.unwrap_or(0.0);
-    let flat = [(0.0, flat_y), (kmax as f64 + 1.0, flat_y)];
-    let ymax = knn.iter().map(|p| p.1).fold(flat_y, f64::max) * 1.1;
+fn render_knn(frame: &mut Frame, area: Rect, sc: &ScopeStats, v: &NeighboursView, th: &Theme) {
+    let (knn, flat, ymax, kmax) = (&v.knn, &v.flat, v.knn_max, v.kmax);
     frame.render_widget(
         Chart::new(vec![
             Dataset::default()
@@ -47,13 +97,13 @@ fn render_knn(frame: &mut Frame, area: Rect, sc: &ScopeStats, kmax: usize, th: &
                 .marker(Marker::Dot)
                 .graph_type(GraphType::Scatter)
                 .style(th.series[0])
-                .data(&knn),
+                .data(knn),
             Dataset::default()
                 .name("─ uncorrelated: <k²>/<k>")
                 .marker(Marker::Braille)
                 .graph_type(GraphType::Line)
                 .style(th.series[1])
-                .data(&flat),
+                .data(flat),
         ])
         .block(block(
             format!(
@@ -81,34 +131,8 @@ fn render_knn(frame: &mut Frame, area: Rect, sc: &ScopeStats, kmax: usize, th: &
 }
 
 /// The observed neighbour degrees against q_k.
-fn render_excess(
-    frame: &mut Frame,
-    area: Rect,
-    app: &App,
-    sc: &ScopeStats,
-    kmax: usize,
-    th: &Theme,
-) {
-    let log = app.log_scale;
-    let obs: Vec<(f64, f64)> = sc
-        .contact_excess
-        .iter()
-        .enumerate()
-        .take(kmax)
-        .map(|(k, &p)| (k as f64, y_of(p, log)))
-        .collect();
-    let pred: Vec<(f64, f64)> =
-        sc.q.iter()
-            .enumerate()
-            .take(kmax)
-            .map(|(k, &p)| (k as f64, y_of(p, log)))
-            .collect();
-    let ymax2 = sc
-        .contact_excess
-        .iter()
-        .chain(sc.q.iter())
-        .cloned()
-        .fold(0.0, f64::max);
+fn render_excess(frame: &mut Frame, area: Rect, v: &NeighboursView, th: &Theme) {
+    let (obs, pred, ymax2, kmax, log) = (&v.observed, &v.predicted, v.excess_max, v.kmax, v.log);
     frame.render_widget(
         Chart::new(vec![
             Dataset::default()
@@ -116,13 +140,13 @@ fn render_excess(
                 .marker(Marker::HalfBlock)
                 .graph_type(GraphType::Bar)
                 .style(th.series[0])
-                .data(&obs),
+                .data(obs),
             Dataset::default()
                 .name("⠒ predicted q_k")
                 .marker(Marker::Braille)
                 .graph_type(GraphType::Line)
                 .style(th.series[1])
-                .data(&pred),
+                .data(pred),
         ])
         .block(block(
             "Other contacts of a contact: observed vs q_k".into(),
