@@ -74,6 +74,91 @@ pub struct Aggregated {
     pub edge_of_row: Vec<u32>,
 }
 
+/// One pair's rows folded together: first and last date, minutes, who named whom, links, and
+/// the settings seen (`codes` is a buffer reused from pair to pair).
+struct Pair<'c> {
+    first: i32,
+    last: i32,
+    minutes: f64,
+    named: u32,
+    links: (u32, u32),
+    codes: &'c mut Vec<u16>,
+}
+
+impl<'c> Pair<'c> {
+    fn new(codes: &'c mut Vec<u16>) -> Pair<'c> {
+        codes.clear();
+        Pair {
+            first: NO_DATE,
+            last: NO_DATE,
+            minutes: f64::NAN,
+            named: 0,
+            links: (0, 0),
+            codes,
+        }
+    }
+
+    /// Fold in row `r`.
+    #[inline]
+    fn add(&mut self, rows: &ExposureRows, r: usize) {
+        if rows.forward[r] {
+            self.named += 1;
+        }
+        let l = rows.last.get(r).copied().unwrap_or(NO_DATE);
+        let f = rows.first.get(r).copied().unwrap_or(NO_DATE);
+        if l != NO_DATE {
+            self.last = self.last.max(l);
+        }
+        for d in [f, l] {
+            if d != NO_DATE && (self.first == NO_DATE || d < self.first) {
+                self.first = d;
+            }
+        }
+        if let Some(&m) = rows.minutes.get(r) {
+            if !m.is_nan() {
+                self.minutes = if self.minutes.is_nan() {
+                    f64::from(m)
+                } else {
+                    self.minutes + f64::from(m)
+                };
+            }
+        }
+        if rows.links.get(r) == Some(&1) {
+            if rows.forward[r] {
+                self.links.0 += 1;
+            } else {
+                self.links.1 += 1;
+            }
+        }
+        if let Some(&c) = rows.setting.get(r) {
+            if c != 0 && !self.codes.contains(&c) {
+                self.codes.push(c);
+            }
+        }
+    }
+
+    /// Append the folded pair as one edge.
+    #[inline]
+    fn push(self, e: &mut Edges, (a, b): (u32, u32), n: u32, rows: &ExposureRows, settings: bool) {
+        e.a.push(a);
+        e.b.push(b);
+        e.rows.push(n);
+        e.a_named_b.push(self.named);
+        e.first.push(self.first);
+        e.last.push(self.last);
+        e.minutes.push(self.minutes);
+        if !rows.links.is_empty() {
+            e.links_ab.push(self.links.0);
+            e.links_ba.push(self.links.1);
+        }
+        if settings {
+            self.codes.sort_unstable();
+            e.setting_codes.extend_from_slice(self.codes);
+            e.setting_off.push(e.setting_codes.len() as u32);
+        }
+    }
+}
+
 /// Collapse rows into pairs. Rows are sorted by pair with a stable radix sort, so the first
 /// row of a pair in input order is the one counted as used.
 pub fn aggregate(rows: &ExposureRows, want_row_edges: bool) -> Aggregated {
@@ -117,68 +202,24 @@ pub fn aggregate(rows: &ExposureRows, want_row_edges: bool) -> Aggregated {
     while i < order.len() {
         let key = order[i].0;
         let mut j = i;
-        let (mut first, mut last, mut minutes, mut named) = (NO_DATE, NO_DATE, f64::NAN, 0u32);
-        let (mut lab, mut lba) = (0u32, 0u32);
-        codes.clear();
+        let mut pair = Pair::new(&mut codes);
         while j < order.len() && order[j].0 == key {
             let r = order[j].1 as usize;
             if want_row_edges {
                 edge_of_row[r] = e.a.len() as u32;
             }
-            if rows.forward[r] {
-                named += 1;
-            }
-            let l = rows.last.get(r).copied().unwrap_or(NO_DATE);
-            let f = rows.first.get(r).copied().unwrap_or(NO_DATE);
-            if l != NO_DATE {
-                last = last.max(l);
-            }
-            for d in [f, l] {
-                if d != NO_DATE && (first == NO_DATE || d < first) {
-                    first = d;
-                }
-            }
-            if let Some(&m) = rows.minutes.get(r) {
-                if !m.is_nan() {
-                    minutes = if minutes.is_nan() {
-                        f64::from(m)
-                    } else {
-                        minutes + f64::from(m)
-                    };
-                }
-            }
-            if rows.links.get(r) == Some(&1) {
-                if rows.forward[r] {
-                    lab += 1;
-                } else {
-                    lba += 1;
-                }
-            }
-            if let Some(&c) = rows.setting.get(r) {
-                if c != 0 && !codes.contains(&c) {
-                    codes.push(c);
-                }
-            }
+            pair.add(rows, r);
             j += 1;
         }
         first_of_pair[order[i].1 as usize] = true;
         let (lo, hi) = unpack(key);
-        e.a.push(lo as u32);
-        e.b.push(hi as u32);
-        e.rows.push((j - i) as u32);
-        e.a_named_b.push(named);
-        e.first.push(first);
-        e.last.push(last);
-        e.minutes.push(minutes);
-        if !rows.links.is_empty() {
-            e.links_ab.push(lab);
-            e.links_ba.push(lba);
-        }
-        if has_settings {
-            codes.sort_unstable();
-            e.setting_codes.extend_from_slice(&codes);
-            e.setting_off.push(e.setting_codes.len() as u32);
-        }
+        pair.push(
+            &mut e,
+            (lo as u32, hi as u32),
+            (j - i) as u32,
+            rows,
+            has_settings,
+        );
         i = j;
     }
     Aggregated {
