@@ -279,6 +279,19 @@ impl PeopleBuilder {
         }
     }
 
+    /// A people row without an ID is quarantined.
+    fn quarantine_missing_id(&mut self, ctx: &mut FileCtx, line: u64, raw: String) {
+        ctx.counts.quarantined += 1;
+        self.quarantined.push(QuarantinedRow {
+            file: ctx.file,
+            line,
+            reason: QuarantineReason::MissingId {
+                field: "person_id".into(),
+            },
+            raw,
+        });
+    }
+
     /// Keep one people row's attribute values; a value that differs from the one kept for the
     /// same person is a field problem (the first is kept).
     fn set_attributes(
@@ -370,15 +383,7 @@ impl PeopleBuilder {
             let line = chunk.lines.line(row);
             ctx.counts.read += 1;
             let Some(id) = trimmed(cols[id_col].get(row)) else {
-                ctx.counts.quarantined += 1;
-                self.quarantined.push(QuarantinedRow {
-                    file: ctx.file,
-                    line,
-                    reason: QuarantineReason::MissingId {
-                        field: "person_id".into(),
-                    },
-                    raw: raw_row(frame, row),
-                });
+                self.quarantine_missing_id(ctx, line, raw_row(frame, row));
                 continue;
             };
             let (node, new) = self.ids.intern(id);

@@ -203,7 +203,6 @@ impl ExposureRows {
         if ctx.counts.read == 0 {
             checker.check_ambiguity(meta, frame, &[last_c, first_c])?;
         }
-        let n = frame.height();
         let src = text_column(frame, src_c, &meta.path)?;
         let tgt = text_column(frame, tgt_c, &meta.path)?;
         let (Some(src), Some(tgt)) = (src, tgt) else {
@@ -217,6 +216,29 @@ impl ExposureRows {
         }
         self.pad_new_fields([last_c, first_c, min_c, set_c]);
         let (usable, pairs) = self.usable_rows(ctx, chunk, src, tgt, ids);
+        let cols = [last_c, first_c, set_c, min_c];
+        self.fields_and_ids(ctx, chunk, (ids, checker), cols, (&usable, &pairs))?;
+        let (frame, meta, m) = (&chunk.frame, ctx.meta, ctx.mapping);
+        keep_extra_columns(&mut self.extras, frame, meta, m, &usable, self.keys.len())?;
+        if let Some(c) = m.get("transmission") {
+            self.read_links(ctx, chunk, checker, c, &usable)?;
+        }
+        if let Some(last) = self.per_file.last_mut() {
+            last.1 += usable.len();
+        }
+        Ok(())
+    }
+
+    /// Stages B (field checks) and C (interning IDs) of the usable rows.
+    fn fields_and_ids(
+        &mut self,
+        ctx: &mut FileCtx,
+        chunk: &Chunk,
+        (ids, checker): (&mut IdMap, &mut FieldChecker),
+        [last_c, first_c, set_c, min_c]: [Option<usize>; 4],
+        (usable, pairs): (&[u32], &[(&str, &str)]),
+    ) -> Result<()> {
+        let (frame, meta, m, n) = (&chunk.frame, ctx.meta, ctx.mapping, chunk.frame.height());
         // Stages B (field checks) and C (interning IDs) touch disjoint data, so they run on
         // two threads at once; B's problems are counted in its own context and added back.
         let mut fctx = FileCtx {
@@ -253,7 +275,7 @@ impl ExposureRows {
         let intern = |keys: &mut Vec<u64>, forward: &mut Vec<bool>, ids: &mut IdMap| {
             keys.reserve(pairs.len());
             forward.reserve(pairs.len());
-            for &(s, t) in &pairs {
+            for &(s, t) in pairs {
                 let (a, _) = ids.intern(s);
                 let (b, _) = ids.intern(t);
                 let (lo, hi) = if a < b { (a, b) } else { (b, a) };
@@ -262,12 +284,12 @@ impl ExposureRows {
             }
         };
         if usable.len() < PARALLEL_ROWS {
-            field_stage.run(cols, &usable, &chunk.lines, &mut fctx, checker);
+            field_stage.run(cols, usable, &chunk.lines, &mut fctx, checker);
             intern(keys, forward, ids);
         } else {
             std::thread::scope(|sc| {
                 let h =
-                    sc.spawn(|| field_stage.run(cols, &usable, &chunk.lines, &mut fctx, checker));
+                    sc.spawn(|| field_stage.run(cols, usable, &chunk.lines, &mut fctx, checker));
                 intern(keys, forward, ids);
                 h.join().map_err(|_| {
                     Error::format(
@@ -278,13 +300,6 @@ impl ExposureRows {
             })?;
         }
         ctx.counts.field_problems += fctx.counts.field_problems;
-        keep_extra_columns(&mut self.extras, frame, meta, m, &usable, self.keys.len())?;
-        if let Some(c) = m.get("transmission") {
-            self.read_links(ctx, chunk, checker, c, &usable)?;
-        }
-        if let Some(last) = self.per_file.last_mut() {
-            last.1 += usable.len();
-        }
         Ok(())
     }
 
