@@ -125,7 +125,34 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
         .map(|d| crate::ingest::dates::iso(start + d))
         .collect();
 
-    // People: household, age group, area, workplace/school.
+    let (household, age, area, mut pairs) = households(&mut rng, n, span);
+    group_pairs(&mut rng, &age, span, &mut pairs);
+    community_pairs(&mut rng, opts, span, &mut pairs)?;
+    let (onset, links) = infect(&mut rng, n, span, &mut pairs);
+    let mut m = Manifest {
+        links,
+        ..Manifest::default()
+    };
+    let people = People {
+        household: &household,
+        age: &age,
+        area: &area,
+        onset: &onset,
+    };
+    write_people(dir, &mut rng, &people, &dates, &mut m)?;
+    write_exposures(dir, &mut rng, &pairs, (&dates, span, n), &mut m)?;
+    let manifest = serde_json::to_string_pretty(&m).unwrap_or_default();
+    std::fs::write(dir.join("manifest.json"), manifest + "\n")
+        .map_err(|e| Error::io(dir.join("manifest.json"), e))?;
+    Ok(m)
+}
+
+/// Households of 1 to 6 people with an area and age groups; every pair in a household meets.
+fn households(
+    rng: &mut ChaCha8Rng,
+    n: usize,
+    span: i32,
+) -> (Vec<u32>, Vec<u8>, Vec<u8>, Vec<Pair>) {
     let mut household = vec![0u32; n];
     let mut age = vec![0u8; n];
     let mut area = vec![0u8; n];
@@ -152,12 +179,17 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
         hh += 1;
         i += size;
     }
-    // Workplaces (adults) and schools (children): groups of 8..40, each member meets 3 others.
+    (household, age, area, pairs)
+}
+
+/// Workplaces (adults) and schools (children): groups of 8..40, each member meets 3 others.
+fn group_pairs(rng: &mut ChaCha8Rng, age: &[u8], span: i32, pairs: &mut Vec<Pair>) {
+    let n = age.len();
     for (setting, ages) in [(1u8, [2u8, 3]), (2u8, [1u8, 1])] {
         let mut members: Vec<u32> = (0..n as u32)
             .filter(|&p| ages.contains(&age[p as usize]) && rng.random_bool(0.8))
             .collect();
-        members.shuffle(&mut rng);
+        members.shuffle(rng);
         for group in members.chunks(rng.random_range(8..40)) {
             if group.len() < 2 {
                 continue;
@@ -178,15 +210,24 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
             }
         }
     }
-    // Community: configuration model on a negative-binomial degree sequence.
+}
+
+/// Community: configuration model on a negative-binomial degree sequence.
+fn community_pairs(
+    rng: &mut ChaCha8Rng,
+    opts: &SynthOptions,
+    span: i32,
+    pairs: &mut Vec<Pair>,
+) -> Result<()> {
+    let n = opts.people;
     let gamma = Gamma::new(opts.community_k, opts.community_mean / opts.community_k)
         .map_err(|e| Error::Usage(format!("synth: bad community parameters: {e}")))?;
     let mut stubs: Vec<u32> = Vec::new();
     for p in 0..n as u32 {
-        let lambda: f64 = gamma.sample(&mut rng);
+        let lambda: f64 = gamma.sample(rng);
         let k = if lambda > 0.0 {
             Poisson::new(lambda)
-                .map(|d| d.sample(&mut rng) as u64)
+                .map(|d| d.sample(rng) as u64)
                 .unwrap_or(0)
         } else {
             0
@@ -195,7 +236,7 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
             stubs.push(p);
         }
     }
-    stubs.shuffle(&mut rng);
+    stubs.shuffle(rng);
     for s in stubs.chunks_exact(2) {
         if s[0] != s[1] {
             let setting = if rng.random_bool(0.05) { 4 } else { 3 };
@@ -210,7 +251,12 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
     }
     drop(stubs);
 
-    // Infection along pairs in date order from a few index cases.
+    Ok(())
+}
+
+/// Infection along pairs in date order from a few index cases; the pairs that transmitted
+/// are marked and named infector first. Each person's onset (u16::MAX: none) and the links.
+fn infect(rng: &mut ChaCha8Rng, n: usize, span: i32, pairs: &mut [Pair]) -> (Vec<u16>, u64) {
     pairs.sort_unstable_by_key(|p| p.day);
     let mut onset = vec![u16::MAX; n];
     let seeds = (n / 100).max(3);
@@ -244,12 +290,31 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
         }
     }
 
-    let mut m = Manifest {
-        links,
-        ..Manifest::default()
-    };
-    let id = |p: usize| format!("P{p:07}");
-    // People table.
+    (onset, links)
+}
+
+/// The people of the scenario, for the people table.
+struct People<'a> {
+    household: &'a [u32],
+    age: &'a [u8],
+    area: &'a [u8],
+    onset: &'a [u16],
+}
+
+fn id(p: usize) -> String {
+    format!("P{p:07}")
+}
+
+/// The people table, with planted repeated people and one blank ID.
+fn write_people(
+    dir: &Path,
+    rng: &mut ChaCha8Rng,
+    pp: &People,
+    dates: &[String],
+    m: &mut Manifest,
+) -> Result<()> {
+    let (household, age, area, onset) = (pp.household, pp.age, pp.area, pp.onset);
+    let n = household.len();
     let path = dir.join("people.csv");
     let mut w = BufWriter::with_capacity(
         1 << 20,
@@ -306,7 +371,18 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
     m.people = n as u64;
     w.flush().map_err(io)?;
 
-    // Exposures: each pair gives 1..4 rows on nearby days, some written in reverse order.
+    Ok(())
+}
+
+/// Exposures: each pair gives 1..4 rows on nearby days, some written in reverse order, with
+/// planted dirty rows; the distinct pairs are counted for the manifest.
+fn write_exposures(
+    dir: &Path,
+    rng: &mut ChaCha8Rng,
+    pairs: &[Pair],
+    (dates, span, n): (&[String], i32, usize),
+    m: &mut Manifest,
+) -> Result<()> {
     let path = dir.join("exposures.csv");
     let io = |e| Error::io(dir.join("exposures.csv"), e);
     let mut w = BufWriter::with_capacity(
@@ -377,8 +453,5 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
     keys.sort_unstable();
     keys.dedup();
     m.pairs = keys.len() as u64;
-    let manifest = serde_json::to_string_pretty(&m).unwrap_or_default();
-    std::fs::write(dir.join("manifest.json"), manifest + "\n")
-        .map_err(|e| Error::io(dir.join("manifest.json"), e))?;
-    Ok(m)
+    Ok(())
 }
