@@ -95,6 +95,26 @@ fn ensure(dir: &Path, rows: usize) {
 
 fn one(dir: &Path) {
     let ws_dir = tempfile_dir();
+    let (m, mut app, mut b) = open(dir, &ws_dir);
+    let base = pane_draws(&mut b, &m, &mut app);
+    // Keys: state update + full redraw.
+    let mut rows: Vec<(String, Vec<f64>)> = Vec::new();
+    list_keys(&mut b, &m, &mut app, &mut rows);
+    other_keys(&mut b, &m, &mut app, &mut rows);
+    print_keys(rows, base);
+    let _ = std::fs::remove_dir_all(&ws_dir);
+}
+
+/// One key's timing under its name.
+fn record(rows: &mut Vec<(String, Vec<f64>)>, name: &str, secs: f64) {
+    match rows.iter_mut().find(|r| r.0 == name) {
+        Some(r) => r.1.push(secs),
+        None => rows.push((name.to_string(), vec![secs])),
+    }
+}
+
+/// Load, build the model and draw the first frame; print the open-to-first-frame time.
+fn open(dir: &Path, ws_dir: &Path) -> (std::sync::Arc<Model>, App, Bench) {
     let t = Instant::now();
     let opts = LoadOptions {
         overrides: Vec::new(),
@@ -113,7 +133,7 @@ fn one(dir: &Path) {
             &Default::default(),
             &[],
             ws_dir.join("ws.sqlite"),
-            ws_dir.clone(),
+            ws_dir.to_path_buf(),
             &config.dashboard,
         )
         .expect("model"),
@@ -138,6 +158,11 @@ fn one(dir: &Path) {
         "Open to first frame: {first:.2} s (load {load_s:.2} s, statistics + ranking + outlook {:.2} s, first draw the rest); null model still running in the background.\n",
         m.compute_seconds
     );
+    (m, app, b)
+}
+
+/// Each pane's draw time against a one-line frame; returns the baseline.
+fn pane_draws(b: &mut Bench, m: &Model, app: &mut App) -> f64 {
     // Baseline: a one-line frame.
     let mut base = Vec::new();
     for _ in 0..50 {
@@ -157,114 +182,133 @@ fn one(dir: &Path) {
     println!("| pane | draw (median of 20) | / baseline |");
     println!("|---|---|---|");
     for p in Pane::ALL {
-        app.act(&m, Action::Go(p));
+        app.act(m, Action::Go(p));
         if p == Pane::Person && app.person.is_none() {
-            app.act(&m, Action::Go(Pane::Priority));
-            app.act(&m, Action::Open);
+            app.act(m, Action::Go(Pane::Priority));
+            app.act(m, Action::Open);
         }
-        let mut v: Vec<f64> = (0..20).map(|_| b.draw(&m, &app)).collect();
+        let mut v: Vec<f64> = (0..20).map(|_| b.draw(m, app)).collect();
         let md = median(&mut v);
         println!("| {} | {:.2} ms | {:.0}x |", p.name(), md * 1e3, md / base);
     }
-    // Keys: state update + full redraw.
-    let mut rows: Vec<(String, Vec<f64>)> = Vec::new();
-    let mut record = |name: &str, secs: f64| match rows.iter_mut().find(|r| r.0 == name) {
-        Some(r) => r.1.push(secs),
-        None => rows.push((name.to_string(), vec![secs])),
-    };
+    base
+}
+
+/// Keys on the priority list: moving, filters, sorts.
+fn list_keys(b: &mut Bench, m: &Model, app: &mut App, rows: &mut Vec<(String, Vec<f64>)>) {
     for p in Pane::ALL {
-        let t = b.key(&m, &mut app, Action::Go(p));
-        record("switch pane (1-7)", t);
+        let t = b.key(m, app, Action::Go(p));
+        record(rows, "switch pane (1-7)", t);
     }
-    app.act(&m, Action::Go(Pane::Priority));
+    app.act(m, Action::Go(Pane::Priority));
     for _ in 0..50 {
-        let t = b.key(&m, &mut app, Action::Down);
-        record("priority: ↓", t);
+        let t = b.key(m, app, Action::Down);
+        record(rows, "priority: ↓", t);
     }
     for _ in 0..20 {
-        let t = b.key(&m, &mut app, Action::PageDown);
-        record("priority: PgDn", t);
+        let t = b.key(m, app, Action::PageDown);
+        record(rows, "priority: PgDn", t);
     }
     for a in [Action::End, Action::Home] {
-        let t = b.key(&m, &mut app, a);
-        record("priority: End / Home", t);
+        let t = b.key(m, app, a);
+        record(rows, "priority: End / Home", t);
     }
     for _ in 0..3 {
-        let t = b.key(&m, &mut app, Action::FilterRole);
-        record("priority: role filter (r)", t);
+        let t = b.key(m, app, Action::FilterRole);
+        record(rows, "priority: role filter (r)", t);
     }
-    let t = b.key(&m, &mut app, Action::FilterWindow);
-    record("priority: window filter (w)", t);
-    for (name, t) in b.degrees_after_filter(&m, &mut app) {
-        record(name, t);
+    let t = b.key(m, app, Action::FilterWindow);
+    record(rows, "priority: window filter (w)", t);
+    for (name, t) in b.degrees_after_filter(m, app) {
+        record(rows, name, t);
     }
-    app.act(&m, Action::Go(Pane::Priority));
-    let t = b.key(&m, &mut app, Action::ClearFilters);
-    record("clear filters (x)", t);
+    app.act(m, Action::Go(Pane::Priority));
+    let t = b.key(m, app, Action::ClearFilters);
+    record(rows, "clear filters (x)", t);
     for _ in 0..2 {
-        let t = b.key(&m, &mut app, Action::SortNext);
-        record("priority: sort by ID, then contacts (s), first time", t);
+        let t = b.key(m, app, Action::SortNext);
+        record(
+            rows,
+            "priority: sort by ID, then contacts (s), first time",
+            t,
+        );
     }
-    let t = b.key(&m, &mut app, Action::SortReverse);
-    record("priority: reverse sort (S)", t);
+    let t = b.key(m, app, Action::SortReverse);
+    record(rows, "priority: reverse sort (S)", t);
     // The remaining columns for the first time, then every column again (orders are kept).
     for _ in 0..5 {
-        let t = b.key(&m, &mut app, Action::SortNext);
-        record("priority: sort (s), the other five columns, first time", t);
+        let t = b.key(m, app, Action::SortNext);
+        record(
+            rows,
+            "priority: sort (s), the other five columns, first time",
+            t,
+        );
     }
     for _ in 0..7 {
-        let t = b.key(&m, &mut app, Action::SortNext);
-        record("priority: sort (s), every column again (kept)", t);
+        let t = b.key(m, app, Action::SortNext);
+        record(rows, "priority: sort (s), every column again (kept)", t);
     }
+}
+
+/// Search, the person walk, the outlook, the charts and the clusters.
+fn other_keys(b: &mut Bench, m: &Model, app: &mut App, rows: &mut Vec<(String, Vec<f64>)>) {
     while app.sort.0 != hubwatch::tui::app::SortCol::Rank {
-        app.act(&m, Action::SortNext);
+        app.act(m, Action::SortNext);
     }
-    app.act(&m, Action::Search);
+    app.act(m, Action::Search);
     let target =
         m.d.ids
             .name(m.list.ranked[m.list.ranked.len() / 2].node)
             .to_string();
     for c in target.chars() {
         let t0 = Instant::now();
-        app.type_key(&m, crossterm::event::KeyCode::Char(c));
+        app.type_key(m, crossterm::event::KeyCode::Char(c));
         b.term
-            .draw(|f| ui::draw(f, &m, &app, &b.theme))
+            .draw(|f| ui::draw(f, m, app, &b.theme))
             .expect("draw");
-        record("search: one character typed", t0.elapsed().as_secs_f64());
+        record(
+            rows,
+            "search: one character typed",
+            t0.elapsed().as_secs_f64(),
+        );
     }
-    app.type_key(&m, crossterm::event::KeyCode::Enter);
-    let t = b.key(&m, &mut app, Action::Open);
-    record("open person (Enter)", t);
+    app.type_key(m, crossterm::event::KeyCode::Enter);
+    let t = b.key(m, app, Action::Open);
+    record(rows, "open person (Enter)", t);
     for _ in 0..5 {
-        let t = b.key(&m, &mut app, Action::Down);
-        record("person: ↓ contacts", t);
+        let t = b.key(m, app, Action::Down);
+        record(rows, "person: ↓ contacts", t);
     }
-    let t = b.key(&m, &mut app, Action::Open);
-    record("person: open contact (Enter)", t);
-    let t = b.key(&m, &mut app, Action::Back);
-    record("person: back (Backspace)", t);
-    app.act(&m, Action::Go(Pane::Outlook));
+    let t = b.key(m, app, Action::Open);
+    record(rows, "person: open contact (Enter)", t);
+    let t = b.key(m, app, Action::Back);
+    record(rows, "person: back (Backspace)", t);
+    app.act(m, Action::Go(Pane::Outlook));
     for _ in 0..20 {
-        let t = b.key(&m, &mut app, Action::TUp);
-        record("outlook: T + 0.01", t);
+        let t = b.key(m, app, Action::TUp);
+        record(rows, "outlook: T + 0.01", t);
     }
-    app.act(&m, Action::Go(Pane::Degrees));
+    app.act(m, Action::Go(Pane::Degrees));
     for a in [Action::LogScale, Action::Cutoff] {
-        let t = b.key(&m, &mut app, a);
-        record("degrees: log scale / cut-off", t);
+        let t = b.key(m, app, a);
+        record(rows, "degrees: log scale / cut-off", t);
     }
-    app.act(&m, Action::Go(Pane::Clusters));
-    let t = b.key(&m, &mut app, Action::Down);
-    record("clusters: ↓", t);
-    app.act(&m, Action::Home);
-    let t = b.key(&m, &mut app, Action::Open);
-    record("clusters: select the largest (Enter)", t);
-    for (name, t) in b.degrees_after_filter(&m, &mut app) {
-        record(name, t);
+    app.act(m, Action::Go(Pane::Clusters));
+    let t = b.key(m, app, Action::Down);
+    record(rows, "clusters: ↓", t);
+    app.act(m, Action::Home);
+    let t = b.key(m, app, Action::Open);
+    record(rows, "clusters: select the largest (Enter)", t);
+    for (name, t) in b.degrees_after_filter(m, app) {
+        record(rows, name, t);
     }
-    app.act(&m, Action::Go(Pane::Clusters));
-    let t = b.key(&m, &mut app, Action::ClearFilters);
-    record("clear filters (x)", t);
+    app.act(m, Action::Go(Pane::Clusters));
+    let t = b.key(m, app, Action::ClearFilters);
+    record(rows, "clear filters (x)", t);
+}
+
+/// The table of key timings.
+fn print_keys(rows: Vec<(String, Vec<f64>)>, base: f64) {
     println!("\n| key (state update + full redraw) | presses | median | max | / baseline (median) | under 16 ms |");
     println!("|---|---|---|---|---|---|");
     for (name, mut v) in rows {
@@ -285,7 +329,6 @@ fn one(dir: &Path) {
             }
         );
     }
-    let _ = std::fs::remove_dir_all(&ws_dir);
 }
 
 fn tempfile_dir() -> PathBuf {
