@@ -116,19 +116,7 @@ fn one(dir: &Path) -> Result<(), String> {
     let rank_seconds = t.elapsed().as_secs_f64();
     std::hint::black_box(&ranked);
     let null_seconds = if d.ledger.exposures.read <= 2_000_000 {
-        let deg = hubwatch::graph::degrees(&d.graph);
-        let o = hubwatch::analysis::stats::MetricOptions::default();
-        let t = Instant::now();
-        let null = hubwatch::metrics::mixing::null_model(
-            &d.edges.a,
-            &d.edges.b,
-            &deg,
-            o.null_replicates,
-            o.null_swaps_per_edge,
-            o.seed,
-        );
-        std::hint::black_box(&null);
-        t.elapsed().as_secs_f64()
+        null_model_seconds(&d)
     } else {
         f64::NAN
     };
@@ -284,93 +272,110 @@ fn main() {
     println!("Best of {repeat} runs per size; peak MiB is resident memory after parse+check / merge / graph.\n");
     println!("| rows | MB | read bytes (floor) | parse | check+intern | merge pairs | graph | total | rows/s | peak MiB | reference (Python polars) | ref. peak MiB | reference / hubwatch |");
     println!("|---|---|---|---|---|---|---|---|---|---|---|---|---|");
-    let mut graph_rows = Vec::new();
-    let mut outlook_rows: Vec<String> = Vec::new();
-    let mut stats_rows: Vec<String> = Vec::new();
+    let mut tables = Tables::default();
     for rows in sizes {
-        let dir = base.join(format!("synth-{rows}"));
-        if !dir.join("exposures.csv").exists() {
-            let t = Instant::now();
-            let opts = hubwatch::synth::SynthOptions::new(
-                (rows as f64 / 6.8) as usize,
-                1,
-                hubwatch::cli::today() - 1,
-            );
-            if let Err(e) = hubwatch::synth::generate(&dir, &opts) {
-                eprintln!("hubwatch-bench: synth failed: {e}");
-                std::process::exit(1);
-            }
-            eprintln!(
-                "generated {} in {:.1} s",
-                dir.display(),
-                t.elapsed().as_secs_f64()
-            );
-        }
-        let v = run_child(&exe, &dir, repeat);
-        let (ref_s, ref_peak) = py.as_ref().map_or((f64::NAN, f64::NAN), |py| {
-            run_reference(py, "reference.py", &dir, repeat, &v["pairs"])
-        });
-        let (ref2_s, ref2_peak) = py.as_ref().map_or((f64::NAN, f64::NAN), |py| {
-            run_reference(py, "reference_stats.py", &dir, repeat, &v["pairs"])
-        });
-        let whole = v["total"].as_f64().unwrap_or(f64::NAN)
-            + v["stats_seconds"].as_f64().unwrap_or(f64::NAN);
-        stats_rows.push(format!(
-            "| {} | {:.3} s | {:.3} s | {:.3} s | {:.0} | {:.3} s | {:.0} | {:.2}x | {} |",
-            v["rows"],
-            v["total"].as_f64().unwrap_or(f64::NAN),
-            v["stats_seconds"].as_f64().unwrap_or(f64::NAN),
-            whole,
-            v["peak_after_stats"].as_f64().unwrap_or(f64::NAN),
-            ref2_s,
-            ref2_peak,
-            ref2_s / whole,
-            v["null_seconds"]
-                .as_f64()
-                .map_or("not run".to_string(), |x| format!("{x:.2} s")),
-        ));
-        let f = |k: &str| v[k].as_f64().unwrap_or(f64::NAN);
-        let s = |k: &str| v["stages"][k].as_f64().unwrap_or(f64::NAN);
-        let p = |i: usize| v["stages"]["peak_mib"][i].as_f64().unwrap_or(f64::NAN);
-        let total = f("total");
-        println!(
-            "| {} | {:.0} | {:.3} s | {:.3} s | {:.3} s | {:.3} s | {:.3} s | {:.3} s | {:.2} M | {:.0} / {:.0} / {:.0} | {:.3} s | {:.0} | {:.2}x |",
-            v["rows"], f("bytes") / 1e6, f("floor"), s("parse"), s("reconcile"), s("merge_pairs"), s("graph"), total,
-            f("rows") / total / 1e6, p(0), p(1), p(2), ref_s, ref_peak, ref_s / total
-        );
-        outlook_rows.push(format!(
-            "| {} | {} | {:.3} s | {:.3} s ({:.1}x) | {:.3} s ({:.1}x) | {:.1} ms | {} |",
-            v["rows"],
-            v["people"],
-            f("components_seconds"),
-            f("degree_curve_seconds"),
-            f("degree_curve_seconds") / f("components_seconds"),
-            f("acquaintance_curve_seconds"),
-            f("acquaintance_curve_seconds") / f("components_seconds"),
-            f("t_curve_seconds") * 1e3,
-            v["max_degree"],
-        ));
-        graph_rows.push(format!(
-            "| {} | {:.3} s | {:.3} s | {:.0} MiB | {:.3} s | {:.3} s | {:.0} MiB |",
-            v["rows"],
-            s("graph"),
-            f("csr_walk"),
-            f("csr_bytes") / 1048576.0,
-            f("graph_build"),
-            f("graph_walk"),
-            f("graph_bytes") / 1048576.0
-        ));
+        size(rows, &base, repeat, py.as_deref(), &exe, &mut tables);
     }
+    print_tables(tables);
+}
+
+/// The rows of the later tables, gathered size by size.
+#[derive(Default)]
+struct Tables {
+    graph: Vec<String>,
+    outlook: Vec<String>,
+    stats: Vec<String>,
+}
+
+/// One size: write the synth export if needed, time hubwatch and the reference, print the load
+/// row and keep the others.
+fn size(rows: usize, base: &Path, repeat: usize, py: Option<&Path>, exe: &Path, t: &mut Tables) {
+    let dir = base.join(format!("synth-{rows}"));
+    if !dir.join("exposures.csv").exists() {
+        let t = Instant::now();
+        let opts = hubwatch::synth::SynthOptions::new(
+            (rows as f64 / 6.8) as usize,
+            1,
+            hubwatch::cli::today() - 1,
+        );
+        if let Err(e) = hubwatch::synth::generate(&dir, &opts) {
+            eprintln!("hubwatch-bench: synth failed: {e}");
+            std::process::exit(1);
+        }
+        eprintln!(
+            "generated {} in {:.1} s",
+            dir.display(),
+            t.elapsed().as_secs_f64()
+        );
+    }
+    let v = run_child(exe, &dir, repeat);
+    let (ref_s, ref_peak) = py.as_ref().map_or((f64::NAN, f64::NAN), |py| {
+        run_reference(py, "reference.py", &dir, repeat, &v["pairs"])
+    });
+    let (ref2_s, ref2_peak) = py.as_ref().map_or((f64::NAN, f64::NAN), |py| {
+        run_reference(py, "reference_stats.py", &dir, repeat, &v["pairs"])
+    });
+    let whole =
+        v["total"].as_f64().unwrap_or(f64::NAN) + v["stats_seconds"].as_f64().unwrap_or(f64::NAN);
+    t.stats.push(format!(
+        "| {} | {:.3} s | {:.3} s | {:.3} s | {:.0} | {:.3} s | {:.0} | {:.2}x | {} |",
+        v["rows"],
+        v["total"].as_f64().unwrap_or(f64::NAN),
+        v["stats_seconds"].as_f64().unwrap_or(f64::NAN),
+        whole,
+        v["peak_after_stats"].as_f64().unwrap_or(f64::NAN),
+        ref2_s,
+        ref2_peak,
+        ref2_s / whole,
+        v["null_seconds"]
+            .as_f64()
+            .map_or("not run".to_string(), |x| format!("{x:.2} s")),
+    ));
+    let f = |k: &str| v[k].as_f64().unwrap_or(f64::NAN);
+    let s = |k: &str| v["stages"][k].as_f64().unwrap_or(f64::NAN);
+    let p = |i: usize| v["stages"]["peak_mib"][i].as_f64().unwrap_or(f64::NAN);
+    let total = f("total");
+    println!(
+        "| {} | {:.0} | {:.3} s | {:.3} s | {:.3} s | {:.3} s | {:.3} s | {:.3} s | {:.2} M | {:.0} / {:.0} / {:.0} | {:.3} s | {:.0} | {:.2}x |",
+        v["rows"], f("bytes") / 1e6, f("floor"), s("parse"), s("reconcile"), s("merge_pairs"), s("graph"), total,
+        f("rows") / total / 1e6, p(0), p(1), p(2), ref_s, ref_peak, ref_s / total
+    );
+    t.outlook.push(format!(
+        "| {} | {} | {:.3} s | {:.3} s ({:.1}x) | {:.3} s ({:.1}x) | {:.1} ms | {} |",
+        v["rows"],
+        v["people"],
+        f("components_seconds"),
+        f("degree_curve_seconds"),
+        f("degree_curve_seconds") / f("components_seconds"),
+        f("acquaintance_curve_seconds"),
+        f("acquaintance_curve_seconds") / f("components_seconds"),
+        f("t_curve_seconds") * 1e3,
+        v["max_degree"],
+    ));
+    t.graph.push(format!(
+        "| {} | {:.3} s | {:.3} s | {:.0} MiB | {:.3} s | {:.3} s | {:.0} MiB |",
+        v["rows"],
+        s("graph"),
+        f("csr_walk"),
+        f("csr_bytes") / 1048576.0,
+        f("graph_build"),
+        f("graph_walk"),
+        f("graph_bytes") / 1048576.0
+    ));
+}
+
+/// The statistics, outlook and adjacency tables.
+fn print_tables(t: Tables) {
     println!("\nLoad plus every statistic but the null model, against bench/reference_stats.py (Python polars: load, degree histogram, contacts' mean degree, r, components)\n");
     println!("| rows | load | statistics | whole | peak MiB | reference | ref. peak MiB | reference / hubwatch | null model (5 x 10 swaps per pair) |");
     println!("|---|---|---|---|---|---|---|---|---|");
-    for r in stats_rows {
+    for r in t.stats {
         println!("{r}");
     }
     println!("\nOutlook: full reach curves (everyone removed in order; one order each) and the S(T) curve of 101 points; ratio = time / one connected-components pass on the same graph\n");
     println!("| rows | people | components (baseline) | degree curve | acquaintance curve | S(T) 101 points | max degree |");
     println!("|---|---|---|---|---|---|---|");
-    for r in outlook_rows {
+    for r in t.outlook {
         println!("{r}");
     }
     println!("\nAdjacency: petgraph Csr (used) vs petgraph Graph from the same pairs; walk = every person's contacts' degrees\n");
@@ -378,7 +383,24 @@ fn main() {
         "| rows | Csr build | Csr walk | Csr arrays | Graph build | Graph walk | Graph arrays |"
     );
     println!("|---|---|---|---|---|---|---|");
-    for r in graph_rows {
+    for r in t.graph {
         println!("{r}");
     }
+}
+
+/// Seconds for the null model with the default settings.
+fn null_model_seconds(d: &Dataset) -> f64 {
+    let deg = hubwatch::graph::degrees(&d.graph);
+    let o = hubwatch::analysis::stats::MetricOptions::default();
+    let t = Instant::now();
+    let null = hubwatch::metrics::mixing::null_model(
+        &d.edges.a,
+        &d.edges.b,
+        &deg,
+        o.null_replicates,
+        o.null_swaps_per_edge,
+        o.seed,
+    );
+    std::hint::black_box(&null);
+    t.elapsed().as_secs_f64()
 }
