@@ -100,7 +100,17 @@ pub fn rank_list(
     req: &RankRequest,
     states: &[PersonState],
 ) -> Result<RankedList> {
-    let (config, preset, window) = settings(req)?;
+    rank_settled(d, stats, req, states, settings(req)?)
+}
+
+/// The same, with the settings of `req` already loaded and checked (see [`settings`]).
+pub fn rank_settled(
+    d: &Dataset,
+    stats: &NetworkStats,
+    req: &RankRequest,
+    states: &[PersonState],
+    (config, preset, window): (PriorityConfig, (String, Preset), Window),
+) -> Result<RankedList> {
     let followup = followup_map(states);
     let mut filters = req.filters.clone();
     if let Some(id) = &req.cluster_of {

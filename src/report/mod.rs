@@ -15,7 +15,7 @@ pub mod summary;
 pub mod tables;
 
 use crate::analysis::planning::{self, Plan, PlanOptions};
-use crate::analysis::ranking::{rank_list, RankRequest, RankedList};
+use crate::analysis::ranking::{rank_settled, settings, RankRequest, RankedList};
 use crate::analysis::stats::{self, MetricOptions, NetworkStats};
 use crate::analysis::summary::{summarise, Summary};
 use crate::dataset::Dataset;
@@ -56,14 +56,13 @@ pub struct Report {
 impl Report {
     /// Compute the parts asked for, each once.
     pub fn build(d: Dataset, parts: Parts) -> Result<Report> {
-        // Fail on a bad preset or pathogen before the statistics.
-        if let Some(req) = &parts.rank {
-            crate::analysis::ranking::settings(req)?;
-        }
+        // Load and check the preset and pathogen before the statistics (a bad name fails fast),
+        // once.
+        let settled = parts.rank.as_ref().map(settings).transpose()?;
         let stats = stats::compute(&d, &parts.metrics);
-        let list = match &parts.rank {
-            Some(req) => Some(rank_list(&d, &stats, req, &parts.states)?),
-            None => None,
+        let list = match (&parts.rank, settled) {
+            (Some(req), Some(s)) => Some(rank_settled(&d, &stats, req, &parts.states, s)?),
+            _ => None,
         };
         let mut id_rank = None;
         let plan = parts.plan.as_ref().map(|opts| {

@@ -164,7 +164,6 @@ impl Model {
             plan: Some(PlanOptions {
                 max_reach: dash.reach_limit.min(d.people()).max(1),
                 repeats: dash.reach_repeats.max(1),
-                strategies: Strategy::ALL.to_vec(),
                 ..Default::default()
             }),
             states: states.to_vec(),
