@@ -194,60 +194,72 @@ fn pane_draws(b: &mut Bench, m: &Model, app: &mut App) -> f64 {
     base
 }
 
+/// Time each step (row name, action, presses): the state update plus a full redraw per press.
+fn press(
+    b: &mut Bench,
+    m: &Model,
+    app: &mut App,
+    rows: &mut Vec<(String, Vec<f64>)>,
+    steps: &[(&str, Action, usize)],
+) {
+    for &(name, action, times) in steps {
+        for _ in 0..times {
+            let t = b.key(m, app, action);
+            record(rows, name, t);
+        }
+    }
+}
+
 /// Keys on the priority list: moving, filters, sorts.
 fn list_keys(b: &mut Bench, m: &Model, app: &mut App, rows: &mut Vec<(String, Vec<f64>)>) {
     for p in Pane::ALL {
-        let t = b.key(m, app, Action::Go(p));
-        record(rows, "switch pane (1-7)", t);
+        press(b, m, app, rows, &[("switch pane (1-7)", Action::Go(p), 1)]);
     }
     app.act(m, Action::Go(Pane::Priority));
-    for _ in 0..50 {
-        let t = b.key(m, app, Action::Down);
-        record(rows, "priority: ↓", t);
-    }
-    for _ in 0..20 {
-        let t = b.key(m, app, Action::PageDown);
-        record(rows, "priority: PgDn", t);
-    }
-    for a in [Action::End, Action::Home] {
-        let t = b.key(m, app, a);
-        record(rows, "priority: End / Home", t);
-    }
-    for _ in 0..3 {
-        let t = b.key(m, app, Action::FilterRole);
-        record(rows, "priority: role filter (r)", t);
-    }
-    let t = b.key(m, app, Action::FilterWindow);
-    record(rows, "priority: window filter (w)", t);
+    press(
+        b,
+        m,
+        app,
+        rows,
+        &[
+            ("priority: ↓", Action::Down, 50),
+            ("priority: PgDn", Action::PageDown, 20),
+            ("priority: End / Home", Action::End, 1),
+            ("priority: End / Home", Action::Home, 1),
+            ("priority: role filter (r)", Action::FilterRole, 3),
+            ("priority: window filter (w)", Action::FilterWindow, 1),
+        ],
+    );
     for (name, t) in b.degrees_after_filter(m, app) {
         record(rows, name, t);
     }
     app.act(m, Action::Go(Pane::Priority));
-    let t = b.key(m, app, Action::ClearFilters);
-    record(rows, "clear filters (x)", t);
-    for _ in 0..2 {
-        let t = b.key(m, app, Action::SortNext);
-        record(
-            rows,
-            "priority: sort by ID, then contacts (s), first time",
-            t,
-        );
-    }
-    let t = b.key(m, app, Action::SortReverse);
-    record(rows, "priority: reverse sort (S)", t);
-    // The remaining columns for the first time, then every column again (orders are kept).
-    for _ in 0..5 {
-        let t = b.key(m, app, Action::SortNext);
-        record(
-            rows,
-            "priority: sort (s), the other five columns, first time",
-            t,
-        );
-    }
-    for _ in 0..7 {
-        let t = b.key(m, app, Action::SortNext);
-        record(rows, "priority: sort (s), every column again (kept)", t);
-    }
+    // The first sorts by each column, then every column again (orders are kept).
+    press(
+        b,
+        m,
+        app,
+        rows,
+        &[
+            ("clear filters (x)", Action::ClearFilters, 1),
+            (
+                "priority: sort by ID, then contacts (s), first time",
+                Action::SortNext,
+                2,
+            ),
+            ("priority: reverse sort (S)", Action::SortReverse, 1),
+            (
+                "priority: sort (s), the other five columns, first time",
+                Action::SortNext,
+                5,
+            ),
+            (
+                "priority: sort (s), every column again (kept)",
+                Action::SortNext,
+                7,
+            ),
+        ],
+    );
 }
 
 /// Search, the person walk, the outlook, the charts and the clusters.
@@ -261,50 +273,61 @@ fn other_keys(b: &mut Bench, m: &Model, app: &mut App, rows: &mut Vec<(String, V
             .name(m.list.ranked[m.list.ranked.len() / 2].node)
             .to_string();
     for c in target.chars() {
-        let t0 = Instant::now();
-        app.type_key(m, crossterm::event::KeyCode::Char(c));
-        b.term
-            .draw(|f| ui::draw(f, m, app, &b.theme))
-            .expect("draw");
-        record(
+        press(
+            b,
+            m,
+            app,
             rows,
-            "search: one character typed",
-            t0.elapsed().as_secs_f64(),
+            &[("search: one character typed", Action::Type(c), 1)],
         );
     }
-    app.type_key(m, crossterm::event::KeyCode::Enter);
-    let t = b.key(m, app, Action::Open);
-    record(rows, "open person (Enter)", t);
-    for _ in 0..5 {
-        let t = b.key(m, app, Action::Down);
-        record(rows, "person: ↓ contacts", t);
-    }
-    let t = b.key(m, app, Action::Open);
-    record(rows, "person: open contact (Enter)", t);
-    let t = b.key(m, app, Action::Back);
-    record(rows, "person: back (Backspace)", t);
+    app.act(m, Action::Submit);
+    press(
+        b,
+        m,
+        app,
+        rows,
+        &[
+            ("open person (Enter)", Action::Open, 1),
+            ("person: ↓ contacts", Action::Down, 5),
+            ("person: open contact (Enter)", Action::Open, 1),
+            ("person: back (Backspace)", Action::Back, 1),
+        ],
+    );
     app.act(m, Action::Go(Pane::Outlook));
-    for _ in 0..20 {
-        let t = b.key(m, app, Action::TUp);
-        record(rows, "outlook: T + 0.01", t);
-    }
+    press(b, m, app, rows, &[("outlook: T + 0.01", Action::TUp, 20)]);
     app.act(m, Action::Go(Pane::Degrees));
-    for a in [Action::LogScale, Action::Cutoff] {
-        let t = b.key(m, app, a);
-        record(rows, "degrees: log scale / cut-off", t);
-    }
+    press(
+        b,
+        m,
+        app,
+        rows,
+        &[
+            ("degrees: log scale / cut-off", Action::LogScale, 1),
+            ("degrees: log scale / cut-off", Action::Cutoff, 1),
+        ],
+    );
     app.act(m, Action::Go(Pane::Clusters));
-    let t = b.key(m, app, Action::Down);
-    record(rows, "clusters: ↓", t);
+    press(b, m, app, rows, &[("clusters: ↓", Action::Down, 1)]);
     app.act(m, Action::Home);
-    let t = b.key(m, app, Action::Open);
-    record(rows, "clusters: select the largest (Enter)", t);
+    press(
+        b,
+        m,
+        app,
+        rows,
+        &[("clusters: select the largest (Enter)", Action::Open, 1)],
+    );
     for (name, t) in b.degrees_after_filter(m, app) {
         record(rows, name, t);
     }
     app.act(m, Action::Go(Pane::Clusters));
-    let t = b.key(m, app, Action::ClearFilters);
-    record(rows, "clear filters (x)", t);
+    press(
+        b,
+        m,
+        app,
+        rows,
+        &[("clear filters (x)", Action::ClearFilters, 1)],
+    );
 }
 
 /// The table of key timings.

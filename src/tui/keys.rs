@@ -126,6 +126,20 @@ pub enum Action {
     TReset,
     /// The reach chart: zoom to where the strategies cross R = 1, or show everyone followed.
     ReachZoom,
+    // The actions below come from typed text, the mouse and the terminal (see `event`), not
+    // from the key table.
+    /// A character typed into the open prompt.
+    Type(char),
+    /// Backspace in the open prompt.
+    Erase,
+    /// Enter in the open prompt: do what it asks.
+    Submit,
+    /// Esc in the open prompt: close it.
+    Cancel,
+    /// A click on the i-th shown row of the pane's list.
+    ClickRow(u16),
+    /// The terminal now has this many columns and rows.
+    Resize(u16, u16),
 }
 
 /// Where a binding works.
@@ -382,7 +396,8 @@ pub const BINDINGS: &[Binding] = &[
     ),
 ];
 
-/// Every action, for the completeness test.
+/// Every action a key can have, for the completeness test (typed text, clicks and resizes
+/// come from `event`).
 pub fn all_actions() -> Vec<Action> {
     let mut v = vec![
         A::Quit,

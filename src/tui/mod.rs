@@ -1,11 +1,13 @@
 //! The terminal dashboard: `hubwatch [PATH...]` on a terminal.
 //!
-//! Data flow: the export is loaded and every figure computed once ([`model`]); key presses
-//! change the state ([`app`]), looked up in one key table ([`keys`]); [`ui`] draws the state and
+//! Data flow: the export is loaded and every figure computed once ([`model`]); terminal events
+//! become actions ([`event`], keys through the one key table [`keys`]) that change the state
+//! ([`app`]); [`ui`] draws the state and
 //! computes nothing. The terminal is restored on quit, on error, on panic and on SIGTERM, SIGHUP
 //! or SIGINT.
 
 pub mod app;
+pub mod event;
 pub mod keys;
 pub mod model;
 pub mod panes;
@@ -19,9 +21,7 @@ use std::sync::atomic::{AtomicBool, Ordering};
 use std::sync::Arc;
 use std::time::Duration;
 
-use crossterm::event::{
-    self, DisableMouseCapture, EnableMouseCapture, Event, KeyEventKind, MouseButton, MouseEventKind,
-};
+use crossterm::event::{DisableMouseCapture, EnableMouseCapture, Event};
 use crossterm::execute;
 use crossterm::terminal::{
     disable_raw_mode, enable_raw_mode, EnterAlternateScreen, LeaveAlternateScreen,
@@ -36,7 +36,6 @@ use crate::ingest::{Input, LoadOptions};
 use crate::workspace::Workspace;
 
 use app::App;
-use keys::{Action, Pane};
 use model::Model;
 use theme::Theme;
 
@@ -160,7 +159,7 @@ pub fn run(start: Start) -> Result<()> {
     let mut terminal = Terminal::new(CrosstermBackend::new(std::io::stdout())).map_err(io)?;
     terminal.clear().map_err(io)?;
     let size = terminal.size().map_err(io)?;
-    app.resized(&model, size.width, size.height);
+    app.act(&model, keys::Action::Resize(size.width, size.height));
     let mut dirty = true;
     let mut null_shown = model.null.get().is_some();
     while !app.quit && !stop.load(Ordering::Relaxed) {
@@ -178,7 +177,7 @@ pub fn run(start: Start) -> Result<()> {
             dirty = true;
         }
         let wait = if app.scope_pending.is_some() { 30 } else { 200 };
-        if !event::poll(Duration::from_millis(wait)).map_err(io)? {
+        if !crossterm::event::poll(Duration::from_millis(wait)).map_err(io)? {
             // Redraw once when the background null model arrives.
             if !null_shown && model.null.get().is_some() {
                 null_shown = true;
@@ -186,7 +185,7 @@ pub fn run(start: Start) -> Result<()> {
             }
             continue;
         }
-        dirty = handle_event(&model, &mut app, event::read().map_err(io)?);
+        dirty = handle_event(&model, &mut app, crossterm::event::read().map_err(io)?);
     }
     drop(terminal);
     Ok(())
@@ -194,53 +193,10 @@ pub fn run(start: Start) -> Result<()> {
 
 /// Apply one terminal event to the state; true when a redraw is needed.
 pub fn handle_event(model: &Model, app: &mut App, ev: Event) -> bool {
-    match ev {
-        Event::Key(key) if key.kind != KeyEventKind::Release => {
-            if app.input.is_some() {
-                app.type_key(model, key.code);
-            } else if let Some(action) = keys::lookup(app.pane, &key) {
-                app.act(model, action);
-            }
-            true
-        }
-        Event::Resize(w, h) => {
-            app.resized(model, w, h);
-            true
-        }
-        Event::Mouse(mouse) => {
-            let area = ratatui::layout::Rect::new(0, 0, app.size.0, app.size.1);
-            let a = ui::areas(area);
-            match mouse.kind {
-                MouseEventKind::ScrollDown => {
-                    for _ in 0..3 {
-                        app.act(model, Action::Down);
-                    }
-                    true
-                }
-                MouseEventKind::ScrollUp => {
-                    for _ in 0..3 {
-                        app.act(model, Action::Up);
-                    }
-                    true
-                }
-                MouseEventKind::Down(MouseButton::Left) => {
-                    if mouse.row == a.tabs.y {
-                        if let Some(p) = ui::tab_at(mouse.column) {
-                            app.act(model, Action::Go(p));
-                        }
-                    } else if mouse.row >= a.body.y + 2 && mouse.row < a.body.bottom() {
-                        let i = (mouse.row - a.body.y - 2) as usize;
-                        match app.pane {
-                            Pane::Priority => app.click_row(model, i),
-                            Pane::Clusters => app.click_cluster(model, i),
-                            _ => {}
-                        }
-                    }
-                    true
-                }
-                _ => false,
-            }
-        }
-        _ => false,
+    let actions = event::actions(event::Context::of(app), &ev);
+    let redraw = !actions.is_empty() || matches!(ev, Event::Key(_));
+    for action in actions {
+        app.act(model, action);
     }
+    redraw
 }

@@ -243,27 +243,27 @@ fn filters_flags_notes_follow_up_and_export() {
     // Search by ID moves the selection (exact, then by prefix).
     app.act(&m, Action::Search);
     for c in "P00000".chars() {
-        app.type_key(&m, crossterm::event::KeyCode::Char(c));
+        app.act(&m, Action::Type(c));
     }
     assert!(m.d.ids.name(app.target(&m).unwrap()).starts_with("P00000"));
-    app.type_key(&m, crossterm::event::KeyCode::Esc);
+    app.act(&m, Action::Cancel);
     let target = m.d.ids.name(m.list.ranked[10].node).to_string();
     app.act(&m, Action::Search);
     for c in target.chars() {
-        app.type_key(&m, crossterm::event::KeyCode::Char(c));
+        app.act(&m, Action::Type(c));
     }
-    app.type_key(&m, crossterm::event::KeyCode::Enter);
+    app.act(&m, Action::Submit);
     assert_eq!(app.target(&m), Some(m.list.ranked[10].node));
     // Flag (default name), follow-up, note: written to the workspace at once.
     app.act(&m, Action::Flag);
     assert_eq!(app.input.as_ref().unwrap().purpose, Purpose::Flag);
-    app.type_key(&m, crossterm::event::KeyCode::Enter);
+    app.act(&m, Action::Submit);
     app.act(&m, Action::Followup);
     app.act(&m, Action::Note);
     for c in "call after 6pm".chars() {
-        app.type_key(&m, crossterm::event::KeyCode::Char(c));
+        app.act(&m, Action::Type(c));
     }
-    app.type_key(&m, crossterm::event::KeyCode::Enter);
+    app.act(&m, Action::Submit);
     let ws = hubwatch::workspace::Workspace::open(&dir.path().join("ws.sqlite")).unwrap();
     let st = ws.get(&target).unwrap().unwrap();
     assert_eq!(st.flags, ["call first"]);
@@ -309,7 +309,7 @@ fn filters_flags_notes_follow_up_and_export() {
     let out = dir.path().join("view.csv");
     app.act(&m, Action::Export);
     app.input.as_mut().unwrap().text = out.display().to_string();
-    app.type_key(&m, crossterm::event::KeyCode::Enter);
+    app.act(&m, Action::Submit);
     let body = std::fs::read_to_string(&out).unwrap();
     let data: Vec<&str> = body.lines().filter(|l| !l.starts_with('#')).collect();
     assert_eq!(data.len(), 1 + app.rows.len());
@@ -325,7 +325,7 @@ fn filters_flags_notes_follow_up_and_export() {
     // A failing export is a message; the dashboard keeps going.
     app.act(&m, Action::Export);
     app.input.as_mut().unwrap().text = out.display().to_string();
-    app.type_key(&m, crossterm::event::KeyCode::Enter);
+    app.act(&m, Action::Submit);
     let msg = app.message.as_ref().unwrap();
     assert!(msg.error && msg.text.contains("export failed"), "{msg:?}");
 }

@@ -18,7 +18,18 @@ use crate::workspace::{PersonState, FOLLOWUP_STATES};
 impl App {
     /// Handle a key's action.
     pub fn act(&mut self, m: &Model, action: Action) {
-        self.act_inner(m, action);
+        match action {
+            Action::Type(_) | Action::Erase | Action::Submit | Action::Cancel => {
+                self.edit_prompt(m, action)
+            }
+            Action::ClickRow(i) => match self.pane {
+                Pane::Priority => self.click_row(m, i as usize),
+                Pane::Clusters => self.click_cluster(m, i as usize),
+                _ => {}
+            },
+            Action::Resize(w, h) => self.resized(m, w, h),
+            _ => self.act_inner(m, action),
+        }
         if self.filters != self.scope_for && matches!(self.pane, Pane::Degrees | Pane::Neighbours) {
             self.rescope(m);
         }
@@ -100,6 +111,13 @@ impl App {
             }
             Action::TReset => self.set_t(m, None),
             Action::ReachZoom => self.reach_all = !self.reach_all,
+            // Typed text, clicks and resizes are dispatched by `act`.
+            Action::Type(_)
+            | Action::Erase
+            | Action::Submit
+            | Action::Cancel
+            | Action::ClickRow(_)
+            | Action::Resize(..) => {}
         }
     }
 
@@ -265,26 +283,25 @@ impl App {
         }
     }
 
-    /// A character typed into the open prompt (or Backspace / Enter / Esc).
-    pub fn type_key(&mut self, m: &Model, key: crossterm::event::KeyCode) {
-        use crossterm::event::KeyCode as K;
+    /// Typed text in the open prompt: a character, Backspace, Enter or Esc.
+    fn edit_prompt(&mut self, m: &Model, action: Action) {
         let Some(input) = &mut self.input else {
             return;
         };
-        match key {
-            K::Esc => {
+        match action {
+            Action::Cancel => {
                 self.input = None;
                 return;
             }
-            K::Enter => {
+            Action::Submit => {
                 let input = self.input.take().expect("input open");
                 self.commit(m, input);
                 return;
             }
-            K::Backspace => {
+            Action::Erase => {
                 input.text.pop();
             }
-            K::Char(c) if !c.is_control() => {
+            Action::Type(c) if !c.is_control() => {
                 if input.text.chars().count() < 500 {
                     input.text.push(c);
                 }
