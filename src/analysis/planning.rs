@@ -432,21 +432,6 @@ pub fn plan_with(
     }
 }
 
-impl Plan {
-    /// Describe where T came from, in words.
-    pub fn assumption(&self) -> String {
-        match (&self.source, self.t) {
-            (TSource::User, Some(t)) => format!("T = {t} set by the user"),
-            (TSource::SecondaryAttackRate { x, n, band }, Some(t)) => format!(
-                "T = {t:.4} estimated as the secondary attack rate among traced contacts ({x} of {n}; Wilson 95% band {:.4} to {:.4})",
-                band.0, band.1
-            ),
-            (TSource::Unknown(why), _) => format!("T unknown: {why}; give --transmissibility"),
-            _ => "T unknown".to_string(),
-        }
-    }
-}
-
 /// n = 0, 1, 2, 5, 10, 20, 50, ... up to `len`, and `len` itself.
 pub fn checkpoints(len: usize) -> Vec<usize> {
     let mut v = vec![0];

@@ -8,7 +8,21 @@ use serde_json::{json, Map, Value};
 use crate::analysis::planning::{checkpoints, Plan, StrategyCurve, TSource, MODEL_CAUTION};
 use crate::export::{Cell, ExportTable};
 use crate::metrics::{outlook, Stat};
+use crate::report::fmt::{range, Style};
 use crate::report::json::put;
+
+/// Where T came from, in words (printed first: every number of the outlook rests on it).
+pub fn assumption(plan: &Plan) -> String {
+    match (&plan.source, plan.t) {
+        (TSource::User, Some(t)) => format!("T = {t} set by the user"),
+        (TSource::SecondaryAttackRate { x, n, band }, Some(t)) => format!(
+            "T = {t:.4} estimated as the secondary attack rate among traced contacts ({x} of {n}; Wilson 95% band {})",
+            range(Ok(band.0), Ok(band.1), 4, Style::Words)
+        ),
+        (TSource::Unknown(why), _) => format!("T unknown: {why}; give --transmissibility"),
+        _ => "T unknown".to_string(),
+    }
+}
 
 fn stat(v: Stat) -> Value {
     match v {
@@ -32,7 +46,7 @@ pub fn json(plan: &Plan, ids: &crate::ids::IdMap) -> Value {
         }
         .into(),
     );
-    o.insert("assumption".into(), plan.assumption().into());
+    o.insert("assumption".into(), assumption(plan).into());
     if let TSource::SecondaryAttackRate { x, n, band } = &plan.source {
         o.insert(
             "transmissibility_band".into(),
@@ -127,7 +141,7 @@ pub fn text(plan: &Plan, ids: &crate::ids::IdMap) -> String {
     let _ = writeln!(s, "{}", crate::CAUTION);
     let _ = writeln!(s, "{MODEL_CAUTION}");
     let _ = writeln!(s);
-    let _ = writeln!(s, "Assumption: {}", plan.assumption());
+    let _ = writeln!(s, "Assumption: {}", assumption(plan));
     let _ = writeln!(
         s,
         "Mean excess degree {}; threshold T_c {}",

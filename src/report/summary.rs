@@ -7,7 +7,7 @@ use crate::analysis::stats::{DegreeFits, NetworkStats};
 use crate::analysis::summary::Summary;
 use crate::dataset::Dataset;
 use crate::metrics::fits;
-use crate::report::fmt::show;
+use crate::report::fmt::{plus_minus, range, show, Style};
 
 /// The best whole-distribution fit with its parameters, in words.
 fn fit_line(f: &DegreeFits) -> String {
@@ -20,11 +20,15 @@ fn fit_line(f: &DegreeFits) -> String {
     };
     match f.best {
         Some("negative_binomial") => format!(
-            "negative binomial, mean {}, dispersion k {} (95% CI {} to {})",
+            "negative binomial, mean {}, dispersion k {} (95% CI {})",
             param(&f.negative_binomial.fit, "R"),
             param(&f.negative_binomial.fit, "k"),
-            show(f.negative_binomial.k_low, 2),
-            show(f.negative_binomial.k_high, 2)
+            range(
+                f.negative_binomial.k_low,
+                f.negative_binomial.k_high,
+                2,
+                Style::Words
+            )
         ),
         Some("poisson") => format!("Poisson, mean {}", param(&f.poisson, "lambda")),
         Some("geometric") => format!("geometric, p {}", param(&f.geometric, "p")),
@@ -103,12 +107,13 @@ fn write_counts(s: &mut String, sum: &Summary, d: &Dataset) {
 /// Degrees, the friendship paradox, mixing, clustering and the best fit.
 fn write_shape(s: &mut String, net: &NetworkStats) {
     let nb = &net.neighbours;
-    let r = match (net.r, net.r_se) {
-        (Ok(r), Ok(se)) => format!("{r:.3} ± {se:.3}"),
-        (r, _) => show(r, 3),
-    };
+    let r = plus_minus(net.r, net.r_se, 3);
     let null = match (net.null.mean, net.null.sd) {
-        (Ok(m), Ok(sd)) => format!("{m:.3} ± {sd:.3} ({} randomisations)", net.null.replicates),
+        (Ok(_), Ok(_)) => format!(
+            "{} ({} randomisations)",
+            plus_minus(net.null.mean, net.null.sd, 3),
+            net.null.replicates
+        ),
         (m, _) => show(m, 3),
     };
     let more = nb.share_more.map(|x| 100.0 * x);
@@ -165,12 +170,11 @@ fn write_cases(s: &mut String, c: &crate::analysis::casedata::CaseStats) {
         None => {
             let sar = match (c.sar.p, c.sar.wilson) {
                 (Ok(p), Ok((lo, hi))) => format!(
-                    "{:.1}% ({} of {}; 95% CI {:.1}-{:.1}%, Wilson)",
+                    "{:.1}% ({} of {}; 95% CI {}, Wilson)",
                     100.0 * p,
                     c.sar.x,
                     c.sar.n,
-                    100.0 * lo,
-                    100.0 * hi
+                    range(Ok(lo), Ok(hi), 1, Style::Percent)
                 ),
                 (p, _) => show(p, 3),
             };
@@ -178,7 +182,7 @@ fn write_cases(s: &mut String, c: &crate::analysis::casedata::CaseStats) {
                 Some(o) => format!(
                     "{} links; mean {} secondary cases per case",
                     c.links,
-                    show(o.mean(), 2)
+                    show(o.sample.mean(), 2)
                 ),
                 None => "undefined (no infector -> infectee links)".to_string(),
             };

@@ -289,7 +289,7 @@ impl App {
     /// Set T from the keys (None: back to the T the outlook was computed with, possibly
     pub fn set_t(&mut self, m: &Model, keyed: Option<f64>) {
         let (t, source) = match keyed {
-            None => (m.plan.t, m.plan.assumption()),
+            None => (m.plan.t, crate::report::outlook::assumption(&m.plan)),
             Some(t) => {
                 let t = ((t * 100.0).round() / 100.0).clamp(0.0, 1.0);
                 let was = match &m.plan.source {

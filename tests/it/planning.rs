@@ -115,7 +115,7 @@ fn estimated_transmissibility_carries_the_wilson_band() {
         ref other => panic!("{other:?}"),
     }
     assert_eq!(pl.t, cs.sar.p.ok());
-    assert!(pl.assumption().contains("secondary attack rate"));
+    assert!(hubwatch::report::outlook::assumption(&pl).contains("secondary attack rate"));
 }
 
 #[test]

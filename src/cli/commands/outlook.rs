@@ -50,7 +50,7 @@ pub fn run(o: &OutlookArgs) -> Result<()> {
     let plan = r.plan.as_ref().expect("outlook asked for");
     let meta = Meta::new(&r.d, "outlook")
         .with("model_caution", MODEL_CAUTION)
-        .with("assumption", plan.assumption())
+        .with("assumption", crate::report::outlook::assumption(plan))
         .finish();
     let mut written = String::new();
     if let Some(p) = &o.curves_out {

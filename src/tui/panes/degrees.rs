@@ -11,7 +11,7 @@ use ratatui::Frame;
 
 use super::*;
 use crate::metrics::fits::Fit;
-use crate::report::fmt::short as f;
+use crate::report::fmt::{plus_minus, range, short as f, Style};
 use crate::tui::app::{App, CUTOFFS};
 use crate::tui::model::Model;
 use crate::tui::theme::Theme;
@@ -128,10 +128,9 @@ fn fit_rows(m: &Model) -> Vec<[String; 3]> {
         [
             "negative binomial".into(),
             format!(
-                "{} (k 95% CI {} to {})",
+                "{} (k 95% CI {})",
                 params(&nb.fit),
-                f(nb.k_low, 3),
-                f(nb.k_high, 3)
+                range(nb.k_low, nb.k_high, 3, Style::Cell)
             ),
             f(nb.fit.aic, 1),
         ],
@@ -139,8 +138,11 @@ fn fit_rows(m: &Model) -> Vec<[String; 3]> {
             "power-law tail".into(),
             match &fits.power_law {
                 Ok(pl) => format!(
-                    "alpha = {:.2} ± {:.2} for k ≥ {} ({} people), KS {:.3}",
-                    pl.alpha, pl.se, pl.x_min, pl.n_tail, pl.ks
+                    "alpha = {} for k ≥ {} ({} people), KS {:.3}",
+                    plus_minus(Ok(pl.alpha), Ok(pl.se), 2),
+                    pl.x_min,
+                    pl.n_tail,
+                    pl.ks
                 ),
                 Err(why) => why.to_string(),
             },

@@ -8,7 +8,7 @@ use ratatui::widgets::{Axis, Chart, Dataset, GraphType, LegendPosition, Paragrap
 use ratatui::Frame;
 
 use super::*;
-use crate::report::fmt::{pct, short as f};
+use crate::report::fmt::{pct, plus_minus_short, short as f};
 use crate::tui::app::{App, CUTOFFS};
 use crate::tui::model::{Model, ScopeStats};
 use crate::tui::theme::Theme;
@@ -186,9 +186,8 @@ fn render_bottom(frame: &mut Frame, area: Rect, m: &Model, sc: &ScopeStats, th: 
         )),
         Line::from(format!("      as many: {}", pct(sc.shares.2))),
         Line::from(format!(
-            "  degree mixing r (whole network) {} ± {}",
-            f(m.stats.r, 3),
-            f(m.stats.r_se, 3)
+            "  degree mixing r (whole network) {}",
+            plus_minus_short(m.stats.r, m.stats.r_se, 3)
         )),
     ];
     frame.render_widget(

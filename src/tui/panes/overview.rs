@@ -6,7 +6,7 @@ use ratatui::widgets::{Paragraph, Wrap};
 use ratatui::Frame;
 
 use crate::ingest::dates;
-use crate::report::fmt::{pct, short as f};
+use crate::report::fmt::{pct, plus_minus_short, short as f};
 use crate::tui::app::App;
 use crate::tui::model::Model;
 use crate::tui::theme::Theme;
@@ -80,19 +80,13 @@ fn render_figures(frame: &mut Frame, area: Rect, m: &Model, th: &Theme) {
     let (d, s) = (&m.d, &m.summary);
     let st = &m.stats;
     let w = &m.whole;
+    let r = plus_minus_short(st.r, st.r_se, 3);
     let r_line = match m.null.get() {
         Some(null) => format!(
-            "  r = {} ± {} (jackknife SE); null model {} ± {}",
-            f(st.r, 3),
-            f(st.r_se, 3),
-            f(null.mean, 3),
-            f(null.sd, 3)
+            "  r = {r} (jackknife SE); null model {}",
+            plus_minus_short(null.mean, null.sd, 3)
         ),
-        None => format!(
-            "  r = {} ± {} (jackknife SE); null model: computing …",
-            f(st.r, 3),
-            f(st.r_se, 3)
-        ),
+        None => format!("  r = {r} (jackknife SE); null model: computing …"),
     };
     let fig = |label: &str, v: String| {
         Line::from(vec![

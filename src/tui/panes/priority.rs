@@ -6,6 +6,7 @@ use ratatui::widgets::{Row, Table};
 use ratatui::Frame;
 
 use super::*;
+use crate::analysis::priority::Mark;
 use crate::ingest::dates;
 use crate::tui::app::App;
 use crate::tui::model::Model;
@@ -31,16 +32,7 @@ const COLUMNS: [(&str, u16); 11] = [
 /// The cells of ranked entry `ri` (every column; the caller keeps those shown).
 fn cells(m: &Model, app: &App, ri: u32) -> [String; 11] {
     let r = &m.list.ranked[ri as usize];
-    let mut marks = String::new();
-    if r.high_degree {
-        marks.push('H');
-    }
-    if r.bridge {
-        marks.push('B');
-    }
-    if r.overdue {
-        marks.push('!');
-    }
+    let marks: String = r.marks().map(Mark::letter).collect();
     [
         (ri + 1).to_string(),
         m.d.ids.name(r.node).to_string(),
