@@ -97,8 +97,8 @@ pub fn build(loaded: Loaded, view: &View) -> Result<Dataset> {
     let merge_pairs = t1.elapsed().as_secs_f64();
     let peak_merge = peak_mib();
     count_used(&mut ledger, &rows.per_file, &agg.first_of_pair);
-    let settings: Vec<String> = (0..rows.settings.len() as u32)
-        .map(|i| rows.settings.name(i).to_string())
+    let settings: Vec<String> = (0..rows.fields.settings.len() as u32)
+        .map(|i| rows.fields.settings.name(i).to_string())
         .collect();
     let exposure_extras = std::mem::take(&mut rows.extras);
     let (edges, edge_of_row, rows_in_view) = if view.is_all() {

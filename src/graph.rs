@@ -104,8 +104,8 @@ impl<'c> Pair<'c> {
         if rows.forward[r] {
             self.named += 1;
         }
-        let l = rows.last.get(r).copied().unwrap_or(NO_DATE);
-        let f = rows.first.get(r).copied().unwrap_or(NO_DATE);
+        let l = rows.fields.last.get(r).copied().unwrap_or(NO_DATE);
+        let f = rows.fields.first.get(r).copied().unwrap_or(NO_DATE);
         if l != NO_DATE {
             self.last = self.last.max(l);
         }
@@ -114,7 +114,7 @@ impl<'c> Pair<'c> {
                 self.first = d;
             }
         }
-        if let Some(&m) = rows.minutes.get(r) {
+        if let Some(&m) = rows.fields.minutes.get(r) {
             if !m.is_nan() {
                 self.minutes = if self.minutes.is_nan() {
                     f64::from(m)
@@ -130,7 +130,7 @@ impl<'c> Pair<'c> {
                 self.links.1 += 1;
             }
         }
-        if let Some(&c) = rows.setting.get(r) {
+        if let Some(&c) = rows.fields.setting.get(r) {
             if c != 0 && !self.codes.contains(&c) {
                 self.codes.push(c);
             }
@@ -193,7 +193,7 @@ pub fn aggregate(rows: &ExposureRows, want_row_edges: bool) -> Aggregated {
     } else {
         Vec::new()
     };
-    let has_settings = !rows.setting.is_empty();
+    let has_settings = !rows.fields.setting.is_empty();
     if has_settings {
         e.setting_off.push(0);
     }

@@ -17,7 +17,8 @@
 use crate::dataset::Dataset;
 use crate::ingest::dates;
 use crate::metrics::cases::{self, Proportion, SerialInterval};
-use crate::metrics::fits::Sample;
+use crate::metrics::fits::{self, Fit, Sample};
+use crate::metrics::Stat;
 
 /// Case statistics.
 #[derive(Debug, Clone)]
@@ -38,8 +39,8 @@ pub struct CaseStats {
     pub co_primary_pairs: u64,
     /// Infector -> infectee links in the export.
     pub links: u64,
-    /// Secondary cases per case (from links), when links exist.
-    pub offspring: Option<Sample>,
+    /// Secondary cases per case (from links) and its fits, when links exist.
+    pub offspring: Option<Offspring>,
     /// Serial intervals from links with both onset dates.
     pub serial: SerialInterval,
 }
@@ -48,6 +49,44 @@ fn lower(d: &Dataset, field: &str, i: usize) -> Option<String> {
     d.attrs
         .get(field, i as u32)
         .map(|v| v.trim().to_ascii_lowercase())
+}
+
+/// The offspring distribution of the linked cases: the sample, its fits and the 80 % shares.
+#[derive(Debug, Clone)]
+pub struct Offspring {
+    /// Secondary cases of each case.
+    pub sample: Sample,
+    /// Poisson, geometric and negative-binomial fits, in that order.
+    pub fits: Vec<Fit>,
+    /// Share of cases causing 80 % of transmission, from the sample itself.
+    pub share80_empirical: Stat,
+    /// The same from the fitted negative binomial's dispersion k, continuous form.
+    pub share80_continuous: Stat,
+    /// The same, discrete form (mean and k).
+    pub share80_discrete: Stat,
+}
+
+impl Offspring {
+    /// Fit the distributions and the 80 % shares of a sample of secondary-case counts.
+    pub fn of(sample: Sample) -> Offspring {
+        let nb = fits::negative_binomial(&sample);
+        let k = nb
+            .fit
+            .params
+            .iter()
+            .find(|(n, _)| *n == "k")
+            .map(|p| p.1)
+            .unwrap_or(Err("no fit"));
+        Offspring {
+            share80_empirical: fits::share80_empirical(&sample),
+            share80_continuous: k.map(fits::share80_continuous),
+            share80_discrete: sample
+                .mean()
+                .and_then(|r| k.map(|k| fits::share80_discrete(r, k))),
+            fits: vec![fits::poisson(&sample), fits::geometric(&sample), nb.fit],
+            sample,
+        }
+    }
 }
 
 /// Compute the case statistics of a dataset.
@@ -118,7 +157,7 @@ pub fn case_stats(d: &Dataset) -> CaseStats {
         immune: immune_n,
         co_primary_pairs,
         links,
-        offspring,
+        offspring: offspring.filter(|s| s.n() > 0).map(Offspring::of),
         serial: cases::serial_interval(&intervals),
     }
 }

@@ -189,7 +189,49 @@ pub fn scaled(name: &str, raw: f64, preset: &Preset) -> f64 {
     }
 }
 
+/// A mark on a person of the list, derived from the ranking.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Mark {
+    /// Above the hub threshold.
+    HighDegree,
+    /// An articulation point.
+    Bridge,
+    /// Window over and follow-up not completed.
+    Overdue,
+}
+
+impl Mark {
+    /// The mark in words (text reports).
+    pub fn word(self) -> &'static str {
+        match self {
+            Mark::HighDegree => "high-degree",
+            Mark::Bridge => "bridge",
+            Mark::Overdue => "OVERDUE",
+        }
+    }
+
+    /// The mark as one letter (tight table cells; the help overlay gives the key).
+    pub fn letter(self) -> char {
+        match self {
+            Mark::HighDegree => 'H',
+            Mark::Bridge => 'B',
+            Mark::Overdue => '!',
+        }
+    }
+}
+
 impl Ranked {
+    /// The person's marks, in a fixed order.
+    pub fn marks(&self) -> impl Iterator<Item = Mark> {
+        [
+            (self.high_degree, Mark::HighDegree),
+            (self.bridge, Mark::Bridge),
+            (self.overdue, Mark::Overdue),
+        ]
+        .into_iter()
+        .filter_map(|(on, mark)| on.then_some(mark))
+    }
+
     /// The score's components with their contributions under `preset` (the preset the list
     /// was ranked with), in [`COMPONENTS`] order.
     pub fn parts(&self, preset: &Preset) -> Vec<Part> {

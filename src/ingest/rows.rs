@@ -25,17 +25,51 @@ struct OptionalColumns<'a> {
     minutes: (Option<usize>, Values<'a>),
 }
 
-/// The part of [`ExposureRows`] that field checks write.
-struct FieldStage<'s> {
-    last: &'s mut Vec<i32>,
-    first: &'s mut Vec<i32>,
-    minutes: &'s mut Vec<f32>,
-    setting: &'s mut Vec<u16>,
-    settings: &'s mut IdMap,
-    setting_spellings: &'s mut hashbrown::HashMap<Box<str>, u16>,
+/// The optional fields of the usable exposure rows (what the field checks write, beside the
+/// interning of IDs). A field no file maps stays empty.
+#[derive(Debug, Default)]
+pub struct ExposureFields {
+    /// Last exposure date (day number or NO_DATE), if the field is mapped anywhere.
+    pub last: Vec<i32>,
+    /// First exposure date.
+    pub first: Vec<i32>,
+    /// Minutes (NaN when missing).
+    pub minutes: Vec<f32>,
+    /// Setting code (0 = none; `settings.name(code - 1)` otherwise).
+    pub setting: Vec<u16>,
+    /// Distinct setting labels.
+    pub settings: IdMap,
+    /// Each spelling seen -> its setting code (saves folding case on every row).
+    setting_spellings: hashbrown::HashMap<Box<str>, u16>,
 }
 
-impl FieldStage<'_> {
+impl ExposureFields {
+    /// Pad to `n` rows the fields that are mapped (`mapped`: last, first, minutes, setting).
+    fn pad(&mut self, n: usize, mapped: [bool; 4]) {
+        if mapped[0] && self.last.len() < n {
+            self.last.resize(n, NO_DATE);
+        }
+        if mapped[1] && self.first.len() < n {
+            self.first.resize(n, NO_DATE);
+        }
+        if mapped[2] && self.minutes.len() < n {
+            self.minutes.resize(n, f32::NAN);
+        }
+        if mapped[3] && self.setting.len() < n {
+            self.setting.resize(n, 0);
+        }
+    }
+
+    /// The fields mapped so far (non-empty arrays).
+    fn mapped(&self) -> [bool; 4] {
+        [
+            !self.last.is_empty(),
+            !self.first.is_empty(),
+            !self.minutes.is_empty(),
+            !self.setting.is_empty(),
+        ]
+    }
+
     /// Check dates, durations and settings of the usable rows, in row order.
     fn run(
         &mut self,
@@ -150,18 +184,8 @@ pub struct ExposureRows {
     pub keys: Vec<u64>,
     /// True when the row named the smaller node as source.
     pub forward: Vec<bool>,
-    /// Last exposure date (day number or NO_DATE), if the field is mapped anywhere.
-    pub last: Vec<i32>,
-    /// First exposure date.
-    pub first: Vec<i32>,
-    /// Minutes (NaN when missing).
-    pub minutes: Vec<f32>,
-    /// Setting code (0 = none; `settings.name(code - 1)` otherwise).
-    pub setting: Vec<u16>,
-    /// Distinct setting labels.
-    pub settings: IdMap,
-    /// Each spelling seen -> its setting code (saves folding case on every row).
-    setting_spellings: hashbrown::HashMap<Box<str>, u16>,
+    /// Dates, minutes and settings of each usable row.
+    pub fields: ExposureFields,
     /// (file index, number of usable rows) in read order.
     pub per_file: Vec<(usize, usize)>,
     /// Rows quarantined.
@@ -177,7 +201,10 @@ impl ExposureRows {
     /// An empty store; setting labels compare case-insensitively.
     pub fn new() -> ExposureRows {
         ExposureRows {
-            settings: IdMap::new(false),
+            fields: ExposureFields {
+                settings: IdMap::new(false),
+                ..ExposureFields::default()
+            },
             ..ExposureRows::default()
         }
     }
@@ -247,25 +274,7 @@ impl ExposureRows {
             mapping: m,
             counts: Counts::default(),
         };
-        let ExposureRows {
-            keys,
-            forward,
-            last,
-            first,
-            minutes,
-            setting,
-            settings,
-            setting_spellings,
-            ..
-        } = self;
-        let mut field_stage = FieldStage {
-            last,
-            first,
-            minutes,
-            setting,
-            settings,
-            setting_spellings,
-        };
+        let (keys, forward, field_stage) = (&mut self.keys, &mut self.forward, &mut self.fields);
         let cols = OptionalColumns {
             last: (last_c, values(text_column(frame, last_c, &meta.path)?, n)),
             first: (first_c, values(text_column(frame, first_c, &meta.path)?, n)),
@@ -346,20 +355,9 @@ impl ExposureRows {
     }
 
     /// A field this file maps but an earlier file did not: pad the earlier rows first.
-    fn pad_new_fields(&mut self, [last_c, first_c, min_c, set_c]: [Option<usize>; 4]) {
-        let done = self.keys.len();
-        if last_c.is_some() && self.last.len() < done {
-            self.last.resize(done, NO_DATE);
-        }
-        if first_c.is_some() && self.first.len() < done {
-            self.first.resize(done, NO_DATE);
-        }
-        if min_c.is_some() && self.minutes.len() < done {
-            self.minutes.resize(done, f32::NAN);
-        }
-        if set_c.is_some() && self.setting.len() < done {
-            self.setting.resize(done, 0);
-        }
+    fn pad_new_fields(&mut self, columns: [Option<usize>; 4]) {
+        self.fields
+            .pad(self.keys.len(), columns.map(|c| c.is_some()));
     }
 
     /// Stage A: which rows can form an exposure (both IDs present, not the same person). A
@@ -418,10 +416,13 @@ impl ExposureRows {
         ExposureRows {
             keys: pick(&self.keys, keep),
             forward: pick(&self.forward, keep),
-            last: pick(&self.last, keep),
-            first: pick(&self.first, keep),
-            minutes: pick(&self.minutes, keep),
-            setting: pick(&self.setting, keep),
+            fields: ExposureFields {
+                last: pick(&self.fields.last, keep),
+                first: pick(&self.fields.first, keep),
+                minutes: pick(&self.fields.minutes, keep),
+                setting: pick(&self.fields.setting, keep),
+                ..ExposureRows::new().fields
+            },
             links: pick(&self.links, keep),
             ..ExposureRows::new()
         }
@@ -431,17 +432,8 @@ impl ExposureRows {
     /// every array has one entry per usable row.
     pub fn pad(&mut self) {
         let n = self.keys.len();
-        for v in [&mut self.last, &mut self.first] {
-            if !v.is_empty() && v.len() < n {
-                v.resize(n, NO_DATE);
-            }
-        }
-        if !self.minutes.is_empty() && self.minutes.len() < n {
-            self.minutes.resize(n, f32::NAN);
-        }
-        if !self.setting.is_empty() && self.setting.len() < n {
-            self.setting.resize(n, 0);
-        }
+        let mapped = self.fields.mapped();
+        self.fields.pad(n, mapped);
         if !self.links.is_empty() && self.links.len() < n {
             self.links.resize(n, 0);
         }

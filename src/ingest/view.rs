@@ -80,18 +80,18 @@ pub fn mask(view: &View, rows: &ExposureRows, labels: &[String]) -> Result<Vec<b
         .collect::<Result<_>>()?;
     Ok((0..rows.keys.len())
         .map(|r| {
-            let code = rows.setting.get(r).copied().unwrap_or(0);
+            let code = rows.fields.setting.get(r).copied().unwrap_or(0);
             if (!include.is_empty() && !include.contains(&code)) || exclude.contains(&code) {
                 return false;
             }
             if view.from.is_none() && view.to.is_none() {
                 return true;
             }
-            let last = rows.last.get(r).copied().unwrap_or(NO_DATE);
+            let last = rows.fields.last.get(r).copied().unwrap_or(NO_DATE);
             let day = if last != NO_DATE {
                 last
             } else {
-                rows.first.get(r).copied().unwrap_or(NO_DATE)
+                rows.fields.first.get(r).copied().unwrap_or(NO_DATE)
             };
             day != NO_DATE && view.from.is_none_or(|f| day >= f) && view.to.is_none_or(|t| day <= t)
         })

@@ -5,6 +5,7 @@
 use serde_json::{json, Map, Value};
 
 use crate::analysis::casedata::CaseStats;
+use crate::analysis::casedata::Offspring;
 use crate::analysis::stats::{NetworkStats, MIN_TAIL, TOP};
 use crate::dataset::Dataset;
 use crate::metrics::cases::Proportion;
@@ -275,10 +276,10 @@ pub fn cases(c: &CaseStats) -> Value {
     out.insert("sar".into(), Value::Object(sar));
     out.insert("links".into(), json!(c.links));
     match &c.offspring {
-        Some(s) if s.n() > 0 => {
-            out.insert("offspring".into(), offspring(s));
+        Some(o) => {
+            out.insert("offspring".into(), offspring(o));
         }
-        _ => {
+        None => {
             out.insert("offspring".into(), Value::Null);
             out.insert(
                     "offspring_undefined".into(),
@@ -300,13 +301,12 @@ pub fn cases(c: &CaseStats) -> Value {
 }
 
 /// The offspring distribution of the linked cases: mean, fits and the 80 % shares.
-fn offspring(s: &fits::Sample) -> Value {
-    let nb = fits::negative_binomial(s);
+fn offspring(off: &Offspring) -> Value {
     let mut o = Map::new();
-    o.insert("cases".into(), json!(s.n()));
-    put(&mut o, "mean", s.mean());
+    o.insert("cases".into(), json!(off.sample.n()));
+    put(&mut o, "mean", off.sample.mean());
     let mut f = Map::new();
-    for fit in [fits::poisson(s), fits::geometric(s), nb.fit.clone()] {
+    for fit in &off.fits {
         let mut m = Map::new();
         for (name, v) in &fit.params {
             put(&mut m, name, *v);
@@ -316,24 +316,8 @@ fn offspring(s: &fits::Sample) -> Value {
         f.insert(fit.model.into(), Value::Object(m));
     }
     o.insert("fits".into(), Value::Object(f));
-    put(&mut o, "share80_empirical", fits::share80_empirical(s));
-    let k = nb
-        .fit
-        .params
-        .iter()
-        .find(|(n, _)| *n == "k")
-        .map(|p| p.1)
-        .unwrap_or(Err("no fit"));
-    put(
-        &mut o,
-        "share80_continuous",
-        k.map(fits::share80_continuous),
-    );
-    put(
-        &mut o,
-        "share80_discrete",
-        s.mean()
-            .and_then(|r| k.map(|k| fits::share80_discrete(r, k))),
-    );
+    put(&mut o, "share80_empirical", off.share80_empirical);
+    put(&mut o, "share80_continuous", off.share80_continuous);
+    put(&mut o, "share80_discrete", off.share80_discrete);
     Value::Object(o)
 }

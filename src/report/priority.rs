@@ -3,7 +3,7 @@
 
 use std::fmt::Write as _;
 
-use crate::analysis::priority::Part;
+use crate::analysis::priority::{Mark, Part};
 use crate::analysis::ranking::RankedList;
 use crate::dataset::Dataset;
 use crate::ingest::dates;
@@ -42,16 +42,7 @@ pub fn priority_text(d: &Dataset, list: &RankedList, top: usize) -> String {
             (Some(e), Some(left)) => format!("{} ({left})", dates::iso(e)),
             _ => "no dated exposure".to_string(),
         };
-        let mut flags = Vec::new();
-        if r.high_degree {
-            flags.push("high-degree");
-        }
-        if r.bridge {
-            flags.push("bridge");
-        }
-        if r.overdue {
-            flags.push("OVERDUE");
-        }
+        let flags: Vec<&str> = r.marks().map(Mark::word).collect();
         let parts_of = r.parts(p);
         let mut parts: Vec<&Part> = parts_of.iter().filter(|p| p.contribution > 0.0).collect();
         parts.sort_by(|a, b| b.contribution.total_cmp(&a.contribution));

@@ -55,7 +55,7 @@ fn attack_rate_offspring_and_serial_interval_by_hand() {
         .is_err());
     // One link C1 -> C2: offspring over the three cases is [1, 0, 0]; serial interval 5 days.
     assert_eq!(c.links, 1);
-    let off = c.offspring.as_ref().unwrap();
+    let off = &c.offspring.as_ref().unwrap().sample;
     assert_eq!(off.n(), 3);
     assert!((off.mean().unwrap() - 1.0 / 3.0).abs() < 1e-15);
     assert_eq!((c.serial.n, c.serial.mean), (1, Ok(5.0)));
@@ -82,7 +82,7 @@ fn synth_links_are_found() {
     assert_eq!(c.links, m.links, "every planted link is read");
     assert_eq!(c.cases as u64, m.cases);
     // Each infected person has exactly one infector: offspring sum = links.
-    let off = c.offspring.unwrap();
+    let off = c.offspring.unwrap().sample;
     assert!((off.mean().unwrap() * off.n() as f64 - m.links as f64).abs() < 1e-9);
     // Infection follows exposure: every serial interval is positive in the generator.
     assert_eq!(c.serial.n as u64, m.links);
