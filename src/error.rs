@@ -15,6 +15,15 @@ pub enum Error {
         source: std::io::Error,
     },
 
+    /// A file could not be written.
+    #[error("{path}: cannot write: {why}")]
+    Write {
+        /// The file concerned.
+        path: PathBuf,
+        /// Why, in words, with what to do.
+        why: String,
+    },
+
     /// A path given on the command line does not exist.
     #[error("{path}: no such file or folder")]
     NotFound {
@@ -82,6 +91,33 @@ impl Error {
         }
     }
 
+    /// A write to `path` failed: say why in terms of the path (a missing folder, no
+    /// permission, a full disk) rather than the bare operating-system message.
+    pub fn write(path: impl Into<PathBuf>, source: std::io::Error) -> Self {
+        let path = path.into();
+        let dir = path
+            .parent()
+            .filter(|p| !p.as_os_str().is_empty())
+            .unwrap_or(std::path::Path::new("."));
+        let why = if !dir.is_dir() {
+            format!(
+                "the folder {} does not exist; create it or choose another path",
+                dir.display()
+            )
+        } else {
+            match source.kind() {
+                std::io::ErrorKind::PermissionDenied => {
+                    format!("no permission to write in {} ({source})", dir.display())
+                }
+                std::io::ErrorKind::StorageFull => {
+                    format!("the disk holding {} is full ({source})", dir.display())
+                }
+                _ => source.to_string(),
+            }
+        };
+        Error::Write { path, why }
+    }
+
     /// A format problem in a file.
     pub fn format(path: impl Into<PathBuf>, message: impl Into<String>) -> Self {
         Error::Format {
@@ -94,7 +130,7 @@ impl Error {
     pub fn exit_code(&self) -> i32 {
         match self {
             Error::Usage(_) | Error::Config(_) => 2,
-            Error::Io { .. } | Error::NotFound { .. } => 3,
+            Error::Io { .. } | Error::Write { .. } | Error::NotFound { .. } => 3,
             Error::Format { .. }
             | Error::MissingField { .. }
             | Error::Dates { .. }

@@ -11,8 +11,7 @@
 //! Memory is O(people + pairs): pairs are held as compact integers, exposure rows are streamed
 //! straight to disk.
 
-use std::fs::File;
-use std::io::{BufWriter, Write};
+use std::io::Write;
 use std::path::Path;
 
 use rand::seq::SliceRandom;
@@ -142,8 +141,7 @@ pub fn generate(dir: &Path, opts: &SynthOptions) -> Result<Manifest> {
     write_people(dir, &mut rng, &people, &dates, &mut m)?;
     write_exposures(dir, &mut rng, &pairs, (&dates, span, n), &mut m)?;
     let manifest = serde_json::to_string_pretty(&m).unwrap_or_default();
-    std::fs::write(dir.join("manifest.json"), manifest + "\n")
-        .map_err(|e| Error::io(dir.join("manifest.json"), e))?;
+    crate::export::write_private(&dir.join("manifest.json"), (manifest + "\n").as_bytes())?;
     Ok(m)
 }
 
@@ -315,63 +313,54 @@ fn write_people(
 ) -> Result<()> {
     let (household, age, area, onset) = (pp.household, pp.age, pp.area, pp.onset);
     let n = household.len();
-    let path = dir.join("people.csv");
-    let mut w = BufWriter::with_capacity(
-        1 << 20,
-        File::create(&path).map_err(|e| Error::io(&path, e))?,
-    );
-    let io = |e| Error::io(dir.join("people.csv"), e);
-    writeln!(
-        w,
-        "person_id,role,onset_date,status,area,age_group,followup_status,household_id"
-    )
-    .map_err(io)?;
-    let planted_people = (n / 500).max(1);
-    for p in 0..n {
-        let case = onset[p] != u16::MAX;
-        m.cases += u64::from(case);
-        let on = if case {
-            dates[onset[p] as usize].as_str()
-        } else {
-            ""
-        };
-        let (role, status) = if case {
-            ("case", "confirmed")
-        } else {
-            ("contact", "")
-        };
-        let follow = ["to call", "reached", "", "unreachable"][rng.random_range(0..4)];
+    crate::export::write_streamed(&dir.join("people.csv"), |w| {
         writeln!(
             w,
-            "{},{role},{on},{status},{},{},{follow},H{:06}",
-            id(p),
-            AREAS[area[p] as usize],
-            AGES[age[p] as usize],
-            household[p]
-        )
-        .map_err(io)?;
-        m.people_rows += 1;
-        if p % (n / planted_people).max(1) == 1 && m.repeated_people < planted_people as u64 {
-            let other = AREAS[(area[p] as usize + 1) % AREAS.len()];
+            "person_id,role,onset_date,status,area,age_group,followup_status,household_id"
+        )?;
+        let planted_people = (n / 500).max(1);
+        for p in 0..n {
+            let case = onset[p] != u16::MAX;
+            m.cases += u64::from(case);
+            let on = if case {
+                dates[onset[p] as usize].as_str()
+            } else {
+                ""
+            };
+            let (role, status) = if case {
+                ("case", "confirmed")
+            } else {
+                ("contact", "")
+            };
+            let follow = ["to call", "reached", "", "unreachable"][rng.random_range(0..4)];
             writeln!(
                 w,
-                "{},{role},{on},{status},{other},{},{follow},H{:06}",
+                "{},{role},{on},{status},{},{},{follow},H{:06}",
                 id(p),
+                AREAS[area[p] as usize],
                 AGES[age[p] as usize],
                 household[p]
-            )
-            .map_err(io)?;
-            m.repeated_people += 1;
+            )?;
             m.people_rows += 1;
+            if p % (n / planted_people).max(1) == 1 && m.repeated_people < planted_people as u64 {
+                let other = AREAS[(area[p] as usize + 1) % AREAS.len()];
+                writeln!(
+                    w,
+                    "{},{role},{on},{status},{other},{},{follow},H{:06}",
+                    id(p),
+                    AGES[age[p] as usize],
+                    household[p]
+                )?;
+                m.repeated_people += 1;
+                m.people_rows += 1;
+            }
         }
-    }
-    writeln!(w, " ,contact,,,Saltmere,18-34,,").map_err(io)?;
-    m.blank_people = 1;
-    m.people_rows += 1;
-    m.people = n as u64;
-    w.flush().map_err(io)?;
-
-    Ok(())
+        writeln!(w, " ,contact,,,Saltmere,18-34,,")?;
+        m.blank_people = 1;
+        m.people_rows += 1;
+        m.people = n as u64;
+        Ok(())
+    })
 }
 
 /// Exposures: each pair gives 1..4 rows on nearby days, some written in reverse order, with
@@ -383,73 +372,67 @@ fn write_exposures(
     (dates, span, n): (&[String], i32, usize),
     m: &mut Manifest,
 ) -> Result<()> {
-    let path = dir.join("exposures.csv");
-    let io = |e| Error::io(dir.join("exposures.csv"), e);
-    let mut w = BufWriter::with_capacity(
-        1 << 20,
-        File::create(&path).map_err(|e| Error::io(&path, e))?,
-    );
-    writeln!(
-        w,
-        "source_id,target_id,exposure_date,setting,duration_min,transmission"
-    )
-    .map_err(io)?;
-    // About 0.2% of rows are dirty (4 per group), at least two groups.
-    let groups = (pairs.len() / 1000).max(2);
-    let dirty_every = (pairs.len() / groups).max(1);
     let mut keys: Vec<u64> = Vec::with_capacity(pairs.len());
-    for (k, pr) in pairs.iter().enumerate() {
-        keys.push(u64::from(pr.a.min(pr.b)) << 32 | u64::from(pr.a.max(pr.b)));
-        let reps = 1 + (rng.random::<u32>() % 8).saturating_sub(4).min(3);
-        for r in 0..reps {
-            let day = (i32::from(pr.day) + r as i32).min(span) as usize;
-            let (s, t) = if r > 0 && rng.random_bool(0.3) {
-                (pr.b, pr.a)
-            } else {
-                (pr.a, pr.b)
-            };
-            let minutes: u32 = match pr.setting {
-                0 => rng.random_range(60..600),
-                1 | 2 => rng.random_range(15..240),
-                _ => rng.random_range(5..120),
-            };
-            // The infection row: the first row of the pair, written infector first.
-            let link = if pr.link && r == 0 && s == pr.a {
-                "yes"
-            } else {
-                "no"
-            };
-            writeln!(
-                w,
-                "{},{},{},{},{minutes},{link}",
-                id(s as usize),
-                id(t as usize),
-                dates[day],
-                SETTINGS[pr.setting as usize]
-            )
-            .map_err(io)?;
-            m.exposure_rows += 1;
+    crate::export::write_streamed(&dir.join("exposures.csv"), |w| {
+        writeln!(
+            w,
+            "source_id,target_id,exposure_date,setting,duration_min,transmission"
+        )?;
+        // About 0.2% of rows are dirty (4 per group), at least two groups.
+        let groups = (pairs.len() / 1000).max(2);
+        let dirty_every = (pairs.len() / groups).max(1);
+        for (k, pr) in pairs.iter().enumerate() {
+            keys.push(u64::from(pr.a.min(pr.b)) << 32 | u64::from(pr.a.max(pr.b)));
+            let reps = 1 + (rng.random::<u32>() % 8).saturating_sub(4).min(3);
+            for r in 0..reps {
+                let day = (i32::from(pr.day) + r as i32).min(span) as usize;
+                let (s, t) = if r > 0 && rng.random_bool(0.3) {
+                    (pr.b, pr.a)
+                } else {
+                    (pr.a, pr.b)
+                };
+                let minutes: u32 = match pr.setting {
+                    0 => rng.random_range(60..600),
+                    1 | 2 => rng.random_range(15..240),
+                    _ => rng.random_range(5..120),
+                };
+                // The infection row: the first row of the pair, written infector first.
+                let link = if pr.link && r == 0 && s == pr.a {
+                    "yes"
+                } else {
+                    "no"
+                };
+                writeln!(
+                    w,
+                    "{},{},{},{},{minutes},{link}",
+                    id(s as usize),
+                    id(t as usize),
+                    dates[day],
+                    SETTINGS[pr.setting as usize]
+                )?;
+                m.exposure_rows += 1;
+            }
+            if k % dirty_every == dirty_every / 2 {
+                let (a, b) = (id(pr.a as usize), id(pr.b as usize));
+                let d = &dates[pr.day as usize];
+                writeln!(w, "{a},{a},{d},community,10,no")?;
+                writeln!(w, "{a}, ,{d},community,10,no")?;
+                writeln!(w, "{a},{b},2024-02-30,community,10,no")?;
+                writeln!(w, "{b},{a},{d},community,-15,no")?;
+                // A contact named by a case but not (yet) registered in the people table.
+                let unregistered = id(n + m.implied_people as usize);
+                writeln!(w, "{a},{unregistered},{d},community,20,no")?;
+                keys.push(u64::MAX - m.implied_people);
+                m.self_exposures += 1;
+                m.blank_targets += 1;
+                m.bad_dates += 1;
+                m.bad_durations += 1;
+                m.implied_people += 1;
+                m.exposure_rows += 5;
+            }
         }
-        if k % dirty_every == dirty_every / 2 {
-            let (a, b) = (id(pr.a as usize), id(pr.b as usize));
-            let d = &dates[pr.day as usize];
-            writeln!(w, "{a},{a},{d},community,10,no").map_err(io)?;
-            writeln!(w, "{a}, ,{d},community,10,no").map_err(io)?;
-            writeln!(w, "{a},{b},2024-02-30,community,10,no").map_err(io)?;
-            writeln!(w, "{b},{a},{d},community,-15,no").map_err(io)?;
-            // A contact named by a case but not (yet) registered in the people table.
-            let unregistered = id(n + m.implied_people as usize);
-            writeln!(w, "{a},{unregistered},{d},community,20,no").map_err(io)?;
-            keys.push(u64::MAX - m.implied_people);
-            m.self_exposures += 1;
-            m.blank_targets += 1;
-            m.bad_dates += 1;
-            m.bad_durations += 1;
-            m.implied_people += 1;
-            m.exposure_rows += 5;
-        }
-    }
-    w.flush().map_err(io)?;
+        Ok(())
+    })?;
     keys.sort_unstable();
     keys.dedup();
     m.pairs = keys.len() as u64;

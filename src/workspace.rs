@@ -129,7 +129,7 @@ impl Workspace {
                 use std::os::unix::fs::OpenOptionsExt;
                 o.mode(0o600);
             }
-            o.open(path).map_err(|e| Error::io(path, e))?;
+            o.open(path).map_err(|e| Error::write(path, e))?;
         }
         let conn = Connection::open(path).map_err(db_err(path))?;
         conn.busy_timeout(std::time::Duration::from_secs(10))

@@ -376,6 +376,17 @@ pub fn sheet_path(out: &Path, i: usize, k: usize) -> PathBuf {
 
 /// Write a file atomically (temporary file in the same folder, fsync, rename), mode 0600.
 pub fn write_private(path: &Path, bytes: &[u8]) -> Result<()> {
+    write_streamed(path, |w| w.write_all(bytes))
+}
+
+/// Write a file atomically, mode 0600, streaming: `body` writes into a buffered temporary file
+/// in the same folder, which is synced and renamed over `path` only when `body` succeeds (a
+/// failed or interrupted write leaves no partial file and no earlier file changed). For files
+/// too large to hold in memory, such as the invented exports of `synth`.
+pub fn write_streamed<F>(path: &Path, body: F) -> Result<()>
+where
+    F: FnOnce(&mut std::io::BufWriter<std::fs::File>) -> std::io::Result<()>,
+{
     let dir = path
         .parent()
         .filter(|p| !p.as_os_str().is_empty())
@@ -393,8 +404,9 @@ pub fn write_private(path: &Path, bytes: &[u8]) -> Result<()> {
         opts.mode(0o600);
     }
     let result = (|| {
-        let mut f = opts.open(&tmp)?;
-        f.write_all(bytes)?;
+        let mut w = std::io::BufWriter::with_capacity(1 << 20, opts.open(&tmp)?);
+        body(&mut w)?;
+        let f = w.into_inner().map_err(|e| e.into_error())?;
         f.sync_all()?;
         std::fs::rename(&tmp, path)?;
         if let Ok(d) = std::fs::File::open(dir) {
@@ -402,9 +414,9 @@ pub fn write_private(path: &Path, bytes: &[u8]) -> Result<()> {
         }
         Ok(())
     })();
-    result.map_err(|e| {
+    result.map_err(|e: std::io::Error| {
         let _ = std::fs::remove_file(&tmp);
-        Error::io(path, e)
+        Error::write(path, e)
     })
 }
 
