@@ -18,7 +18,7 @@ use std::time::Instant;
 
 use hubwatch::config::Config;
 use hubwatch::dataset::{self, Dataset};
-use hubwatch::ingest::{table::ReadOptions, Input, LoadOptions};
+use hubwatch::ingest::{Input, LoadOptions};
 use serde_json::{json, Value};
 
 /// Build petgraph's adjacency-list `Graph` from the same pairs and time, on both structures,
@@ -83,13 +83,7 @@ fn one(dir: &Path) -> Result<(), String> {
     let floor = t.elapsed().as_secs_f64();
     let size = bytes.len();
     drop(bytes);
-    let opts = LoadOptions {
-        overrides: Vec::new(),
-        as_of: hubwatch::cli::today(),
-        read: ReadOptions::default(),
-        progress: false,
-        view: Default::default(),
-    };
+    let opts = LoadOptions::new(hubwatch::cli::today());
     let t = Instant::now();
     let d = dataset::load(&[Input::Path(dir.to_path_buf())], &Config::default(), &opts)
         .map_err(|e| e.to_string())?;
@@ -232,32 +226,37 @@ fn run_reference(py: &Path, script: &str, dir: &Path, repeat: usize, pairs: &Val
     best
 }
 
+/// The load benchmark: synth exports of each size, hubwatch and the Python polars reference.
+#[derive(clap::Parser)]
+struct Args {
+    /// Exposure rows of each export, comma-separated.
+    #[arg(long, value_delimiter = ',', default_value = "100000,1000000,10000000")]
+    sizes: Vec<usize>,
+    /// Where the exports are written (and reused).
+    #[arg(long, default_value = "bench-data")]
+    dir: PathBuf,
+    /// Runs per size (the best is reported).
+    #[arg(long, default_value_t = 3)]
+    repeat: usize,
+    /// Skip the Python reference.
+    #[arg(long)]
+    no_reference: bool,
+    /// Internal: time one load of DIR in this process and print JSON.
+    #[arg(long)]
+    one: Option<PathBuf>,
+}
+
 fn main() {
-    let args: Vec<String> = std::env::args().collect();
-    let get = |flag: &str| {
-        args.iter()
-            .position(|a| a == flag)
-            .and_then(|i| args.get(i + 1))
-            .cloned()
-    };
-    if let Some(dir) = get("--one") {
-        if let Err(e) = one(Path::new(&dir)) {
+    let args = <Args as clap::Parser>::parse();
+    if let Some(dir) = &args.one {
+        if let Err(e) = one(dir) {
             eprintln!("hubwatch-bench: {e}");
             std::process::exit(1);
         }
         return;
     }
-    let sizes: Vec<usize> = get("--sizes")
-        .unwrap_or_else(|| "100000,1000000,10000000".into())
-        .split(',')
-        .filter_map(|s| s.trim().parse().ok())
-        .collect();
-    let base = PathBuf::from(get("--dir").unwrap_or_else(|| "bench-data".into()));
-    let repeat: usize = get("--repeat")
-        .and_then(|r| r.parse().ok())
-        .unwrap_or(3)
-        .max(1);
-    let py = if args.iter().any(|a| a == "--no-reference") {
+    let (sizes, base, repeat) = (args.sizes, args.dir, args.repeat.max(1));
+    let py = if args.no_reference {
         None
     } else {
         match venv_python() {

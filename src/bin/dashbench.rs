@@ -16,7 +16,7 @@ use std::time::Instant;
 
 use hubwatch::config::Config;
 use hubwatch::dataset;
-use hubwatch::ingest::{table::ReadOptions, Input, LoadOptions};
+use hubwatch::ingest::{Input, LoadOptions};
 use hubwatch::tui::app::App;
 use hubwatch::tui::keys::{Action, Pane};
 use hubwatch::tui::model::Model;
@@ -116,13 +116,7 @@ fn record(rows: &mut Vec<(String, Vec<f64>)>, name: &str, secs: f64) {
 /// Load, build the model and draw the first frame; print the open-to-first-frame time.
 fn open(dir: &Path, ws_dir: &Path) -> (std::sync::Arc<Model>, App, Bench) {
     let t = Instant::now();
-    let opts = LoadOptions {
-        overrides: Vec::new(),
-        as_of: hubwatch::cli::today(),
-        read: ReadOptions::default(),
-        progress: false,
-        view: Default::default(),
-    };
+    let opts = LoadOptions::new(hubwatch::cli::today());
     let d =
         dataset::load(&[Input::Path(dir.to_path_buf())], &Config::default(), &opts).expect("load");
     let load_s = t.elapsed().as_secs_f64();
@@ -360,22 +354,21 @@ fn tempfile_dir() -> PathBuf {
     d
 }
 
+/// The dashboard benchmark: open, draw every pane, press keys, on synth exports of each size.
+#[derive(clap::Parser)]
+struct Args {
+    /// Exposure rows of each export, comma-separated.
+    #[arg(long, value_delimiter = ',', default_value = "1000000,10000000")]
+    sizes: Vec<usize>,
+    /// Where the exports are written (and reused).
+    #[arg(long, default_value = "bench-data")]
+    dir: PathBuf,
+}
+
 fn main() {
-    let args: Vec<String> = std::env::args().collect();
-    let get = |flag: &str| {
-        args.iter()
-            .position(|a| a == flag)
-            .and_then(|i| args.get(i + 1))
-            .cloned()
-    };
-    let sizes: Vec<usize> = get("--sizes")
-        .unwrap_or_else(|| "1000000,10000000".into())
-        .split(',')
-        .filter_map(|s| s.trim().parse().ok())
-        .collect();
-    let base = PathBuf::from(get("--dir").unwrap_or_else(|| "bench-data".into()));
-    for rows in sizes {
-        let dir = base.join(format!("synth-{rows}"));
+    let args = <Args as clap::Parser>::parse();
+    for rows in args.sizes {
+        let dir = args.dir.join(format!("synth-{rows}"));
         ensure(&dir, rows);
         one(&dir);
     }

@@ -45,6 +45,20 @@ pub struct LoadOptions {
     pub view: View,
 }
 
+impl LoadOptions {
+    /// Defaults: no overrides, default reading, no progress, every exposure row; `as_of` the
+    /// reference date.
+    pub fn new(as_of: i32) -> LoadOptions {
+        LoadOptions {
+            overrides: Vec::new(),
+            as_of,
+            read: ReadOptions::default(),
+            progress: false,
+            view: View::default(),
+        }
+    }
+}
+
 /// A source of table bytes: a path, or a table compiled into the binary.
 #[derive(Debug, Clone)]
 pub enum Input {

@@ -74,23 +74,12 @@ impl App {
             Action::LogScale => self.log_scale = !self.log_scale,
             Action::Cutoff => self.cutoff = (self.cutoff + 1) % CUTOFFS.len(),
             Action::SortNext | Action::SortReverse => self.sort_by(m, action),
-            Action::FilterRole => self.cycle_field(m, 0),
-            Action::FilterStatus => self.cycle_field(m, 1),
-            Action::FilterArea => self.cycle_field(m, 2),
-            Action::FilterSetting => {
-                self.filters.setting = cycle(self.filters.setting.as_deref(), &m.d.settings);
-                self.refilter(m);
-            }
-            Action::FilterWindow => {
-                self.filters.still_in_window = !self.filters.still_in_window;
-                self.refilter(m);
-            }
-            Action::ClearFilters => {
-                self.filters = Filters::default();
-                self.scope = None;
-                self.refilter(m);
-                self.say("filters cleared", false);
-            }
+            Action::FilterRole
+            | Action::FilterStatus
+            | Action::FilterArea
+            | Action::FilterSetting
+            | Action::FilterWindow
+            | Action::ClearFilters => self.filter_action(m, action),
             Action::Flag | Action::Note | Action::Followup => self.person_state(m, action),
             Action::Export => {
                 let name = format!("hubwatch-view-{}.csv", dates::iso(m.d.as_of));
@@ -118,6 +107,29 @@ impl App {
             | Action::Cancel
             | Action::ClickRow(_)
             | Action::Resize(..) => {}
+        }
+    }
+
+    /// A filter key: cycle a field's value, toggle the window filter, or clear them all.
+    fn filter_action(&mut self, m: &Model, action: Action) {
+        match action {
+            Action::FilterRole => self.cycle_field(m, 0),
+            Action::FilterStatus => self.cycle_field(m, 1),
+            Action::FilterArea => self.cycle_field(m, 2),
+            Action::FilterSetting => {
+                self.filters.setting = cycle(self.filters.setting.as_deref(), &m.d.settings);
+                self.refilter(m);
+            }
+            Action::FilterWindow => {
+                self.filters.still_in_window = !self.filters.still_in_window;
+                self.refilter(m);
+            }
+            _ => {
+                self.filters = Filters::default();
+                self.scope = None;
+                self.refilter(m);
+                self.say("filters cleared", false);
+            }
         }
     }
 
