@@ -7,6 +7,7 @@
 use std::collections::BTreeMap;
 use std::path::Path;
 
+use encoding_rs::{Encoding, UTF_16BE, UTF_16LE, WINDOWS_1252};
 use serde::Deserialize;
 
 use crate::error::{Error, Result};
@@ -15,7 +16,7 @@ use crate::error::{Error, Result};
 pub const DEFAULT_TOML: &str = include_str!("../config/default.toml");
 
 /// Every canonical field hubwatch understands, people fields first.
-pub const PEOPLE_FIELDS: [&str; 8] = [
+pub const PEOPLE_FIELDS: [&str; 9] = [
     "person_id",
     "role",
     "onset_date",
@@ -24,6 +25,7 @@ pub const PEOPLE_FIELDS: [&str; 8] = [
     "area",
     "age_group",
     "followup_status",
+    "household_id",
 ];
 
 /// Canonical fields of the exposures table.
@@ -49,6 +51,8 @@ pub struct Config {
     pub dates: DatesConfig,
     /// ID handling.
     pub ids: IdsConfig,
+    /// Encodings, file roles, missing-value codes and reading limits.
+    pub input: InputConfig,
     /// The dashboard.
     pub dashboard: DashboardConfig,
 }
@@ -83,6 +87,29 @@ pub struct CsvConfig {
 pub struct DatesConfig {
     /// strftime layout, or empty for ISO 8601.
     pub format: String,
+    /// A date more than this many years before the as-of date is implausible.
+    pub oldest_years: u32,
+}
+
+/// How inputs are read: encoding, roles, missing-value codes, limits.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct InputConfig {
+    /// "auto" or an encoding label (utf-8, utf-16le, windows-1252, iso-8859-1, …).
+    pub encoding: String,
+    /// Values that mean "missing" in any field (compared ignoring case and surrounding
+    /// spaces); an empty value is always missing.
+    pub missing_values: Vec<String>,
+    /// File names (or paths) that are people tables whatever their columns.
+    pub people: Vec<String>,
+    /// File names (or paths) that are exposures tables whatever their columns.
+    pub exposures: Vec<String>,
+    /// A line longer than this many bytes is quarantined without being held whole.
+    pub max_line_bytes: u64,
+    /// A compressed file that expands past this many bytes is refused.
+    pub max_decompressed_bytes: u64,
+    /// A duration above this many minutes is implausible (a field problem).
+    pub max_duration_min: f64,
 }
 
 /// How person IDs are compared.
@@ -141,6 +168,17 @@ impl Config {
             }
         }
         Separator::parse_setting(&self.csv.separator)?;
+        EncodingSetting::parse(&self.input.encoding)?;
+        if self.input.max_line_bytes < 64 {
+            return Err(Error::Config(
+                "[input] max_line_bytes must be at least 64".into(),
+            ));
+        }
+        if self.input.max_duration_min.is_nan() || self.input.max_duration_min <= 0.0 {
+            return Err(Error::Config(
+                "[input] max_duration_min must be above 0".into(),
+            ));
+        }
         if !matches!(self.dashboard.theme.as_str(), "dark" | "light" | "mono") {
             return Err(Error::Config(format!(
                 "[dashboard] theme = \"{}\": use \"dark\", \"light\" or \"mono\"",
@@ -216,9 +254,60 @@ impl Separator {
     }
 }
 
+/// The encoding setting: decide by the bytes, or a named encoding.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum EncodingSetting {
+    /// A byte-order mark, else UTF-8 when the bytes are valid UTF-8, else detection.
+    Auto,
+    /// ISO-8859-1 in the strict sense: every byte is the code point of the same number.
+    Latin1,
+    /// An encoding known to the WHATWG Encoding Standard.
+    Named(&'static Encoding),
+}
+
+impl EncodingSetting {
+    /// Parse `auto` or an encoding label (`utf-8`, `utf-16le`, `utf-16be`, `windows-1252`,
+    /// `cp1252`, `iso-8859-1`, `latin1`, `iso-8859-15`, …).
+    pub fn parse(label: &str) -> Result<EncodingSetting> {
+        let l = label.trim().to_ascii_lowercase();
+        match l.as_str() {
+            "" | "auto" => Ok(EncodingSetting::Auto),
+            "iso-8859-1" | "iso8859-1" | "latin1" | "latin-1" | "l1" => Ok(EncodingSetting::Latin1),
+            "cp1252" => Ok(EncodingSetting::Named(WINDOWS_1252)),
+            "utf16le" => Ok(EncodingSetting::Named(UTF_16LE)),
+            "utf16be" => Ok(EncodingSetting::Named(UTF_16BE)),
+            _ => Encoding::for_label(l.as_bytes())
+                .map(EncodingSetting::Named)
+                .ok_or_else(|| {
+                    Error::Config(format!(
+                        "encoding \"{label}\" is not known: use auto, utf-8, utf-16le, utf-16be, windows-1252, iso-8859-1 or another WHATWG label"
+                    ))
+                }),
+        }
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+    use encoding_rs::WINDOWS_1252;
+
+    #[test]
+    fn labels_parse() {
+        assert_eq!(
+            EncodingSetting::parse("auto").unwrap(),
+            EncodingSetting::Auto
+        );
+        assert_eq!(
+            EncodingSetting::parse("Latin1").unwrap(),
+            EncodingSetting::Latin1
+        );
+        assert_eq!(
+            EncodingSetting::parse("cp1252").unwrap(),
+            EncodingSetting::Named(WINDOWS_1252)
+        );
+        assert!(EncodingSetting::parse("klingon").is_err());
+    }
 
     #[test]
     fn shipped_defaults_parse_and_validate() {

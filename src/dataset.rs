@@ -125,6 +125,7 @@ pub fn build(loaded: Loaded, view: &View) -> Result<Dataset> {
     drop(rows);
     let t2 = std::time::Instant::now();
     let graph = graph::adjacency(ids.len(), &edges);
+    ledger.warnings.extend(code_like_hubs(&ids, &graph));
     let timings = Timings {
         parse: parse_secs,
         reconcile: reconcile_secs,
@@ -145,6 +146,38 @@ pub fn build(loaded: Loaded, view: &View) -> Result<Dataset> {
         exposure_extras,
         edge_of_row,
         view: (view.clone(), rows_in_view),
+    })
+}
+
+/// People whose ID reads like a missing-value code and whose number of contacts is far above
+/// everyone else's (more than 10 and more than five times the 99th percentile): most likely
+/// "contact not identified" entered as an ID, which bends every statistic.
+fn code_like_hubs(ids: &IdMap, graph: &Adjacency) -> Option<ingest::ledger::Warning> {
+    let n = ids.len();
+    if n == 0 {
+        return None;
+    }
+    let degree = |i: usize| graph.neighbors_slice(i as u32).len();
+    let mut degrees: Vec<usize> = (0..n).map(degree).collect();
+    let k = (n * 99 / 100).min(n - 1);
+    let p99 = *degrees.select_nth_unstable(k).1;
+    let bar = (5 * p99).max(10);
+    let hits: Vec<String> = (0..n)
+        .filter(|&i| degree(i) > bar && ingest::warnings::looks_like_code(ids.name(i as u32)))
+        .map(|i| format!("\"{}\" ({} contacts)", ids.name(i as u32), degree(i)))
+        .collect();
+    if hits.is_empty() {
+        return None;
+    }
+    Some(ingest::ledger::Warning {
+        code: "code_like_id_with_many_contacts",
+        message: format!(
+            "{} has far more contacts than anyone else (99% of people have at most {p99}) and looks like a \
+             missing-value code; if it means \"not identified\", add it with --missing-values so its rows \
+             are set aside instead of forming a hub",
+            hits.join(", ")
+        ),
+        count: hits.len() as u64,
     })
 }
 

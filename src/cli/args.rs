@@ -12,6 +12,7 @@ use crate::analysis::stats::MetricOptions;
 use crate::config::Config;
 use crate::dataset::Dataset;
 use crate::error::{Error, Result};
+use crate::ingest::ledger::Role;
 use crate::ingest::{dates, mapping, table::ReadOptions, Input, LoadOptions};
 use crate::sample;
 use crate::workspace::Workspace;
@@ -435,6 +436,19 @@ pub struct LoadArgs {
     /// Treat IDs that differ only in letter case as the same person.
     #[arg(long, global = true)]
     pub ids_ignore_case: bool,
+    /// Text encoding of delimited files: auto (default), utf-8, utf-16le, utf-16be,
+    /// windows-1252, iso-8859-1, ...
+    #[arg(long, value_name = "ENCODING", global = true)]
+    pub encoding: Option<String>,
+    /// Values that mean "missing" (added to [input] missing_values), e.g. 99,NA,unknown.
+    #[arg(long, value_name = "CODES", value_delimiter = ',', global = true)]
+    pub missing_values: Vec<String>,
+    /// A people table, whatever its columns (repeatable).
+    #[arg(long = "people", value_name = "FILE")]
+    pub people_files: Vec<PathBuf>,
+    /// An exposures table, whatever its columns (repeatable).
+    #[arg(long = "exposures", value_name = "FILE")]
+    pub exposure_files: Vec<PathBuf>,
     /// Build the network from exposures in this setting only (repeatable: any of them).
     #[arg(long = "setting", value_name = "LABEL", global = true)]
     pub settings: Vec<String>,
@@ -471,6 +485,12 @@ impl LoadArgs {
         if self.ids_ignore_case {
             c.ids.case_sensitive = false;
         }
+        if let Some(e) = &self.encoding {
+            c.input.encoding = e.clone();
+        }
+        c.input
+            .missing_values
+            .extend(self.missing_values.iter().cloned());
         c.validate()?;
         Ok(c)
     }
@@ -524,21 +544,37 @@ impl LoadArgs {
         })
     }
 
-    /// The inputs: the paths given, or the bundled sample.
+    /// The inputs: the paths given and the files with a given role, or the bundled sample.
     pub fn inputs(&self) -> Vec<Input> {
-        if self.paths.is_empty() {
-            sample::inputs()
-        } else {
-            self.paths.iter().map(|p| Input::Path(p.clone())).collect()
+        if self.paths.is_empty() && self.people_files.is_empty() && self.exposure_files.is_empty() {
+            return sample::inputs();
         }
+        let given = |files: &[PathBuf], role| {
+            files
+                .iter()
+                .map(move |p| Input::Given {
+                    path: p.clone(),
+                    role,
+                })
+                .collect::<Vec<_>>()
+        };
+        let mut v: Vec<Input> = self.paths.iter().map(|p| Input::Path(p.clone())).collect();
+        v.extend(given(&self.people_files, Role::People));
+        v.extend(given(&self.exposure_files, Role::Exposures));
+        v
     }
 
     /// The workspace file: the one given, else the default beside the first input (the one
     /// place that decides it).
     pub fn workspace(&self, given: Option<&Path>) -> PathBuf {
-        given
-            .map(Path::to_path_buf)
-            .unwrap_or_else(|| Workspace::default_path(self.paths.first().map(|p| p.as_path())))
+        given.map(Path::to_path_buf).unwrap_or_else(|| {
+            let first = self
+                .paths
+                .first()
+                .or(self.exposure_files.first())
+                .or(self.people_files.first());
+            Workspace::default_path(first.map(|p| p.as_path()))
+        })
     }
 
     /// Load the export described by these arguments.

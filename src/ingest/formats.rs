@@ -52,6 +52,7 @@ fn meta(path: &Path, kind: FileKind, frame: &DataFrame, unit: &'static str) -> R
         separator: None,
         unit,
         excel_serials: kind == FileKind::Excel,
+        encoding: None,
     })
 }
 

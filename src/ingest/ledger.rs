@@ -39,6 +39,13 @@ pub struct Counts {
     pub quarantined: u64,
     /// Bad optional values (the row was still used or merged).
     pub field_problems: u64,
+    /// ID values put into Unicode NFC (written in decomposed form).
+    #[serde(skip_serializing_if = "is_zero")]
+    pub ids_normalised: u64,
+}
+
+fn is_zero(n: &u64) -> bool {
+    *n == 0
 }
 
 impl Counts {
@@ -54,6 +61,7 @@ impl Counts {
         self.merged += o.merged;
         self.quarantined += o.quarantined;
         self.field_problems += o.field_problems;
+        self.ids_normalised += o.ids_normalised;
     }
 }
 
@@ -65,6 +73,13 @@ pub enum QuarantineReason {
     MissingId {
         /// The canonical field (person_id, source_id, target_id).
         field: String,
+    },
+    /// A required ID holds a missing-value code (NA, 99, …).
+    MissingValueCode {
+        /// The canonical field.
+        field: String,
+        /// The code as written.
+        code: String,
     },
     /// Both ends of an exposure are the same person.
     SelfExposure,
@@ -80,6 +95,7 @@ impl QuarantineReason {
     pub fn code(&self) -> &'static str {
         match self {
             QuarantineReason::MissingId { .. } => "missing_id",
+            QuarantineReason::MissingValueCode { .. } => "missing_value_code",
             QuarantineReason::SelfExposure => "self_exposure",
             QuarantineReason::WrongFieldCount { .. } => "wrong_field_count",
         }
@@ -89,6 +105,9 @@ impl QuarantineReason {
     pub fn describe(&self) -> String {
         match self {
             QuarantineReason::MissingId { field } => format!("{field} is missing or blank"),
+            QuarantineReason::MissingValueCode { field, code } => {
+                format!("{field} is \"{code}\", a missing-value code ([input] missing_values)")
+            }
             QuarantineReason::SelfExposure => "source and target are the same person".to_string(),
             QuarantineReason::WrongFieldCount { detail } => detail.clone(),
         }
@@ -118,12 +137,16 @@ pub enum ProblemKind {
     ImpossibleDate,
     /// A date after the as-of date.
     FutureDate,
+    /// A date implausibly long before the as-of date.
+    ImplausibleDate,
     /// First exposure after the last exposure.
     DateOrder,
     /// Duration is not a number.
     UnreadableNumber,
     /// Duration below zero.
     NegativeNumber,
+    /// Duration beyond any plausible exposure.
+    ImplausibleNumber,
     /// A repeated person row disagrees with the first.
     ConflictingValue,
     /// A yes/no field holds something else.
@@ -137,9 +160,11 @@ impl ProblemKind {
             ProblemKind::UnreadableDate => "unreadable_date",
             ProblemKind::ImpossibleDate => "impossible_date",
             ProblemKind::FutureDate => "future_date",
+            ProblemKind::ImplausibleDate => "implausible_date",
             ProblemKind::DateOrder => "first_after_last_exposure",
             ProblemKind::UnreadableNumber => "unreadable_number",
             ProblemKind::NegativeNumber => "negative_number",
+            ProblemKind::ImplausibleNumber => "implausible_number",
             ProblemKind::UnreadableFlag => "unreadable_flag",
             ProblemKind::ConflictingValue => "conflicting_value",
         }
@@ -176,6 +201,11 @@ pub struct FileReport {
     pub header: bool,
     /// Canonical field -> header used.
     pub mapping: BTreeMap<String, String>,
+    /// Text encoding read and how it was decided (delimited text only).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub encoding: Option<String>,
+    /// How the role was decided.
+    pub role_by: String,
     /// Row counts of this file.
     pub counts: Counts,
 }
@@ -195,6 +225,20 @@ pub struct Ledger {
     pub problems: Vec<FieldProblem>,
     /// Files in a folder that were not used, with the reason.
     pub ignored: Vec<(PathBuf, String)>,
+    /// Things worth a look that changed nothing (IDs that differ only by case or spacing, an
+    /// ID that looks like a missing-value code with far more contacts than anyone else).
+    pub warnings: Vec<Warning>,
+}
+
+/// A warning of the load: nothing was changed, but a person should look.
+#[derive(Debug, Clone, Serialize)]
+pub struct Warning {
+    /// A stable short code.
+    pub code: &'static str,
+    /// What was seen and what to do, in words.
+    pub message: String,
+    /// How many IDs (or values) it concerns.
+    pub count: u64,
 }
 
 impl Ledger {

@@ -14,6 +14,31 @@ pub enum ColumnRef {
     Name(String),
     /// A 1-based column position.
     Position(usize),
+    /// Several columns joined into one value (`household+member`): the parts in order, and
+    /// the text as given (used as is when a header is literally named so).
+    Composite(Vec<ColumnRef>, String),
+}
+
+/// The separator of a composite value's parts; a part holding it (or the escape) has it
+/// escaped with a backslash, so two different pairs of parts never join to the same ID.
+pub const JOIN: char = '/';
+
+/// Join the parts of a composite value: `None` when any part is blank.
+pub fn join_parts(parts: &[Option<&str>]) -> Option<String> {
+    let mut out = String::new();
+    for (i, p) in parts.iter().enumerate() {
+        let p = p.map(str::trim).filter(|p| !p.is_empty())?;
+        if i > 0 {
+            out.push(JOIN);
+        }
+        for c in p.chars() {
+            if c == JOIN || c == '\\' {
+                out.push('\\');
+            }
+            out.push(c);
+        }
+    }
+    Some(out)
 }
 
 /// Parse one `--column FIELD=HEADER|N` argument.
@@ -30,14 +55,26 @@ pub fn parse_override(arg: &str) -> Result<(String, ColumnRef)> {
         )));
     }
     let col = col.trim();
-    let r = match col.parse::<usize>() {
-        Ok(0) => {
+    let one = |c: &str| -> Result<ColumnRef> {
+        let c = c.trim();
+        if c.is_empty() {
             return Err(Error::Usage(format!(
-                "--column {arg}: column numbers start at 1"
-            )))
+                "--column {arg}: an empty column name; write FIELD=HEADER, FIELD=N or FIELD=A+B"
+            )));
         }
-        Ok(n) => ColumnRef::Position(n),
-        Err(_) => ColumnRef::Name(col.to_string()),
+        match c.parse::<usize>() {
+            Ok(0) => Err(Error::Usage(format!(
+                "--column {arg}: column numbers start at 1"
+            ))),
+            Ok(n) => Ok(ColumnRef::Position(n)),
+            Err(_) => Ok(ColumnRef::Name(c.to_string())),
+        }
+    };
+    let r = if col.contains('+') && col.len() > 1 {
+        let parts = col.split('+').map(one).collect::<Result<Vec<_>>>()?;
+        ColumnRef::Composite(parts, col.to_string())
+    } else {
+        one(col)?
     };
     Ok((field, r))
 }
@@ -53,14 +90,28 @@ pub fn fold_header(h: &str) -> String {
 /// Field name -> column index for one table.
 #[derive(Debug, Clone, Default, PartialEq, Eq)]
 pub struct Mapping {
-    /// Canonical field -> 0-based column index.
+    /// Canonical field -> 0-based column index. A composite field's index is past the file's
+    /// columns: `columns.len() + k` for the k-th entry of `joined`.
     pub fields: BTreeMap<String, usize>,
+    /// Joined columns: (name shown, the file's columns joined, in order).
+    pub joined: Vec<(String, Vec<usize>)>,
 }
 
 impl Mapping {
     /// Column index of a field, if mapped.
     pub fn get(&self, field: &str) -> Option<usize> {
         self.fields.get(field).copied()
+    }
+
+    /// The name of column `i`: the file's header, or a joined column's `a+b`.
+    pub fn column_name<'a>(&'a self, columns: &'a [String], i: usize) -> &'a str {
+        match columns.get(i) {
+            Some(c) => c,
+            None => self
+                .joined
+                .get(i - columns.len())
+                .map_or("?", |(n, _)| n.as_str()),
+        }
     }
 }
 
@@ -81,16 +132,37 @@ pub fn resolve(
         if !fields.contains(&field.as_str()) {
             continue;
         }
-        let idx = match r {
+        let find = |r: &ColumnRef| match r {
             ColumnRef::Position(n) => (*n <= columns.len()).then(|| n - 1),
             ColumnRef::Name(name) => {
                 let f = fold_header(name);
                 folded.iter().position(|c| *c == f)
             }
+            ColumnRef::Composite(..) => None,
+        };
+        let idx = match r {
+            ColumnRef::Composite(parts, text) => match find(&ColumnRef::Name(text.clone())) {
+                Some(i) => Some(i),
+                None => {
+                    let cols: Option<Vec<usize>> = parts.iter().map(find).collect();
+                    cols.map(|cols| {
+                        let name = cols
+                            .iter()
+                            .map(|&c| columns[c].as_str())
+                            .collect::<Vec<_>>()
+                            .join("+");
+                        out.joined.push((name, cols));
+                        columns.len() + out.joined.len() - 1
+                    })
+                }
+            },
+            r => find(r),
         };
         if let Some(i) = idx {
             out.fields.insert(field.clone(), i);
-            taken[i] = true;
+            if let Some(t) = taken.get_mut(i) {
+                *t = true;
+            }
         }
     }
     // Then synonyms, in the order given, never reusing a column.
@@ -224,6 +296,24 @@ mod tests {
         assert!(parse_override("nonsense=1").is_err());
         assert!(parse_override("source_id=0").is_err());
         assert!(parse_override("source_id").is_err());
+    }
+
+    #[test]
+    fn composite_columns_join_with_an_escaped_separator() {
+        let c = Config::default();
+        let o = vec![parse_override("person_id=hh+member").unwrap()];
+        let m = resolve(&cols(&["hh", "member", "age"]), &c, &o, &PEOPLE_FIELDS);
+        assert_eq!(m.get("person_id"), Some(3));
+        assert_eq!(m.joined, vec![("hh+member".to_string(), vec![0, 1])]);
+        // A header literally named "a+b" is taken as it is.
+        let o = vec![parse_override("person_id=a+b").unwrap()];
+        let m = resolve(&cols(&["a+b", "a", "b"]), &c, &o, &PEOPLE_FIELDS);
+        assert_eq!((m.get("person_id"), m.joined.len()), (Some(0), 0));
+        // Different parts never join to the same ID.
+        assert_eq!(join_parts(&[Some("a/b"), Some("c")]).unwrap(), "a\\/b/c");
+        assert_eq!(join_parts(&[Some("a"), Some("b/c")]).unwrap(), "a/b\\/c");
+        assert_eq!(join_parts(&[Some("H1"), Some(" ")]), None);
+        assert!(parse_override("person_id=a+").is_err());
     }
 
     #[test]

@@ -6,14 +6,17 @@
 //! the ledger that accounts for every row.
 
 pub mod dates;
+pub mod decode;
 pub mod formats;
 pub mod ledger;
 pub mod mapping;
 pub mod reconcile;
+pub mod roles;
 pub mod rows;
 pub mod sniff;
 pub mod table;
 pub mod view;
+pub mod warnings;
 
 pub use view::View;
 
@@ -21,14 +24,15 @@ use std::collections::BTreeMap;
 use std::io::IsTerminal;
 use std::path::{Path, PathBuf};
 
-use crate::config::{Config, EXPOSURE_FIELDS, PEOPLE_FIELDS};
+use crate::config::Config;
 use crate::error::{Error, Result};
 use crate::ids::IdMap;
 use ledger::{Counts, FileReport, Ledger, QuarantineReason, QuarantinedRow, Role};
-use mapping::{ColumnRef, Mapping};
+use mapping::ColumnRef;
 use reconcile::{Attributes, FieldChecker, FileCtx, PeopleBuilder};
+use roles::Planned;
 use rows::ExposureRows;
-use table::{ReadOptions, Table};
+use table::ReadOptions;
 
 /// Options of one load.
 #[derive(Debug, Clone)]
@@ -62,8 +66,16 @@ impl LoadOptions {
 /// A source of table bytes: a path, or a table compiled into the binary.
 #[derive(Debug, Clone)]
 pub enum Input {
-    /// A file or folder on disk.
+    /// A file or folder on disk; each table's role is decided by its columns (or the
+    /// configuration's `[input] people` / `exposures` lists).
     Path(PathBuf),
+    /// A file whose role the user gave (`--people FILE`, `--exposures FILE`).
+    Given {
+        /// The file.
+        path: PathBuf,
+        /// Its role.
+        role: Role,
+    },
     /// Built-in bytes with a display name.
     Builtin {
         /// Shown in reports.
@@ -110,141 +122,6 @@ pub fn peak_mib() -> f64 {
         .map_or(f64::NAN, |kib| kib / 1024.0)
 }
 
-/// An opened table with its role and mapping.
-struct Planned {
-    table: Table,
-    role: Role,
-    mapping: Mapping,
-}
-
-/// A table opened from the inputs; `in_folder` tables may be skipped when unrecognised.
-struct Opened {
-    table: Table,
-    in_folder: bool,
-}
-
-fn open_input(
-    input: &Input,
-    config: &Config,
-    read: &ReadOptions,
-    ignored: &mut Vec<(PathBuf, String)>,
-) -> Result<Vec<Opened>> {
-    match input {
-        Input::Builtin { name, bytes } => Ok(vec![Opened {
-            table: Table::open_bytes(name, bytes.to_vec(), config)?,
-            in_folder: false,
-        }]),
-        Input::Path(p) if p.is_dir() => {
-            let mut files: Vec<PathBuf> = std::fs::read_dir(p)
-                .map_err(|e| Error::io(p, e))?
-                .filter_map(|e| e.ok().map(|e| e.path()))
-                .filter(|f| f.is_file() && table::FileKind::is_table_file(f))
-                .collect();
-            files.sort();
-            if files.is_empty() {
-                return Err(Error::format(p, "the folder holds no table files (.csv, .tsv, .txt, .dat, .parquet, .ndjson, .jsonl, .xlsx, optionally .gz)"));
-            }
-            let mut out = Vec::new();
-            for f in files {
-                match Table::open(&f, config, read) {
-                    Ok(table) => out.push(Opened {
-                        table,
-                        in_folder: true,
-                    }),
-                    Err(e) => ignored.push((f, format!("not read: {e}"))),
-                }
-            }
-            Ok(out)
-        }
-        Input::Path(p) => Ok(vec![Opened {
-            table: Table::open(p, config, read)?,
-            in_folder: false,
-        }]),
-    }
-}
-
-/// Decide each table's role by its columns: exposures if it has source and target, people if
-/// it has a person ID. A table with neither is an error naming the closest headers.
-fn plan(
-    tables: Vec<Opened>,
-    config: &Config,
-    overrides: &[(String, ColumnRef)],
-    ignored: &mut Vec<(PathBuf, String)>,
-) -> Result<Vec<Planned>> {
-    let mut out = Vec::new();
-    let several = tables.len() > 1;
-    for Opened { table, in_folder } in tables {
-        let cols = &table.meta.columns;
-        let exp = mapping::resolve(cols, config, overrides, &EXPOSURE_FIELDS);
-        if exp.get("source_id").is_some() && exp.get("target_id").is_some() {
-            out.push(Planned {
-                table,
-                role: Role::Exposures,
-                mapping: exp,
-            });
-            continue;
-        }
-        let ppl = mapping::resolve(cols, config, overrides, &PEOPLE_FIELDS);
-        if ppl.get("person_id").is_some() && (several || exp.get("source_id").is_none()) {
-            out.push(Planned {
-                table,
-                role: Role::People,
-                mapping: ppl,
-            });
-            continue;
-        }
-        let missing = if exp.get("source_id").is_none() {
-            "source_id"
-        } else {
-            "target_id"
-        };
-        if in_folder {
-            let err = mapping::missing_field_error(
-                &table.meta.path,
-                cols,
-                missing,
-                config,
-                table.meta.headerless,
-            );
-            ignored.push((
-                table.meta.path.clone(),
-                format!("neither a people nor an exposures table: {err}"),
-            ));
-            continue;
-        }
-        return Err(mapping::missing_field_error(
-            &table.meta.path,
-            cols,
-            missing,
-            config,
-            table.meta.headerless,
-        ));
-    }
-    if !out.iter().any(|p| p.role == Role::Exposures) {
-        let Some(first) = out.first().map(|p| &p.table.meta) else {
-            let why: Vec<String> = ignored
-                .iter()
-                .map(|(p, w)| format!("{}: {w}", p.display()))
-                .collect();
-            return Err(Error::Usage(format!(
-                "no table could be used. {}",
-                why.join("; ")
-            )));
-        };
-        return Err(Error::format(
-            &first.path,
-            format!(
-                "no exposures table found: every file given looks like a people table. Give a file with \
-                 source and target columns (headers found here: {}), or map them with --column source_id=… --column target_id=…",
-                first.columns.join(", ")
-            ),
-        ));
-    }
-    // People first, so that the people table fixes the first node indices.
-    out.sort_by_key(|p| p.role);
-    Ok(out)
-}
-
 fn describe_format(meta: &table::TableMeta) -> String {
     match (meta.kind, meta.separator) {
         (table::FileKind::Text, Some(s)) => format!("delimited text ({})", s.describe()),
@@ -261,12 +138,12 @@ pub fn read(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Loa
     let mut tables = Vec::new();
     let mut ignored = Vec::new();
     for input in inputs {
-        tables.extend(open_input(input, config, &opts.read, &mut ignored)?);
+        tables.extend(roles::open_input(input, config, &opts.read, &mut ignored)?);
     }
     if tables.is_empty() && ignored.is_empty() {
         return Err(Error::Usage("no input given".into()));
     }
-    let planned = plan(tables, config, &opts.overrides, &mut ignored)?;
+    let planned = roles::plan(tables, config, &opts.overrides, &mut ignored)?;
     let mut r = Reading {
         ledger: Ledger {
             ignored,
@@ -299,6 +176,7 @@ pub fn read(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Loa
     ledger.quarantined = people.quarantined;
     ledger.quarantined.append(&mut rows.quarantined);
     ledger.problems = problems;
+    ledger.warnings.extend(warnings::id_collisions(&people.ids));
     let mut attrs = people.attrs;
     let n = people.ids.len();
     for v in attrs.values.iter_mut() {
@@ -316,6 +194,47 @@ pub fn read(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Loa
         reconcile_secs: in_reconcile,
         peak_mib: peak_mib(),
     })
+}
+
+/// Append the joined (composite) columns to a chunk, after the file's own columns.
+fn join_columns(
+    frame: &mut polars::prelude::DataFrame,
+    joined: &[(String, Vec<usize>)],
+    base: usize,
+    path: &Path,
+) -> Result<()> {
+    use polars::prelude::*;
+    let polars_err = |e| Error::Polars {
+        path: path.to_path_buf(),
+        source: e,
+    };
+    for (name, parts) in joined {
+        let cols: Vec<&StringChunked> = parts
+            .iter()
+            .map(|&c| frame.columns()[c].str().map_err(polars_err))
+            .collect::<Result<_>>()?;
+        let values: Vec<Option<String>> = (0..frame.height())
+            .map(|r| {
+                let p: Vec<Option<&str>> = cols.iter().map(|c| c.get(r)).collect();
+                mapping::join_parts(&p)
+            })
+            .collect();
+        debug_assert!(frame.width() >= base);
+        frame
+            .with_column(Column::new(name.as_str().into(), values))
+            .map_err(polars_err)?;
+    }
+    Ok(())
+}
+
+/// The value rules of a load, from the configuration.
+pub fn rules(config: &Config, as_of: i32) -> reconcile::Rules {
+    let years = f64::from(config.dates.oldest_years);
+    reconcile::Rules::new(
+        &config.input.missing_values,
+        as_of.saturating_sub((years * 365.2425).round() as i32),
+        config.input.max_duration_min,
+    )
 }
 
 /// The state of one load while its tables are read.
@@ -336,10 +255,19 @@ impl Reading {
             table,
             role,
             mapping,
+            role_by,
         } = planned;
         let file = self.ledger.files.len();
-        let meta = table.meta.clone();
-        let mut checker = FieldChecker::new(&config.dates.format, meta.excel_serials, opts.as_of);
+        let mut meta = table.meta.clone();
+        let base_columns = meta.columns.len();
+        meta.columns
+            .extend(mapping.joined.iter().map(|(name, _)| name.clone()));
+        let mut checker = FieldChecker::new(
+            &config.dates.format,
+            meta.excel_serials,
+            opts.as_of,
+            rules(config, opts.as_of),
+        );
         let mut ctx = FileCtx {
             file,
             meta: &meta,
@@ -349,8 +277,11 @@ impl Reading {
         if role == Role::Exposures && self.people_in_table == 0 {
             self.people_in_table = self.people.ids.len() as u32;
         }
-        let rejected = table.read(&opts.read, |chunk| {
+        let rejected = table.read(&opts.read, |mut chunk| {
             let t = std::time::Instant::now();
+            if !mapping.joined.is_empty() {
+                join_columns(&mut chunk.frame, &mapping.joined, base_columns, &meta.path)?;
+            }
             match role {
                 Role::People => self.people.add_chunk(&mut ctx, &chunk, &mut checker)?,
                 Role::Exposures => {
@@ -389,6 +320,11 @@ impl Reading {
             format: describe_format(&meta),
             header: !meta.headerless,
             mapping: named,
+            encoding: meta
+                .encoding
+                .as_ref()
+                .map(|e| format!("{} ({})", e.name, e.how)),
+            role_by,
             counts: ctx.counts,
         });
         Ok(())

@@ -91,6 +91,92 @@ pub(super) fn trimmed(v: Option<&str>) -> Option<&str> {
     v.map(str::trim).filter(|s| !s.is_empty())
 }
 
+/// What a value of an ID column holds.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum IdValue<'a> {
+    /// Empty or blank.
+    Blank,
+    /// One of the missing-value codes (as written, trimmed).
+    Code(&'a str),
+    /// An ID: trimmed, in Unicode NFC (the bool: normalisation changed it).
+    Id(std::borrow::Cow<'a, str>, bool),
+}
+
+/// Value rules shared by every table of a load: missing-value codes, ID normalisation, and
+/// the bounds of plausible dates and durations.
+#[derive(Debug, Clone)]
+pub struct Rules {
+    /// Missing-value codes, lower-cased.
+    missing: Vec<String>,
+    /// Longest code, in bytes (longer values are never codes).
+    longest: usize,
+    /// Day number of the oldest plausible date.
+    pub oldest_day: i32,
+    /// Largest plausible duration, minutes.
+    pub max_minutes: f64,
+}
+
+impl Rules {
+    /// Rules from the missing-value codes, the oldest plausible day and the largest duration.
+    pub fn new(codes: &[String], oldest_day: i32, max_minutes: f64) -> Rules {
+        let missing: Vec<String> = codes
+            .iter()
+            .map(|c| c.trim().to_lowercase())
+            .filter(|c| !c.is_empty())
+            .collect();
+        Rules {
+            longest: missing.iter().map(String::len).max().unwrap_or(0),
+            missing,
+            oldest_day,
+            max_minutes,
+        }
+    }
+
+    /// True when `v` (trimmed) is a missing-value code.
+    pub fn is_code(&self, v: &str) -> bool {
+        if v.len() > self.longest {
+            return false;
+        }
+        if v.is_ascii() {
+            return self.missing.iter().any(|c| v.eq_ignore_ascii_case(c));
+        }
+        let lower = v.to_lowercase();
+        self.missing.contains(&lower)
+    }
+
+    /// The value, trimmed; `None` when blank or a missing-value code.
+    pub fn value<'a>(&self, v: Option<&'a str>) -> Option<&'a str> {
+        trimmed(v).filter(|s| !self.is_code(s))
+    }
+
+    /// An ID value: blank, a missing-value code, or the ID trimmed and in NFC (UAX #15), so
+    /// that the same name typed in composed and decomposed form is one person.
+    pub fn id<'a>(&self, v: Option<&'a str>) -> IdValue<'a> {
+        let Some(s) = trimmed(v) else {
+            return IdValue::Blank;
+        };
+        if self.is_code(s) {
+            return IdValue::Code(s);
+        }
+        if s.is_ascii() {
+            return IdValue::Id(std::borrow::Cow::Borrowed(s), false);
+        }
+        use unicode_normalization::{is_nfc_quick, IsNormalized, UnicodeNormalization};
+        if is_nfc_quick(s.chars()) == IsNormalized::Yes {
+            return IdValue::Id(std::borrow::Cow::Borrowed(s), false);
+        }
+        let n: String = s.nfc().collect();
+        let changed = n != s;
+        IdValue::Id(std::borrow::Cow::Owned(n), changed)
+    }
+}
+
+impl Default for Rules {
+    fn default() -> Self {
+        Rules::new(&[], i32::MIN, f64::INFINITY)
+    }
+}
+
 /// The row's values comma-joined, for the quarantine report.
 pub(super) fn raw_row(frame: &DataFrame, row: usize) -> String {
     frame
@@ -111,16 +197,19 @@ pub(super) fn raw_row(frame: &DataFrame, row: usize) -> String {
 pub struct FieldChecker {
     parser: DateParser,
     as_of: i32,
+    /// Missing-value codes, ID normalisation, plausible bounds.
+    pub rules: Rules,
     /// Every field problem seen.
     pub problems: Vec<FieldProblem>,
 }
 
 impl FieldChecker {
     /// Dates in `format` (empty = ISO), none after `as_of`.
-    pub fn new(format: &str, excel_serials: bool, as_of: i32) -> FieldChecker {
+    pub fn new(format: &str, excel_serials: bool, as_of: i32, rules: Rules) -> FieldChecker {
         FieldChecker {
             parser: DateParser::new(format, excel_serials),
             as_of,
+            rules,
             problems: Vec::new(),
         }
     }
@@ -153,7 +242,7 @@ impl FieldChecker {
         column: Option<usize>,
         v: Option<&str>,
     ) -> i32 {
-        let (Some(c), Some(v)) = (column, trimmed(v)) else {
+        let (Some(c), Some(v)) = (column, self.rules.value(v)) else {
             return NO_DATE;
         };
         match self.parser.parse(v) {
@@ -163,6 +252,14 @@ impl FieldChecker {
                     dates::iso(self.as_of)
                 );
                 self.problem(ctx, line, c, v, ProblemKind::FutureDate, msg);
+                NO_DATE
+            }
+            Ok(d) if d < self.rules.oldest_day => {
+                let msg = format!(
+                    "before {}, implausibly long before the as-of date ([dates] oldest_years); left empty",
+                    dates::iso(self.rules.oldest_day)
+                );
+                self.problem(ctx, line, c, v, ProblemKind::ImplausibleDate, msg);
                 NO_DATE
             }
             Ok(d) => d,
@@ -196,10 +293,18 @@ impl FieldChecker {
         column: Option<usize>,
         v: Option<&str>,
     ) -> f32 {
-        let (Some(c), Some(v)) = (column, trimmed(v)) else {
+        let (Some(c), Some(v)) = (column, self.rules.value(v)) else {
             return f32::NAN;
         };
         match v.parse::<f64>() {
+            Ok(x) if x > self.rules.max_minutes && x.is_finite() => {
+                let msg = format!(
+                    "{x} minutes is more than {} ([input] max_duration_min); left empty",
+                    self.rules.max_minutes
+                );
+                self.problem(ctx, line, c, v, ProblemKind::ImplausibleNumber, msg);
+                f32::NAN
+            }
             Ok(x) if x.is_finite() && x >= 0.0 => x as f32,
             Ok(x) if x < 0.0 => {
                 self.problem(
@@ -279,14 +384,25 @@ impl PeopleBuilder {
         }
     }
 
-    /// A people row without an ID is quarantined.
-    fn quarantine_missing_id(&mut self, ctx: &mut FileCtx, line: u64, raw: String) {
+    /// A people row without an ID (blank, or a missing-value code) is quarantined.
+    fn quarantine_missing_id(
+        &mut self,
+        ctx: &mut FileCtx,
+        line: u64,
+        raw: String,
+        code: Option<&str>,
+    ) {
         ctx.counts.quarantined += 1;
+        let field = "person_id".to_string();
         self.quarantined.push(QuarantinedRow {
             file: ctx.file,
             line,
-            reason: QuarantineReason::MissingId {
-                field: "person_id".into(),
+            reason: match code {
+                None => QuarantineReason::MissingId { field },
+                Some(c) => QuarantineReason::MissingValueCode {
+                    field,
+                    code: c.to_string(),
+                },
             },
             raw,
         });
@@ -306,7 +422,7 @@ impl PeopleBuilder {
             if c == pc.id_col {
                 continue;
             }
-            let raw = trimmed(col.get(row));
+            let raw = checker.rules.value(col.get(row));
             let value: Option<String> = if pc.date_cols.contains(&Some(c)) {
                 let d = checker.date(ctx, line, Some(c), raw);
                 (d != NO_DATE).then(|| dates::iso(d))
@@ -382,10 +498,21 @@ impl PeopleBuilder {
         for row in 0..frame.height() {
             let line = chunk.lines.line(row);
             ctx.counts.read += 1;
-            let Some(id) = trimmed(cols[id_col].get(row)) else {
-                self.quarantine_missing_id(ctx, line, raw_row(frame, row));
-                continue;
+            let id = match checker.rules.id(cols[id_col].get(row)) {
+                IdValue::Blank => {
+                    self.quarantine_missing_id(ctx, line, raw_row(frame, row), None);
+                    continue;
+                }
+                IdValue::Code(c) => {
+                    self.quarantine_missing_id(ctx, line, raw_row(frame, row), Some(c));
+                    continue;
+                }
+                IdValue::Id(id, changed) => {
+                    ctx.counts.ids_normalised += u64::from(changed);
+                    id
+                }
             };
+            let id = id.as_ref();
             let (node, new) = self.ids.intern(id);
             if new {
                 ctx.counts.used += 1;

@@ -7,12 +7,18 @@ use polars::prelude::*;
 use super::dates;
 use super::ledger::{Counts, ProblemKind, QuarantineReason, QuarantinedRow};
 use super::mapping::Mapping;
+use std::borrow::Cow;
+
 use super::reconcile::{
-    raw_row, text_column, trimmed, values, Attributes, FieldChecker, FileCtx, Values, NO_DATE,
+    raw_row, text_column, values, Attributes, FieldChecker, FileCtx, IdValue, Rules, Values,
+    NO_DATE,
 };
 use super::table::{Chunk, LineMap, TableMeta};
 use crate::error::{Error, Result};
 use crate::ids::IdMap;
+
+/// The two IDs of a usable exposure row (borrowed unless normalisation changed them).
+type IdPair<'a> = (Cow<'a, str>, Cow<'a, str>);
 
 /// Below this many usable rows in a chunk, a second thread costs more than it saves.
 const PARALLEL_ROWS: usize = 50_000;
@@ -126,7 +132,7 @@ impl ExposureFields {
                 self.minutes.push(checker.minutes(ctx, line, min_c, mi));
             }
             if set_c.is_some() {
-                let code = match trimmed(st) {
+                let code = match checker.rules.value(st) {
                     None => 0,
                     Some(label) => match self.setting_spellings.get(label) {
                         Some(&c) => c,
@@ -149,9 +155,8 @@ impl ExposureFields {
 /// are padded with empty values first.
 fn keep_extra_columns(
     extras: &mut Attributes,
-    frame: &DataFrame,
-    meta: &TableMeta,
-    mapping: &Mapping,
+    (frame, meta, mapping): (&DataFrame, &TableMeta, &Mapping),
+    rules: &Rules,
     usable: &[u32],
     rows_after: usize,
 ) -> Result<()> {
@@ -167,7 +172,7 @@ fn keep_extra_columns(
         for (row, v) in col.enumerate() {
             if next.peek().is_some_and(|&&u| u as usize == row) {
                 next.next();
-                values.push(trimmed(v).map(Into::into));
+                values.push(rules.value(v).map(Into::into));
             }
         }
     }
@@ -242,11 +247,17 @@ impl ExposureRows {
             self.per_file.push((ctx.file, 0));
         }
         self.pad_new_fields([last_c, first_c, min_c, set_c]);
-        let (usable, pairs) = self.usable_rows(ctx, chunk, src, tgt, ids);
+        let (usable, pairs) = self.usable_rows(ctx, chunk, (src, tgt), ids, &checker.rules);
         let cols = [last_c, first_c, set_c, min_c];
         self.fields_and_ids(ctx, chunk, (ids, checker), cols, (&usable, &pairs))?;
         let (frame, meta, m) = (&chunk.frame, ctx.meta, ctx.mapping);
-        keep_extra_columns(&mut self.extras, frame, meta, m, &usable, self.keys.len())?;
+        keep_extra_columns(
+            &mut self.extras,
+            (frame, meta, m),
+            &checker.rules,
+            &usable,
+            self.keys.len(),
+        )?;
         if let Some(c) = m.get("transmission") {
             self.read_links(ctx, chunk, checker, c, &usable)?;
         }
@@ -263,7 +274,7 @@ impl ExposureRows {
         chunk: &Chunk,
         (ids, checker): (&mut IdMap, &mut FieldChecker),
         [last_c, first_c, set_c, min_c]: [Option<usize>; 4],
-        (usable, pairs): (&[u32], &[(&str, &str)]),
+        (usable, pairs): (&[u32], &[IdPair]),
     ) -> Result<()> {
         let (frame, meta, m, n) = (&chunk.frame, ctx.meta, ctx.mapping, chunk.frame.height());
         // Stages B (field checks) and C (interning IDs) touch disjoint data, so they run on
@@ -284,7 +295,7 @@ impl ExposureRows {
         let intern = |keys: &mut Vec<u64>, forward: &mut Vec<bool>, ids: &mut IdMap| {
             keys.reserve(pairs.len());
             forward.reserve(pairs.len());
-            for &(s, t) in pairs {
+            for (s, t) in pairs {
                 let (a, _) = ids.intern(s);
                 let (b, _) = ids.intern(t);
                 let (lo, hi) = if a < b { (a, b) } else { (b, a) };
@@ -333,7 +344,12 @@ impl ExposureRows {
                 continue;
             }
             next.next();
-            let flag = match trimmed(v).map(str::to_ascii_lowercase).as_deref() {
+            let flag = match checker
+                .rules
+                .value(v)
+                .map(str::to_ascii_lowercase)
+                .as_deref()
+            {
                 None | Some("no" | "n" | "false" | "f" | "0") => 0,
                 Some("yes" | "y" | "true" | "t" | "1") => 1,
                 Some(other) => {
@@ -366,25 +382,35 @@ impl ExposureRows {
         &mut self,
         ctx: &mut FileCtx,
         chunk: &Chunk,
-        src: &'a StringChunked,
-        tgt: &'a StringChunked,
+        (src, tgt): (&'a StringChunked, &'a StringChunked),
         ids: &IdMap,
-    ) -> (Vec<u32>, Vec<(&'a str, &'a str)>) {
+        rules: &Rules,
+    ) -> (Vec<u32>, Vec<IdPair<'a>>) {
         let (frame, n) = (&chunk.frame, src.len());
         let mut usable: Vec<u32> = Vec::with_capacity(n);
-        let mut pairs: Vec<(&str, &str)> = Vec::with_capacity(n);
+        let mut pairs: Vec<IdPair> = Vec::with_capacity(n);
         for (row, (s, t)) in src.iter().zip(tgt.iter()).enumerate() {
             ctx.counts.read += 1;
-            let (s, t) = (trimmed(s), trimmed(t));
-            let reason = match (s, t) {
-                (None, _) => QuarantineReason::MissingId {
+            let reason = match (rules.id(s), rules.id(t)) {
+                (IdValue::Blank, _) => QuarantineReason::MissingId {
                     field: "source_id".into(),
                 },
-                (_, None) => QuarantineReason::MissingId {
+                (IdValue::Code(c), _) => QuarantineReason::MissingValueCode {
+                    field: "source_id".into(),
+                    code: c.into(),
+                },
+                (_, IdValue::Blank) => QuarantineReason::MissingId {
                     field: "target_id".into(),
                 },
-                (Some(a), Some(b)) if ids.same(a, b) => QuarantineReason::SelfExposure,
-                (Some(a), Some(b)) => {
+                (_, IdValue::Code(c)) => QuarantineReason::MissingValueCode {
+                    field: "target_id".into(),
+                    code: c.into(),
+                },
+                (IdValue::Id(a, _), IdValue::Id(b, _)) if ids.same(&a, &b) => {
+                    QuarantineReason::SelfExposure
+                }
+                (IdValue::Id(a, ca), IdValue::Id(b, cb)) => {
+                    ctx.counts.ids_normalised += u64::from(ca) + u64::from(cb);
                     usable.push(row as u32);
                     pairs.push((a, b));
                     continue;

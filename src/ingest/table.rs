@@ -4,12 +4,11 @@
 //! Rows that cannot be split into the table's columns (wrong number of fields) never reach a
 //! frame: they are returned as [`Rejected`] with their line, so that nothing is lost.
 
-use std::fs::File;
-use std::io::Read;
 use std::path::{Path, PathBuf};
 
 use polars::prelude::*;
 
+use super::decode::{self, Bytes, EncodingSetting, EncodingUsed, Limits};
 use super::sniff::{self, Separator};
 use crate::config::Config;
 use crate::error::{Error, Result};
@@ -124,6 +123,8 @@ pub struct TableMeta {
     pub unit: &'static str,
     /// True for spreadsheets, whose numeric cells in date columns are serial dates.
     pub excel_serials: bool,
+    /// The text encoding read and how it was decided (delimited text only).
+    pub encoding: Option<EncodingUsed>,
 }
 
 /// Options from the command line that affect reading.
@@ -155,22 +156,10 @@ struct TextBody {
     data_line: u64,
     sep: Separator,
     comment: Vec<u8>,
-}
-
-/// File contents: memory-mapped, or decompressed into memory.
-enum Bytes {
-    Mapped(memmap2::Mmap),
-    Owned(Vec<u8>),
-}
-
-impl std::ops::Deref for Bytes {
-    type Target = [u8];
-    fn deref(&self) -> &[u8] {
-        match self {
-            Bytes::Mapped(m) => m,
-            Bytes::Owned(v) => v,
-        }
-    }
+    /// Lines set aside while decoding for their length.
+    long_lines: Vec<Rejected>,
+    /// Lines longer than this are set aside by the line scan.
+    max_line: usize,
 }
 
 /// Default number of bytes of text handed to polars at once (bounds peak memory).
@@ -205,6 +194,36 @@ impl Table {
         }
     }
 
+    /// The values of the first `n` data rows (before any check), for deciding a file's role.
+    pub fn sample_rows(&self, n: usize) -> Vec<Vec<String>> {
+        match &self.body {
+            Body::Frame(frame, _, _) => {
+                let cols: Vec<Option<&StringChunked>> =
+                    frame.columns().iter().map(|c| c.str().ok()).collect();
+                (0..frame.height().min(n))
+                    .map(|r| {
+                        cols.iter()
+                            .map(|c| c.and_then(|c| c.get(r)).unwrap_or("").to_string())
+                            .collect()
+                    })
+                    .collect()
+            }
+            Body::Text(b) => {
+                let region = &b.bytes[b.data_start.min(b.bytes.len())..];
+                sniff::lines(region)
+                    .map(|(_, l)| sniff::trim_cr(l))
+                    .filter(|l| {
+                        l.len() <= b.max_line
+                            && !sniff::is_blank(l)
+                            && !sniff::is_comment(l, &b.comment)
+                    })
+                    .take(n)
+                    .map(|l| sniff::split_fields(l, b.sep))
+                    .collect()
+            }
+        }
+    }
+
     /// Deliver every row in chunks; return the rows rejected for their shape.
     pub fn read(
         self,
@@ -221,41 +240,41 @@ impl Table {
     }
 }
 
-fn load_bytes(path: &Path) -> Result<Bytes> {
-    let file = File::open(path).map_err(|e| Error::io(path, e))?;
-    let mut magic = [0u8; 2];
-    let gz =
-        (&file).read(&mut magic).map_err(|e| Error::io(path, e))? == 2 && magic == [0x1f, 0x8b];
-    if gz {
-        let file = File::open(path).map_err(|e| Error::io(path, e))?;
-        let mut out = Vec::new();
-        flate2::read::MultiGzDecoder::new(std::io::BufReader::new(file))
-            .read_to_end(&mut out)
-            .map_err(|e| Error::format(path, format!("not a readable gzip file: {e}")))?;
-        return Ok(Bytes::Owned(out));
-    }
-    let len = file.metadata().map_err(|e| Error::io(path, e))?.len();
-    if len == 0 {
-        return Ok(Bytes::Owned(Vec::new()));
-    }
-    // SAFETY: the map is read-only and private to this process; a file truncated underneath a
-    // running load is outside what hubwatch can defend against (as for any mmap reader).
-    let map = unsafe { memmap2::Mmap::map(&file) }.map_err(|e| Error::io(path, e))?;
-    Ok(Bytes::Mapped(map))
+/// The encoding setting and limits of the configuration.
+fn reading(config: &Config) -> Result<(EncodingSetting, Limits)> {
+    Ok((
+        EncodingSetting::parse(&config.input.encoding)?,
+        Limits {
+            max_line_bytes: usize::try_from(config.input.max_line_bytes).unwrap_or(usize::MAX),
+            max_decompressed_bytes: config.input.max_decompressed_bytes,
+        },
+    ))
 }
 
 impl Table {
     /// Open delimited text held in memory (the built-in sample), shown under `name`.
     pub fn open_bytes(name: &Path, bytes: Vec<u8>, config: &Config) -> Result<Table> {
-        open_text_bytes(name, Bytes::Owned(bytes), config)
+        let (enc, limits) = reading(config)?;
+        open_text_bytes(
+            name,
+            decode::decode_owned(name, bytes, enc, limits)?,
+            config,
+        )
     }
 }
 
 fn open_text(path: &Path, config: &Config) -> Result<Table> {
-    open_text_bytes(path, load_bytes(path)?, config)
+    let (enc, limits) = reading(config)?;
+    open_text_bytes(path, decode::read_file(path, enc, limits)?, config)
 }
 
-fn open_text_bytes(path: &Path, bytes: Bytes, config: &Config) -> Result<Table> {
+fn open_text_bytes(path: &Path, decoded: decode::Decoded, config: &Config) -> Result<Table> {
+    let decode::Decoded {
+        bytes,
+        encoding,
+        long_lines,
+    } = decoded;
+    let max_line = usize::try_from(config.input.max_line_bytes).unwrap_or(usize::MAX);
     let start = if bytes.starts_with(sniff::BOM) {
         sniff::BOM.len()
     } else {
@@ -283,10 +302,13 @@ fn open_text_bytes(path: &Path, bytes: Bytes, config: &Config) -> Result<Table> 
             "the file is empty (no header and no rows)",
         ));
     };
-    if std::str::from_utf8(first_text).is_err() {
+    if first_text.len() > max_line {
         return Err(Error::format(
             path,
-            format!("line {first_line} is not valid UTF-8; save the file as UTF-8 and try again"),
+            format!(
+                "the first line ({first_line}) is {} bytes long, over the limit of {max_line} ([input] max_line_bytes): this is not a table",
+                first_text.len()
+            ),
         ));
     }
     let sep = match Separator::parse_setting(&config.csv.separator)? {
@@ -318,6 +340,7 @@ fn open_text_bytes(path: &Path, bytes: Bytes, config: &Config) -> Result<Table> 
         separator: Some(sep),
         unit: "line",
         excel_serials: false,
+        encoding: Some(encoding),
     };
     Ok(Table {
         meta,
@@ -327,6 +350,8 @@ fn open_text_bytes(path: &Path, bytes: Bytes, config: &Config) -> Result<Table> 
             data_line,
             sep,
             comment,
+            long_lines,
+            max_line,
         }),
     })
 }
@@ -370,7 +395,17 @@ fn read_text(
 ) -> Result<Vec<Rejected>> {
     let region = &body.bytes[body.data_start.min(body.bytes.len())..];
     let ncols = meta.columns.len();
-    let scan = scan_lines(region, body.data_line, ncols, body.sep, &body.comment);
+    let mut scan = scan_lines(
+        region,
+        body.data_line,
+        ncols,
+        (body.sep, body.max_line),
+        &body.comment,
+    );
+    if !body.long_lines.is_empty() {
+        scan.rejected.extend(body.long_lines.iter().cloned());
+        scan.rejected.sort_by_key(|r| r.line);
+    }
     let data: &[u8] = scan.clean.as_deref().unwrap_or(region);
     let sep_byte = match body.sep {
         Separator::Byte(b) => b,
@@ -445,12 +480,12 @@ fn scan_lines(
     region: &[u8],
     first_line: u64,
     ncols: usize,
-    sep: Separator,
+    (sep, max_line): (Separator, usize),
     comment: &[u8],
 ) -> Scan {
     let quoted = sep != Separator::Whitespace && memchr::memchr(b'"', region).is_some();
     let needs_rewrite = sep == Separator::Whitespace;
-    if !quoted && !needs_rewrite && fast_region_is_clean(region, ncols, sep, comment) {
+    if !quoted && !needs_rewrite && fast_region_is_clean(region, ncols, (sep, max_line), comment) {
         return Scan {
             clean: None,
             lines: None,
@@ -468,7 +503,16 @@ fn scan_lines(
         let (end, spanned) = record_end(region, pos, quoted);
         let raw = sniff::trim_cr(&region[pos..end]);
         let next = (end + 1).min(region.len().max(end + 1));
-        if !(sniff::is_blank(raw) || sniff::is_comment(raw, comment)) {
+        if raw.len() > max_line {
+            rejected.push(Rejected {
+                line: line_no,
+                reason: format!(
+                    "line of {} bytes, longer than the limit of {max_line} ([input] max_line_bytes); not read",
+                    raw.len()
+                ),
+                raw: String::from_utf8_lossy(&raw[..raw.len().min(200)]).into_owned(),
+            });
+        } else if !(sniff::is_blank(raw) || sniff::is_comment(raw, comment)) {
             let n = sniff::count_fields(raw, sep);
             if n == ncols {
                 lines.push(line_no);
@@ -531,13 +575,19 @@ fn record_end(region: &[u8], pos: usize, quoted: bool) -> (usize, u64) {
 
 /// The fast check for the common case (no quotes): every line non-blank, not a comment, with
 /// the right number of separators. Runs on two threads over the two halves of the region.
-fn fast_region_is_clean(region: &[u8], ncols: usize, sep: Separator, comment: &[u8]) -> bool {
+fn fast_region_is_clean(
+    region: &[u8],
+    ncols: usize,
+    (sep, max_line): (Separator, usize),
+    comment: &[u8],
+) -> bool {
     let Separator::Byte(s) = sep else {
         return false;
     };
     let check = |part: &[u8]| -> bool {
         sniff::lines(part).all(|(_, l)| {
             !l.is_empty()
+                && l.len() <= max_line
                 && !sniff::is_comment(l, comment)
                 && memchr::memchr_iter(s, l).count() + 1 == ncols
                 && !sniff::is_blank(l)

@@ -44,6 +44,8 @@ pub struct CheckReport<'a> {
     pub balanced: bool,
     /// Files of a folder that were not used, with the reason.
     pub ignored: Vec<(String, String)>,
+    /// Warnings: nothing changed, but worth a look.
+    pub warnings: &'a [crate::ingest::ledger::Warning],
 }
 
 /// Build the check report.
@@ -97,6 +99,7 @@ pub fn check_report(ledger: &Ledger) -> CheckReport<'_> {
             .iter()
             .map(|(p, w)| (p.display().to_string(), w.clone()))
             .collect(),
+        warnings: &ledger.warnings,
     }
 }
 
@@ -112,7 +115,7 @@ pub fn check_text(r: &CheckReport, as_of: &str) -> String {
             .collect();
         let _ = writeln!(
             s,
-            "  {:<9} {}\n            {}, {}; columns: {}",
+            "  {:<9} {}\n            {}, {}; columns: {}\n            role {}",
             f.role.name(),
             f.path.display(),
             f.format,
@@ -121,8 +124,19 @@ pub fn check_text(r: &CheckReport, as_of: &str) -> String {
             } else {
                 "no header line"
             },
-            map.join(" ")
+            map.join(" "),
+            f.role_by
         );
+        if let Some(e) = &f.encoding {
+            let _ = writeln!(s, "            encoding {e}");
+        }
+        if f.counts.ids_normalised > 0 {
+            let _ = writeln!(
+                s,
+                "            {} ID values put into Unicode NFC (same name, decomposed form)",
+                f.counts.ids_normalised
+            );
+        }
     }
     for (p, why) in &r.ignored {
         let _ = writeln!(s, "  ignored   {p}\n            {why}");
@@ -177,6 +191,12 @@ pub fn check_text(r: &CheckReport, as_of: &str) -> String {
                     );
                 }
             }
+        }
+    }
+    if !r.warnings.is_empty() {
+        let _ = writeln!(s, "\nWarnings (nothing was changed):");
+        for w in r.warnings {
+            let _ = writeln!(s, "  {}: {}", w.code, w.message);
         }
     }
     s

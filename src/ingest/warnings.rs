@@ -1,0 +1,143 @@
+//! Warnings of a load: nothing is changed, but a person should look. IDs that differ only by
+//! letter case, character width or spaces (probably one person typed two ways), and the test
+//! of whether an ID looks like a missing-value code (used with the contact counts, see
+//! `dataset`).
+
+use std::collections::HashMap;
+
+use unicode_normalization::UnicodeNormalization;
+
+use super::ledger::Warning;
+use crate::ids::IdMap;
+
+/// How many example groups a warning names.
+const EXAMPLES: usize = 5;
+
+/// The ID as compared for near-collisions: compatibility-normalised (full-width letters become
+/// plain ones), lower case, with every space removed.
+fn fold(id: &str) -> String {
+    if id.is_ascii() {
+        return id
+            .bytes()
+            .filter(|b| !b.is_ascii_whitespace())
+            .map(|b| b.to_ascii_lowercase() as char)
+            .collect();
+    }
+    id.nfkc()
+        .flat_map(char::to_lowercase)
+        .filter(|c| !c.is_whitespace())
+        .collect()
+}
+
+/// IDs that are different people to hubwatch but differ only by case, width or spaces.
+pub fn id_collisions(ids: &IdMap) -> Option<Warning> {
+    let mut first: HashMap<String, u32> = HashMap::with_capacity(ids.len());
+    let mut groups: Vec<(u32, Vec<u32>)> = Vec::new();
+    let mut group_of: HashMap<u32, usize> = HashMap::new();
+    for i in 0..ids.len() as u32 {
+        match first.entry(fold(ids.name(i))) {
+            std::collections::hash_map::Entry::Vacant(v) => {
+                v.insert(i);
+            }
+            std::collections::hash_map::Entry::Occupied(o) => {
+                let head = *o.get();
+                let g = *group_of.entry(head).or_insert_with(|| {
+                    groups.push((head, Vec::new()));
+                    groups.len() - 1
+                });
+                groups[g].1.push(i);
+            }
+        }
+    }
+    if groups.is_empty() {
+        return None;
+    }
+    let ids_involved: usize = groups.iter().map(|g| 1 + g.1.len()).sum();
+    let examples: Vec<String> = groups
+        .iter()
+        .take(EXAMPLES)
+        .map(|(h, rest)| {
+            std::iter::once(h)
+                .chain(rest)
+                .map(|&i| format!("\"{}\"", ids.name(i)))
+                .collect::<Vec<_>>()
+                .join(" / ")
+        })
+        .collect();
+    Some(Warning {
+        code: "ids_differ_only_by_case_width_or_spaces",
+        message: format!(
+            "{} groups of IDs ({ids_involved} IDs) differ only by letter case, character width or spaces, \
+             and are counted as different people: {}{}. If each group is one person, correct the export \
+             (or use --ids-ignore-case for letter case)",
+            groups.len(),
+            examples.join("; "),
+            if groups.len() > EXAMPLES { "; …" } else { "" }
+        ),
+        count: groups.len() as u64,
+    })
+}
+
+/// True when an ID reads like a placeholder for "unknown": all nines or all zeros, a question
+/// mark, a dash, or a word such as unknown, none, missing (common practice, no source).
+pub fn looks_like_code(id: &str) -> bool {
+    let t = id.trim();
+    if t.is_empty() {
+        return true;
+    }
+    if t.chars().all(|c| c == '9') || t.chars().all(|c| c == '0') {
+        return true;
+    }
+    if t.chars()
+        .all(|c| matches!(c, '?' | '-' | '.' | '_' | '*' | 'x' | 'X'))
+    {
+        return true;
+    }
+    let l = t.to_lowercase();
+    matches!(
+        l.as_str(),
+        "unknown"
+            | "unk"
+            | "none"
+            | "missing"
+            | "na"
+            | "n/a"
+            | "nan"
+            | "null"
+            | "nil"
+            | "not known"
+            | "no id"
+            | "noid"
+            | "anon"
+            | "anonymous"
+            | "other"
+            | "tbd"
+            | "n.a."
+    )
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn near_collisions_are_grouped() {
+        let mut ids = IdMap::new(true);
+        for s in ["P01", "p01", "Q 7", "Q7", "ＡＢ", "AB", "Z"] {
+            ids.intern(s);
+        }
+        let w = id_collisions(&ids).unwrap();
+        assert_eq!(w.count, 3, "{}", w.message);
+        assert!(w.message.contains("\"P01\" / \"p01\""), "{}", w.message);
+    }
+
+    #[test]
+    fn codes_are_recognised() {
+        for c in ["99", "999", "0", "?", "--", "Unknown", "N/A", "xx"] {
+            assert!(looks_like_code(c), "{c}");
+        }
+        for c in ["P99", "909", "Anna", "17"] {
+            assert!(!looks_like_code(c), "{c}");
+        }
+    }
+}
