@@ -4,7 +4,9 @@
 //! become actions ([`event`], keys through the one key table [`keys`]) that change the state
 //! ([`app`]); [`ui`] draws the state and
 //! computes nothing. The terminal is restored on quit, on error, on panic and on SIGTERM, SIGHUP
-//! or SIGINT.
+//! or SIGINT; a dashboard whose terminal goes away (session closed, connection dropped) exits
+//! within a second, as it does on those signals, even when reading the terminal hangs
+//! (see [`watchdog`]).
 
 pub mod app;
 pub mod event;
@@ -14,10 +16,11 @@ pub mod panes;
 pub mod state;
 pub mod theme;
 pub mod ui;
+pub mod watchdog;
 
 use std::io::IsTerminal;
 use std::path::PathBuf;
-use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::atomic::{AtomicUsize, Ordering};
 use std::sync::Arc;
 use std::time::Duration;
 
@@ -136,16 +139,18 @@ pub fn run(start: Start) -> Result<()> {
     let theme = Theme::pick(&model.theme, no_color());
     let model = Arc::new(model);
     app.shared = Some(Arc::clone(&model));
-    // Signals: ask the loop to stop, so the terminal is restored on the way out.
-    let stop = Arc::new(AtomicBool::new(false));
+    // Signals and a lost terminal: ask the loop to stop, so the terminal is restored on the way
+    // out; the watchdog ends the process if the loop cannot (a read of a dead terminal hangs).
+    let stop = Arc::new(AtomicUsize::new(0));
     for sig in [
         signal_hook::consts::SIGTERM,
         signal_hook::consts::SIGHUP,
         signal_hook::consts::SIGINT,
     ] {
-        signal_hook::flag::register(sig, Arc::clone(&stop))
+        signal_hook::flag::register_usize(sig, Arc::clone(&stop), sig as usize)
             .map_err(|e| Error::Usage(format!("cannot watch signals: {e}")))?;
     }
+    watchdog::start(Arc::clone(&stop), restore_terminal);
     // Panics: restore before the message is printed (the guard also runs while unwinding).
     let previous = std::panic::take_hook();
     std::panic::set_hook(Box::new(move |info| {
@@ -162,7 +167,7 @@ pub fn run(start: Start) -> Result<()> {
     app.act(&model, keys::Action::Resize(size.width, size.height));
     let mut dirty = true;
     let mut null_shown = model.null.get().is_some();
-    while !app.quit && !stop.load(Ordering::Relaxed) {
+    while !app.quit && stop.load(Ordering::Relaxed) == 0 {
         if dirty {
             terminal
                 .draw(|f| ui::draw(f, &model, &app, &theme))
@@ -177,7 +182,12 @@ pub fn run(start: Start) -> Result<()> {
             dirty = true;
         }
         let wait = if app.scope_pending.is_some() { 30 } else { 200 };
-        if !crossterm::event::poll(Duration::from_millis(wait)).map_err(io)? {
+        let ready = match crossterm::event::poll(Duration::from_millis(wait)) {
+            Ok(r) => r,
+            // A read error is the terminal going away: stop (the guard restores what it can).
+            Err(_) => break,
+        };
+        if !ready {
             // Redraw once when the background null model arrives.
             if !null_shown && model.null.get().is_some() {
                 null_shown = true;
@@ -185,7 +195,10 @@ pub fn run(start: Start) -> Result<()> {
             }
             continue;
         }
-        dirty = handle_event(&model, &mut app, crossterm::event::read().map_err(io)?);
+        match crossterm::event::read() {
+            Ok(ev) => dirty = handle_event(&model, &mut app, ev),
+            Err(_) => break,
+        }
     }
     drop(terminal);
     Ok(())

@@ -25,6 +25,7 @@ mod properties;
 mod reach;
 mod real_data;
 mod sentinel;
+mod terminal_loss;
 mod tmux;
 mod views;
 mod workspace;
