@@ -164,7 +164,7 @@ fn a_closed_pseudo_terminal_ends_the_dashboard() {
     // sends no signal; hubwatch must notice the hang-up itself.
     let mut master: libc::c_int = -1;
     let mut slave: libc::c_int = -1;
-    let mut ws = libc::winsize {
+    let ws = libc::winsize {
         ws_row: 40,
         ws_col: 120,
         ws_xpixel: 0,
@@ -177,7 +177,7 @@ fn a_closed_pseudo_terminal_ends_the_dashboard() {
             &mut slave,
             std::ptr::null_mut(),
             std::ptr::null_mut(),
-            &mut ws,
+            &ws,
         )
     };
     assert_eq!(rc, 0, "openpty");
