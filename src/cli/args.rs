@@ -159,7 +159,8 @@ pub enum Command {
         #[arg(long, value_name = "FILE")]
         workspace: Option<PathBuf>,
     },
-    /// Show the workspace: every person's state, people no longer in the export, the audit.
+    /// Show the workspace: every person's state, people no longer in the export, the audit;
+    /// or check it, or restore it from a daily backup.
     Workspace {
         /// Loading options and paths.
         #[command(flatten)]
@@ -170,6 +171,16 @@ pub enum Command {
         /// Print one JSON object instead of text.
         #[arg(long)]
         json: bool,
+        /// Run SQLite's integrity check and list the backups (exit status 4 when damaged).
+        #[arg(long, conflicts_with = "restore")]
+        check: bool,
+        /// Put a backup in place of the workspace (the newest, or --backup); the current file
+        /// is kept beside it as FILE.damaged-TIME.
+        #[arg(long)]
+        restore: bool,
+        /// The backup to restore (default: the newest in FILE.backups/).
+        #[arg(long, value_name = "FILE", requires = "restore")]
+        backup: Option<PathBuf>,
     },
     /// Write changes in a loop, printing each after it is committed (for the crash test).
     #[command(hide = true)]

@@ -97,7 +97,19 @@ pub fn run(cli: Cli) -> Result<()> {
             load,
             workspace,
             json,
-        }) => c::state::show(&load, workspace.as_deref(), json),
+            check,
+            restore,
+            backup,
+        }) => {
+            let path = load.workspace(workspace.as_deref());
+            if check {
+                c::state::check(&path, json)
+            } else if restore {
+                c::state::restore(&path, backup.as_deref())
+            } else {
+                c::state::show(&load, workspace.as_deref(), json)
+            }
+        }
         Some(Command::WorkspaceStress { workspace, count }) => c::state::stress(&workspace, count),
         Some(Command::Synth {
             people,

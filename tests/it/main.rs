@@ -15,6 +15,7 @@ mod errors;
 mod export;
 mod fits;
 mod formats;
+mod hostile;
 mod layers;
 mod ledger;
 mod metrics;

@@ -5,7 +5,7 @@ use std::path::Path;
 
 use crate::cli::{emit, to_json, LoadArgs};
 use crate::error::{Error, Result};
-use crate::workspace::{Workspace, FOLLOWUP_STATES};
+use crate::workspace::{backup, Workspace, FOLLOWUP_STATES};
 
 /// Load the export, check the person is in it, and open the workspace.
 fn open_for_person(
@@ -107,6 +107,61 @@ pub fn show(load: &LoadArgs, workspace: Option<&Path>, as_json: bool) -> Result<
         ));
     }
     emit(&s)
+}
+
+/// `hubwatch workspace --check`: SQLite's integrity check and the backups; a damaged workspace
+/// is an error (exit status 4) that names the backup to restore.
+pub fn check(path: &Path, as_json: bool) -> Result<()> {
+    if !path.exists() {
+        return Err(Error::NotFound {
+            path: path.to_path_buf(),
+        });
+    }
+    let ws = Workspace::open(path)?;
+    let verdict = ws.integrity()?;
+    let backups = backup::list(path);
+    if verdict != "ok" {
+        return Err(Error::format(path, backup::damaged_message(path, &verdict)));
+    }
+    let changes = ws.audit(None)?.len();
+    if as_json {
+        return emit(&to_json(&serde_json::json!({
+            "workspace": path,
+            "integrity": verdict,
+            "changes": changes,
+            "backups": backups,
+            "backup_problem": ws.backup_problem,
+        }))?);
+    }
+    let mut s = format!(
+        "workspace {}: integrity ok, {changes} changes audited\nbackups in {} (newest first, {} kept):\n",
+        path.display(),
+        backup::folder(path).display(),
+        backup::KEEP
+    );
+    for b in &backups {
+        s.push_str(&format!("  {}\n", b.display()));
+    }
+    if let Some(p) = &ws.backup_problem {
+        s.push_str(&format!("today's backup could not be made: {p}\n"));
+    }
+    emit(&s)
+}
+
+/// `hubwatch workspace --restore`: a backup in place of the workspace; nothing is deleted.
+pub fn restore(path: &Path, from: Option<&Path>) -> Result<()> {
+    let (used, aside) = backup::restore(path, from)?;
+    let ws = Workspace::open(path)?;
+    let changes = ws.audit(None)?.len();
+    emit(&format!(
+        "restored {} from {} ({changes} changes audited in it){}\n",
+        path.display(),
+        used.display(),
+        match aside {
+            Some(a) => format!("; the previous file is kept as {}", a.display()),
+            None => String::new(),
+        }
+    ))
 }
 
 /// Write changes in a loop, printing each after it is committed (for the crash test).

@@ -14,6 +14,8 @@ use serde::Serialize;
 use crate::error::{Error, Result};
 use crate::ids::IdMap;
 
+pub mod backup;
+
 /// File name used beside the export when no `--workspace` is given.
 pub const DEFAULT_NAME: &str = "hubwatch-workspace.sqlite";
 
@@ -25,6 +27,8 @@ pub struct Workspace {
     conn: Connection,
     /// Where it lives.
     pub path: PathBuf,
+    /// Why today's backup could not be made, if it could not (the work goes on).
+    pub backup_problem: Option<String>,
 }
 
 /// The lasting state of one person.
@@ -88,7 +92,16 @@ BEGIN SELECT RAISE(ABORT, 'the audit table is append-only'); END;
 ";
 
 fn db_err(path: &Path) -> impl Fn(rusqlite::Error) -> Error + '_ {
-    move |e| Error::format(path, format!("workspace: {e}"))
+    move |e| damage_or(path, e)
+}
+
+/// A workspace error: a damaged file says which backup to restore and how.
+fn damage_or(path: &Path, e: rusqlite::Error) -> Error {
+    if backup::is_damage(&e) {
+        Error::format(path, backup::damaged_message(path, &e.to_string()))
+    } else {
+        Error::format(path, format!("workspace: {e}"))
+    }
 }
 
 /// The user name recorded in the audit.
@@ -132,17 +145,38 @@ impl Workspace {
             o.open(path).map_err(|e| Error::write(path, e))?;
         }
         let conn = Connection::open(path).map_err(db_err(path))?;
-        conn.busy_timeout(std::time::Duration::from_secs(10))
-            .map_err(db_err(path))?;
-        conn.pragma_update(None, "journal_mode", "WAL")
-            .map_err(db_err(path))?;
-        conn.pragma_update(None, "synchronous", "FULL")
-            .map_err(db_err(path))?;
-        conn.execute_batch(SCHEMA).map_err(db_err(path))?;
+        let init = |c: &Connection| -> rusqlite::Result<()> {
+            c.busy_timeout(std::time::Duration::from_secs(10))?;
+            c.pragma_update(None, "journal_mode", "WAL")?;
+            c.pragma_update(None, "synchronous", "FULL")?;
+            c.execute_batch(SCHEMA)
+        };
+        init(&conn).map_err(|e| damage_or(path, e))?;
+        let backup_problem = Self::daily_backup(&conn, path)?;
         Ok(Workspace {
             conn,
             path: path.to_path_buf(),
+            backup_problem,
         })
+    }
+
+    /// Today's backup, once a day, of a workspace found sound by SQLite's quick check (a
+    /// damaged one is refused with the way back instead of being copied over a good backup).
+    fn daily_backup(conn: &Connection, path: &Path) -> Result<Option<String>> {
+        if backup::list(path).first().is_some_and(|b| {
+            b.file_stem().is_some_and(|s| {
+                *s.to_string_lossy() == *chrono::Utc::now().format("%Y-%m-%d").to_string()
+            })
+        }) {
+            return Ok(None);
+        }
+        let check: String = conn
+            .query_row("PRAGMA quick_check", [], |r| r.get(0))
+            .map_err(|e| damage_or(path, e))?;
+        if check != "ok" {
+            return Err(Error::format(path, backup::damaged_message(path, &check)));
+        }
+        Ok(backup::daily(conn, path).err().map(|e| e.to_string()))
     }
 
     /// The state of one person, if any was ever set.
