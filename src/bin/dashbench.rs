@@ -115,8 +115,16 @@ fn record(rows: &mut Vec<(String, Vec<f64>)>, name: &str, secs: f64) {
 
 /// Load, build the model and draw the first frame; print the open-to-first-frame time.
 fn open(dir: &Path, ws_dir: &Path) -> (std::sync::Arc<Model>, App, Bench) {
+    open_with(dir, ws_dir, &[])
+}
+
+fn open_with(dir: &Path, ws_dir: &Path, columns: &[String]) -> (std::sync::Arc<Model>, App, Bench) {
     let t = Instant::now();
-    let opts = LoadOptions::new(hubwatch::cli::today());
+    let mut opts = LoadOptions::new(hubwatch::cli::today());
+    opts.overrides = columns
+        .iter()
+        .map(|c| hubwatch::ingest::mapping::parse_override(c).expect("--column"))
+        .collect();
     let d =
         dataset::load(&[Input::Path(dir.to_path_buf())], &Config::default(), &opts).expect("load");
     let load_s = t.elapsed().as_secs_f64();
@@ -363,10 +371,25 @@ struct Args {
     /// Where the exports are written (and reused).
     #[arg(long, default_value = "bench-data")]
     dir: PathBuf,
+    /// Only open this export to its first frame and exit (timed from outside as a whole
+    /// process by the peer benchmark).
+    #[arg(long, value_name = "DIR")]
+    first_frame: Option<PathBuf>,
+    /// Column mapping for --first-frame, as for hubwatch (repeatable).
+    #[arg(long = "column", value_name = "FIELD=HEADER")]
+    columns: Vec<String>,
 }
 
 fn main() {
     let args = <Args as clap::Parser>::parse();
+    if let Some(dir) = &args.first_frame {
+        let ws = tempfile_dir();
+        let _ = open_with(dir, &ws, &args.columns);
+        let _ = std::fs::remove_dir_all(ws);
+        // The null model may still run on a worker: leave without waiting, as a user would
+        // see the frame.
+        std::process::exit(0);
+    }
     for rows in args.sizes {
         let dir = args.dir.join(format!("synth-{rows}"));
         ensure(&dir, rows);
