@@ -57,6 +57,7 @@ struct Run {
 }
 
 /// Run a command to completion with its output in `out`; the kernel's figures for it.
+#[allow(clippy::zombie_processes)] // reaped by wait4 below
 fn run(cmd: &mut Command, out: &Path) -> Run {
     let t = Instant::now();
     let child = cmd
