@@ -3,7 +3,7 @@
 //! of whether an ID looks like a missing-value code (used with the contact counts, see
 //! `dataset`).
 
-use std::collections::HashMap;
+use hashbrown::HashMap;
 
 use unicode_normalization::UnicodeNormalization;
 
@@ -29,25 +29,52 @@ fn fold(id: &str) -> String {
         .collect()
 }
 
+/// A hash of the folded ID, without building the folded text for plain ASCII IDs.
+fn fold_hash(id: &str, state: &foldhash::fast::FixedState) -> u64 {
+    use std::hash::{BuildHasher, Hasher};
+    let mut h = state.build_hasher();
+    if id.is_ascii() {
+        let mut buf = [0u8; 64];
+        let mut n = 0;
+        for b in id.bytes().filter(|b| !b.is_ascii_whitespace()) {
+            if n == buf.len() {
+                h.write(&buf);
+                n = 0;
+            }
+            buf[n] = b.to_ascii_lowercase();
+            n += 1;
+        }
+        h.write(&buf[..n]);
+    } else {
+        h.write(fold(id).as_bytes());
+    }
+    h.finish()
+}
+
 /// IDs that are different people to hubwatch but differ only by case, width or spaces.
 pub fn id_collisions(ids: &IdMap) -> Option<Warning> {
-    let mut first: HashMap<String, u32> = HashMap::with_capacity(ids.len());
+    let state = foldhash::fast::FixedState::with_seed(7);
+    // Folded hash -> the first ID with it; equal hashes are confirmed on the folded text.
+    let mut first: HashMap<u64, u32> = HashMap::with_capacity(ids.len());
     let mut groups: Vec<(u32, Vec<u32>)> = Vec::new();
     let mut group_of: HashMap<u32, usize> = HashMap::new();
     for i in 0..ids.len() as u32 {
-        match first.entry(fold(ids.name(i))) {
-            std::collections::hash_map::Entry::Vacant(v) => {
+        let h = fold_hash(ids.name(i), &state);
+        let head = match first.entry(h) {
+            hashbrown::hash_map::Entry::Vacant(v) => {
                 v.insert(i);
+                continue;
             }
-            std::collections::hash_map::Entry::Occupied(o) => {
-                let head = *o.get();
-                let g = *group_of.entry(head).or_insert_with(|| {
-                    groups.push((head, Vec::new()));
-                    groups.len() - 1
-                });
-                groups[g].1.push(i);
-            }
+            hashbrown::hash_map::Entry::Occupied(o) => *o.get(),
+        };
+        if fold(ids.name(head)) != fold(ids.name(i)) {
+            continue; // a hash collision, not a near-duplicate (rare; not reported)
         }
+        let g = *group_of.entry(head).or_insert_with(|| {
+            groups.push((head, Vec::new()));
+            groups.len() - 1
+        });
+        groups[g].1.push(i);
     }
     if groups.is_empty() {
         return None;
