@@ -616,3 +616,98 @@ fn roles_from_the_command_line_reach_the_library() {
     .unwrap();
     assert_eq!(d.ledger.files[0].role_by, "given: --exposures");
 }
+
+#[test]
+fn broken_files_get_a_clear_error_with_status_4() {
+    let dir = tempfile::tempdir().unwrap();
+    // A gzip stream cut in half.
+    let mut e = flate2::write::GzEncoder::new(Vec::new(), flate2::Compression::fast());
+    for i in 0..2000 {
+        e.write_all(format!("A{i},B{i}\n").as_bytes()).unwrap();
+    }
+    let gz = e.finish().unwrap();
+    let cut = write(dir.path(), "cut.csv.gz", &gz[..gz.len() / 2]);
+    // Bytes that are no spreadsheet, no Parquet file; a binary file; an empty file.
+    let noise: Vec<u8> = (0..4096u32)
+        .map(|i| (i.wrapping_mul(2654435761) >> 13) as u8)
+        .collect();
+    let xlsx = write(dir.path(), "bad.xlsx", &noise);
+    let parquet = write(dir.path(), "bad.parquet", &noise);
+    let binary = write(
+        dir.path(),
+        "bin.csv",
+        &[&[0u8, 1, 2, 0, 255, 254][..], &noise].concat(),
+    );
+    let empty = write(dir.path(), "empty.csv", b"");
+    for (p, expect) in [
+        (&cut, "not a readable gzip file"),
+        (&xlsx, "bad.xlsx"),
+        (&parquet, "bad.parquet"),
+        (&binary, "bin.csv"),
+        (&empty, "the file is empty"),
+    ] {
+        let (code, _, err) = hubwatch(&["check", p.to_str().unwrap()]);
+        assert_eq!(code, 4, "{}: {err}", p.display());
+        assert!(
+            err.contains(expect) && err.lines().count() == 1,
+            "{}: {err}",
+            p.display()
+        );
+    }
+}
+
+#[test]
+fn a_symlink_at_the_output_path_is_replaced_not_followed() {
+    let dir = tempfile::tempdir().unwrap();
+    let victim = write(dir.path(), "victim.txt", b"keep me");
+    let out = dir.path().join("list.csv");
+    std::os::unix::fs::symlink(&victim, &out).unwrap();
+    let (code, _, err) = hubwatch(&[
+        "export",
+        "--out",
+        out.to_str().unwrap(),
+        "--force",
+        "--as-of",
+        "2026-11-28",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    assert_eq!(std::fs::read(&victim).unwrap(), b"keep me");
+    assert!(!std::fs::symlink_metadata(&out)
+        .unwrap()
+        .file_type()
+        .is_symlink());
+}
+
+#[test]
+fn four_concurrent_writers_lose_nothing() {
+    let dir = tempfile::tempdir().unwrap();
+    let ws = dir.path().join("ws.sqlite");
+    hubwatch::workspace::Workspace::open(&ws).unwrap();
+    let handles: Vec<_> = (0..4)
+        .map(|w| {
+            let ws = ws.clone();
+            std::thread::spawn(move || {
+                for i in 0..25 {
+                    let (code, _, err) = hubwatch(&[
+                        "note",
+                        "--person",
+                        "P0000089",
+                        "--text",
+                        &format!("writer {w} note {i}"),
+                        "--workspace",
+                        ws.to_str().unwrap(),
+                        "--as-of",
+                        "2026-11-28",
+                    ]);
+                    assert_eq!(code, 0, "{err}");
+                }
+            })
+        })
+        .collect();
+    for h in handles {
+        h.join().unwrap();
+    }
+    let w = hubwatch::workspace::Workspace::open(&ws).unwrap();
+    assert_eq!(w.audit(None).unwrap().len(), 100);
+    assert_eq!(w.integrity().unwrap(), "ok");
+}
