@@ -98,10 +98,20 @@ pub fn read_file(path: &Path, setting: EncodingSetting, limits: Limits) -> Resul
             long_lines: Vec::new(),
         });
     }
-    let (enc, how) = decide(path, &map, setting)?;
-    let mut out = Vec::with_capacity(map.len() + map.len() / 8);
+    decode_all(path, &map, setting, limits)
+}
+
+/// Decide the encoding of bytes that are not plain UTF-8 and decode them whole.
+fn decode_all(
+    path: &Path,
+    bytes: &[u8],
+    setting: EncodingSetting,
+    limits: Limits,
+) -> Result<Decoded> {
+    let (enc, how) = decide(path, bytes, setting)?;
+    let mut out = Vec::with_capacity(bytes.len() + bytes.len() / 8);
     let mut filter = LineFilter::new(limits.max_line_bytes);
-    decode_into(&map, enc, &mut out, &mut filter);
+    decode_into(bytes, enc, &mut out, &mut filter);
     Ok(Decoded {
         bytes: Bytes::Owned(out),
         encoding: how,
@@ -128,15 +138,7 @@ pub fn decode_owned(
             long_lines,
         });
     }
-    let (enc, how) = decide(path, &bytes, setting)?;
-    let mut out = Vec::with_capacity(bytes.len() + bytes.len() / 8);
-    let mut filter = LineFilter::new(limits.max_line_bytes);
-    decode_into(&bytes, enc, &mut out, &mut filter);
-    Ok(Decoded {
-        bytes: Bytes::Owned(out),
-        encoding: how,
-        long_lines: filter.finish(),
-    })
+    decode_all(path, &bytes, setting, limits)
 }
 
 /// The fast path: when the setting allows UTF-8 and the bytes are UTF-8 without a UTF-16

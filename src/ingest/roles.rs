@@ -22,6 +22,17 @@ pub(super) struct Planned {
     pub role_by: String,
 }
 
+impl Planned {
+    fn new(table: Table, role: Role, mapping: Mapping, role_by: String) -> Planned {
+        Planned {
+            table,
+            role,
+            mapping,
+            role_by,
+        }
+    }
+}
+
 /// A table opened from the inputs; `in_folder` tables may be skipped when unrecognised.
 pub(super) struct Opened {
     table: Table,
@@ -171,12 +182,7 @@ fn given(
             table.meta.headerless,
         ));
     }
-    Ok(Planned {
-        table,
-        role,
-        mapping,
-        role_by: how,
-    })
+    Ok(Planned::new(table, role, mapping, how))
 }
 
 /// A table no role fits: the reason shown when a folder's file is ignored, and the error
@@ -214,12 +220,7 @@ fn by_columns(
             exp.column_name(cols, s),
             exp.column_name(cols, t)
         );
-        return Ok(Ok(Planned {
-            table,
-            role: Role::Exposures,
-            mapping: exp,
-            role_by,
-        }));
+        return Ok(Ok(Planned::new(table, Role::Exposures, exp, role_by)));
     }
     let ppl = mapping::resolve(cols, config, overrides, &PEOPLE_FIELDS);
     if let Some(p) = ppl.get("person_id") {
@@ -228,12 +229,7 @@ fn by_columns(
                 "by its columns: person_id ({}) mapped, no source and target",
                 ppl.column_name(cols, p)
             );
-            return Ok(Ok(Planned {
-                table,
-                role: Role::People,
-                mapping: ppl,
-                role_by,
-            }));
+            return Ok(Ok(Planned::new(table, Role::People, ppl, role_by)));
         }
     }
     let missing = if exp.get("source_id").is_none() {

@@ -96,6 +96,20 @@ fn in_tmux(dir: &Path, args: &str) -> (PathBuf, u32) {
     (socket, pid.trim().parse().unwrap())
 }
 
+/// The dashboard on a busy export in tmux; (socket, pid).
+fn busy_dashboard(dir: &Path) -> (PathBuf, u32) {
+    let export = busy_export(dir);
+    let ws = dir.join("ws.sqlite");
+    in_tmux(
+        dir,
+        &format!(
+            "dashboard '{}' --as-of 2026-12-01 --workspace '{}'",
+            export.display(),
+            ws.display()
+        ),
+    )
+}
+
 fn kill_server(socket: &Path) {
     let _ = Command::new("tmux")
         .arg("-S")
@@ -111,16 +125,7 @@ fn a_killed_tmux_session_ends_the_dashboard() {
         return;
     }
     let dir = tempfile::tempdir().unwrap();
-    let export = busy_export(dir.path());
-    let ws = dir.path().join("ws.sqlite");
-    let (socket, pid) = in_tmux(
-        dir.path(),
-        &format!(
-            "dashboard '{}' --as-of 2026-12-01 --workspace '{}'",
-            export.display(),
-            ws.display()
-        ),
-    );
+    let (socket, pid) = busy_dashboard(dir.path());
     kill_server(&socket);
     let secs = time_to_exit(pid, 5.0);
     assert!(
@@ -137,16 +142,7 @@ fn sigterm_ends_a_busy_dashboard() {
         return;
     }
     let dir = tempfile::tempdir().unwrap();
-    let export = busy_export(dir.path());
-    let ws = dir.path().join("ws.sqlite");
-    let (socket, pid) = in_tmux(
-        dir.path(),
-        &format!(
-            "dashboard '{}' --as-of 2026-12-01 --workspace '{}'",
-            export.display(),
-            ws.display()
-        ),
-    );
+    let (socket, pid) = busy_dashboard(dir.path());
     let ok = Command::new("kill")
         .args(["-TERM", &pid.to_string()])
         .status()
