@@ -86,7 +86,9 @@ fn digits(b: &[u8]) -> Option<u32> {
     if b.is_empty() || !b.iter().all(u8::is_ascii_digit) {
         return None;
     }
-    Some(b.iter().fold(0u32, |a, d| a * 10 + u32::from(d - b'0')))
+    // Checked: a long run of digits is no day, month or year (found by fuzzing).
+    b.iter()
+        .try_fold(0u32, |a, d| a.checked_mul(10)?.checked_add(u32::from(d - b'0')))
 }
 
 /// `YYYY-MM-DD`, optionally followed by `T` or a space and a time (ignored).

@@ -711,3 +711,18 @@ fn four_concurrent_writers_lose_nothing() {
     assert_eq!(w.audit(None).unwrap().len(), 100);
     assert_eq!(w.integrity().unwrap(), "ok");
 }
+
+/// Regressions found by fuzzing (fuzz/fuzz_targets), each named for what it found.
+mod fuzz_regressions {
+    use hubwatch::ingest::dates::{self, DateParser};
+
+    #[test]
+    fn fields_a_date_with_a_huge_year_part_does_not_overflow() {
+        // fields target, crash-e9e76030…: "///000000100000000006" with the %m/%d/%Y layout; the
+        // ambiguity check multiplied the year's digits without a bound.
+        let v = "//000000100000000006";
+        assert!(dates::ambiguity_message(&[v, v, v]).is_none());
+        assert!(DateParser::new("%m/%d/%Y", false).parse(v).is_err());
+        assert!(dates::parse_iso("99999999999-01-01").is_err());
+    }
+}
