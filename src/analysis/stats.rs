@@ -105,6 +105,30 @@ const MIXING_ATTRIBUTES: [&str; 2] = ["area", "age_group"];
 /// Compute every statistic.
 pub fn compute(d: &Dataset, opts: &MetricOptions) -> NetworkStats {
     let deg = graph::degrees(&d.graph);
+    // The walks of the graph's structure (triangles and cores) run on a second core while this
+    // one does the rest; each result is the same as computed alone.
+    std::thread::scope(|sc| {
+        let structure = sc.spawn(|| {
+            (
+                structure::clustering(&d.graph, &deg),
+                structure::core_numbers(&d.graph, &deg),
+            )
+        });
+        compute_rest(d, opts, &deg, || match structure.join() {
+            Ok(v) => v,
+            Err(p) => std::panic::resume_unwind(p),
+        })
+    })
+}
+
+/// Everything but the triangles and cores, which `structure` hands over when they are done
+/// (see [`compute`]).
+fn compute_rest(
+    d: &Dataset,
+    opts: &MetricOptions,
+    deg: &[u32],
+    structure: impl FnOnce() -> (structure::Clustering, Vec<u32>),
+) -> NetworkStats {
     let (a, b) = (&d.edges.a, &d.edges.b);
     let attribute_mixing = MIXING_ATTRIBUTES
         .iter()
@@ -155,28 +179,37 @@ pub fn compute(d: &Dataset, opts: &MetricOptions) -> NetworkStats {
             (label.clone(), mixing::assortativity(&sa, &sb, &sd))
         })
         .collect();
-    let degree = degree::degree_stats(&deg);
+    let degree = degree::degree_stats(deg);
+    let cases = super::casedata::case_stats(d);
+    let fits = fit_degrees(&degree.histogram);
+    let neighbours = neighbours::neighbours(&d.graph, deg);
+    let r = mixing::assortativity(a, b, deg);
+    let r_se = mixing::jackknife_se(a, b, deg);
+    let null = mixing::null_model(
+        a,
+        b,
+        deg,
+        opts.null_replicates,
+        opts.null_swaps_per_edge,
+        opts.seed,
+    );
+    let bridges = structure::articulation_points(&d.graph);
+    let components = graph::components(&d.graph);
+    let (clustering, cores) = structure();
     NetworkStats {
-        cases: super::casedata::case_stats(d),
-        fits: fit_degrees(&degree.histogram),
+        cases,
+        fits,
         degree,
-        neighbours: neighbours::neighbours(&d.graph, &deg),
-        r: mixing::assortativity(a, b, &deg),
-        r_se: mixing::jackknife_se(a, b, &deg),
-        null: mixing::null_model(
-            a,
-            b,
-            &deg,
-            opts.null_replicates,
-            opts.null_swaps_per_edge,
-            opts.seed,
-        ),
-        clustering: structure::clustering(&d.graph, &deg),
-        cores: structure::core_numbers(&d.graph, &deg),
-        bridges: structure::articulation_points(&d.graph),
-        components: graph::components(&d.graph),
+        neighbours,
+        r,
+        r_se,
+        null,
+        clustering,
+        cores,
+        bridges,
+        components,
         attribute_mixing,
         r_by_setting,
-        degrees: deg,
+        degrees: deg.to_vec(),
     }
 }

@@ -87,8 +87,9 @@ fn digits(b: &[u8]) -> Option<u32> {
         return None;
     }
     // Checked: a long run of digits is no day, month or year (found by fuzzing).
-    b.iter()
-        .try_fold(0u32, |a, d| a.checked_mul(10)?.checked_add(u32::from(d - b'0')))
+    b.iter().try_fold(0u32, |a, d| {
+        a.checked_mul(10)?.checked_add(u32::from(d - b'0'))
+    })
 }
 
 /// `YYYY-MM-DD`, optionally followed by `T` or a space and a time (ignored).
