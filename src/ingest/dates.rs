@@ -69,9 +69,9 @@ impl DateParser {
         match &self.format {
             None => parse_iso(v),
             Some(f) => match NaiveDate::parse_from_str(v, f) {
-                Ok(d) => Ok(to_days(d)),
+                Ok(d) => in_range(d),
                 Err(_) => match NaiveDateTime::parse_from_str(v, f) {
-                    Ok(dt) => Ok(to_days(dt.date())),
+                    Ok(dt) => in_range(dt.date()),
                     Err(e) if matches!(e.kind(), chrono::format::ParseErrorKind::OutOfRange) => {
                         Err(DateProblem::Impossible)
                     }
@@ -79,6 +79,16 @@ impl DateParser {
                 },
             },
         }
+    }
+}
+
+/// Years 1 to 9999 only: a layout such as %Y also reads "-2" or "12345" as a year, which no
+/// export means (found by fuzzing; such a date did not survive being written as ISO 8601).
+fn in_range(d: NaiveDate) -> Result<i32, DateProblem> {
+    if (1..=9999).contains(&d.year()) {
+        Ok(to_days(d))
+    } else {
+        Err(DateProblem::Impossible)
     }
 }
 

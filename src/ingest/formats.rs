@@ -59,9 +59,9 @@ fn meta(path: &Path, kind: FileKind, frame: &DataFrame, unit: &'static str) -> R
 /// Read a Parquet file; positions are 1-based record numbers.
 pub fn read_parquet(path: &Path) -> Result<Table> {
     let file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
-    let frame = ParquetReader::new(file)
-        .finish()
-        .map_err(polars_err(path))?;
+    let frame = guarded(path, "Parquet file", || {
+        ParquetReader::new(file).finish().map_err(polars_err(path))
+    })?;
     let frame = to_text_columns(path, frame)?;
     let meta = meta(path, FileKind::Parquet, &frame, "record")?;
     Ok(Table::from_frame(
@@ -97,11 +97,19 @@ pub fn read_ndjson(path: &Path) -> Result<Table> {
     if lines.is_empty() {
         return Err(Error::format(path, "the file is empty (no JSON lines)"));
     }
-    let frame = JsonReader::new(std::io::Cursor::new(clean))
+    let frame = guarded(path, "JSON lines file", || read_json_lines(path, clean))?;
+    finish_ndjson(path, frame, lines)
+}
+
+fn read_json_lines(path: &Path, clean: Vec<u8>) -> Result<DataFrame> {
+    JsonReader::new(std::io::Cursor::new(clean))
         .with_json_format(JsonFormat::JsonLines)
         .infer_schema_len(None)
         .finish()
-        .map_err(polars_err(path))?;
+        .map_err(polars_err(path))
+}
+
+fn finish_ndjson(path: &Path, frame: DataFrame, lines: Vec<u64>) -> Result<Table> {
     let frame = to_text_columns(path, frame)?;
     let meta = meta(path, FileKind::NdJson, &frame, "line")?;
     Ok(Table::from_frame(
@@ -163,6 +171,28 @@ fn pick_sheet(path: &Path, names: &[String], sheet: Option<&str>) -> Result<Stri
 /// Positions are the spreadsheet's own row numbers; fully empty rows are skipped; a row with
 /// values beyond the named columns is set aside with its row number.
 pub fn read_excel(path: &Path, sheet: Option<&str>) -> Result<Table> {
+    guarded(path, "spreadsheet", || read_excel_unguarded(path, sheet))
+}
+
+/// Run a third-party reader so that a panic inside it on a malformed file (it happens: one was
+/// found by fuzzing in the spreadsheet reader) becomes a clear error instead of a crash, with no
+/// panic message printed.
+pub(super) fn guarded<T>(path: &Path, what: &str, read: impl FnOnce() -> Result<T>) -> Result<T> {
+    let previous = std::panic::take_hook();
+    std::panic::set_hook(Box::new(|_| {}));
+    let out = std::panic::catch_unwind(std::panic::AssertUnwindSafe(read));
+    std::panic::set_hook(previous);
+    out.unwrap_or_else(|_| {
+        Err(Error::format(
+            path,
+            format!(
+                "not a readable {what}: the file is damaged or not in the format its name says"
+            ),
+        ))
+    })
+}
+
+fn read_excel_unguarded(path: &Path, sheet: Option<&str>) -> Result<Table> {
     let mut book = open_workbook_auto(path)
         .map_err(|e| Error::format(path, format!("not a readable spreadsheet: {e}")))?;
     let name = pick_sheet(path, &book.sheet_names(), sheet)?;

@@ -725,4 +725,42 @@ mod fuzz_regressions {
         assert!(DateParser::new("%m/%d/%Y", false).parse(v).is_err());
         assert!(dates::parse_iso("99999999999-01-01").is_err());
     }
+
+    #[test]
+    fn fields_a_negative_year_is_no_date() {
+        // fields target, crash-7b05148e…: "28/11/-2" with %d/%m/%Y read as the year -2, which
+        // then did not survive being written as ISO 8601.
+        let p = DateParser::new("%d/%m/%Y", false);
+        assert!(p.parse("28/11/-2").is_err());
+        assert!(p.parse("28/11/12345").is_err());
+        assert_eq!(
+            p.parse("28/11/2026").ok(),
+            dates::parse_iso("2026-11-28").ok()
+        );
+    }
+
+    #[test]
+    fn reader_a_damaged_spreadsheet_is_an_error_not_a_crash() {
+        // reader target, crash-3ead4fd9…: one flipped bit in an xlsx made the spreadsheet
+        // library index out of bounds; hubwatch now reports the file instead of panicking.
+        let bytes = std::fs::read(concat!(
+            env!("CARGO_MANIFEST_DIR"),
+            "/fuzz/corpus/reader/regression-xlsx-bit-flip"
+        ))
+        .unwrap();
+        let dir = tempfile::tempdir().unwrap();
+        let p = dir.path().join("x.xlsx");
+        std::fs::write(&p, &bytes[1..]).unwrap();
+        let (code, _, err) = crate::common::hubwatch(&[
+            "check",
+            p.to_str().unwrap(),
+            "--column",
+            "source_id=1",
+            "--column",
+            "target_id=2",
+        ]);
+        assert_eq!(code, 4, "{err}");
+        assert!(!err.contains("panicked"), "{err}");
+        assert!(err.contains("x.xlsx"), "{err}");
+    }
 }
