@@ -42,6 +42,12 @@ pub fn emit(text: &str) -> Result<()> {
     }
 }
 
+/// A command's large data once its output is written: the process is about to exit, so leave
+/// the memory to the operating system rather than freeing millions of allocations one by one.
+pub fn leave<T>(big: T) {
+    std::mem::forget(big);
+}
+
 /// Pretty JSON with a final newline.
 pub fn to_json<T: serde::Serialize>(v: &T) -> Result<String> {
     serde_json::to_string_pretty(v)

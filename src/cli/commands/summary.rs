@@ -1,7 +1,7 @@
 //! `hubwatch summary` (and the default action without a terminal): headline figures and every
 //! statistic, as text or as the JSON contract.
 
-use crate::cli::{emit, to_json, LoadArgs, StatsArgs};
+use crate::cli::{emit, leave, to_json, LoadArgs, StatsArgs};
 use crate::error::{Error, Result};
 use crate::report::{json, summary, Parts, Report};
 
@@ -13,7 +13,9 @@ pub fn run(load: &LoadArgs, stats: &StatsArgs, as_json: bool) -> Result<()> {
     };
     let r = Report::build(load.load()?, parts)?;
     if !as_json {
-        return emit(&summary::summary_text(&r.summary, &r.stats, &r.d));
+        emit(&summary::summary_text(&r.summary, &r.stats, &r.d))?;
+        leave(r);
+        return Ok(());
     }
     let mut v = serde_json::to_value(&r.summary)
         .map_err(|e| Error::Usage(format!("JSON output failed: {e}")))?;
@@ -27,5 +29,7 @@ pub fn run(load: &LoadArgs, stats: &StatsArgs, as_json: bool) -> Result<()> {
         }
         o.extend(extra);
     }
-    emit(&to_json(&v)?)
+    emit(&to_json(&v)?)?;
+    leave(r);
+    Ok(())
 }
