@@ -11,8 +11,7 @@
 //! processes, measures each run with the kernel's accounting (wall, user and system CPU, peak
 //! resident memory of the process), and prints medians and the median of the pairwise ratios;
 //! then the dashboard's first frame (`hubwatch-dashbench --first-frame`, whole process). It
-//! checks that both found the same people, contacts, r and components. Speed is never
-//! measured by a test: this runs by hand, outside CI.
+//! checks that both found the same people, contacts, r and components. Runs by hand, not in CI.
 
 use std::path::{Path, PathBuf};
 use std::process::{Command, Stdio};
@@ -192,7 +191,6 @@ fn one(args: &Args, dir: &Path) {
     );
     let _ = std::fs::remove_dir_all(&tmp);
 }
-
 fn main() {
     let args = <Args as clap::Parser>::parse();
     for dir in &args.data {

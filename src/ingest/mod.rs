@@ -13,6 +13,8 @@ pub mod mapping;
 pub mod reconcile;
 pub mod roles;
 pub mod rows;
+pub mod rules;
+pub mod scan;
 pub mod sniff;
 pub mod table;
 pub mod view;
@@ -228,9 +230,9 @@ fn join_columns(
 }
 
 /// The value rules of a load, from the configuration.
-pub fn rules(config: &Config, as_of: i32) -> reconcile::Rules {
+pub fn rules(config: &Config, as_of: i32) -> rules::Rules {
     let years = f64::from(config.dates.oldest_years);
-    reconcile::Rules::new(
+    rules::Rules::new(
         &config.input.missing_values,
         as_of.saturating_sub((years * 365.2425).round() as i32),
         config.input.max_duration_min,

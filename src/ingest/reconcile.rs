@@ -10,6 +10,7 @@ use polars::prelude::*;
 use super::dates::{self, DateParser, DateProblem};
 use super::ledger::{Counts, FieldProblem, ProblemKind, QuarantineReason, QuarantinedRow};
 use super::mapping::Mapping;
+pub use super::rules::{IdValue, Rules};
 use super::table::{Chunk, TableMeta};
 use crate::error::{Error, Result};
 use crate::ids::IdMap;
@@ -89,92 +90,6 @@ pub(super) fn values<'a>(col: Option<&'a StringChunked>, n: usize) -> Values<'a>
 
 pub(super) fn trimmed(v: Option<&str>) -> Option<&str> {
     v.map(str::trim).filter(|s| !s.is_empty())
-}
-
-/// What a value of an ID column holds.
-#[derive(Debug, Clone, PartialEq, Eq)]
-pub enum IdValue<'a> {
-    /// Empty or blank.
-    Blank,
-    /// One of the missing-value codes (as written, trimmed).
-    Code(&'a str),
-    /// An ID: trimmed, in Unicode NFC (the bool: normalisation changed it).
-    Id(std::borrow::Cow<'a, str>, bool),
-}
-
-/// Value rules shared by every table of a load: missing-value codes, ID normalisation, and
-/// the bounds of plausible dates and durations.
-#[derive(Debug, Clone)]
-pub struct Rules {
-    /// Missing-value codes, lower-cased.
-    missing: Vec<String>,
-    /// Longest code, in bytes (longer values are never codes).
-    longest: usize,
-    /// Day number of the oldest plausible date.
-    pub oldest_day: i32,
-    /// Largest plausible duration, minutes.
-    pub max_minutes: f64,
-}
-
-impl Rules {
-    /// Rules from the missing-value codes, the oldest plausible day and the largest duration.
-    pub fn new(codes: &[String], oldest_day: i32, max_minutes: f64) -> Rules {
-        let missing: Vec<String> = codes
-            .iter()
-            .map(|c| c.trim().to_lowercase())
-            .filter(|c| !c.is_empty())
-            .collect();
-        Rules {
-            longest: missing.iter().map(String::len).max().unwrap_or(0),
-            missing,
-            oldest_day,
-            max_minutes,
-        }
-    }
-
-    /// True when `v` (trimmed) is a missing-value code.
-    pub fn is_code(&self, v: &str) -> bool {
-        if v.len() > self.longest {
-            return false;
-        }
-        if v.is_ascii() {
-            return self.missing.iter().any(|c| v.eq_ignore_ascii_case(c));
-        }
-        let lower = v.to_lowercase();
-        self.missing.contains(&lower)
-    }
-
-    /// The value, trimmed; `None` when blank or a missing-value code.
-    pub fn value<'a>(&self, v: Option<&'a str>) -> Option<&'a str> {
-        trimmed(v).filter(|s| !self.is_code(s))
-    }
-
-    /// An ID value: blank, a missing-value code, or the ID trimmed and in NFC (UAX #15), so
-    /// that the same name typed in composed and decomposed form is one person.
-    pub fn id<'a>(&self, v: Option<&'a str>) -> IdValue<'a> {
-        let Some(s) = trimmed(v) else {
-            return IdValue::Blank;
-        };
-        if self.is_code(s) {
-            return IdValue::Code(s);
-        }
-        if s.is_ascii() {
-            return IdValue::Id(std::borrow::Cow::Borrowed(s), false);
-        }
-        use unicode_normalization::{is_nfc_quick, IsNormalized, UnicodeNormalization};
-        if is_nfc_quick(s.chars()) == IsNormalized::Yes {
-            return IdValue::Id(std::borrow::Cow::Borrowed(s), false);
-        }
-        let n: String = s.nfc().collect();
-        let changed = n != s;
-        IdValue::Id(std::borrow::Cow::Owned(n), changed)
-    }
-}
-
-impl Default for Rules {
-    fn default() -> Self {
-        Rules::new(&[], i32::MIN, f64::INFINITY)
-    }
 }
 
 /// The row's values comma-joined, for the quarantine report.
