@@ -121,16 +121,10 @@ pub fn compute(d: &Dataset, opts: &MetricOptions) -> NetworkStats {
     })
 }
 
-/// Everything but the triangles and cores, which `structure` hands over when they are done
-/// (see [`compute`]).
-fn compute_rest(
-    d: &Dataset,
-    opts: &MetricOptions,
-    deg: &[u32],
-    structure: impl FnOnce() -> (structure::Clustering, Vec<u32>),
-) -> NetworkStats {
+/// Mixing by each people attribute present (area, age group), groups in sorted order.
+fn attribute_mixing(d: &Dataset) -> Vec<(String, mixing::AttributeMixing)> {
     let (a, b) = (&d.edges.a, &d.edges.b);
-    let attribute_mixing = MIXING_ATTRIBUTES
+    MIXING_ATTRIBUTES
         .iter()
         .filter_map(|name| {
             let col = d.attrs.column(name)?;
@@ -158,9 +152,13 @@ fn compute_rest(
                 mixing::attribute_mixing(a, b, &group, names),
             ))
         })
-        .collect();
-    let r_by_setting = d
-        .settings
+        .collect()
+}
+
+/// Degree assortativity within each setting's own sub-network.
+fn r_by_setting(d: &Dataset) -> Vec<(String, Stat)> {
+    let (a, b) = (&d.edges.a, &d.edges.b);
+    d.settings
         .iter()
         .enumerate()
         .map(|(i, label)| {
@@ -178,7 +176,20 @@ fn compute_rest(
             }
             (label.clone(), mixing::assortativity(&sa, &sb, &sd))
         })
-        .collect();
+        .collect()
+}
+
+/// Everything but the triangles and cores, which `structure` hands over when they are done
+/// (see [`compute`]).
+fn compute_rest(
+    d: &Dataset,
+    opts: &MetricOptions,
+    deg: &[u32],
+    structure: impl FnOnce() -> (structure::Clustering, Vec<u32>),
+) -> NetworkStats {
+    let (a, b) = (&d.edges.a, &d.edges.b);
+    let attribute_mixing = attribute_mixing(d);
+    let r_by_setting = r_by_setting(d);
     let degree = degree::degree_stats(deg);
     let cases = super::casedata::case_stats(d);
     let fits = fit_degrees(&degree.histogram);

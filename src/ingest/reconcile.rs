@@ -363,6 +363,35 @@ impl PeopleBuilder {
         }
     }
 
+    /// The attribute column each file column fills (canonical name where mapped); the ID
+    /// column is the key, not an attribute, and is marked `usize::MAX`.
+    fn attribute_columns(&mut self, ctx: &FileCtx, id_col: usize) -> Vec<usize> {
+        // Attribute column of each file column (canonical name where mapped).
+        let names: Vec<String> = (0..ctx.meta.columns.len())
+            .map(|c| {
+                ctx.mapping
+                    .fields
+                    .iter()
+                    .find(|(_, &i)| i == c)
+                    .map(|(f, _)| f.clone())
+                    .unwrap_or_else(|| ctx.meta.columns[c].clone())
+            })
+            .collect();
+        let nodes = self.ids.len();
+        // The ID column is the key, not an attribute (usize::MAX marks it; it is skipped below).
+        names
+            .iter()
+            .enumerate()
+            .map(|(c, n)| {
+                if c == id_col {
+                    usize::MAX
+                } else {
+                    self.attrs.ensure_column(n, nodes)
+                }
+            })
+            .collect()
+    }
+
     /// Process one chunk of a people file.
     pub fn add_chunk(
         &mut self,
@@ -383,30 +412,7 @@ impl PeopleBuilder {
         if ctx.counts.read == 0 {
             checker.check_ambiguity(meta, frame, &date_cols)?;
         }
-        // Attribute column of each file column (canonical name where mapped).
-        let names: Vec<String> = (0..meta.columns.len())
-            .map(|c| {
-                ctx.mapping
-                    .fields
-                    .iter()
-                    .find(|(_, &i)| i == c)
-                    .map(|(f, _)| f.clone())
-                    .unwrap_or_else(|| meta.columns[c].clone())
-            })
-            .collect();
-        let nodes = self.ids.len();
-        // The ID column is the key, not an attribute (usize::MAX marks it; it is skipped below).
-        let attr_of: Vec<usize> = names
-            .iter()
-            .enumerate()
-            .map(|(c, n)| {
-                if c == id_col {
-                    usize::MAX
-                } else {
-                    self.attrs.ensure_column(n, nodes)
-                }
-            })
-            .collect();
+        let attr_of = self.attribute_columns(ctx, id_col);
         let cols: Vec<&StringChunked> = (0..meta.columns.len())
             .map(|c| text_column(frame, Some(c), &meta.path).map(|o| o.expect("some")))
             .collect::<Result<_>>()?;

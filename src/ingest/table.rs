@@ -269,6 +269,34 @@ fn open_text(path: &Path, config: &Config) -> Result<Table> {
     open_text_bytes(path, decode::read_file(path, enc, limits)?, config)
 }
 
+/// The first content line: byte offset, 1-based line, its text.
+type FirstLine<'a> = (usize, u64, &'a [u8]);
+
+/// The first content line (offset, 1-based line, text) after blank and comment lines, and a
+/// sample of up to 64 content lines for detecting the separator.
+fn first_content<'a>(
+    bytes: &'a [u8],
+    start: usize,
+    comment: &[u8],
+) -> (Option<FirstLine<'a>>, Vec<&'a [u8]>) {
+    // Skip blank and comment lines before the first content line, and take a sample.
+    let mut first: Option<FirstLine> = None;
+    let mut sample: Vec<&[u8]> = Vec::new();
+    for (i, (off, line)) in sniff::lines(&bytes[start..]).enumerate() {
+        if sniff::is_blank(line) || sniff::is_comment(line, comment) {
+            continue;
+        }
+        if first.is_none() {
+            first = Some((start + off, i as u64 + 1, line));
+        }
+        sample.push(line);
+        if sample.len() >= 64 {
+            break;
+        }
+    }
+    (first, sample)
+}
+
 fn open_text_bytes(path: &Path, decoded: decode::Decoded, config: &Config) -> Result<Table> {
     let decode::Decoded {
         bytes,
@@ -282,21 +310,7 @@ fn open_text_bytes(path: &Path, decoded: decode::Decoded, config: &Config) -> Re
         0
     };
     let comment = config.csv.comment_prefix.as_bytes().to_vec();
-    // Skip blank and comment lines before the first content line, and take a sample.
-    let mut first: Option<(usize, u64, &[u8])> = None;
-    let mut sample: Vec<&[u8]> = Vec::new();
-    for (i, (off, line)) in sniff::lines(&bytes[start..]).enumerate() {
-        if sniff::is_blank(line) || sniff::is_comment(line, &comment) {
-            continue;
-        }
-        if first.is_none() {
-            first = Some((start + off, i as u64 + 1, line));
-        }
-        sample.push(line);
-        if sample.len() >= 64 {
-            break;
-        }
-    }
+    let (first, sample) = first_content(&bytes, start, &comment);
     let Some((first_off, first_line, first_text)) = first else {
         return Err(Error::format(
             path,
@@ -377,6 +391,39 @@ pub(super) fn check_unique_columns(path: &Path, columns: &[String]) -> Result<()
     Ok(())
 }
 
+/// Parse one piece of clean delimited text with polars, every column as text.
+fn parse_piece(
+    meta: &TableMeta,
+    piece: &[u8],
+    schema: &SchemaRef,
+    sep: Separator,
+) -> Result<DataFrame> {
+    // Whitespace runs were rewritten to single tabs by the line scan.
+    let sep_byte = match sep {
+        Separator::Byte(b) => b,
+        Separator::Whitespace => b'\t',
+    };
+    CsvReadOptions::default()
+        .with_has_header(false)
+        .with_schema(Some(schema.clone()))
+        .with_rechunk(false)
+        .map_parse_options(|p| {
+            p.with_separator(sep_byte)
+                .with_quote_char(if sep == Separator::Whitespace {
+                    None
+                } else {
+                    Some(b'"')
+                })
+                .with_missing_is_null(true)
+        })
+        .into_reader_with_file_handle(std::io::Cursor::new(piece))
+        .finish()
+        .map_err(|e| Error::Polars {
+            path: meta.path.clone(),
+            source: e,
+        })
+}
+
 fn read_text(
     meta: &TableMeta,
     body: TextBody,
@@ -397,10 +444,6 @@ fn read_text(
         scan.rejected.sort_by_key(|r| r.line);
     }
     let data: &[u8] = scan.clean.as_deref().unwrap_or(region);
-    let sep_byte = match body.sep {
-        Separator::Byte(b) => b,
-        Separator::Whitespace => b'\t',
-    };
     let schema: Schema = meta
         .columns
         .iter()
@@ -422,25 +465,7 @@ fn read_text(
                 .map_or(data.len(), |i| pos + chunk_bytes + i + 1)
         };
         let piece = &data[pos..end];
-        let frame = CsvReadOptions::default()
-            .with_has_header(false)
-            .with_schema(Some(schema.clone()))
-            .with_rechunk(false)
-            .map_parse_options(|p| {
-                p.with_separator(sep_byte)
-                    .with_quote_char(if body.sep == Separator::Whitespace {
-                        None
-                    } else {
-                        Some(b'"')
-                    })
-                    .with_missing_is_null(true)
-            })
-            .into_reader_with_file_handle(std::io::Cursor::new(piece))
-            .finish()
-            .map_err(|e| Error::Polars {
-                path: meta.path.clone(),
-                source: e,
-            })?;
+        let frame = parse_piece(meta, piece, &schema, body.sep)?;
         let n = frame.height();
         let lines = match &scan.lines {
             None => LineMap::Contiguous {

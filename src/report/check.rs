@@ -103,10 +103,8 @@ pub fn check_report(ledger: &Ledger) -> CheckReport<'_> {
     }
 }
 
-/// Plain-text rendering of the check report.
-pub fn check_text(r: &CheckReport, as_of: &str) -> String {
-    let mut s = String::new();
-    let _ = writeln!(s, "hubwatch check (as of {as_of})\n\nFiles:");
+/// Each file: role and how it was decided, format, mapping, encoding.
+fn write_files(s: &mut String, r: &CheckReport) {
     for f in r.files {
         let map: Vec<String> = f
             .mapping
@@ -114,7 +112,7 @@ pub fn check_text(r: &CheckReport, as_of: &str) -> String {
             .map(|(k, v)| format!("{k}=\"{v}\""))
             .collect();
         let _ = writeln!(
-            s,
+            *s,
             "  {:<9} {}\n            {}, {}; columns: {}\n            role {}",
             f.role.name(),
             f.path.display(),
@@ -128,16 +126,23 @@ pub fn check_text(r: &CheckReport, as_of: &str) -> String {
             f.role_by
         );
         if let Some(e) = &f.encoding {
-            let _ = writeln!(s, "            encoding {e}");
+            let _ = writeln!(*s, "            encoding {e}");
         }
         if f.counts.ids_normalised > 0 {
             let _ = writeln!(
-                s,
+                *s,
                 "            {} ID values put into Unicode NFC (same name, decomposed form)",
                 f.counts.ids_normalised
             );
         }
     }
+}
+
+/// Plain-text rendering of the check report.
+pub fn check_text(r: &CheckReport, as_of: &str) -> String {
+    let mut s = String::new();
+    let _ = writeln!(s, "hubwatch check (as of {as_of})\n\nFiles:");
+    write_files(&mut s, r);
     for (p, why) in &r.ignored {
         let _ = writeln!(s, "  ignored   {p}\n            {why}");
     }

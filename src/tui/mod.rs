@@ -115,6 +115,29 @@ impl Drop for Guard {
     }
 }
 
+/// Signals and a lost terminal ask the loop to stop (so the terminal is restored on the way
+/// out), and the watchdog ends the process if the loop cannot (a read of a dead terminal
+/// hangs); a panic restores the terminal before its message is printed.
+fn watch_signals() -> Result<Arc<AtomicUsize>> {
+    let stop = Arc::new(AtomicUsize::new(0));
+    for sig in [
+        signal_hook::consts::SIGTERM,
+        signal_hook::consts::SIGHUP,
+        signal_hook::consts::SIGINT,
+    ] {
+        signal_hook::flag::register_usize(sig, Arc::clone(&stop), sig as usize)
+            .map_err(|e| Error::Usage(format!("cannot watch signals: {e}")))?;
+    }
+    watchdog::start(Arc::clone(&stop), restore_terminal);
+    // Panics: restore before the message is printed (the guard also runs while unwinding).
+    let previous = std::panic::take_hook();
+    std::panic::set_hook(Box::new(move |info| {
+        restore_terminal();
+        previous(info);
+    }));
+    Ok(stop)
+}
+
 /// Open the dashboard.
 pub fn run(start: Start) -> Result<()> {
     if !interactive() {
@@ -139,24 +162,7 @@ pub fn run(start: Start) -> Result<()> {
     let theme = Theme::pick(&model.theme, no_color());
     let model = Arc::new(model);
     app.shared = Some(Arc::clone(&model));
-    // Signals and a lost terminal: ask the loop to stop, so the terminal is restored on the way
-    // out; the watchdog ends the process if the loop cannot (a read of a dead terminal hangs).
-    let stop = Arc::new(AtomicUsize::new(0));
-    for sig in [
-        signal_hook::consts::SIGTERM,
-        signal_hook::consts::SIGHUP,
-        signal_hook::consts::SIGINT,
-    ] {
-        signal_hook::flag::register_usize(sig, Arc::clone(&stop), sig as usize)
-            .map_err(|e| Error::Usage(format!("cannot watch signals: {e}")))?;
-    }
-    watchdog::start(Arc::clone(&stop), restore_terminal);
-    // Panics: restore before the message is printed (the guard also runs while unwinding).
-    let previous = std::panic::take_hook();
-    std::panic::set_hook(Box::new(move |info| {
-        restore_terminal();
-        previous(info);
-    }));
+    let stop = watch_signals()?;
     let io = |e: std::io::Error| Error::Usage(format!("terminal: {e}"));
     enable_raw_mode().map_err(io)?;
     let _guard = Guard;
