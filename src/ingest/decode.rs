@@ -111,7 +111,7 @@ fn decode_all(
     let (enc, how) = decide(path, bytes, setting)?;
     let mut out = Vec::with_capacity(bytes.len() + bytes.len() / 8);
     let mut filter = LineFilter::new(limits.max_line_bytes);
-    decode_into(bytes, enc, &mut out, &mut filter);
+    decode_into(path, bytes, enc, &mut out, &mut filter)?;
     Ok(Decoded {
         bytes: Bytes::Owned(out),
         encoding: how,
@@ -257,40 +257,18 @@ fn not_utf8(path: &Path, bytes: &[u8]) -> Error {
 }
 
 /// Decode `input` into UTF-8 in bounded steps, through the long-line filter.
-fn decode_into(input: &[u8], dec: Decoder, out: &mut Vec<u8>, filter: &mut LineFilter) {
-    let mut buf = vec![0u8; 1 << 20];
-    match dec {
-        Decoder::Latin1 => {
-            let mut s = String::new();
-            for piece in input.chunks(1 << 19) {
-                s.clear();
-                s.extend(piece.iter().map(|&b| b as char));
-                filter.push(s.as_bytes(), out);
-            }
-        }
-        Decoder::Whatwg(enc) => {
-            // With BOM removal: the decoder sniffs and drops a BOM matching its encoding.
-            let mut d = enc.new_decoder_with_bom_removal();
-            let mut pos = 0;
-            loop {
-                let last = pos + (1 << 19) >= input.len();
-                let end = if last { input.len() } else { pos + (1 << 19) };
-                let mut src = &input[pos..end];
-                loop {
-                    let (res, read, written, _) = d.decode_to_utf8(src, &mut buf, last);
-                    filter.push(&buf[..written], out);
-                    src = &src[read..];
-                    if res == encoding_rs::CoderResult::InputEmpty {
-                        break;
-                    }
-                }
-                if last {
-                    break;
-                }
-                pos = end;
-            }
-        }
+fn decode_into(
+    path: &Path,
+    input: &[u8],
+    dec: Decoder,
+    out: &mut Vec<u8>,
+    filter: &mut LineFilter,
+) -> Result<()> {
+    let mut t = Transcoder::new(Some(dec));
+    for piece in input.chunks(1 << 19) {
+        t.push(path, piece, false, out, filter)?;
     }
+    t.push(path, &[], true, out, filter)
 }
 
 /// Read a compressed stream: decompress in steps, refuse past the size cap, decide the
@@ -308,9 +286,8 @@ fn read_stream(
     let mut filter = LineFilter::new(limits.max_line_bytes);
     // Bytes held back until the encoding is decided (the start of the stream).
     let mut head: Vec<u8> = Vec::new();
-    let mut state: Option<(Option<Decoder>, encoding_rs::Decoder)> = None;
+    let mut state: Option<Transcoder> = None;
     let mut used = None;
-    let mut utf8_tail: Vec<u8> = Vec::new();
     loop {
         let n = r.read(&mut raw).map_err(gz_err)?;
         total += n as u64;
@@ -335,15 +312,11 @@ fn read_stream(
                 }
                 let (dec, how) = stream_encoding(path, &head, setting)?;
                 used = Some(how);
-                let d = match dec {
-                    Some(Decoder::Whatwg(e)) => e.new_decoder_with_bom_removal(),
-                    _ => UTF_8.new_decoder_without_bom_handling(),
-                };
                 first = std::mem::take(&mut head);
-                (state.insert((dec, d)), first.as_slice())
+                (state.insert(Transcoder::new(dec)), first.as_slice())
             }
         };
-        stream_piece(path, piece, end, st, &mut utf8_tail, &mut out, &mut filter)?;
+        st.push(path, piece, end, &mut out, &mut filter)?;
         if end {
             break;
         }
@@ -405,57 +378,81 @@ fn stream_encoding(
     }
 }
 
-/// One decompressed piece through the decoder (or the UTF-8 check) and the line filter.
-#[allow(clippy::too_many_arguments)]
-fn stream_piece(
-    path: &Path,
-    piece: &[u8],
-    last: bool,
-    state: &mut (Option<Decoder>, encoding_rs::Decoder),
-    utf8_tail: &mut Vec<u8>,
-    out: &mut Vec<u8>,
-    filter: &mut LineFilter,
-) -> Result<()> {
-    match state.0 {
-        None => {
-            // Plain UTF-8: validate (carrying an incomplete character to the next piece).
-            utf8_tail.extend_from_slice(piece);
-            let ok_to = match std::str::from_utf8(utf8_tail) {
-                Ok(_) => utf8_tail.len(),
-                Err(e) if e.error_len().is_none() && !last => e.valid_up_to(),
-                Err(_) => {
-                    let lines = memchr::memchr_iter(b'\n', out).count() as u64;
-                    let (l, b) = first_invalid(utf8_tail);
-                    return Err(Error::format(
-                        path,
-                        format!(
-                            "line {} is not valid UTF-8 (byte 0x{b:02X}); set --encoding (for example windows-1252) to read it",
-                            lines + l
-                        ),
-                    ));
-                }
-            };
-            filter.push(&utf8_tail[..ok_to], out);
-            utf8_tail.drain(..ok_to);
+/// Text in any encoding to UTF-8, piece by piece, through the line filter: the one decoding
+/// loop of both the in-memory and the streaming paths. `None` is plain UTF-8, only validated
+/// (an incomplete character is carried to the next piece).
+struct Transcoder {
+    dec: Option<Decoder>,
+    inner: encoding_rs::Decoder,
+    buf: Vec<u8>,
+    utf8_tail: Vec<u8>,
+}
+
+impl Transcoder {
+    fn new(dec: Option<Decoder>) -> Transcoder {
+        let inner = match dec {
+            // With BOM removal: the decoder sniffs and drops a BOM matching its encoding.
+            Some(Decoder::Whatwg(e)) => e.new_decoder_with_bom_removal(),
+            _ => UTF_8.new_decoder_without_bom_handling(),
+        };
+        Transcoder {
+            dec,
+            inner,
+            buf: vec![0u8; 1 << 20],
+            utf8_tail: Vec::new(),
         }
-        Some(Decoder::Latin1) => {
-            let s: String = piece.iter().map(|&b| b as char).collect();
-            filter.push(s.as_bytes(), out);
-        }
-        Some(Decoder::Whatwg(_)) => {
-            let mut buf = vec![0u8; 1 << 20];
-            let mut src = piece;
-            loop {
-                let (res, read, written, _) = state.1.decode_to_utf8(src, &mut buf, last);
-                filter.push(&buf[..written], out);
-                src = &src[read..];
-                if res == encoding_rs::CoderResult::InputEmpty {
-                    break;
+    }
+
+    /// One piece (`last`: the end of the input).
+    fn push(
+        &mut self,
+        path: &Path,
+        piece: &[u8],
+        last: bool,
+        out: &mut Vec<u8>,
+        filter: &mut LineFilter,
+    ) -> Result<()> {
+        match self.dec {
+            None => {
+                let tail = &mut self.utf8_tail;
+                tail.extend_from_slice(piece);
+                let ok_to = match std::str::from_utf8(tail) {
+                    Ok(_) => tail.len(),
+                    Err(e) if e.error_len().is_none() && !last => e.valid_up_to(),
+                    Err(_) => {
+                        let lines = memchr::memchr_iter(b'\n', out).count() as u64;
+                        let (l, b) = first_invalid(tail);
+                        return Err(Error::format(
+                            path,
+                            format!(
+                                "line {} is not valid UTF-8 (byte 0x{b:02X}); set --encoding (for example windows-1252) to read it",
+                                lines + l
+                            ),
+                        ));
+                    }
+                };
+                filter.push(&tail[..ok_to], out);
+                tail.drain(..ok_to);
+            }
+            Some(Decoder::Latin1) => {
+                let s: String = piece.iter().map(|&b| b as char).collect();
+                filter.push(s.as_bytes(), out);
+            }
+            Some(Decoder::Whatwg(_)) => {
+                let mut src = piece;
+                loop {
+                    let (res, read, written, _) =
+                        self.inner.decode_to_utf8(src, &mut self.buf, last);
+                    filter.push(&self.buf[..written], out);
+                    src = &src[read..];
+                    if res == encoding_rs::CoderResult::InputEmpty {
+                        break;
+                    }
                 }
             }
         }
+        Ok(())
     }
-    Ok(())
 }
 
 /// Copies text to the output line by line; a line longer than the limit is replaced by an

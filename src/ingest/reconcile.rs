@@ -305,20 +305,13 @@ impl PeopleBuilder {
         ctx: &mut FileCtx,
         line: u64,
         raw: String,
-        code: Option<&str>,
+        reason: QuarantineReason,
     ) {
         ctx.counts.quarantined += 1;
-        let field = "person_id".to_string();
         self.quarantined.push(QuarantinedRow {
             file: ctx.file,
             line,
-            reason: match code {
-                None => QuarantineReason::MissingId { field },
-                Some(c) => QuarantineReason::MissingValueCode {
-                    field,
-                    code: c.to_string(),
-                },
-            },
+            reason,
             raw,
         });
     }
@@ -420,17 +413,14 @@ impl PeopleBuilder {
             let line = chunk.lines.line(row);
             ctx.counts.read += 1;
             let id = match checker.rules.id(cols[id_col].get(row)) {
-                IdValue::Blank => {
-                    self.quarantine_missing_id(ctx, line, raw_row(frame, row), None);
-                    continue;
-                }
-                IdValue::Code(c) => {
-                    self.quarantine_missing_id(ctx, line, raw_row(frame, row), Some(c));
-                    continue;
-                }
                 IdValue::Id(id, changed) => {
                     ctx.counts.ids_normalised += u64::from(changed);
                     id
+                }
+                missing => {
+                    let reason = missing.missing("person_id").expect("not an ID");
+                    self.quarantine_missing_id(ctx, line, raw_row(frame, row), reason);
+                    continue;
                 }
             };
             let id = id.as_ref();

@@ -2,13 +2,13 @@
 //! that can form an exposure, dates, minutes and settings checked on a second thread beside the
 //! interning, unmapped columns kept per row.
 
+use std::borrow::Cow;
+
 use polars::prelude::*;
 
 use super::dates;
 use super::ledger::{Counts, ProblemKind, QuarantineReason, QuarantinedRow};
 use super::mapping::Mapping;
-use std::borrow::Cow;
-
 use super::reconcile::{
     raw_row, text_column, values, Attributes, FieldChecker, FileCtx, IdValue, Rules, Values,
     NO_DATE,
@@ -392,20 +392,6 @@ impl ExposureRows {
         for (row, (s, t)) in src.iter().zip(tgt.iter()).enumerate() {
             ctx.counts.read += 1;
             let reason = match (rules.id(s), rules.id(t)) {
-                (IdValue::Blank, _) => QuarantineReason::MissingId {
-                    field: "source_id".into(),
-                },
-                (IdValue::Code(c), _) => QuarantineReason::MissingValueCode {
-                    field: "source_id".into(),
-                    code: c.into(),
-                },
-                (_, IdValue::Blank) => QuarantineReason::MissingId {
-                    field: "target_id".into(),
-                },
-                (_, IdValue::Code(c)) => QuarantineReason::MissingValueCode {
-                    field: "target_id".into(),
-                    code: c.into(),
-                },
                 (IdValue::Id(a, _), IdValue::Id(b, _)) if ids.same(&a, &b) => {
                     QuarantineReason::SelfExposure
                 }
@@ -415,6 +401,10 @@ impl ExposureRows {
                     pairs.push((a, b));
                     continue;
                 }
+                (s, t) => s
+                    .missing("source_id")
+                    .or_else(|| t.missing("target_id"))
+                    .expect("one of the two IDs is blank or a code"),
             };
             ctx.counts.quarantined += 1;
             self.quarantined.push(QuarantinedRow {

@@ -1,6 +1,7 @@
 //! The value rules every table of a load shares: missing-value codes, IDs trimmed and put
 //! into Unicode NFC, and the bounds of plausible dates and durations.
 
+use super::ledger::QuarantineReason;
 use super::reconcile::trimmed;
 
 /// What a value of an ID column holds.
@@ -12,6 +13,22 @@ pub enum IdValue<'a> {
     Code(&'a str),
     /// An ID: trimmed, in Unicode NFC (the bool: normalisation changed it).
     Id(std::borrow::Cow<'a, str>, bool),
+}
+
+impl IdValue<'_> {
+    /// Why a row with this value in the ID field `field` cannot be used: blank, or a
+    /// missing-value code; `None` for an ID.
+    pub fn missing(&self, field: &str) -> Option<QuarantineReason> {
+        let field = field.to_string();
+        match self {
+            IdValue::Blank => Some(QuarantineReason::MissingId { field }),
+            IdValue::Code(c) => Some(QuarantineReason::MissingValueCode {
+                field,
+                code: c.to_string(),
+            }),
+            IdValue::Id(..) => None,
+        }
+    }
 }
 
 /// Value rules shared by every table of a load: missing-value codes, ID normalisation, and

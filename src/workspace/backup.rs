@@ -64,11 +64,21 @@ fn copy(conn: &Connection, to: &Path) -> Result<()> {
     std::fs::rename(&tmp, to).map_err(|e| Error::write(to, e))
 }
 
+/// Today's backup file (it may not exist yet).
+fn todays(ws: &Path) -> PathBuf {
+    folder(ws).join(format!("{}.sqlite", today()))
+}
+
+/// True when today's backup has been made.
+pub fn made_today(ws: &Path) -> bool {
+    todays(ws).exists()
+}
+
 /// Make today's backup if there is none yet, and keep the newest [`KEEP`]. Called when a sound
 /// workspace is opened; a failure here never stops the work (the reason is returned).
 pub fn daily(conn: &Connection, ws: &Path) -> Result<Option<PathBuf>> {
     let dir = folder(ws);
-    let target = dir.join(format!("{}.sqlite", today()));
+    let target = todays(ws);
     if target.exists() {
         return Ok(None);
     }

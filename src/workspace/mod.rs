@@ -163,11 +163,7 @@ impl Workspace {
     /// Today's backup, once a day, of a workspace found sound by SQLite's quick check (a
     /// damaged one is refused with the way back instead of being copied over a good backup).
     fn daily_backup(conn: &Connection, path: &Path) -> Result<Option<String>> {
-        if backup::list(path).first().is_some_and(|b| {
-            b.file_stem().is_some_and(|s| {
-                *s.to_string_lossy() == *chrono::Utc::now().format("%Y-%m-%d").to_string()
-            })
-        }) {
+        if backup::made_today(path) {
             return Ok(None);
         }
         let check: String = conn
