@@ -102,23 +102,72 @@ pub const TOP: usize = 20;
 /// People attributes whose mixing is reported.
 const MIXING_ATTRIBUTES: [&str; 2] = ["area", "age_group"];
 
-/// Compute every statistic.
+/// Compute every statistic. The independent parts run as tasks on all cores (triangle counting
+/// itself split across them); each result is the same as computed alone.
 pub fn compute(d: &Dataset, opts: &MetricOptions) -> NetworkStats {
     let deg = graph::degrees(&d.graph);
-    // The walks of the graph's structure (triangles and cores) run on a second core while this
-    // one does the rest; each result is the same as computed alone.
-    std::thread::scope(|sc| {
-        let structure = sc.spawn(|| {
-            (
-                structure::clustering(&d.graph, &deg),
-                structure::core_numbers(&d.graph, &deg),
-            )
+    let deg = &deg[..];
+    let g = &d.graph;
+    let (mut clustering, mut cores, mut bridges, mut components) = (None, None, None, None);
+    let (mut mixing, mut r_set, mut null, mut rest) = (None, None, None, None);
+    rayon::scope(|s| {
+        let (c, k, b, p) = (&mut clustering, &mut cores, &mut bridges, &mut components);
+        s.spawn(move |_| *c = Some(structure::clustering(g, deg)));
+        s.spawn(move |_| *b = Some(structure::articulation_points(g)));
+        s.spawn(move |_| *k = Some(structure::core_numbers(g, deg)));
+        s.spawn(move |_| *p = Some(graph::components(g)));
+        let (m, rs, nm, re) = (&mut mixing, &mut r_set, &mut null, &mut rest);
+        s.spawn(move |_| *m = Some(attribute_mixing(d)));
+        s.spawn(move |_| *rs = Some(r_by_setting(d)));
+        s.spawn(move |_| {
+            let (a, b) = (&d.edges.a, &d.edges.b);
+            let (r, se) = (opts.null_swaps_per_edge, opts.seed);
+            *nm = Some(mixing::null_model(a, b, deg, opts.null_replicates, r, se));
         });
-        compute_rest(d, opts, &deg, || match structure.join() {
-            Ok(v) => v,
-            Err(p) => std::panic::resume_unwind(p),
-        })
-    })
+        s.spawn(move |_| *re = Some(degree_parts(d, deg)));
+    });
+    let (cases, fits, degree, neighbours, r, r_se) = rest.expect("task ran");
+    NetworkStats {
+        cases,
+        fits,
+        degree,
+        neighbours,
+        r,
+        r_se,
+        null: null.expect("task ran"),
+        clustering: clustering.expect("task ran"),
+        cores: cores.expect("task ran"),
+        bridges: bridges.expect("task ran"),
+        components: components.expect("task ran"),
+        attribute_mixing: mixing.expect("task ran"),
+        r_by_setting: r_set.expect("task ran"),
+        degrees: deg.to_vec(),
+    }
+}
+
+/// The degree-based figures: case statistics, the distribution and its fits, neighbour
+/// degrees, r and its standard error.
+type DegreeParts = (
+    super::casedata::CaseStats,
+    DegreeFits,
+    degree::DegreeStats,
+    neighbours::Neighbours,
+    Stat,
+    Stat,
+);
+
+fn degree_parts(d: &Dataset, deg: &[u32]) -> DegreeParts {
+    let (a, b) = (&d.edges.a, &d.edges.b);
+    let degree = degree::degree_stats(deg);
+    let fits = fit_degrees(&degree.histogram);
+    (
+        super::casedata::case_stats(d),
+        fits,
+        degree,
+        neighbours::neighbours(&d.graph, deg),
+        mixing::assortativity(a, b, deg),
+        mixing::jackknife_se(a, b, deg),
+    )
 }
 
 /// Mixing by each people attribute present (area, age group), groups in sorted order.
@@ -177,50 +226,4 @@ fn r_by_setting(d: &Dataset) -> Vec<(String, Stat)> {
             (label.clone(), mixing::assortativity(&sa, &sb, &sd))
         })
         .collect()
-}
-
-/// Everything but the triangles and cores, which `structure` hands over when they are done
-/// (see [`compute`]).
-fn compute_rest(
-    d: &Dataset,
-    opts: &MetricOptions,
-    deg: &[u32],
-    structure: impl FnOnce() -> (structure::Clustering, Vec<u32>),
-) -> NetworkStats {
-    let (a, b) = (&d.edges.a, &d.edges.b);
-    let attribute_mixing = attribute_mixing(d);
-    let r_by_setting = r_by_setting(d);
-    let degree = degree::degree_stats(deg);
-    let cases = super::casedata::case_stats(d);
-    let fits = fit_degrees(&degree.histogram);
-    let neighbours = neighbours::neighbours(&d.graph, deg);
-    let r = mixing::assortativity(a, b, deg);
-    let r_se = mixing::jackknife_se(a, b, deg);
-    let null = mixing::null_model(
-        a,
-        b,
-        deg,
-        opts.null_replicates,
-        opts.null_swaps_per_edge,
-        opts.seed,
-    );
-    let bridges = structure::articulation_points(&d.graph);
-    let components = graph::components(&d.graph);
-    let (clustering, cores) = structure();
-    NetworkStats {
-        cases,
-        fits,
-        degree,
-        neighbours,
-        r,
-        r_se,
-        null,
-        clustering,
-        cores,
-        bridges,
-        components,
-        attribute_mixing,
-        r_by_setting,
-        degrees: deg.to_vec(),
-    }
 }

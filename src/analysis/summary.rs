@@ -72,6 +72,11 @@ pub struct ViewSummary {
 pub fn summarise(d: &Dataset) -> Summary {
     let deg = graph::degrees(&d.graph);
     let (_, sizes) = graph::components(&d.graph);
+    summarise_with(d, &deg, &sizes)
+}
+
+/// The summary from degrees and component sizes already computed.
+pub fn summarise_with(d: &Dataset, deg: &[u32], sizes: &[u32]) -> Summary {
     let largest = sizes.iter().copied().max().unwrap_or(0);
     let n = d.people();
     Summary {
