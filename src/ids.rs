@@ -118,8 +118,45 @@ impl IdMap {
         }
     }
 
+    /// Whether IDs compare with case.
+    pub fn case_sensitive(&self) -> bool {
+        self.case_sensitive
+    }
+
+    /// An ID as this map compares it (folded to lower case when case does not count).
+    pub fn key<'a>(&self, id: &'a str) -> std::borrow::Cow<'a, str> {
+        if self.case_sensitive {
+            id.into()
+        } else {
+            id.to_lowercase().into()
+        }
+    }
+
+    /// The hash of a key (from [`IdMap::key`]); maps made with the same case rule agree.
+    pub fn hash_key(&self, key: &str) -> u64 {
+        self.hasher.hash_one(key)
+    }
+
+    /// Node index of a key whose hash is `h`, if known.
+    pub fn find_hashed(&self, key: &str, h: u64) -> Option<u32> {
+        let kh = head(key.as_bytes());
+        self.table
+            .find(h, |s| self.matches(s, key.as_bytes(), kh))
+            .map(|s| s.idx)
+    }
+
+    /// [`IdMap::intern`] of a key already folded and hashed; `id` is the spelling shown.
+    pub fn intern_hashed(&mut self, key: &str, h: u64, id: &str) -> (u32, bool) {
+        let display = (!self.case_sensitive).then_some(id);
+        self.intern_key_hashed(key, h, display)
+    }
+
     fn intern_key(&mut self, key: &str, display: Option<&str>) -> (u32, bool) {
         let h = self.hasher.hash_one(key);
+        self.intern_key_hashed(key, h, display)
+    }
+
+    fn intern_key_hashed(&mut self, key: &str, h: u64, display: Option<&str>) -> (u32, bool) {
         let kh = head(key.as_bytes());
         if let Some(s) = self.table.find(h, |s| self.matches(s, key.as_bytes(), kh)) {
             return (s.idx, false);

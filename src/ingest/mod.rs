@@ -8,6 +8,7 @@
 pub mod dates;
 pub mod decode;
 pub mod formats;
+pub mod intern;
 pub mod ledger;
 pub mod mapping;
 pub mod reconcile;
@@ -295,6 +296,9 @@ impl Reading {
             self.in_reconcile += t.elapsed().as_secs_f64();
             Ok(())
         })?;
+        if role == Role::Exposures {
+            self.rows.finish_ids(&mut self.people.ids);
+        }
         let sink = if role == Role::People {
             &mut self.people.quarantined
         } else {

@@ -7,6 +7,7 @@ use std::borrow::Cow;
 use polars::prelude::*;
 
 use super::dates;
+use super::intern::NewIds;
 use super::ledger::{Counts, ProblemKind, QuarantineReason, QuarantinedRow};
 use super::mapping::Mapping;
 use super::reconcile::{
@@ -200,6 +201,8 @@ pub struct ExposureRows {
     /// 1 when the row is a known infector -> infectee link (source infected target), else 0;
     /// empty when no file maps the `transmission` field.
     pub links: Vec<u8>,
+    /// IDs first seen in the table being read (see [`ExposureRows::finish_ids`]).
+    new_ids: Option<NewIds>,
 }
 
 impl ExposureRows {
@@ -272,13 +275,13 @@ impl ExposureRows {
         &mut self,
         ctx: &mut FileCtx,
         chunk: &Chunk,
-        (ids, checker): (&mut IdMap, &mut FieldChecker),
+        (ids, checker): (&IdMap, &mut FieldChecker),
         [last_c, first_c, set_c, min_c]: [Option<usize>; 4],
         (usable, pairs): (&[u32], &[IdPair]),
     ) -> Result<()> {
         let (frame, meta, m, n) = (&chunk.frame, ctx.meta, ctx.mapping, chunk.frame.height());
-        // Stages B (field checks) and C (interning IDs) touch disjoint data, so they run on
-        // two threads at once; B's problems are counted in its own context and added back.
+        // Stages B (field checks) and C (numbering IDs) touch disjoint data, so they run at
+        // once; B's problems are counted in its own context and added back.
         let mut fctx = FileCtx {
             file: ctx.file,
             meta,
@@ -292,32 +295,21 @@ impl ExposureRows {
             setting: (set_c, values(text_column(frame, set_c, &meta.path)?, n)),
             minutes: (min_c, values(text_column(frame, min_c, &meta.path)?, n)),
         };
-        let intern = |keys: &mut Vec<u64>, forward: &mut Vec<bool>, ids: &mut IdMap| {
-            keys.reserve(pairs.len());
-            forward.reserve(pairs.len());
-            for (s, t) in pairs {
-                let (a, _) = ids.intern(s);
-                let (b, _) = ids.intern(t);
-                let (lo, hi) = if a < b { (a, b) } else { (b, a) };
-                keys.push(u64::from(lo) << 32 | u64::from(hi));
-                forward.push(a < b);
-            }
-        };
-        if usable.len() < PARALLEL_ROWS {
-            field_stage.run(cols, usable, &chunk.lines, &mut fctx, checker);
-            intern(keys, forward, ids);
-        } else {
-            std::thread::scope(|sc| {
-                let h =
-                    sc.spawn(|| field_stage.run(cols, usable, &chunk.lines, &mut fctx, checker));
-                intern(keys, forward, ids);
-                h.join().map_err(|_| {
-                    Error::format(
-                        &meta.path,
-                        "internal error: field checks failed; please report",
-                    )
-                })
-            })?;
+        let new_ids = self
+            .new_ids
+            .get_or_insert_with(|| NewIds::new(ids.case_sensitive()));
+        // The field checks run beside the two halves of the ID lookups.
+        let parallel = usable.len() >= PARALLEL_ROWS;
+        let (nodes, ()) = new_ids.number(ids, pairs, parallel, || {
+            field_stage.run(cols, usable, &chunk.lines, &mut fctx, checker)
+        });
+        keys.reserve(pairs.len());
+        forward.reserve(pairs.len());
+        for st in nodes.chunks_exact(2) {
+            let (a, b) = (st[0], st[1]);
+            let (lo, hi) = if a < b { (a, b) } else { (b, a) };
+            keys.push(u64::from(lo) << 32 | u64::from(hi));
+            forward.push(a < b);
         }
         ctx.counts.field_problems += fctx.counts.field_problems;
         Ok(())
@@ -415,6 +407,14 @@ impl ExposureRows {
             });
         }
         (usable, pairs)
+    }
+
+    /// At the end of an exposures table: add the IDs it introduced to `ids`, numbered as the
+    /// rows' node indices already are.
+    pub fn finish_ids(&mut self, ids: &mut IdMap) {
+        if let Some(mut n) = self.new_ids.take() {
+            n.finish(ids);
+        }
     }
 
     /// The rows for which `keep` is true (same order), for a sub-network view.

@@ -1,0 +1,172 @@
+//! Exposure IDs -> node indices on two cores, with the numbering of one sequential pass.
+//!
+//! Interning is a hash lookup per ID, each one a cache miss at millions of people, and it was
+//! the load's critical path. The IDs of a chunk are split by a bit of their hash: each half is
+//! looked up by its own worker, first in the (read-only, shared) map of IDs already numbered,
+//! then in that worker's own table of IDs new in this table. A short sequential pass then gives
+//! each new ID its node index in order of first appearance, so the numbering is exactly the one
+//! interning row by row would give; [`NewIds::finish`] appends the new IDs to the map in that
+//! order when the table ends.
+
+use std::borrow::Cow;
+
+use crate::ids::IdMap;
+
+/// Marks a worker's answer as an index into its own table of new IDs (not yet numbered).
+const NEW: u32 = 1 << 31;
+/// A position the worker does not own.
+const NOT_MINE: u32 = u32::MAX;
+
+/// IDs first seen in the exposures table being read, not yet in the shared map.
+#[derive(Debug)]
+pub struct NewIds {
+    /// Each worker's table of new IDs (index = local index).
+    shards: [IdMap; 2],
+    /// Local index -> node index, `NOT_MINE` until numbered.
+    node: [Vec<u32>; 2],
+    /// (worker, local index) of each numbered new ID, in node order.
+    order: Vec<(u8, u32)>,
+}
+
+impl NewIds {
+    /// No new IDs yet; `case_sensitive` as the people map.
+    pub fn new(case_sensitive: bool) -> NewIds {
+        NewIds {
+            shards: [IdMap::new(case_sensitive), IdMap::new(case_sensitive)],
+            node: [Vec::new(), Vec::new()],
+            order: Vec::new(),
+        }
+    }
+
+    /// Node indices of the (source, target) pairs, in order: `out` gets two per pair. `beside`
+    /// runs on a core of its own while the IDs are looked up when `parallel` is set.
+    pub fn number<R: Send>(
+        &mut self,
+        ids: &IdMap,
+        pairs: &[(Cow<'_, str>, Cow<'_, str>)],
+        parallel: bool,
+        beside: impl FnOnce() -> R + Send,
+    ) -> (Vec<u32>, R) {
+        assert!(
+            ids.len() + self.order.len() < NEW as usize,
+            "too many people"
+        );
+        let [s0, s1] = &mut self.shards;
+        let (h0, h1, r) = if parallel {
+            std::thread::scope(|sc| {
+                let side = sc.spawn(beside);
+                let other = sc.spawn(|| look_up(ids, s1, 1, pairs));
+                let h0 = look_up(ids, s0, 0, pairs);
+                let h1 = other
+                    .join()
+                    .unwrap_or_else(|p| std::panic::resume_unwind(p));
+                let r = side.join().unwrap_or_else(|p| std::panic::resume_unwind(p));
+                (h0, h1, r)
+            })
+        } else {
+            let r = beside();
+            (look_up(ids, s0, 0, pairs), look_up(ids, s1, 1, pairs), r)
+        };
+        (self.merge(ids.len(), &h0, &h1), r)
+    }
+
+    /// One pass in row order: numbered IDs as they are, new ones numbered on first sight.
+    fn merge(&mut self, known: usize, h0: &[u32], h1: &[u32]) -> Vec<u32> {
+        for (w, node) in self.node.iter_mut().enumerate() {
+            node.resize(self.shards[w].len(), NOT_MINE);
+        }
+        let mut out = Vec::with_capacity(h0.len());
+        for (&a, &b) in h0.iter().zip(h1) {
+            let (w, v) = if a == NOT_MINE { (1, b) } else { (0, a) };
+            if v & NEW == 0 {
+                out.push(v);
+                continue;
+            }
+            let local = v & !NEW;
+            let slot = &mut self.node[w][local as usize];
+            if *slot == NOT_MINE {
+                *slot = (known + self.order.len()) as u32;
+                self.order.push((w as u8, local));
+            }
+            out.push(*slot);
+        }
+        out
+    }
+
+    /// Append the new IDs to `ids` in node order and start afresh.
+    pub fn finish(&mut self, ids: &mut IdMap) {
+        for &(w, local) in &self.order {
+            let (i, new) = ids.intern(self.shards[w as usize].name(local));
+            debug_assert!(new && i as usize + 1 == ids.len());
+        }
+        let case = ids.case_sensitive();
+        *self = NewIds::new(case);
+    }
+}
+
+/// One worker's half: for each ID position whose hash bit is `w`, the node index (from `ids`)
+/// or `NEW | local index`; `NOT_MINE` elsewhere.
+fn look_up(
+    ids: &IdMap,
+    shard: &mut IdMap,
+    w: u64,
+    pairs: &[(Cow<'_, str>, Cow<'_, str>)],
+) -> Vec<u32> {
+    let mut out = Vec::with_capacity(pairs.len() * 2);
+    for (s, t) in pairs {
+        for id in [s, t] {
+            let key = ids.key(id);
+            let h = ids.hash_key(&key);
+            if (h >> 40) & 1 != w {
+                out.push(NOT_MINE);
+            } else if let Some(i) = ids.find_hashed(&key, h) {
+                out.push(i);
+            } else {
+                let (l, _) = shard.intern_hashed(&key, h, id);
+                out.push(NEW | l);
+            }
+        }
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The numbering is the one of interning row by row, whatever the split.
+    #[test]
+    fn same_numbering_as_one_pass() {
+        for case_sensitive in [true, false] {
+            let mut people = IdMap::new(case_sensitive);
+            for p in ["A", "B", "c"] {
+                people.intern(p);
+            }
+            let mut plain = people.clone();
+            let names: Vec<String> = (0..500).map(|i| format!("X{}", (i * 37) % 211)).collect();
+            let mut pairs: Vec<(Cow<str>, Cow<str>)> = names
+                .chunks(2)
+                .map(|c| (Cow::from(c[0].as_str()), Cow::from(c[1].as_str())))
+                .collect();
+            pairs.push(("C".into(), "b".into()));
+            let want: Vec<u32> = pairs
+                .iter()
+                .flat_map(|(s, t)| [plain.intern(s).0, plain.intern(t).0])
+                .collect();
+            let mut new = NewIds::new(case_sensitive);
+            let (half1, _) = new.number(&people, &pairs[..100], true, || ());
+            let (half2, _) = new.number(&people, &pairs[100..], false, || ());
+            new.finish(&mut people);
+            let got: Vec<u32> = half1.into_iter().chain(half2).collect();
+            assert_eq!(got, want);
+            if !case_sensitive {
+                // "C" and "b" are the people "c" and "B" when case is folded.
+                assert_eq!(&got[got.len() - 2..], &[2, 1]);
+            }
+            assert_eq!(people.len(), plain.len());
+            for i in 0..people.len() as u32 {
+                assert_eq!(people.name(i), plain.name(i));
+            }
+        }
+    }
+}
