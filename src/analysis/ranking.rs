@@ -10,7 +10,7 @@ use std::path::PathBuf;
 
 use crate::analysis::filters::{FilterIndex, Filters};
 use crate::analysis::priority::{
-    hub_threshold, scaled, Pathogen, Preset, PriorityConfig, Ranked, COMPONENTS,
+    hub_threshold, Pathogen, Preset, PriorityConfig, Ranked, COMPONENTS,
 };
 use crate::analysis::stats::NetworkStats;
 use crate::dataset::Dataset;
@@ -139,19 +139,62 @@ pub fn rank_settled(
 struct Context<'a> {
     d: &'a Dataset,
     stats: &'a NetworkStats,
-    preset: &'a Preset,
     window_days: u32,
     followup: &'a HashMap<String, String>,
     is_case: Vec<bool>,
     bridge: Vec<bool>,
-    setting_weight: Vec<f64>,
     hub: (f64, bool),
+    /// Per component, in [`COMPONENTS`] order: its cap (None: already 0..1) and weight, looked
+    /// up once rather than by name for every person.
+    scale: [(Option<f64>, f64); 8],
+    /// The people table's `followup_status` column, if any.
+    followup_column: Option<usize>,
+    /// What each pair adds to its two people's scores, gathered once (one read per contact
+    /// instead of one per array).
+    edge_info: Vec<EdgeInfo>,
 }
 
-fn attr_is(d: &Dataset, field: &str, node: u32, words: &[&str]) -> bool {
-    d.attrs
-        .get(field, node)
-        .is_some_and(|v| words.iter().any(|w| v.trim().eq_ignore_ascii_case(w)))
+/// One pair's part in the score of each of its people.
+#[derive(Clone, Copy)]
+struct EdgeInfo {
+    /// Last exposure date, else the first, else NO_DATE.
+    day: i32,
+    /// Minutes (NaN when no row gave a duration).
+    minutes: f64,
+    /// Highest weight among the pair's settings (0 when it has none).
+    setting_weight: f64,
+}
+
+fn edge_info(d: &Dataset, setting_weight: &[f64]) -> Vec<EdgeInfo> {
+    let e = &d.edges;
+    on_all_cores(e.len(), |i| EdgeInfo {
+        day: if e.last[i] != NO_DATE {
+            e.last[i]
+        } else {
+            e.first[i]
+        },
+        minutes: e.minutes[i],
+        setting_weight: e
+            .settings(i)
+            .iter()
+            .fold(0.0f64, |sw, &c| sw.max(setting_weight[c as usize - 1])),
+    })
+}
+
+/// The people whose attribute `field` is one of `words` (case and surrounding blanks ignored).
+fn attr_flags(d: &Dataset, field: &str, words: &[&str]) -> Vec<bool> {
+    let n = d.people();
+    match d.attrs.column(field) {
+        None => vec![false; n],
+        Some(c) => (0..n)
+            .map(|i| {
+                d.attrs.values[c]
+                    .get(i)
+                    .and_then(|v| v.as_deref())
+                    .is_some_and(|v| words.iter().any(|w| v.trim().eq_ignore_ascii_case(w)))
+            })
+            .collect(),
+    }
 }
 
 impl Context<'_> {
@@ -159,7 +202,11 @@ impl Context<'_> {
     fn followup_is(&self, node: u32, words: &[&str]) -> bool {
         match self.followup.get(self.d.ids.name(node)) {
             Some(v) => words.iter().any(|w| v.eq_ignore_ascii_case(w)),
-            None => attr_is(self.d, "followup_status", node, words),
+            None => self.followup_column.is_some_and(|c| {
+                let v = self.d.attrs.values[c].get(node as usize);
+                v.and_then(|v| v.as_deref())
+                    .is_some_and(|v| words.iter().any(|w| v.trim().eq_ignore_ascii_case(w)))
+            }),
         }
     }
 
@@ -170,20 +217,13 @@ impl Context<'_> {
         let mut cases = 0u32;
         let (mut last, mut minutes, mut sw) = (NO_DATE, 0.0f64, 0.0f64);
         for (&j, &e) in nb.iter().zip(es) {
-            let e = e as usize;
+            let x = &self.edge_info[e as usize];
             cases += u32::from(self.is_case[j as usize]);
-            let day = if d.edges.last[e] != NO_DATE {
-                d.edges.last[e]
-            } else {
-                d.edges.first[e]
-            };
-            last = last.max(day);
-            if !d.edges.minutes[e].is_nan() {
-                minutes += d.edges.minutes[e];
+            last = last.max(x.day);
+            if !x.minutes.is_nan() {
+                minutes += x.minutes;
             }
-            for &c in d.edges.settings(e) {
-                sw = sw.max(self.setting_weight[c as usize - 1]);
-            }
+            sw = sw.max(x.setting_weight);
         }
         let last = (last != NO_DATE).then_some(last);
         let window_end = last.map(|l| l + self.window_days as i32);
@@ -212,11 +252,12 @@ impl Context<'_> {
             f64::from(stats.cores[i]),
             contacts_mean,
         ];
-        let w = |c: &str| self.preset.weights.get(c).copied().unwrap_or(0.0);
-        let score = COMPONENTS
+        // The same arithmetic as `scaled(name, r, preset) * weight`, summed in component order.
+        let score = self
+            .scale
             .iter()
             .zip(raw)
-            .map(|(&name, r)| scaled(name, r, self.preset) * w(name))
+            .map(|(&(cap, w), r)| cap.map_or(r, |c| (r / c).clamp(0.0, 1.0)) * w)
             .sum();
         let (threshold, strict) = self.hub;
         let k = f64::from(degree);
@@ -255,7 +296,7 @@ pub fn rank(
         bridge[b as usize] = true;
     }
     let other = config.settings.get("other").copied().unwrap_or(0.5);
-    let setting_weight = d
+    let setting_weight: Vec<f64> = d
         .settings
         .iter()
         .map(|s| {
@@ -269,25 +310,49 @@ pub fn rank(
     let ctx = Context {
         d,
         stats,
-        preset,
         window_days,
         followup,
-        is_case: (0..n as u32)
-            .map(|i| attr_is(d, "role", i, &["case"]))
-            .collect(),
+        is_case: attr_flags(d, "role", &["case"]),
         bridge,
-        setting_weight,
+        edge_info: edge_info(d, &setting_weight),
         hub: hub_threshold(&config.hub, stats),
+        scale: COMPONENTS.map(|name| {
+            let cap = (!matches!(name, "window" | "setting" | "bridge"))
+                .then(|| preset.caps.get(name).copied().unwrap_or(1.0));
+            (cap, preset.weights.get(name).copied().unwrap_or(0.0))
+        }),
+        followup_column: d.attrs.column("followup_status"),
     };
-    let mut out = on_all_cores(n, |i| ctx.rank_one(i));
-    // The key is total (IDs are unique), so an unstable sort gives the same order.
-    out.sort_unstable_by(|a, b| {
-        b.score
-            .total_cmp(&a.score)
-            .then_with(|| b.degree.cmp(&a.degree))
-            .then_with(|| d.ids.name(a.node).cmp(d.ids.name(b.node)))
-    });
-    out
+    let out = on_all_cores(n, |i| ctx.rank_one(i));
+    let order = best_first(&out, |i| d.ids.name(i));
+    on_all_cores(n, |i| out[order[i] as usize].clone())
+}
+
+/// The order of the list: higher score first, then more contacts, then ID. The integer key of
+/// (score, contacts) is sorted first; IDs are compared only within runs of equal keys.
+fn best_first<'a>(out: &[Ranked], name: impl Fn(u32) -> &'a str) -> Vec<u32> {
+    // `total_cmp` order as unsigned integers, reversed for "higher first".
+    let desc = |x: f64| {
+        let b = x.to_bits();
+        !(if b >> 63 == 1 { !b } else { b | 1 << 63 })
+    };
+    let mut keys: Vec<(u64, u32, u32)> = out
+        .iter()
+        .map(|r| (desc(r.score), u32::MAX - r.degree, r.node))
+        .collect();
+    keys.sort_unstable_by_key(|k| (k.0, k.1));
+    let mut start = 0;
+    while start < keys.len() {
+        let run = keys[start..]
+            .iter()
+            .take_while(|k| (k.0, k.1) == (keys[start].0, keys[start].1))
+            .count();
+        if run > 1 {
+            keys[start..start + run].sort_unstable_by(|a, b| name(a.2).cmp(name(b.2)));
+        }
+        start += run;
+    }
+    keys.into_iter().map(|k| k.2).collect()
 }
 
 /// `f(0..n)` on all cores, in order (people are independent).

@@ -48,6 +48,23 @@ pub fn leave<T>(big: T) {
     std::mem::forget(big);
 }
 
+/// With `HUBWATCH_STAGES` set, where a command's time went, on stderr (for benchmarks and
+/// profiling; not part of any output contract).
+pub fn stages(t: &crate::dataset::Timings, load: f64, statistics: f64) {
+    if std::env::var_os("HUBWATCH_STAGES").is_none() {
+        return;
+    }
+    eprintln!(
+        "stages: parse {:.3} s, check+intern {:.3} s, merge pairs {:.3} s, adjacency {:.3} s \
+         (load {load:.3} s), statistics {statistics:.3} s, peak {:.0} MiB",
+        t.parse,
+        t.reconcile,
+        t.merge_pairs,
+        t.graph,
+        crate::ingest::peak_mib()
+    );
+}
+
 /// Pretty JSON with a final newline.
 pub fn to_json<T: serde::Serialize>(v: &T) -> Result<String> {
     serde_json::to_string_pretty(v)

@@ -11,7 +11,11 @@ pub fn run(load: &LoadArgs, stats: &StatsArgs, as_json: bool) -> Result<()> {
         metrics: stats.options(),
         ..Parts::default()
     };
-    let r = Report::build(load.load()?, parts)?;
+    let t = std::time::Instant::now();
+    let d = load.load()?;
+    let loaded = t.elapsed().as_secs_f64();
+    let r = Report::build(d, parts)?;
+    crate::cli::stages(&r.d.timings, loaded, t.elapsed().as_secs_f64() - loaded);
     if !as_json {
         emit(&summary::summary_text(&r.summary, &r.stats, &r.d))?;
         leave(r);
