@@ -378,3 +378,48 @@ fn on_all_cores<T: Send>(n: usize, f: impl Fn(usize) -> T + Sync) -> Vec<T> {
             .collect()
     })
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use proptest::prelude::*;
+
+    fn entry(node: u32, score: f64, degree: u32) -> Ranked {
+        Ranked {
+            node,
+            score,
+            raw: [0.0; 8],
+            degree,
+            last_exposure: None,
+            window_end: None,
+            days_left: None,
+            overdue: false,
+            high_degree: false,
+            bridge: false,
+        }
+    }
+
+    proptest! {
+        /// The integer keys give the order of the plain comparison (score, then contacts, then
+        /// ID), ties and signed zeros included.
+        #[test]
+        fn same_order_as_the_comparison(v in proptest::collection::vec((-3i32..4, 0u32..4), 0..300)) {
+            let out: Vec<Ranked> = v
+                .iter()
+                .enumerate()
+                .map(|(i, &(s, k))| entry(i as u32, if s == 0 { -0.0 } else { f64::from(s) / 2.0 }, k))
+                .collect();
+            let names: Vec<String> = (0..out.len()).map(|i| format!("N{}", (i * 7919) % 1000)).collect();
+            let name = |i: u32| names[i as usize].as_str();
+            let mut want: Vec<u32> = (0..out.len() as u32).collect();
+            want.sort_by(|&a, &b| {
+                let (x, y) = (&out[a as usize], &out[b as usize]);
+                y.score
+                    .total_cmp(&x.score)
+                    .then_with(|| y.degree.cmp(&x.degree))
+                    .then_with(|| name(a).cmp(name(b)))
+            });
+            prop_assert_eq!(best_first(&out, name), want);
+        }
+    }
+}
