@@ -93,7 +93,16 @@ pub fn build(loaded: Loaded, view: &View) -> Result<Dataset> {
         peak_mib: peak_read,
     } = loaded;
     let t1 = std::time::Instant::now();
-    let agg = graph::aggregate(&rows, !rows.extras.names.is_empty());
+    // The near-duplicate ID check reads only the IDs: it runs beside the merge.
+    let (agg, near_duplicates) = std::thread::scope(|sc| {
+        let near = sc.spawn(|| ingest::warnings::id_collisions(&ids));
+        let agg = graph::aggregate(&rows, !rows.extras.names.is_empty());
+        (
+            agg,
+            near.join().unwrap_or_else(|p| std::panic::resume_unwind(p)),
+        )
+    });
+    ledger.warnings.extend(near_duplicates);
     let merge_pairs = t1.elapsed().as_secs_f64();
     let peak_merge = peak_mib();
     count_used(&mut ledger, &rows.per_file, &agg.first_of_pair);

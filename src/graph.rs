@@ -174,9 +174,68 @@ pub fn aggregate(rows: &ExposureRows, want_row_edges: bool) -> Aggregated {
         .map(|(i, &k)| (pack(k), i as u32))
         .collect();
     radix_sort_pairs(&mut order);
+    // Two halves, cut where a pair ends, are folded on two cores and joined in order: the
+    // same pairs in the same order as one pass.
+    let mut cut = order.len() / 2;
+    while cut > 0 && cut < order.len() && order[cut].0 == order[cut - 1].0 {
+        cut += 1;
+    }
+    let (left, right) = order.split_at(cut);
+    let has_settings = !rows.fields.setting.is_empty();
+    // The left half reserves room for all pairs, so that appending the right half copies
+    // nothing but the right half.
+    let fold = |part: &[(u64, u32)], cap: usize| fold_pairs(rows, part, &unpack, has_settings, cap);
+    let (all, half) = (order.len(), right.len());
+    let (mut e, e2) = if order.len() < 100_000 {
+        (fold(left, all), fold(right, half))
+    } else {
+        std::thread::scope(|sc| {
+            let other = sc.spawn(|| fold(right, half));
+            let mine = fold(left, all);
+            (
+                mine,
+                other
+                    .join()
+                    .unwrap_or_else(|p| std::panic::resume_unwind(p)),
+            )
+        })
+    };
+    e.append(e2);
+    // The sorted rows run through the pairs in order: the first row of each pair (in input
+    // order, as the sort is stable) is the one used; a new key starts the next pair.
+    let mut first_of_pair = vec![false; rows.keys.len()];
+    let mut edge_of_row = if want_row_edges {
+        vec![0u32; rows.keys.len()]
+    } else {
+        Vec::new()
+    };
+    let mut edge = 0u32;
+    for (i, &(key, r)) in order.iter().enumerate() {
+        if i == 0 || key != order[i - 1].0 {
+            first_of_pair[r as usize] = true;
+            edge += u32::from(i > 0);
+        }
+        if want_row_edges {
+            edge_of_row[r as usize] = edge;
+        }
+    }
+    Aggregated {
+        edges: e,
+        first_of_pair,
+        edge_of_row,
+    }
+}
+
+/// Fold sorted rows into pairs.
+fn fold_pairs(
+    rows: &ExposureRows,
+    order: &[(u64, u32)],
+    unpack: &impl Fn(u64) -> (u64, u64),
+    has_settings: bool,
+    cap: usize,
+) -> Edges {
     // Reserve for the worst case (every row its own pair): untouched capacity costs address
     // space, not memory, and saves the copies of repeated growth.
-    let cap = rows.keys.len();
     let mut e = Edges {
         a: Vec::with_capacity(cap),
         b: Vec::with_capacity(cap),
@@ -187,14 +246,9 @@ pub fn aggregate(rows: &ExposureRows, want_row_edges: bool) -> Aggregated {
         minutes: Vec::with_capacity(cap),
         ..Edges::default()
     };
-    let mut first_of_pair = vec![false; rows.keys.len()];
-    let mut edge_of_row = if want_row_edges {
-        vec![0u32; rows.keys.len()]
-    } else {
-        Vec::new()
-    };
-    let has_settings = !rows.fields.setting.is_empty();
     if has_settings {
+        e.setting_off.reserve(cap + 1);
+        e.setting_codes.reserve(cap);
         e.setting_off.push(0);
     }
     let mut codes: Vec<u16> = Vec::new();
@@ -204,14 +258,9 @@ pub fn aggregate(rows: &ExposureRows, want_row_edges: bool) -> Aggregated {
         let mut j = i;
         let mut pair = Pair::new(&mut codes);
         while j < order.len() && order[j].0 == key {
-            let r = order[j].1 as usize;
-            if want_row_edges {
-                edge_of_row[r] = e.a.len() as u32;
-            }
-            pair.add(rows, r);
+            pair.add(rows, order[j].1 as usize);
             j += 1;
         }
-        first_of_pair[order[i].1 as usize] = true;
         let (lo, hi) = unpack(key);
         pair.push(
             &mut e,
@@ -222,10 +271,28 @@ pub fn aggregate(rows: &ExposureRows, want_row_edges: bool) -> Aggregated {
         );
         i = j;
     }
-    Aggregated {
-        edges: e,
-        first_of_pair,
-        edge_of_row,
+    e
+}
+
+impl Edges {
+    /// Append the pairs of `other` (all after this one's in pair order).
+    fn append(&mut self, mut other: Edges) {
+        let base = self.setting_codes.len() as u32;
+        self.a.append(&mut other.a);
+        self.b.append(&mut other.b);
+        self.rows.append(&mut other.rows);
+        self.a_named_b.append(&mut other.a_named_b);
+        self.first.append(&mut other.first);
+        self.last.append(&mut other.last);
+        self.minutes.append(&mut other.minutes);
+        self.links_ab.append(&mut other.links_ab);
+        self.links_ba.append(&mut other.links_ba);
+        self.setting_codes.append(&mut other.setting_codes);
+        if !other.setting_off.is_empty() {
+            // Skip the other half's leading 0: its offsets continue after this half's codes.
+            self.setting_off
+                .extend(other.setting_off[1..].iter().map(|o| o + base));
+        }
     }
 }
 

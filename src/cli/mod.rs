@@ -56,11 +56,13 @@ pub fn stages(t: &crate::dataset::Timings, load: f64, statistics: f64) {
     }
     eprintln!(
         "stages: parse {:.3} s, check+intern {:.3} s, merge pairs {:.3} s, adjacency {:.3} s \
-         (load {load:.3} s), statistics {statistics:.3} s, peak {:.0} MiB",
+         (load {load:.3} s), statistics {statistics:.3} s; peak MiB after read, merge, adjacency \
+         and at the end: {:.0?}, {:.0}",
         t.parse,
         t.reconcile,
         t.merge_pairs,
         t.graph,
+        t.peak_mib,
         crate::ingest::peak_mib()
     );
 }

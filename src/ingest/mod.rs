@@ -179,7 +179,6 @@ pub fn read(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Loa
     ledger.quarantined = people.quarantined;
     ledger.quarantined.append(&mut rows.quarantined);
     ledger.problems = problems;
-    ledger.warnings.extend(warnings::id_collisions(&people.ids));
     let mut attrs = people.attrs;
     let n = people.ids.len();
     for v in attrs.values.iter_mut() {

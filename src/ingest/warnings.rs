@@ -3,8 +3,6 @@
 //! of whether an ID looks like a missing-value code (used with the contact counts, see
 //! `dataset`).
 
-use hashbrown::HashMap;
-
 use unicode_normalization::UnicodeNormalization;
 
 use super::ledger::Warning;
@@ -54,28 +52,32 @@ fn fold_hash(id: &str, state: &foldhash::fast::FixedState) -> u64 {
 /// IDs that are different people to hubwatch but differ only by case, width or spaces.
 pub fn id_collisions(ids: &IdMap) -> Option<Warning> {
     let state = foldhash::fast::FixedState::with_seed(7);
-    // Folded hash -> the first ID with it; equal hashes are confirmed on the folded text.
-    let mut first: HashMap<u64, u32> = HashMap::with_capacity(ids.len());
-    let mut groups: Vec<(u32, Vec<u32>)> = Vec::new();
-    let mut group_of: HashMap<u32, usize> = HashMap::new();
-    for i in 0..ids.len() as u32 {
-        let h = fold_hash(ids.name(i), &state);
-        let head = match first.entry(h) {
-            hashbrown::hash_map::Entry::Vacant(v) => {
-                v.insert(i);
-                continue;
-            }
-            hashbrown::hash_map::Entry::Occupied(o) => *o.get(),
-        };
-        if fold(ids.name(head)) != fold(ids.name(i)) {
-            continue; // a hash collision, not a near-duplicate (rare; not reported)
+    // (folded hash, ID) sorted: IDs with equal hashes sit together, in ID order, and equal
+    // hashes are confirmed on the folded text. A sorted array takes half the memory of a hash
+    // map of the same pairs (this runs beside the merge of pairs, at the peak of a load).
+    let mut hashed: Vec<(u64, u32)> = (0..ids.len() as u32)
+        .map(|i| (fold_hash(ids.name(i), &state), i))
+        .collect();
+    hashed.sort_unstable();
+    // (index of the second member, first member, the others), ordered by when the group
+    // would be noticed reading IDs in order.
+    let mut found: Vec<(u32, u32, Vec<u32>)> = Vec::new();
+    for run in hashed.chunk_by(|x, y| x.0 == y.0).filter(|r| r.len() > 1) {
+        let head = run[0].1;
+        let folded = fold(ids.name(head));
+        // A different folded text under the same hash is a collision, not a near-duplicate
+        // (rare; not reported).
+        let rest: Vec<u32> = run[1..]
+            .iter()
+            .map(|x| x.1)
+            .filter(|&i| fold(ids.name(i)) == folded)
+            .collect();
+        if let Some(&second) = rest.first() {
+            found.push((second, head, rest));
         }
-        let g = *group_of.entry(head).or_insert_with(|| {
-            groups.push((head, Vec::new()));
-            groups.len() - 1
-        });
-        groups[g].1.push(i);
     }
+    found.sort_unstable_by_key(|g| g.0);
+    let groups: Vec<(u32, Vec<u32>)> = found.into_iter().map(|(_, h, r)| (h, r)).collect();
     if groups.is_empty() {
         return None;
     }
