@@ -87,11 +87,8 @@ impl IdMap {
 
     /// Node index of an ID (already trimmed), if known.
     pub fn get(&self, id: &str) -> Option<u32> {
-        if self.case_sensitive {
-            self.find(id)
-        } else {
-            self.find(&id.to_lowercase())
-        }
+        let key = self.key(id);
+        self.find_hashed(&key, self.hash_key(&key))
     }
 
     fn matches(&self, slot: &Slot, key: &[u8], key_head: u64) -> bool {
@@ -100,22 +97,10 @@ impl IdMap {
             && (key.len() <= 8 || self.key_of(slot.idx).as_bytes()[8..] == key[8..])
     }
 
-    fn find(&self, key: &str) -> Option<u32> {
-        let h = self.hasher.hash_one(key);
-        let kh = head(key.as_bytes());
-        self.table
-            .find(h, |s| self.matches(s, key.as_bytes(), kh))
-            .map(|s| s.idx)
-    }
-
     /// Node index of an ID, adding it if new; the flag says whether it was new.
     pub fn intern(&mut self, id: &str) -> (u32, bool) {
-        if self.case_sensitive {
-            self.intern_key(id, None)
-        } else {
-            let key = id.to_lowercase();
-            self.intern_key(&key, Some(id))
-        }
+        let key = self.key(id);
+        self.intern_hashed(&key, self.hash_key(&key), id)
     }
 
     /// Whether IDs compare with case.
@@ -147,25 +132,14 @@ impl IdMap {
 
     /// [`IdMap::intern`] of a key already folded and hashed; `id` is the spelling shown.
     pub fn intern_hashed(&mut self, key: &str, h: u64, id: &str) -> (u32, bool) {
-        let display = (!self.case_sensitive).then_some(id);
-        self.intern_key_hashed(key, h, display)
-    }
-
-    fn intern_key(&mut self, key: &str, display: Option<&str>) -> (u32, bool) {
-        let h = self.hasher.hash_one(key);
-        self.intern_key_hashed(key, h, display)
-    }
-
-    fn intern_key_hashed(&mut self, key: &str, h: u64, display: Option<&str>) -> (u32, bool) {
-        let kh = head(key.as_bytes());
-        if let Some(s) = self.table.find(h, |s| self.matches(s, key.as_bytes(), kh)) {
-            return (s.idx, false);
+        if let Some(i) = self.find_hashed(key, h) {
+            return (i, false);
         }
         let i = self.ends.len() as u32;
         self.arena.push_str(key);
         self.ends.push(self.arena.len());
         let slot = Slot {
-            head: kh,
+            head: head(key.as_bytes()),
             len: key.len() as u32,
             idx: i,
         };
@@ -181,8 +155,8 @@ impl IdMap {
             let start = if j == 0 { 0 } else { ends[j - 1] };
             hasher.hash_one(&arena[start..ends[j]])
         });
-        if let Some(d) = display {
-            self.display.push(d.into());
+        if !self.case_sensitive {
+            self.display.push(id.into());
         }
         (i, true)
     }

@@ -182,11 +182,19 @@ pub struct Ranked {
 
 /// Scale a raw component value to 0..1 by its cap (window, setting and bridge already are).
 pub fn scaled(name: &str, raw: f64, preset: &Preset) -> f64 {
-    if matches!(name, "window" | "setting" | "bridge") {
-        raw
-    } else {
-        (raw / preset.caps.get(name).copied().unwrap_or(1.0)).clamp(0.0, 1.0)
-    }
+    scale_by(cap(name, preset), raw)
+}
+
+/// The cap a component's raw value is divided by; None for window, setting and bridge, which
+/// are already 0..1.
+pub fn cap(name: &str, preset: &Preset) -> Option<f64> {
+    (!matches!(name, "window" | "setting" | "bridge"))
+        .then(|| preset.caps.get(name).copied().unwrap_or(1.0))
+}
+
+/// A raw value scaled by a cap from [`cap`].
+pub fn scale_by(cap: Option<f64>, raw: f64) -> f64 {
+    cap.map_or(raw, |c| (raw / c).clamp(0.0, 1.0))
 }
 
 /// A mark on a person of the list, derived from the ranking.

@@ -10,7 +10,7 @@ use std::path::PathBuf;
 
 use crate::analysis::filters::{FilterIndex, Filters};
 use crate::analysis::priority::{
-    hub_threshold, Pathogen, Preset, PriorityConfig, Ranked, COMPONENTS,
+    cap, hub_threshold, scale_by, Pathogen, Preset, PriorityConfig, Ranked, COMPONENTS,
 };
 use crate::analysis::stats::NetworkStats;
 use crate::dataset::Dataset;
@@ -181,19 +181,21 @@ fn edge_info(d: &Dataset, setting_weight: &[f64]) -> Vec<EdgeInfo> {
     })
 }
 
-/// The people whose attribute `field` is one of `words` (case and surrounding blanks ignored).
+/// True when person `i`'s value in attribute column `c` is one of `words` (case and
+/// surrounding blanks ignored).
+fn attr_is(d: &Dataset, c: usize, i: usize, words: &[&str]) -> bool {
+    d.attrs.values[c]
+        .get(i)
+        .and_then(|v| v.as_deref())
+        .is_some_and(|v| words.iter().any(|w| v.trim().eq_ignore_ascii_case(w)))
+}
+
+/// [`attr_is`] of every person for the attribute `field` (all false when it is absent).
 fn attr_flags(d: &Dataset, field: &str, words: &[&str]) -> Vec<bool> {
     let n = d.people();
     match d.attrs.column(field) {
         None => vec![false; n],
-        Some(c) => (0..n)
-            .map(|i| {
-                d.attrs.values[c]
-                    .get(i)
-                    .and_then(|v| v.as_deref())
-                    .is_some_and(|v| words.iter().any(|w| v.trim().eq_ignore_ascii_case(w)))
-            })
-            .collect(),
+        Some(c) => (0..n).map(|i| attr_is(d, c, i, words)).collect(),
     }
 }
 
@@ -202,11 +204,9 @@ impl Context<'_> {
     fn followup_is(&self, node: u32, words: &[&str]) -> bool {
         match self.followup.get(self.d.ids.name(node)) {
             Some(v) => words.iter().any(|w| v.eq_ignore_ascii_case(w)),
-            None => self.followup_column.is_some_and(|c| {
-                let v = self.d.attrs.values[c].get(node as usize);
-                v.and_then(|v| v.as_deref())
-                    .is_some_and(|v| words.iter().any(|w| v.trim().eq_ignore_ascii_case(w)))
-            }),
+            None => self
+                .followup_column
+                .is_some_and(|c| attr_is(self.d, c, node as usize, words)),
         }
     }
 
@@ -252,12 +252,11 @@ impl Context<'_> {
             f64::from(stats.cores[i]),
             contacts_mean,
         ];
-        // The same arithmetic as `scaled(name, r, preset) * weight`, summed in component order.
         let score = self
             .scale
             .iter()
             .zip(raw)
-            .map(|(&(cap, w), r)| cap.map_or(r, |c| (r / c).clamp(0.0, 1.0)) * w)
+            .map(|(&(cap, w), r)| scale_by(cap, r) * w)
             .sum();
         let (threshold, strict) = self.hub;
         let k = f64::from(degree);
@@ -317,9 +316,8 @@ pub fn rank(
         edge_info: edge_info(d, &setting_weight),
         hub: hub_threshold(&config.hub, stats),
         scale: COMPONENTS.map(|name| {
-            let cap = (!matches!(name, "window" | "setting" | "bridge"))
-                .then(|| preset.caps.get(name).copied().unwrap_or(1.0));
-            (cap, preset.weights.get(name).copied().unwrap_or(0.0))
+            let weight = preset.weights.get(name).copied().unwrap_or(0.0);
+            (cap(name, preset), weight)
         }),
         followup_column: d.attrs.column("followup_status"),
     };
@@ -341,16 +339,8 @@ fn best_first<'a>(out: &[Ranked], name: impl Fn(u32) -> &'a str) -> Vec<u32> {
         .map(|r| (desc(r.score), u32::MAX - r.degree, r.node))
         .collect();
     keys.sort_unstable_by_key(|k| (k.0, k.1));
-    let mut start = 0;
-    while start < keys.len() {
-        let run = keys[start..]
-            .iter()
-            .take_while(|k| (k.0, k.1) == (keys[start].0, keys[start].1))
-            .count();
-        if run > 1 {
-            keys[start..start + run].sort_unstable_by(|a, b| name(a.2).cmp(name(b.2)));
-        }
-        start += run;
+    for run in keys.chunk_by_mut(|x, y| (x.0, x.1) == (y.0, y.1)) {
+        run.sort_unstable_by(|a, b| name(a.2).cmp(name(b.2)));
     }
     keys.into_iter().map(|k| k.2).collect()
 }

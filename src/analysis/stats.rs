@@ -105,8 +105,8 @@ const MIXING_ATTRIBUTES: [&str; 2] = ["area", "age_group"];
 /// Compute every statistic. The independent parts run as tasks on all cores (triangle counting
 /// itself split across them); each result is the same as computed alone.
 pub fn compute(d: &Dataset, opts: &MetricOptions) -> NetworkStats {
-    let deg = graph::degrees(&d.graph);
-    let deg = &deg[..];
+    let degrees = graph::degrees(&d.graph);
+    let deg = &degrees[..];
     let g = &d.graph;
     let (mut clustering, mut cores, mut bridges, mut components) = (None, None, None, None);
     let (mut mixing, mut r_set, mut null, mut rest) = (None, None, None, None);
@@ -141,7 +141,7 @@ pub fn compute(d: &Dataset, opts: &MetricOptions) -> NetworkStats {
         components: components.expect("task ran"),
         attribute_mixing: mixing.expect("task ran"),
         r_by_setting: r_set.expect("task ran"),
-        degrees: deg.to_vec(),
+        degrees,
     }
 }
 

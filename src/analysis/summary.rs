@@ -5,7 +5,6 @@
 use serde::Serialize;
 
 use crate::dataset::Dataset;
-use crate::graph;
 use crate::ingest::ledger::Counts;
 
 /// Component figures.
@@ -68,15 +67,9 @@ pub struct ViewSummary {
     pub exposure_rows: u64,
 }
 
-/// Compute the summary of a dataset.
-pub fn summarise(d: &Dataset) -> Summary {
-    let deg = graph::degrees(&d.graph);
-    let (_, sizes) = graph::components(&d.graph);
-    summarise_with(d, &deg, &sizes)
-}
-
-/// The summary from degrees and component sizes already computed.
-pub fn summarise_with(d: &Dataset, deg: &[u32], sizes: &[u32]) -> Summary {
+/// The summary of a dataset, from its degrees and component sizes (computed once, with the
+/// statistics).
+pub fn summarise(d: &Dataset, deg: &[u32], sizes: &[u32]) -> Summary {
     let largest = sizes.iter().copied().max().unwrap_or(0);
     let n = d.people();
     Summary {

@@ -38,8 +38,8 @@ impl NewIds {
         }
     }
 
-    /// Node indices of the (source, target) pairs, in order: `out` gets two per pair. `beside`
-    /// runs on a core of its own while the IDs are looked up when `parallel` is set.
+    /// Node indices of the (source, target) pairs, in order, two per pair. `beside` runs on a
+    /// core of its own while the IDs are looked up when `parallel` is set.
     pub fn number<R: Send>(
         &mut self,
         ids: &IdMap,
@@ -93,14 +93,12 @@ impl NewIds {
         out
     }
 
-    /// Append the new IDs to `ids` in node order and start afresh.
-    pub fn finish(&mut self, ids: &mut IdMap) {
+    /// Append the new IDs to `ids` in node order.
+    pub fn finish(self, ids: &mut IdMap) {
         for &(w, local) in &self.order {
             let (i, new) = ids.intern(self.shards[w as usize].name(local));
             debug_assert!(new && i as usize + 1 == ids.len());
         }
-        let case = ids.case_sensitive();
-        *self = NewIds::new(case);
     }
 }
 

@@ -412,7 +412,7 @@ impl ExposureRows {
     /// At the end of an exposures table: add the IDs it introduced to `ids`, numbered as the
     /// rows' node indices already are.
     pub fn finish_ids(&mut self, ids: &mut IdMap) {
-        if let Some(mut n) = self.new_ids.take() {
+        if let Some(n) = self.new_ids.take() {
             n.finish(ids);
         }
     }

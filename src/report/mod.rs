@@ -17,7 +17,7 @@ pub mod tables;
 use crate::analysis::planning::{self, Plan, PlanOptions};
 use crate::analysis::ranking::{rank_settled, settings, RankRequest, RankedList};
 use crate::analysis::stats::{self, MetricOptions, NetworkStats};
-use crate::analysis::summary::{summarise_with, Summary};
+use crate::analysis::summary::{summarise, Summary};
 use crate::dataset::Dataset;
 use crate::error::Result;
 use crate::workspace::PersonState;
@@ -81,7 +81,7 @@ impl Report {
             plan
         });
         Ok(Report {
-            summary: summarise_with(&d, &stats.degrees, &stats.components.1),
+            summary: summarise(&d, &stats.degrees, &stats.components.1),
             stats,
             list,
             plan,
