@@ -17,6 +17,7 @@ use crate::dataset::Dataset;
 use crate::error::{Error, Result};
 use crate::ingest::reconcile::NO_DATE;
 use crate::workspace::PersonState;
+use rayon::prelude::*;
 
 /// What the user chose for a list.
 #[derive(Debug, Clone, Default)]
@@ -33,6 +34,9 @@ pub struct RankRequest {
     pub filters: Filters,
     /// Keep only the cluster of this person (resolved into `filters.cluster`).
     pub cluster_of: Option<String>,
+    /// Order only the first `top` people kept (None: order everyone). The counts of the list
+    /// (`people`, `overdue`) still cover everyone kept.
+    pub top: Option<usize>,
 }
 
 /// The monitoring window in force.
@@ -48,8 +52,12 @@ pub struct Window {
 
 /// A ranked list with the settings that produced it.
 pub struct RankedList {
-    /// The people kept, best first.
+    /// The people kept, best first (only the first `top` when the request set it).
     pub ranked: Vec<Ranked>,
+    /// How many people the filters kept (`ranked.len()` unless the request set `top`).
+    pub people: usize,
+    /// How many of them are overdue.
+    pub overdue: usize,
     /// Preset name and weights.
     pub preset: (String, Preset),
     /// The monitoring window.
@@ -120,14 +128,49 @@ pub fn rank_settled(
             .ok_or_else(|| Error::Usage(format!("no person with ID \"{id}\"")))?;
         filters.cluster = Some(stats.components.0[node as usize]);
     }
-    let mut ranked = rank(d, stats, &config, &preset.1, window.days, &followup);
-    if !filters.is_empty() {
-        let index = FilterIndex::build(d, stats, &ranked, &followup);
-        let keep = index.apply(&filters, d)?;
-        ranked = keep.iter().map(|&i| ranked[i as usize].clone()).collect();
-    }
+    let ctx = Context::new(d, stats, &config, &preset.1, window.days, &followup);
+    let (ranked, people, overdue) = if filters.is_empty() && req.top.is_some() {
+        // Keys and counts in one pass; the entries are then built again for the people shown
+        // only, straight into their places.
+        let (mut keys, mut late) = (Vec::new(), Vec::<bool>::new());
+        (0..d.people())
+            .into_par_iter()
+            .map(|i| {
+                let r = ctx.rank_one(i);
+                (key(&r), r.overdue)
+            })
+            .unzip_into_vecs(&mut keys, &mut late);
+        let overdue = late.par_iter().filter(|&&x| x).count();
+        let people = keys.len();
+        let order = best_first(keys, req.top, |i| d.ids.name(i));
+        let ranked = on_all_cores(order.len(), |i| ctx.rank_one(order[i] as usize));
+        (ranked, people, overdue)
+    } else {
+        let out = on_all_cores(d.people(), |i| ctx.rank_one(i));
+        // `out` is in node order, so the positions the filters keep are nodes.
+        let keep = match filters.is_empty() {
+            true => None,
+            false => Some(FilterIndex::build(d, stats, &out, &followup).apply(&filters, d)?),
+        };
+        let (keys, people, overdue) = match keep {
+            None => (
+                out.par_iter().map(key).collect(),
+                out.len(),
+                out.par_iter().filter(|r| r.overdue).count(),
+            ),
+            Some(k) => (
+                k.par_iter().map(|&i| key(&out[i as usize])).collect(),
+                k.len(),
+                k.iter().filter(|&&i| out[i as usize].overdue).count(),
+            ),
+        };
+        let order = best_first(keys, req.top, |i| d.ids.name(i));
+        (gather(&out, &order), people, overdue)
+    };
     Ok(RankedList {
         ranked,
+        people,
+        overdue,
         preset,
         window,
         filters,
@@ -195,7 +238,7 @@ fn attr_flags(d: &Dataset, field: &str, words: &[&str]) -> Vec<bool> {
     let n = d.people();
     match d.attrs.column(field) {
         None => vec![false; n],
-        Some(c) => (0..n).map(|i| attr_is(d, c, i, words)).collect(),
+        Some(c) => on_all_cores(n, |i| attr_is(d, c, i, words)),
     }
 }
 
@@ -229,7 +272,6 @@ impl Context<'_> {
         let window_end = last.map(|l| l + self.window_days as i32);
         let days_left = window_end.map(|e| e - d.as_of);
         let inside = days_left.is_some_and(|x| x >= 0);
-        let completed = self.followup_is(node, &["completed", "complete"]);
         let window = match (last, inside) {
             (Some(l), true) if self.window_days > 0 => {
                 (f64::from(d.as_of - l) / f64::from(self.window_days)).clamp(0.0, 1.0)
@@ -268,7 +310,9 @@ impl Context<'_> {
             last_exposure: last,
             window_end,
             days_left,
-            overdue: days_left.is_some_and(|x| x < 0) && !completed,
+            // The follow-up state is looked up only for those whose window is over.
+            overdue: days_left.is_some_and(|x| x < 0)
+                && !self.followup_is(node, &["completed", "complete"]),
             high_degree: if strict {
                 k > threshold
             } else {
@@ -289,84 +333,113 @@ pub fn rank(
     window_days: u32,
     followup: &HashMap<String, String>,
 ) -> Vec<Ranked> {
-    let n = d.people();
-    let mut bridge = vec![false; n];
-    for &b in &stats.bridges {
-        bridge[b as usize] = true;
-    }
-    let other = config.settings.get("other").copied().unwrap_or(0.5);
-    let setting_weight: Vec<f64> = d
-        .settings
-        .iter()
-        .map(|s| {
-            config
-                .settings
-                .iter()
-                .find(|(k, _)| k.eq_ignore_ascii_case(s))
-                .map_or(other, |(_, w)| *w)
-        })
-        .collect();
-    let ctx = Context {
-        d,
-        stats,
-        window_days,
-        followup,
-        is_case: attr_flags(d, "role", &["case"]),
-        bridge,
-        edge_info: edge_info(d, &setting_weight),
-        hub: hub_threshold(&config.hub, stats),
-        scale: COMPONENTS.map(|name| {
-            let weight = preset.weights.get(name).copied().unwrap_or(0.0);
-            (cap(name, preset), weight)
-        }),
-        followup_column: d.attrs.column("followup_status"),
-    };
-    let out = on_all_cores(n, |i| ctx.rank_one(i));
-    let order = best_first(&out, |i| d.ids.name(i));
-    on_all_cores(n, |i| out[order[i] as usize].clone())
+    let ctx = Context::new(d, stats, config, preset, window_days, followup);
+    let out = on_all_cores(d.people(), |i| ctx.rank_one(i));
+    let order = best_first(out.par_iter().map(key).collect(), None, |i| d.ids.name(i));
+    gather(&out, &order)
 }
 
-/// The order of the list: higher score first, then more contacts, then ID. The integer key of
-/// (score, contacts) is sorted first; IDs are compared only within runs of equal keys.
-fn best_first<'a>(out: &[Ranked], name: impl Fn(u32) -> &'a str) -> Vec<u32> {
-    // `total_cmp` order as unsigned integers, reversed for "higher first".
-    let desc = |x: f64| {
-        let b = x.to_bits();
-        !(if b >> 63 == 1 { !b } else { b | 1 << 63 })
-    };
-    let mut keys: Vec<(u64, u32, u32)> = out
-        .iter()
-        .map(|r| (desc(r.score), u32::MAX - r.degree, r.node))
-        .collect();
-    keys.sort_unstable_by_key(|k| (k.0, k.1));
-    for run in keys.chunk_by_mut(|x, y| (x.0, x.1) == (y.0, y.1)) {
-        run.sort_unstable_by(|a, b| name(a.2).cmp(name(b.2)));
-    }
-    keys.into_iter().map(|k| k.2).collect()
-}
-
-/// `f(0..n)` on all cores, in order (people are independent).
-fn on_all_cores<T: Send>(n: usize, f: impl Fn(usize) -> T + Sync) -> Vec<T> {
-    let threads = std::thread::available_parallelism()
-        .map_or(1, |t| t.get())
-        .clamp(1, 8);
-    let chunk = n.div_ceil(threads).max(1);
-    std::thread::scope(|sc| {
-        let handles: Vec<_> = (0..threads)
-            .map(|t| {
-                let f = &f;
-                sc.spawn(move || {
-                    (t * chunk..((t + 1) * chunk).min(n))
-                        .map(f)
-                        .collect::<Vec<_>>()
-                })
+impl<'a> Context<'a> {
+    fn new(
+        d: &'a Dataset,
+        stats: &'a NetworkStats,
+        config: &PriorityConfig,
+        preset: &Preset,
+        window_days: u32,
+        followup: &'a HashMap<String, String>,
+    ) -> Context<'a> {
+        let n = d.people();
+        let mut bridge = vec![false; n];
+        for &b in &stats.bridges {
+            bridge[b as usize] = true;
+        }
+        let other = config.settings.get("other").copied().unwrap_or(0.5);
+        let setting_weight: Vec<f64> = d
+            .settings
+            .iter()
+            .map(|s| {
+                config
+                    .settings
+                    .iter()
+                    .find(|(k, _)| k.eq_ignore_ascii_case(s))
+                    .map_or(other, |(_, w)| *w)
             })
             .collect();
-        handles
-            .into_iter()
-            .flat_map(|h| h.join().unwrap_or_else(|e| std::panic::resume_unwind(e)))
-            .collect()
-    })
+        Context {
+            d,
+            stats,
+            window_days,
+            followup,
+            is_case: attr_flags(d, "role", &["case"]),
+            bridge,
+            edge_info: edge_info(d, &setting_weight),
+            hub: hub_threshold(&config.hub, stats),
+            scale: COMPONENTS.map(|name| {
+                let weight = preset.weights.get(name).copied().unwrap_or(0.0);
+                (cap(name, preset), weight)
+            }),
+            followup_column: d.attrs.column("followup_status"),
+        }
+    }
+}
+
+/// The sort key of an entry: (score descending, contacts descending) as integers, then node.
+fn key(r: &Ranked) -> (u64, u32, u32) {
+    // `total_cmp` order as unsigned integers, reversed for "higher first".
+    let b = r.score.to_bits();
+    let desc = !(if b >> 63 == 1 { !b } else { b | 1 << 63 });
+    (desc, u32::MAX - r.degree, r.node)
+}
+
+/// The entries at `order`, in that order.
+fn gather(out: &[Ranked], order: &[u32]) -> Vec<Ranked> {
+    let mut v = Vec::new();
+    order
+        .par_iter()
+        .map(|&i| out[i as usize].clone())
+        .collect_into_vec(&mut v);
+    v
+}
+
+/// The order of the list (see [`key`]): higher score first, then more contacts, then ID; only
+/// the first `top` when asked. The integer keys are sorted first, IDs compared only within runs
+/// of equal keys; for `top`, the entries that can be among the first `top` are selected in
+/// linear time and only they are sorted.
+fn best_first<'a>(
+    mut keys: Vec<(u64, u32, u32)>,
+    top: Option<usize>,
+    name: impl Fn(u32) -> &'a str + Sync,
+) -> Vec<u32> {
+    let int = |k: &(u64, u32, u32)| (k.0, k.1);
+    let top = top.filter(|&t| t > 0);
+    if let Some(top) = top.filter(|&t| t < keys.len()) {
+        // Everything before the pivot has a key no greater, everything after no smaller; the
+        // entries after it with the pivot's key are tied with it and may belong in the top.
+        let pivot = int(keys.select_nth_unstable_by_key(top - 1, int).1);
+        let mut end = top;
+        for j in top..keys.len() {
+            if int(&keys[j]) == pivot {
+                keys.swap(end, j);
+                end += 1;
+            }
+        }
+        keys.truncate(end);
+    }
+    keys.par_sort_unstable_by_key(int);
+    keys.par_chunk_by_mut(|x, y| int(x) == int(y))
+        .for_each(|run| run.sort_unstable_by(|a, b| name(a.2).cmp(name(b.2))));
+    let mut order: Vec<u32> = keys.into_iter().map(|k| k.2).collect();
+    if let Some(top) = top {
+        order.truncate(top);
+    }
+    order
+}
+
+/// `f(0..n)` on all cores, in order (people are independent), written in place.
+fn on_all_cores<T: Send>(n: usize, f: impl Fn(usize) -> T + Sync + Send) -> Vec<T> {
+    let mut v = Vec::new();
+    (0..n).into_par_iter().map(f).collect_into_vec(&mut v);
+    v
 }
 
 #[cfg(test)]
@@ -409,7 +482,26 @@ mod tests {
                     .then_with(|| y.degree.cmp(&x.degree))
                     .then_with(|| name(a).cmp(name(b)))
             });
-            prop_assert_eq!(best_first(&out, name), want);
+            prop_assert_eq!(best_first(out.iter().map(key).collect(), None, name), want);
+        }
+
+        /// Selecting the first `top` gives the first `top` of the whole order, ties at the cut
+        /// included (scores from few values, so the cut often falls inside a run of ties).
+        #[test]
+        fn top_is_the_head_of_the_whole_order(
+            v in proptest::collection::vec((0i32..3, 0u32..3), 0..200),
+            top in 1usize..220,
+        ) {
+            let out: Vec<Ranked> = v
+                .iter()
+                .enumerate()
+                .map(|(i, &(s, k))| entry(i as u32, f64::from(s), k))
+                .collect();
+            let names: Vec<String> = (0..out.len()).map(|i| format!("P{}-{i}", (i * 31) % 97)).collect();
+            let name = |i: u32| names[i as usize].as_str();
+            let whole = best_first(out.iter().map(key).collect(), None, name);
+            let head = best_first(out.iter().map(key).collect(), Some(top), name);
+            prop_assert_eq!(&head[..], &whole[..top.min(whole.len())]);
         }
     }
 }

@@ -109,6 +109,20 @@ fn one(dir: &Path) -> Result<(), String> {
         hubwatch::analysis::ranking::rank(&d, &stats, &config, &preset, 14, &Default::default());
     let rank_seconds = t.elapsed().as_secs_f64();
     std::hint::black_box(&ranked);
+    // The first 1,000 only, as `priority --top 1000` asks for them (settings loaded as well).
+    let t = Instant::now();
+    let top = hubwatch::analysis::ranking::rank_list(
+        &d,
+        &stats,
+        &hubwatch::analysis::ranking::RankRequest {
+            top: Some(1000),
+            ..Default::default()
+        },
+        &[],
+    )
+    .map_err(|e| e.to_string())?;
+    let rank_top_seconds = t.elapsed().as_secs_f64();
+    std::hint::black_box(&top.ranked);
     let null_seconds = if d.ledger.exposures.read <= 2_000_000 {
         null_model_seconds(&d)
     } else {
@@ -140,7 +154,7 @@ fn one(dir: &Path) -> Result<(), String> {
     let out = json!({
         "rows": d.ledger.exposures.read, "bytes": size, "people": d.people(), "pairs": d.edges.len(),
         "floor": floor, "total": total, "stages": d.timings,
-        "stats_seconds": stats_seconds, "rank_seconds": rank_seconds, "ranked": ranked.len(), "null_seconds": null_seconds, "peak_after_stats": hubwatch::ingest::peak_mib(),
+        "stats_seconds": stats_seconds, "rank_seconds": rank_seconds, "rank_top_seconds": rank_top_seconds, "ranked": ranked.len(), "null_seconds": null_seconds, "peak_after_stats": hubwatch::ingest::peak_mib(),
         "csr_bytes": csr_bytes, "csr_walk": csr_walk,
         "components_seconds": components_seconds, "degree_curve_seconds": degree_curve_seconds,
         "acquaintance_curve_seconds": acquaintance_curve_seconds, "t_curve_seconds": t_curve_seconds, "max_degree": p.len() - 1,

@@ -374,6 +374,7 @@ impl PriorityArgs {
             priority_config: self.priority_config.clone(),
             filters,
             cluster_of: self.cluster_of.clone(),
+            top: None,
         }
     }
 }

@@ -61,6 +61,14 @@ impl Report {
         let settled = parts.rank.as_ref().map(settings).transpose()?;
         let stats = stats::compute(&d, &parts.metrics);
         let list = match (&parts.rank, settled) {
+            (Some(req), Some(s)) if parts.plan.is_some() && req.top.is_some() => {
+                // The outlook's priority strategy follows the whole list.
+                let whole = RankRequest {
+                    top: None,
+                    ..req.clone()
+                };
+                Some(rank_settled(&d, &stats, &whole, &parts.states, s)?)
+            }
             (Some(req), Some(s)) => Some(rank_settled(&d, &stats, req, &parts.states, s)?),
             _ => None,
         };

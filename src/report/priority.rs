@@ -20,12 +20,10 @@ pub fn priority_text(d: &Dataset, list: &RankedList, top: usize) -> String {
         w.pathogen,
         w.source
     );
-    let overdue = ranked.iter().filter(|r| r.overdue).count();
     let _ = writeln!(
         s,
         "{} people on the list; {} overdue (window over, follow-up not completed)\n",
-        ranked.len(),
-        overdue
+        list.people, list.overdue
     );
     let _ = writeln!(
         s,
@@ -83,8 +81,8 @@ pub fn priority_json(d: &Dataset, list: &RankedList, top: usize) -> serde_json::
         "weights": p.weights,
         "caps": p.caps,
         "window": {"pathogen": w.pathogen, "days": w.days, "source": w.source},
-        "people": ranked.len(),
-        "overdue": ranked.iter().filter(|r| r.overdue).count(),
+        "people": list.people,
+        "overdue": list.overdue,
         "list": ranked.iter().take(shown).enumerate().map(|(i, r)| serde_json::json!({
             "rank": i + 1,
             "id": d.ids.name(r.node),

@@ -203,6 +203,31 @@ fn priority_list_as_json_carries_the_caution_and_the_settings() {
 }
 
 #[test]
+fn the_top_of_the_list_is_the_head_of_the_whole_list() {
+    // `--top N` orders only the first N (selected without sorting everyone); the list, the
+    // people count and the overdue count must equal the whole list's, with and without a
+    // filter (common practice, no source: a top-N list is the head of the full list).
+    for extra in [&[][..], &["--role", "contact"][..]] {
+        let run = |top: &str| {
+            let mut args = vec!["priority", "--json", "--as-of", "2026-11-28", "--top", top];
+            args.extend_from_slice(extra);
+            let (code, out, err) = hubwatch(&args);
+            assert_eq!(code, 0, "{err}");
+            serde_json::from_str::<serde_json::Value>(&out).unwrap()
+        };
+        let whole = run("0");
+        let all = whole["list"].as_array().unwrap();
+        assert!(all.len() > 10, "the sample list is long enough to cut");
+        for top in [1usize, 7, 10] {
+            let head = run(&top.to_string());
+            assert_eq!(head["people"], whole["people"]);
+            assert_eq!(head["overdue"], whole["overdue"]);
+            assert_eq!(head["list"].as_array().unwrap()[..], all[..top]);
+        }
+    }
+}
+
+#[test]
 fn the_quarantine_file_neutralises_formula_cells() {
     // A raw row a spreadsheet would run as a formula is written with a leading apostrophe, as
     // every file of the one writer (OWASP, "CSV Injection"). Issue 11: check's quarantine file

@@ -7,7 +7,12 @@ use crate::report::{priority, Parts, Report};
 /// Print the first `top` people of the list (0: all).
 pub fn run(load: &LoadArgs, rank: &PriorityArgs, top: usize, as_json: bool) -> Result<()> {
     let d = load.load()?;
-    let r = Report::build(d, ranking_parts(load, rank, None)?)?;
+    let mut parts = ranking_parts(load, rank, None)?;
+    if let Some(req) = parts.rank.as_mut() {
+        // Only the shown people are ordered; the counts still cover everyone.
+        req.top = (top > 0).then_some(top);
+    }
+    let r = Report::build(d, parts)?;
     let list = r.list.as_ref().expect("ranking asked for");
     emit(&if as_json {
         to_json(&priority::priority_json(&r.d, list, top))?
