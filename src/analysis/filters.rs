@@ -9,6 +9,8 @@
 
 use std::collections::HashMap;
 
+use rayon::prelude::*;
+
 use crate::analysis::priority::Ranked;
 use crate::analysis::stats::NetworkStats;
 use crate::dataset::Dataset;
@@ -109,37 +111,49 @@ pub struct FilterIndex {
     nodes: Vec<u32>,
 }
 
-/// Distinct non-empty values of a people attribute, one spelling each, sorted without case.
-fn distinct(d: &Dataset, field: &str) -> Vec<String> {
-    let Some(c) = d.attrs.column(field) else {
-        return Vec::new();
-    };
-    let mut set = std::collections::BTreeMap::new();
-    for v in d.attrs.values[c].iter().flatten() {
-        let v = v.trim();
-        if !v.is_empty() {
-            set.entry(v.to_lowercase()).or_insert_with(|| v.to_string());
-        }
-    }
-    set.into_values().collect()
+/// Each person's value of an attribute column as an index into the column's distinct trimmed
+/// values (in order of first appearance; u32::MAX: none or blank), and those values. Hashing
+/// borrowed strings, no text is copied per person.
+fn raw_codes(d: &Dataset, c: usize) -> (Vec<u32>, Vec<&str>) {
+    let mut seen: HashMap<&str, u32> = HashMap::new();
+    let mut raws: Vec<&str> = Vec::new();
+    let codes = d.attrs.values[c]
+        .iter()
+        .map(|v| match v.as_deref().map(str::trim) {
+            Some(v) if !v.is_empty() => *seen.entry(v).or_insert_with(|| {
+                raws.push(v);
+                raws.len() as u32 - 1
+            }),
+            _ => u32::MAX,
+        })
+        .collect();
+    (codes, raws)
 }
 
-/// Each person's value of `field` as an index into `values` (u32::MAX: none).
-fn codes(d: &Dataset, field: &str, values: &[String]) -> Vec<u32> {
-    let index: HashMap<String, u32> = values
-        .iter()
-        .enumerate()
-        .map(|(i, v)| (v.to_lowercase(), i as u32))
-        .collect();
-    let mut out = vec![u32::MAX; d.people()];
-    if let Some(c) = d.attrs.column(field) {
-        for (node, v) in d.attrs.values[c].iter().enumerate() {
-            if let Some(&i) = v.as_ref().and_then(|v| index.get(&v.trim().to_lowercase())) {
-                out[node] = i;
-            }
-        }
+/// The distinct non-empty values of a people attribute, one spelling each (the first person's),
+/// sorted without case, and each person's value as an index into them (u32::MAX: none).
+fn coded(d: &Dataset, field: &str) -> (Vec<String>, Vec<u32>) {
+    let Some(c) = d.attrs.column(field) else {
+        return (Vec::new(), vec![u32::MAX; d.people()]);
+    };
+    let (mut codes, raws) = raw_codes(d, c);
+    // The raw values come in order of first appearance, so the first spelling of each
+    // lower-case value is the first person's.
+    let lower: Vec<String> = raws.iter().map(|r| r.to_lowercase()).collect();
+    let mut set = std::collections::BTreeMap::new();
+    for (l, r) in lower.iter().zip(&raws) {
+        set.entry(l.as_str()).or_insert(*r);
     }
-    out
+    let index: HashMap<&str, u32> = set
+        .keys()
+        .enumerate()
+        .map(|(i, &l)| (l, i as u32))
+        .collect();
+    let of_raw: Vec<u32> = lower.iter().map(|l| index[l.as_str()]).collect();
+    for x in codes.iter_mut().filter(|x| **x != u32::MAX) {
+        *x = of_raw[*x as usize];
+    }
+    (set.into_values().map(str::to_string).collect(), codes)
 }
 
 /// The setting bits of every person (codes 1..=64).
@@ -156,6 +170,14 @@ fn setting_bits(d: &Dataset) -> Vec<u64> {
         bits[d.edges.b[e] as usize] |= b;
     }
     bits
+}
+
+/// A follow-up value as (its index into FOLLOWUP_STATES, whether it counts as reached).
+fn followup_state(v: &str) -> (u8, bool) {
+    (
+        state_code(v),
+        REACHED.iter().any(|w| v.trim().eq_ignore_ascii_case(w)),
+    )
 }
 
 /// A follow-up word as an index into FOLLOWUP_STATES (their count when it is none of them).
@@ -175,39 +197,53 @@ impl FilterIndex {
         ranked: &[Ranked],
         followup: &HashMap<String, String>,
     ) -> FilterIndex {
-        let values = FIELDS.map(|f| distinct(d, f));
-        let by_node: Vec<Vec<u32>> = FIELDS
-            .iter()
-            .zip(&values)
-            .map(|(f, v)| codes(d, f, v))
-            .collect();
+        let coded: Vec<(Vec<String>, Vec<u32>)> = FIELDS.par_iter().map(|f| coded(d, f)).collect();
         let bits = setting_bits(d);
-        let per = |f: &dyn Fn(&Ranked) -> u32| ranked.iter().map(f).collect::<Vec<u32>>();
-        let mut ix = FilterIndex {
-            codes: [0, 1, 2, 3].map(|c| per(&|r| by_node[c][r.node as usize])),
-            settings: ranked.iter().map(|r| bits[r.node as usize]).collect(),
+        let per =
+            |f: &(dyn Fn(&Ranked) -> u32 + Sync)| ranked.par_iter().map(f).collect::<Vec<u32>>();
+        // The export's follow-up column, coded once per distinct value.
+        let column = d.attrs.column("followup_status").map(|c| {
+            let (codes, raws) = raw_codes(d, c);
+            let states: Vec<(u8, bool)> = raws.iter().map(|v| followup_state(v)).collect();
+            (codes, states)
+        });
+        let none = (FOLLOWUP_STATES.len() as u8, false);
+        let (mut followup_codes, mut reached) = (Vec::new(), Vec::new());
+        ranked
+            .par_iter()
+            .map(|r| {
+                let own = (!followup.is_empty())
+                    .then(|| followup.get(d.ids.name(r.node)))
+                    .flatten();
+                match (own, &column) {
+                    (Some(v), _) => followup_state(v),
+                    (None, Some((codes, states))) => match codes[r.node as usize] {
+                        u32::MAX => none,
+                        x => states[x as usize],
+                    },
+                    (None, None) => none,
+                }
+            })
+            .unzip_into_vecs(&mut followup_codes, &mut reached);
+        let mut values: [Vec<String>; 4] = Default::default();
+        let mut codes: [Vec<u32>; 4] = Default::default();
+        for (c, (v, by_node)) in coded.into_iter().enumerate() {
+            codes[c] = per(&|r| by_node[r.node as usize]);
+            values[c] = v;
+        }
+        FilterIndex {
+            codes,
+            settings: ranked.par_iter().map(|r| bits[r.node as usize]).collect(),
             component: per(&|r| stats.components.0[r.node as usize]),
             in_window: ranked
-                .iter()
+                .par_iter()
                 .map(|r| r.days_left.is_some_and(|x| x >= 0))
                 .collect(),
-            followup: Vec::with_capacity(ranked.len()),
-            reached: Vec::with_capacity(ranked.len()),
+            followup: followup_codes,
+            reached,
             nodes: per(&|r| r.node),
             values,
-        };
-        for r in ranked {
-            let state = followup
-                .get(d.ids.name(r.node))
-                .map(String::as_str)
-                .or_else(|| d.attrs.get("followup_status", r.node));
-            ix.followup
-                .push(state.map_or(FOLLOWUP_STATES.len() as u8, state_code));
-            ix.reached.push(
-                state.is_some_and(|v| REACHED.iter().any(|w| v.trim().eq_ignore_ascii_case(w))),
-            );
         }
-        ix
     }
 
     /// Number of entries.

@@ -59,7 +59,14 @@ impl Report {
         // Load and check the preset and pathogen before the statistics (a bad name fails fast),
         // once.
         let settled = parts.rank.as_ref().map(settings).transpose()?;
+        let t = std::time::Instant::now();
+        let lap = |what: &str| {
+            if std::env::var_os("HUBWATCH_STAGES").is_some() {
+                eprintln!("report: {what} at {:.3} s", t.elapsed().as_secs_f64());
+            }
+        };
         let stats = stats::compute(&d, &parts.metrics);
+        lap("statistics");
         let list = match (&parts.rank, settled) {
             (Some(req), Some(s)) if parts.plan.is_some() && req.top.is_some() => {
                 // The outlook's priority strategy follows the whole list.
@@ -72,6 +79,7 @@ impl Report {
             (Some(req), Some(s)) => Some(rank_settled(&d, &stats, req, &parts.states, s)?),
             _ => None,
         };
+        lap("ranking");
         let mut id_rank = None;
         let plan = parts.plan.as_ref().map(|opts| {
             let order = opts
@@ -88,6 +96,7 @@ impl Report {
             id_rank = Some(ranks);
             plan
         });
+        lap("outlook");
         Ok(Report {
             summary: summarise(&d, &stats.degrees, &stats.components.1),
             stats,

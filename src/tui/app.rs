@@ -98,6 +98,8 @@ pub struct App {
     pub states: HashMap<String, PersonState>,
     /// Workspace file.
     pub workspace_path: PathBuf,
+    /// The outlook computed by the model's worker has been taken up (see [`App::catch_up`]).
+    outlook_ready: bool,
 }
 
 impl App {
@@ -143,12 +145,26 @@ impl App {
             workspace_path: m.workspace_path.clone(),
             views: Views::default(),
             reach_all: false,
+            outlook_ready: false,
         };
         app.refilter(m);
         app.set_t(m, None);
         app.update_cluster_bridges(m);
         app.refresh_views(m);
+        app.catch_up(m);
         app
+    }
+
+    /// Take up work the model's workers have finished since the last call (the outlook);
+    /// true when something arrived (redraw).
+    pub fn catch_up(&mut self, m: &Model) -> bool {
+        if self.outlook_ready || m.plan().is_none() {
+            return false;
+        }
+        self.outlook_ready = true;
+        self.set_t(m, None);
+        self.views.outlook = outlook_pane::view(m, self);
+        true
     }
 
     /// Recompute the panes' view models from the state.
@@ -288,11 +304,20 @@ impl App {
     /// unknown) and recompute the Outlook figures.
     /// Set T from the keys (None: back to the T the outlook was computed with, possibly
     pub fn set_t(&mut self, m: &Model, keyed: Option<f64>) {
+        let Some(plan) = m.plan() else {
+            if keyed.is_some() {
+                self.say(
+                    "the outlook is still being computed; T can be set when it is shown",
+                    true,
+                );
+            }
+            return;
+        };
         let (t, source) = match keyed {
-            None => (m.plan.t, crate::report::outlook::assumption(&m.plan)),
+            None => (plan.t, crate::report::outlook::assumption(plan)),
             Some(t) => {
                 let t = ((t * 100.0).round() / 100.0).clamp(0.0, 1.0);
-                let was = match &m.plan.source {
+                let was = match &plan.source {
                     TSource::User => "the value given",
                     TSource::SecondaryAttackRate { .. } => "the secondary attack rate",
                     TSource::Unknown(_) => "unknown",
@@ -302,9 +327,8 @@ impl App {
                 (Some(t), source)
             }
         };
-        let at_t = t.map(|t| outlook::indicators(&m.plan.p, t));
-        let below = m
-            .plan
+        let at_t = t.map(|t| outlook::indicators(&plan.p, t));
+        let below = plan
             .strategies
             .iter()
             .map(|s| {

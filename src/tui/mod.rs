@@ -184,7 +184,7 @@ pub fn run(start: Start) -> Result<()> {
                 panic!("panic requested by HUBWATCH_TEST_PANIC");
             }
         }
-        if app.poll_jobs(&model) {
+        if app.poll_jobs(&model) || app.catch_up(&model) {
             dirty = true;
         }
         let wait = if app.scope_pending.is_some() { 30 } else { 200 };

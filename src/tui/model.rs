@@ -6,7 +6,7 @@ use std::sync::{Arc, OnceLock};
 
 use crate::analysis::filters::FilterIndex;
 use crate::analysis::planning::{Plan, PlanOptions, Strategy};
-use crate::analysis::priority::Ranked;
+use crate::analysis::priority::{cap, scale_by, Preset, Ranked, COMPONENTS};
 use crate::analysis::ranking::{followup_map, RankRequest, RankedList};
 use crate::analysis::stats::{MetricOptions, NetworkStats};
 use crate::analysis::summary::Summary;
@@ -18,6 +18,7 @@ use crate::metrics::neighbours::{neighbours_of, Neighbours};
 use crate::metrics::Stat;
 use crate::report::{Parts, Report};
 use crate::workspace::PersonState;
+use rayon::prelude::*;
 
 /// Degree figures of the whole network or of one cluster (what the Degrees and Neighbours panes
 /// show).
@@ -99,8 +100,8 @@ pub struct ClusterRow {
 
 /// The precomputed model.
 pub struct Model {
-    /// The loaded export.
-    pub d: Dataset,
+    /// The loaded export (shared with the workers).
+    pub d: Arc<Dataset>,
     /// Headline counts.
     pub summary: Summary,
     /// Every statistic.
@@ -111,8 +112,11 @@ pub struct Model {
     pub list: RankedList,
     /// Position of each person in `list.ranked` (u32::MAX: not ranked).
     pub rank_pos: Vec<u32>,
-    /// Outlook (reach curves to `reach_limit` people).
-    pub plan: Plan,
+    /// Outlook (reach curves to `reach_limit` people), computed on a worker after the first
+    /// frame; empty until done (see [`Model::plan`]).
+    pub plan_cell: Arc<OnceLock<Plan>>,
+    /// What the outlook being computed follows, for the pane to say while it waits.
+    pub plan_reach: usize,
     /// Components, largest first.
     pub clusters: Vec<ClusterRow>,
 
@@ -121,7 +125,7 @@ pub struct Model {
     /// Every filterable value per ranked entry, in rank order (the one filter engine).
     pub index: FilterIndex,
     /// Ranked indices sorted by contacts (most first), cases met (most first) and days left
-    /// (fewest first), ties in rank order; computed at load beside the outlook.
+    /// (fewest first), ties in rank order; computed at load, before the first frame.
     pub orders: [Vec<u32>; 3],
     /// Per ranked entry: the score component that contributes most ("why is this person
     /// here?").
@@ -161,41 +165,55 @@ impl Model {
                 ..Default::default()
             },
             rank: Some(rank.clone()),
-            plan: Some(PlanOptions {
-                max_reach: dash.reach_limit.min(d.people()).max(1),
-                repeats: dash.reach_repeats.max(1),
-                ..Default::default()
-            }),
+            plan: None,
             states: states.to_vec(),
+        };
+        let plan_options = PlanOptions {
+            max_reach: dash.reach_limit.min(d.people()).max(1),
+            repeats: dash.reach_repeats.max(1),
+            ..Default::default()
         };
         let Report {
             d,
             summary,
             stats,
             list,
-            plan,
-            id_rank,
             ..
         } = Report::build(d, parts)?;
-        let (list, plan) = (
-            list.expect("ranking asked for"),
-            plan.expect("outlook asked for"),
-        );
-        let id_rank = id_rank.unwrap_or_else(|| crate::metrics::reach::id_ranks(&d.ids));
-        let null = background_null_model(&d, &stats.degrees);
+        let lap = |what: &str| {
+            if std::env::var_os("HUBWATCH_STAGES").is_some() {
+                eprintln!("model: {what} at {:.3} s", t.elapsed().as_secs_f64());
+            }
+        };
+        lap("report");
+        let list = list.expect("ranking asked for");
+        let d = Arc::new(d);
+        let id_rank = Arc::new(crate::metrics::reach::id_ranks(&d.ids));
+        lap("ID order");
         let mut rank_pos = vec![u32::MAX; d.people()];
         for (i, r) in list.ranked.iter().enumerate() {
             rank_pos[r.node as usize] = i as u32;
         }
         let orders = sorted_orders(&list.ranked);
+        lap("orders");
         let by_id = in_id_order(&list.ranked, &id_rank);
+        lap("by_id");
         // Already computed with the statistics.
         let whole =
             ScopeStats::from_parts("whole network".into(), &stats.degree, &stats.neighbours);
         let clusters = cluster_rows(&d, &stats);
+        lap("clusters");
         let index = FilterIndex::build(&d, &stats, &list.ranked, &followup_map(states));
-        let main_reason = main_reasons(&list);
+        lap("index");
+        let main_reason = main_reasons(&list.ranked, &list.preset.1);
+        lap("main_reason");
         let quarantine_lines = quarantine_lines(&d.ledger);
+        lap("quarantine");
+        // The workers start after the first frame's parts, so as not to share the cores with
+        // them.
+        let null = background_null_model(&d, &stats.degrees);
+        let plan_reach = plan_options.max_reach;
+        let plan_cell = background_plan(&d, &list, &stats, plan_options, &id_rank);
         Ok(Model {
             quarantine_lines,
             index,
@@ -206,7 +224,8 @@ impl Model {
             whole,
             list,
             rank_pos,
-            plan,
+            plan_cell,
+            plan_reach,
             clusters,
             workspace_path,
             export_dir,
@@ -220,9 +239,14 @@ impl Model {
 
     /// Wait until the background work is done (tests and benchmarks).
     pub fn wait_background(&self) {
-        while self.null.get().is_none() {
+        while self.null.get().is_none() || self.plan_cell.get().is_none() {
             std::thread::sleep(std::time::Duration::from_millis(5));
         }
+    }
+
+    /// The outlook, once the worker has computed it.
+    pub fn plan(&self) -> Option<&Plan> {
+        self.plan_cell.get()
     }
 
     /// The ranked entry of a person, if ranked.
@@ -233,21 +257,41 @@ impl Model {
             .map(|&p| &self.list.ranked[p as usize])
     }
 
-    /// The strategies of the outlook, in report order.
+    /// The strategies of the outlook, in report order (none until it is computed).
     pub fn strategies(&self) -> impl Iterator<Item = Strategy> + '_ {
-        self.plan.strategies.iter().map(|s| s.strategy)
+        self.plan()
+            .into_iter()
+            .flat_map(|p| p.strategies.iter().map(|s| s.strategy))
     }
 }
 
-/// The list sorted by contacts, cases met and days left (stable, so ties keep rank order).
+/// The list sorted by contacts, cases met and days left (ties in rank order). Each is an
+/// unstable sort of (key, rank position) pairs, which are all distinct, so it gives the stable
+/// order; the three run on both cores.
 fn sorted_orders(ranked: &[Ranked]) -> [Vec<u32>; 3] {
-    let base: Vec<u32> = (0..ranked.len() as u32).collect();
-    let mut by_degree = base.clone();
-    by_degree.sort_by_key(|&i| std::cmp::Reverse(ranked[i as usize].degree));
-    let mut by_cases = base.clone();
-    by_cases.sort_by(|&a, &b| ranked[b as usize].raw[1].total_cmp(&ranked[a as usize].raw[1]));
-    let mut by_days = base;
-    by_days.sort_by_key(|&i| ranked[i as usize].days_left.unwrap_or(i32::MAX));
+    let by = |key: &(dyn Fn(&Ranked) -> u64 + Sync)| {
+        let mut v: Vec<(u64, u32)> = ranked
+            .par_iter()
+            .enumerate()
+            .map(|(i, r)| (key(r), i as u32))
+            .collect();
+        v.par_sort_unstable();
+        v.into_iter().map(|(_, i)| i).collect::<Vec<u32>>()
+    };
+    // Descending as ascending integers: the complement of `total_cmp`'s order.
+    let desc = |x: f64| {
+        let b = x.to_bits();
+        !(if b >> 63 == 1 { !b } else { b | 1 << 63 })
+    };
+    let ((by_degree, by_cases), by_days) = rayon::join(
+        || {
+            rayon::join(
+                || by(&|r| u64::from(u32::MAX - r.degree)),
+                || by(&|r| desc(r.raw[1])),
+            )
+        },
+        || by(&|r| (i64::from(r.days_left.unwrap_or(i32::MAX)) - i64::from(i32::MIN)) as u64),
+    );
     [by_degree, by_cases, by_days]
 }
 
@@ -334,6 +378,31 @@ fn background_null_model(d: &Dataset, degrees: &[u32]) -> Arc<OnceLock<NullModel
     null
 }
 
+/// The outlook (reach curves, the S(T) curve), computed on a worker thread so that the first
+/// frame does not wait for it; the cell is empty until it is done. The priority strategy
+/// follows the list's order.
+fn background_plan(
+    d: &Arc<Dataset>,
+    list: &RankedList,
+    stats: &NetworkStats,
+    opts: PlanOptions,
+    id_rank: &Arc<Vec<u32>>,
+) -> Arc<OnceLock<Plan>> {
+    let cell = Arc::new(OnceLock::new());
+    let out = Arc::clone(&cell);
+    let (d, id_rank) = (Arc::clone(d), Arc::clone(id_rank));
+    let order = opts
+        .strategies
+        .contains(&Strategy::Priority)
+        .then(|| list.ranked.iter().map(|r| r.node).collect());
+    let t = crate::analysis::planning::transmissibility_from(opts.transmissibility, &stats.cases);
+    std::thread::spawn(move || {
+        let plan = crate::analysis::planning::plan_with(&d, order, &opts, &id_rank, t);
+        let _ = out.set(plan);
+    });
+    cell
+}
+
 /// Indices into the ranked list in ID order (`id_rank`: each person's place in ID order).
 fn in_id_order(ranked: &[Ranked], id_rank: &[u32]) -> Vec<u32> {
     let mut by_id = vec![u32::MAX; id_rank.len()];
@@ -344,16 +413,100 @@ fn in_id_order(ranked: &[Ranked], id_rank: &[u32]) -> Vec<u32> {
     by_id
 }
 
-/// Per ranked entry: the score component that contributes most.
-fn main_reasons(list: &RankedList) -> Vec<&'static str> {
-    list.ranked
-        .iter()
+/// Per ranked entry: the score component that contributes most (the last of equal ones, as
+/// `Iterator::max_by` picks), without building every part.
+fn main_reasons(ranked: &[Ranked], preset: &Preset) -> Vec<&'static str> {
+    let scale = COMPONENTS.map(|name| {
+        let weight = preset.weights.get(name).copied().unwrap_or(0.0);
+        (cap(name, preset), weight)
+    });
+    let mut out = Vec::new();
+    ranked
+        .par_iter()
         .map(|r| {
-            r.parts(&list.preset.1)
-                .into_iter()
-                .max_by(|a, b| a.contribution.total_cmp(&b.contribution))
-                .map(|p| p.name)
-                .unwrap_or("")
+            let mut best: Option<(usize, f64)> = None;
+            for (i, (&(cap, w), raw)) in scale.iter().zip(r.raw).enumerate() {
+                let c = scale_by(cap, raw) * w;
+                if best.is_none_or(|(_, b)| c.total_cmp(&b).is_ge()) {
+                    best = Some((i, c));
+                }
+            }
+            best.map_or("", |(i, _)| COMPONENTS[i])
         })
-        .collect()
+        .collect_into_vec(&mut out);
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use proptest::prelude::*;
+
+    fn entry(i: usize, degree: u32, cases: f64, days_left: Option<i32>, raw: [f64; 8]) -> Ranked {
+        let mut raw = raw;
+        raw[1] = cases;
+        Ranked {
+            node: i as u32,
+            score: 0.0,
+            raw,
+            degree,
+            last_exposure: None,
+            window_end: None,
+            days_left,
+            overdue: false,
+            high_degree: false,
+            bridge: false,
+        }
+    }
+
+    proptest! {
+        /// The three column orders equal the plain stable sorts (ties in rank order).
+        #[test]
+        fn orders_are_the_stable_sorts(
+            v in proptest::collection::vec((0u32..5, 0u32..4, proptest::option::of(-3i32..3)), 0..200)
+        ) {
+            let ranked: Vec<Ranked> = v
+                .iter()
+                .enumerate()
+                .map(|(i, &(k, c, d))| entry(i, k, f64::from(c), d, [0.0; 8]))
+                .collect();
+            let base: Vec<u32> = (0..ranked.len() as u32).collect();
+            let mut by_degree = base.clone();
+            by_degree.sort_by_key(|&i| std::cmp::Reverse(ranked[i as usize].degree));
+            let mut by_cases = base.clone();
+            by_cases.sort_by(|&a, &b| ranked[b as usize].raw[1].total_cmp(&ranked[a as usize].raw[1]));
+            let mut by_days = base;
+            by_days.sort_by_key(|&i| ranked[i as usize].days_left.unwrap_or(i32::MAX));
+            prop_assert_eq!(sorted_orders(&ranked), [by_degree, by_cases, by_days]);
+        }
+
+        /// The main reason is the component `Ranked::parts` gives the largest contribution
+        /// (the last of equal ones, as `max_by` picks).
+        #[test]
+        fn main_reason_is_the_largest_part(
+            raws in proptest::collection::vec(proptest::array::uniform8(0u8..4), 1..50)
+        ) {
+            let config = crate::analysis::priority::PriorityConfig::load(None).unwrap();
+            let preset = config.preset("balanced").unwrap();
+            let ranked: Vec<Ranked> = raws
+                .iter()
+                .enumerate()
+                .map(|(i, r)| {
+                    let raw = r.map(|x| f64::from(x) / 2.0);
+                    entry(i, 1, raw[1], None, raw)
+                })
+                .collect();
+            let want: Vec<&str> = ranked
+                .iter()
+                .map(|r| {
+                    r.parts(preset)
+                        .into_iter()
+                        .max_by(|a, b| a.contribution.total_cmp(&b.contribution))
+                        .map(|p| p.name)
+                        .unwrap_or("")
+                })
+                .collect();
+            prop_assert_eq!(main_reasons(&ranked, preset), want);
+        }
+    }
 }

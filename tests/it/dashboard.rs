@@ -25,6 +25,7 @@ fn setup(dir: &std::path::Path) -> (Model, App) {
         hubwatch::cli::commands::dashboard::start(&cli.load, &cli.rank, cli.workspace).unwrap();
     let (m, mut app) = hubwatch::tui::prepare(&start).unwrap();
     m.wait_background();
+    app.catch_up(&m);
     app.size = (120, 40);
     (m, app)
 }
@@ -104,21 +105,60 @@ fn figures_match_the_command_line_reports() {
     let s = text(&m, &app, dir.path());
     assert!(s.contains("7 of 49"), "{s}");
     let degree = m
-        .plan
+        .plan()
+        .unwrap()
         .strategies
         .iter()
         .find(|x| x.strategy.name() == "degree")
         .unwrap();
-    let n = degree.below_one(m.plan.t.unwrap()).unwrap();
+    let n = degree.below_one(m.plan().unwrap().t.unwrap()).unwrap();
     assert!(s.contains(&format!("reach {n} to bring R below 1")), "{s}");
     // T keys move T by 0.01 and change R0 accordingly (R0 = T kappa).
     app.act(&m, Action::TUp);
     let t = app.outlook.t.unwrap();
     let r0 = app.outlook.at_t.as_ref().unwrap().r0.unwrap();
-    assert!((r0 - t * m.plan.at_t.kappa.unwrap()).abs() < 1e-12);
+    assert!((r0 - t * m.plan().unwrap().at_t.kappa.unwrap()).abs() < 1e-12);
     assert!(text(&m, &app, dir.path()).contains("set with the keys"));
     app.act(&m, Action::TReset);
-    assert_eq!(app.outlook.t, m.plan.t);
+    assert_eq!(app.outlook.t, m.plan().unwrap().t);
+}
+
+#[test]
+fn the_outlook_arrives_from_its_worker_after_the_first_frame() {
+    // The first frame does not wait for the outlook (issue: first frame at 10M rows). Until the
+    // worker is done the pane says what it is computing, the T keys say why they do nothing,
+    // and every other pane works; when the result arrives it is taken up without a key.
+    let dir = tempfile::tempdir().unwrap();
+    let (mut m, _) = setup(dir.path());
+    let done = m.plan().unwrap().clone();
+    m.plan_cell = std::sync::Arc::new(std::sync::OnceLock::new());
+    let mut app = App::new(&m, Vec::new());
+    app.size = (120, 40);
+    app.act(&m, Action::Go(Pane::Outlook));
+    let s = text(&m, &app, dir.path());
+    assert!(s.contains("Still computing: the outlook"), "{s}");
+    app.act(&m, Action::TUp);
+    assert_eq!(app.outlook.t, None);
+    let s = text(&m, &app, dir.path());
+    assert!(s.contains("still being computed"), "{s}");
+    for pane in [
+        Pane::Overview,
+        Pane::Priority,
+        Pane::Degrees,
+        Pane::Clusters,
+    ] {
+        app.act(&m, Action::Go(pane));
+        assert!(!text(&m, &app, dir.path()).is_empty());
+    }
+    assert!(!app.catch_up(&m), "nothing to take up yet");
+    m.plan_cell.set(done).unwrap();
+    assert!(app.catch_up(&m), "the outlook is taken up once");
+    assert!(!app.catch_up(&m));
+    app.act(&m, Action::Go(Pane::Outlook));
+    let s = text(&m, &app, dir.path());
+    assert!(!s.contains("Still computing"), "{s}");
+    assert!(s.contains("7 of 49"), "{s}");
+    assert_eq!(app.outlook.t, m.plan().unwrap().t);
 }
 
 #[test]
@@ -471,7 +511,7 @@ fn the_reach_chart_zooms_to_the_crossings_and_z_shows_everyone() {
     // crossing, and z toggles to everyone followed (issue 11's pane fix).
     let dir = tempfile::tempdir().unwrap();
     let (m, mut app) = setup(dir.path());
-    let all = m.plan.strategies[0].len();
+    let all = m.plan().unwrap().strategies[0].len();
     let last = app
         .outlook
         .below

@@ -10,21 +10,44 @@ use ratatui::text::{Line, Span};
 use ratatui::widgets::{Axis, Chart, Dataset, GraphType, LegendPosition, Paragraph, Wrap};
 use ratatui::Frame;
 
-use crate::analysis::planning::MODEL_CAUTION_SHORT;
+use crate::analysis::planning::{Plan, MODEL_CAUTION_SHORT};
 use crate::report::fmt::{pct, short as f};
 use crate::tui::app::App;
 use crate::tui::model::Model;
 use crate::tui::theme::Theme;
 use crate::tui::ui::block;
 
-/// Lay out the pane.
+/// Lay out the pane (a note while the worker is still computing the outlook).
 pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
+    let Some(plan) = m.plan() else {
+        let text = vec![
+            Line::from(""),
+            Line::from(Span::styled(
+                format!(
+                    "  Still computing: the outlook (residual R as up to {} people are reached, \
+                     for each strategy, and the expected outbreak size over T).",
+                    m.plan_reach
+                ),
+                th.text,
+            )),
+            Line::from(Span::styled(
+                "  It is worked out in the background and appears here by itself; the other \
+                 panes can be used meanwhile.",
+                th.dim,
+            )),
+        ];
+        let p = Paragraph::new(text)
+            .wrap(Wrap { trim: false })
+            .block(block(" Outlook · computing ".to_string(), th));
+        frame.render_widget(p, area);
+        return;
+    };
     let [top, chart] = Layout::vertical([Constraint::Length(14), Constraint::Min(8)]).areas(area);
     let [figs, reach] =
         Layout::horizontal([Constraint::Percentage(50), Constraint::Percentage(50)]).areas(top);
-    render_figures(frame, figs, m, app, th);
-    render_reach(frame, reach, m, app, th);
-    render_chart(frame, chart, m, app, th);
+    render_figures(frame, figs, plan, app, th);
+    render_reach(frame, reach, plan, app, th);
+    render_chart(frame, chart, plan, app, th);
 }
 
 /// What the Outlook pane's chart and verdict show.
@@ -60,9 +83,11 @@ fn x_range(app: &App, limit: usize) -> usize {
     }
 }
 
-/// The pane's figures for the state.
+/// The pane's figures for the state (empty until the outlook is computed).
 pub fn view(m: &Model, app: &App) -> OutlookView {
-    let plan = &m.plan;
+    let Some(plan) = m.plan() else {
+        return OutlookView::default();
+    };
     let t = app.outlook.t.unwrap_or(0.0);
     let limit = plan.strategies.first().map(|s| s.len()).unwrap_or(0);
     let x_max = x_range(app, limit);
@@ -101,10 +126,9 @@ pub fn view(m: &Model, app: &App) -> OutlookView {
 }
 
 /// The indicators at T, with the model caution.
-fn render_figures(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
+fn render_figures(frame: &mut Frame, area: Rect, plan: &Plan, app: &App, th: &Theme) {
     let o = &app.outlook;
     let mut lines = vec![Line::from(Span::styled(format!("  {}", o.source), th.text))];
-    let plan = &m.plan;
     lines.push(Line::from(format!(
         "  mean excess degree κ {} · threshold T_c {}",
         f(plan.at_t.kappa, 3),
@@ -162,8 +186,8 @@ fn render_figures(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Them
 }
 
 /// Per strategy: how many people to reach to bring R below 1.
-fn render_reach(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
-    let (o, plan) = (&app.outlook, &m.plan);
+fn render_reach(frame: &mut Frame, area: Rect, plan: &Plan, app: &App, th: &Theme) {
+    let o = &app.outlook;
     let mut lines = Vec::new();
     let limit = plan.strategies.first().map(|s| s.len()).unwrap_or(0);
     for (s, below, model) in &o.below {
@@ -197,8 +221,8 @@ fn render_reach(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme)
 }
 
 /// Residual R against people reached, per strategy, with R = 1.
-fn render_chart(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
-    let (v, plan) = (&app.views.outlook, &m.plan);
+fn render_chart(frame: &mut Frame, area: Rect, plan: &Plan, app: &App, th: &Theme) {
+    let v = &app.views.outlook;
     let t = v.t;
     let markers = [Marker::Braille, Marker::Dot, Marker::Bar, Marker::Block];
     let glyph = ["⠒", "•", "▄", "█"];
