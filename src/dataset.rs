@@ -92,11 +92,18 @@ pub fn build(loaded: Loaded, view: &View) -> Result<Dataset> {
         reconcile_secs,
         peak_mib: peak_read,
     } = loaded;
+    give_back_freed_memory();
     let t1 = std::time::Instant::now();
     // The near-duplicate ID check reads only the IDs: it runs beside the merge.
     let (agg, near_duplicates) = std::thread::scope(|sc| {
         let near = sc.spawn(|| ingest::warnings::id_collisions(&ids));
-        let agg = graph::aggregate(&rows, !rows.extras.names.is_empty());
+        // With the whole export in view, the rows' keys are not read again: the sort takes
+        // their array instead of a copy.
+        let keys = match view.is_all() {
+            true => std::mem::take(&mut rows.keys),
+            false => rows.keys.clone(),
+        };
+        let agg = graph::aggregate(&rows, keys, !rows.extras.names.is_empty());
         (
             agg,
             near.join().unwrap_or_else(|p| std::panic::resume_unwind(p)),
@@ -111,11 +118,13 @@ pub fn build(loaded: Loaded, view: &View) -> Result<Dataset> {
         .collect();
     let exposure_extras = std::mem::take(&mut rows.extras);
     let (edges, edge_of_row, rows_in_view) = if view.is_all() {
-        (agg.edges, agg.edge_of_row, rows.keys.len() as u64)
+        (agg.edges, agg.edge_of_row, agg.first_of_pair.len() as u64)
     } else {
         // The ledger above counted every row; the network is built from the view's rows only.
         let keep = view::mask(view, &rows, &settings)?;
-        let sub = graph::aggregate(&rows.subset(&keep), !exposure_extras.names.is_empty());
+        let mut subset = rows.subset(&keep);
+        let keys = std::mem::take(&mut subset.keys);
+        let sub = graph::aggregate(&subset, keys, !exposure_extras.names.is_empty());
         let edge_of_row = if exposure_extras.names.is_empty() {
             Vec::new()
         } else {
@@ -132,6 +141,7 @@ pub fn build(loaded: Loaded, view: &View) -> Result<Dataset> {
         (sub.edges, edge_of_row, in_view)
     };
     drop(rows);
+    give_back_freed_memory();
     let t2 = std::time::Instant::now();
     let graph = graph::adjacency(ids.len(), &edges);
     ledger.warnings.extend(code_like_hubs(&ids, &graph));
@@ -211,5 +221,16 @@ fn count_used(ledger: &mut Ledger, per_file: &[(usize, usize)], first_of_pair: &
             &mut ledger.exposures
         };
         total.add(&f.counts);
+    }
+}
+
+/// Return the allocator's freed memory to the system between load stages: the reader's chunk
+/// buffers and the merge's sort arrays are freed by then, but glibc keeps freed blocks of the
+/// main heap resident until asked, and they would add to the next stage's peak.
+fn give_back_freed_memory() {
+    #[cfg(all(target_os = "linux", target_env = "gnu"))]
+    // SAFETY: malloc_trim only returns free memory of the allocator to the system.
+    unsafe {
+        libc::malloc_trim(0);
     }
 }

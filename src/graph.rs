@@ -12,7 +12,7 @@ use petgraph::Undirected;
 
 use crate::ingest::reconcile::NO_DATE;
 use crate::ingest::rows::ExposureRows;
-use crate::sort::radix_sort_pairs;
+use crate::sort::radix_sort_by_key;
 
 /// The adjacency: node weights unused, edge weight = index into [`Edges`].
 pub type Adjacency = Csr<(), u32, Undirected, u32>;
@@ -161,32 +161,35 @@ impl<'c> Pair<'c> {
 
 /// Collapse rows into pairs. Rows are sorted by pair with a stable radix sort, so the first
 /// row of a pair in input order is the one counted as used.
-pub fn aggregate(rows: &ExposureRows, want_row_edges: bool) -> Aggregated {
+///
+/// `keys` are the rows' pair keys (`rows.keys`, handed over so that the sort works in their
+/// array: a caller that still needs `rows.keys` passes a copy).
+pub fn aggregate(rows: &ExposureRows, mut keys: Vec<u64>, want_row_edges: bool) -> Aggregated {
+    let n = keys.len();
     // Pack (lo, hi) into as few bits as the node count needs, so the radix sort makes fewer passes.
-    let max_hi = rows.keys.iter().map(|k| k & 0xFFFF_FFFF).max().unwrap_or(0);
+    let max_hi = keys.iter().map(|k| k & 0xFFFF_FFFF).max().unwrap_or(0);
     let shift = 64 - max_hi.leading_zeros();
     let pack = |k: u64| (k >> 32) << shift | (k & 0xFFFF_FFFF);
     let unpack = |p: u64| (p >> shift, p & ((1u64 << shift) - 1));
-    let mut order: Vec<(u64, u32)> = rows
-        .keys
-        .iter()
-        .enumerate()
-        .map(|(i, &k)| (pack(k), i as u32))
-        .collect();
-    radix_sort_pairs(&mut order);
+    for k in keys.iter_mut() {
+        *k = pack(*k);
+    }
+    let mut order: Vec<u32> = (0..keys.len() as u32).collect();
+    radix_sort_by_key(&mut keys, &mut order);
     // Two halves, cut where a pair ends, are folded on two cores and joined in order: the
     // same pairs in the same order as one pass.
-    let mut cut = order.len() / 2;
-    while cut > 0 && cut < order.len() && order[cut].0 == order[cut - 1].0 {
+    let mut cut = keys.len() / 2;
+    while cut > 0 && cut < keys.len() && keys[cut] == keys[cut - 1] {
         cut += 1;
     }
-    let (left, right) = order.split_at(cut);
+    let (left, right) = ((&keys[..cut], &order[..cut]), (&keys[cut..], &order[cut..]));
     let has_settings = !rows.fields.setting.is_empty();
     // The left half reserves room for all pairs, so that appending the right half copies
     // nothing but the right half.
-    let fold = |part: &[(u64, u32)], cap: usize| fold_pairs(rows, part, &unpack, has_settings, cap);
-    let (all, half) = (order.len(), right.len());
-    let (mut e, e2) = if order.len() < 100_000 {
+    let fold =
+        |part: (&[u64], &[u32]), cap: usize| fold_pairs(rows, part, &unpack, has_settings, cap);
+    let (all, half) = (keys.len(), right.0.len());
+    let (mut e, e2) = if keys.len() < 100_000 {
         (fold(left, all), fold(right, half))
     } else {
         std::thread::scope(|sc| {
@@ -203,15 +206,15 @@ pub fn aggregate(rows: &ExposureRows, want_row_edges: bool) -> Aggregated {
     e.append(e2);
     // The sorted rows run through the pairs in order: the first row of each pair (in input
     // order, as the sort is stable) is the one used; a new key starts the next pair.
-    let mut first_of_pair = vec![false; rows.keys.len()];
+    let mut first_of_pair = vec![false; n];
     let mut edge_of_row = if want_row_edges {
-        vec![0u32; rows.keys.len()]
+        vec![0u32; n]
     } else {
         Vec::new()
     };
     let mut edge = 0u32;
-    for (i, &(key, r)) in order.iter().enumerate() {
-        if i == 0 || key != order[i - 1].0 {
+    for (i, (&key, &r)) in keys.iter().zip(&order).enumerate() {
+        if i == 0 || key != keys[i - 1] {
             first_of_pair[r as usize] = true;
             edge += u32::from(i > 0);
         }
@@ -229,7 +232,7 @@ pub fn aggregate(rows: &ExposureRows, want_row_edges: bool) -> Aggregated {
 /// Fold sorted rows into pairs.
 fn fold_pairs(
     rows: &ExposureRows,
-    order: &[(u64, u32)],
+    (keys, order): (&[u64], &[u32]),
     unpack: &impl Fn(u64) -> (u64, u64),
     has_settings: bool,
     cap: usize,
@@ -253,12 +256,12 @@ fn fold_pairs(
     }
     let mut codes: Vec<u16> = Vec::new();
     let mut i = 0;
-    while i < order.len() {
-        let key = order[i].0;
+    while i < keys.len() {
+        let key = keys[i];
         let mut j = i;
         let mut pair = Pair::new(&mut codes);
-        while j < order.len() && order[j].0 == key {
-            pair.add(rows, order[j].1 as usize);
+        while j < keys.len() && keys[j] == key {
+            pair.add(rows, order[j] as usize);
             j += 1;
         }
         let (lo, hi) = unpack(key);

@@ -1,18 +1,26 @@
-//! A stable least-significant-digit radix sort of `(key, payload)` pairs.
+//! A stable least-significant-digit radix sort of integer keys with a payload carried along.
 //!
 //! Merging repeated exposure pairs and laying out the adjacency arrays both need tens of
 //! millions of integer keys in order; a radix sort does that in a few linear passes, where a
 //! comparison sort or a hash map of pairs would dominate the load time.
 
-/// Sort by key, keeping the input order of equal keys.
-pub fn radix_sort_pairs(pairs: &mut Vec<(u64, u32)>) {
-    if pairs.len() < 2 {
+/// Sort `keys` and carry `rows` along (the same permutation), keeping the input order of
+/// equal keys. Keys and payloads live in separate arrays: 12 bytes a row in each buffer
+/// instead of a padded 16-byte pair, and the counting pass reads only the keys.
+pub fn radix_sort_by_key(keys: &mut Vec<u64>, rows: &mut Vec<u32>) {
+    assert_eq!(keys.len(), rows.len(), "one payload per key");
+    if keys.len() < 2 {
         return;
     }
-    let max = pairs.iter().map(|p| p.0).max().unwrap_or(0);
+    let max = keys.iter().copied().max().unwrap_or(0);
     let bits = 64 - max.leading_zeros();
-    if pairs.len() < 256 {
+    if keys.len() < 256 {
+        let mut pairs: Vec<(u64, u32)> = keys.iter().copied().zip(rows.iter().copied()).collect();
         pairs.sort_by_key(|p| p.0);
+        for (i, (k, r)) in pairs.into_iter().enumerate() {
+            keys[i] = k;
+            rows[i] = r;
+        }
         return;
     }
     // Digits of at most 11 bits: 2048 buckets keep the scatter within cache and TLB reach,
@@ -20,12 +28,13 @@ pub fn radix_sort_pairs(pairs: &mut Vec<(u64, u32)>) {
     let passes = bits.div_ceil(11).max(1);
     let width = bits.div_ceil(passes);
     let mask = (1u64 << width) - 1;
-    let mut buf = vec![(0u64, 0u32); pairs.len()];
+    let mut key_buf = vec![0u64; keys.len()];
+    let mut row_buf = vec![0u32; rows.len()];
     let mut shift = 0;
     while shift < bits {
         let mut counts = vec![0usize; 1 << width];
-        for p in pairs.iter() {
-            counts[((p.0 >> shift) & mask) as usize] += 1;
+        for k in keys.iter() {
+            counts[((k >> shift) & mask) as usize] += 1;
         }
         let mut sum = 0;
         for c in counts.iter_mut() {
@@ -33,12 +42,14 @@ pub fn radix_sort_pairs(pairs: &mut Vec<(u64, u32)>) {
             *c = sum;
             sum += n;
         }
-        for p in pairs.iter() {
-            let d = ((p.0 >> shift) & mask) as usize;
-            buf[counts[d]] = *p;
+        for (&k, &r) in keys.iter().zip(rows.iter()) {
+            let d = ((k >> shift) & mask) as usize;
+            key_buf[counts[d]] = k;
+            row_buf[counts[d]] = r;
             counts[d] += 1;
         }
-        std::mem::swap(pairs, &mut buf);
+        std::mem::swap(keys, &mut key_buf);
+        std::mem::swap(rows, &mut row_buf);
         shift += width;
     }
 }
@@ -51,10 +62,11 @@ mod tests {
     proptest! {
         #[test]
         fn matches_a_stable_comparison_sort(v in proptest::collection::vec((0u64..5_000_000_000u64, any::<u32>()), 0..2000)) {
-            let mut a = v.clone();
-            radix_sort_pairs(&mut a);
+            let (mut keys, mut rows): (Vec<u64>, Vec<u32>) = v.iter().copied().unzip();
+            radix_sort_by_key(&mut keys, &mut rows);
             let mut b = v;
             b.sort_by_key(|p| p.0);
+            let a: Vec<(u64, u32)> = keys.into_iter().zip(rows).collect();
             prop_assert_eq!(a, b);
         }
     }

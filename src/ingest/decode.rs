@@ -72,6 +72,25 @@ impl std::ops::Deref for Bytes {
     }
 }
 
+impl Bytes {
+    /// Tell the system that the mapped pages wholly before `end` will not be read again, so
+    /// that they stop counting towards this process's memory (they stay in the page cache,
+    /// and a later read would load them again from the file). Held bytes are kept.
+    pub fn release_before(&self, end: usize) {
+        let Bytes::Mapped(m) = self else {
+            return;
+        };
+        let page = 4096;
+        let end = end.min(m.len()) / page * page;
+        if end > 0 {
+            // SAFETY: the map is read-only and file-backed: after MADV_DONTNEED a read of
+            // these pages loads the same bytes from the file again, so no slice into the map
+            // sees a change.
+            let _ = unsafe { m.unchecked_advise_range(memmap2::UncheckedAdvice::DontNeed, 0, end) };
+        }
+    }
+}
+
 const UTF8_BOM: &[u8] = b"\xEF\xBB\xBF";
 
 /// Read a text file: decompress, decide the encoding, decode, set long lines aside.
@@ -544,6 +563,25 @@ impl LineFilter {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn released_pages_read_the_same_bytes_again() {
+        // Pages given back after a chunk is consumed are loaded again from the file if read.
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("big.csv");
+        let text: Vec<u8> = (0..40_000u32)
+            .flat_map(|i| format!("P{i},Q{i}\n").into_bytes())
+            .collect();
+        std::fs::write(&path, &text).unwrap();
+        let file = File::open(&path).unwrap();
+        let bytes = Bytes::Mapped(unsafe { memmap2::Mmap::map(&file) }.unwrap());
+        assert_eq!(&bytes[..], &text[..]);
+        for end in [0, 100, 4096, 10_000, text.len(), text.len() + 10] {
+            bytes.release_before(end);
+            assert_eq!(&bytes[..], &text[..], "after releasing up to {end}");
+        }
+        Bytes::Owned(text.clone()).release_before(text.len());
+    }
 
     #[test]
     fn long_lines_become_empty_lines_and_are_reported() {

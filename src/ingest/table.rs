@@ -484,6 +484,10 @@ fn read_text(
         rows_done += n;
         sink(Chunk { frame, lines })?;
         pos = end;
+        if scan.clean.is_none() {
+            // The chunk is consumed: its mapped pages need not stay resident.
+            body.bytes.release_before(body.data_start + pos);
+        }
     }
     Ok(scan.rejected)
 }

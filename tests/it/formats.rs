@@ -286,7 +286,8 @@ fn reading_in_many_small_chunks_changes_nothing() {
     use hubwatch::ingest::{dates, table::ReadOptions, Input, LoadOptions};
     let dir = tempfile::tempdir().unwrap();
     let mut text = String::from("# a comment\nsource_id,target_id,exposure_date,duration_min\n");
-    for i in 0..200 {
+    // Over 4 KB, so that the pages of consumed chunks are also given back as the read goes.
+    for i in 0..400 {
         match i % 17 {
             3 => text.push_str(&format!("P{i},P{i},2024-03-01,5\n")),
             5 => text.push('\n'),
