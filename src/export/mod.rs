@@ -1,13 +1,14 @@
-//! Exports the callers can work from: a table written as CSV, JSON, Parquet or xlsx, always with
-//! the caution line and what is needed to trace it back (as-of date, preset, weights, window,
-//! checksums of the input files).
+//! Exports the callers can work from: a table written as CSV, TSV, JSON, Parquet or xlsx, with
+//! typed columns ([`Kind`]), always with the caution line and what is needed to trace it back
+//! (as-of date, preset, weights, window, checksums of the input files).
 //!
 //! Safety: files are written to a temporary file in the same folder, synced, then renamed, and
 //! are created readable by their owner only (0600); an existing file is replaced only with
-//! `--force`; text cells that a spreadsheet would run as a formula (starting with = + - @, tab
-//! or carriage return) are prefixed with an apostrophe, as common guidance on CSV injection
-//! recommends (OWASP, "CSV Injection"); `--pseudonymise` replaces person IDs with a keyed hash
-//! (HMAC-SHA256) and drops direct identifiers.
+//! `--force`; in CSV and TSV, text cells that a spreadsheet would run as a formula (starting with
+//! = + - @, tab or carriage return) are prefixed with an apostrophe, as common guidance on CSV
+//! injection recommends (OWASP, "CSV Injection"); JSON, Parquet and xlsx (text cells) keep text
+//! exactly, since nothing evaluates it there; `--pseudonymise` replaces person IDs with a keyed
+//! hash (HMAC-SHA256) and drops direct identifiers.
 
 use std::io::{Read, Write};
 use std::path::{Path, PathBuf};
@@ -20,7 +21,7 @@ use crate::error::{Error, Result};
 /// One cell of an export.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Cell {
-    /// Text (escaped against formula injection when written).
+    /// Text (guarded against formula injection only where a reader evaluates text: CSV, TSV).
     Text(String),
     /// A number we computed (written as is).
     Num(f64),
@@ -28,28 +29,68 @@ pub enum Cell {
     Int(i64),
     /// Yes / no.
     Bool(bool),
+    /// A calendar date (a date in Parquet and xlsx, ISO 8601 in text).
+    Date(chrono::NaiveDate),
     /// Nothing.
     Empty,
 }
 
+/// The type of a column, written as such in Parquet and xlsx.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Kind {
+    /// Text.
+    Text,
+    /// Whole numbers (64-bit).
+    Int,
+    /// Floating-point numbers.
+    Num,
+    /// Booleans.
+    Bool,
+    /// Dates.
+    Date,
+}
+
 impl Cell {
-    fn text(&self) -> String {
+    /// The value as plain text, exactly (no formula guard).
+    fn plain(&self) -> String {
         match self {
-            Cell::Text(s) => escape_formula(s),
+            Cell::Text(s) => s.clone(),
             Cell::Num(x) => format!("{x}"),
             Cell::Int(i) => i.to_string(),
             Cell::Bool(b) => b.to_string(),
+            Cell::Date(d) => d.format("%Y-%m-%d").to_string(),
             Cell::Empty => String::new(),
+        }
+    }
+
+    /// The value in delimited text: text cells a spreadsheet would run as a formula are
+    /// guarded (see [`escape_formula`]).
+    fn delimited(&self) -> String {
+        match self {
+            Cell::Text(s) => escape_formula(s),
+            other => other.plain(),
         }
     }
 
     fn json(&self) -> serde_json::Value {
         match self {
-            Cell::Text(s) => escape_formula(s).into(),
+            Cell::Text(s) => s.clone().into(),
             Cell::Num(x) => serde_json::json!(x),
             Cell::Int(i) => serde_json::json!(i),
             Cell::Bool(b) => serde_json::json!(b),
+            Cell::Date(d) => d.format("%Y-%m-%d").to_string().into(),
             Cell::Empty => serde_json::Value::Null,
+        }
+    }
+
+    fn kind(&self) -> Option<Kind> {
+        match self {
+            Cell::Text(_) => Some(Kind::Text),
+            Cell::Num(_) => Some(Kind::Num),
+            Cell::Int(_) => Some(Kind::Int),
+            Cell::Bool(_) => Some(Kind::Bool),
+            Cell::Date(_) => Some(Kind::Date),
+            Cell::Empty => None,
         }
     }
 }
@@ -61,6 +102,41 @@ pub struct ExportTable {
     pub columns: Vec<String>,
     /// Rows, one cell per column.
     pub rows: Vec<Vec<Cell>>,
+    /// The type of each column (empty: taken from the cells, see [`ExportTable::kind`]).
+    pub kinds: Vec<Kind>,
+}
+
+impl ExportTable {
+    /// The type of column `c`: as declared, else the cells' common type (whole numbers mixed
+    /// with other numbers are numbers; anything else mixed, or no value at all, is text).
+    pub fn kind(&self, c: usize) -> Kind {
+        if let Some(&k) = self.kinds.get(c) {
+            return k;
+        }
+        let mut kind = None;
+        for k in self
+            .rows
+            .iter()
+            .filter_map(|r| r.get(c).and_then(Cell::kind))
+        {
+            kind = match (kind, k) {
+                (None, k) => Some(k),
+                (Some(a), b) if a == b => Some(a),
+                (Some(Kind::Int | Kind::Num), Kind::Int | Kind::Num) => Some(Kind::Num),
+                _ => return Kind::Text,
+            };
+        }
+        kind.unwrap_or(Kind::Text)
+    }
+
+    /// The rows at `keep`, in that order, with the same columns and types.
+    pub fn subset(&self, keep: &[usize]) -> ExportTable {
+        ExportTable {
+            columns: self.columns.clone(),
+            rows: keep.iter().map(|&r| self.rows[r].clone()).collect(),
+            kinds: (0..self.columns.len()).map(|c| self.kind(c)).collect(),
+        }
+    }
 }
 
 /// What travels with every export.
@@ -75,6 +151,8 @@ pub struct Metadata {
 pub enum Format {
     /// Comma-separated text, metadata as leading `#` lines.
     Csv,
+    /// Tab-separated text, metadata as leading `#` lines.
+    Tsv,
     /// One JSON object: metadata, columns, rows.
     Json,
     /// Apache Parquet, metadata in the file's key-value metadata.
@@ -94,11 +172,12 @@ pub fn format_for(out: &Path, given: Option<Format>) -> Result<Format> {
         .as_deref()
     {
         Some("csv") => Ok(Format::Csv),
+        Some("tsv" | "tab") => Ok(Format::Tsv),
         Some("json") => Ok(Format::Json),
         Some("parquet") => Ok(Format::Parquet),
         Some("xlsx") => Ok(Format::Xlsx),
         _ => Err(Error::Usage(format!(
-            "{}: give --format csv|json|parquet|xlsx (the extension does not say)",
+            "{}: give --format csv|tsv|json|parquet|xlsx (the extension does not say)",
             out.display()
         ))),
     }
@@ -158,8 +237,9 @@ pub fn file_sha256(path: &Path) -> Result<String> {
     Ok(h.finalize().iter().map(|b| format!("{b:02x}")).collect())
 }
 
-fn csv_field(v: &str) -> String {
-    if v.contains([',', '"', '\n', '\r']) {
+/// A field of delimited text: quoted when it holds the delimiter, a quote or a line break.
+fn delimited_field(v: &str, sep: char) -> String {
+    if v.contains([sep, '"', '\n', '\r']) {
         format!("\"{}\"", v.replace('"', "\"\""))
     } else {
         v.to_string()
@@ -168,34 +248,48 @@ fn csv_field(v: &str) -> String {
 
 fn bytes(t: &ExportTable, meta: &Metadata, format: Format, path: &Path) -> Result<Vec<u8>> {
     match format {
-        Format::Csv => Ok(csv_bytes(t, meta)),
+        Format::Csv => Ok(delimited_bytes(t, meta, ',')),
+        Format::Tsv => Ok(delimited_bytes(t, meta, '\t')),
         Format::Json => json_bytes(t, meta, path),
         Format::Parquet => parquet_bytes(t, meta, path),
         Format::Xlsx => xlsx_bytes(t, meta, path),
     }
 }
 
-/// CSV: metadata as leading `# key: value` lines, then the table.
-fn csv_bytes(t: &ExportTable, meta: &Metadata) -> Vec<u8> {
+/// A metadata line of delimited text, `# key: value`, kept to one cell when a spreadsheet
+/// opens the file: no delimiter, quote or line break (commas and tabs become semicolons,
+/// double quotes single ones). The exact values are in the JSON, Parquet and xlsx metadata.
+fn metadata_line(k: &str, v: &str) -> String {
+    let clean = |s: &str| {
+        s.chars()
+            .map(|c| match c {
+                ',' | '\t' => ';',
+                '"' => '\'',
+                '\n' | '\r' => ' ',
+                c => c,
+            })
+            .collect::<String>()
+    };
+    format!("# {}: {}\n", clean(k), clean(v))
+}
+
+/// CSV or TSV: metadata as leading `#` lines, then the table; text cells guarded against
+/// formulas.
+fn delimited_bytes(t: &ExportTable, meta: &Metadata, sep: char) -> Vec<u8> {
     let mut s = String::new();
     for (k, v) in &meta.entries {
-        s.push_str(&format!("# {k}: {}\n", v.replace('\n', " ")));
+        s.push_str(&metadata_line(k, v));
     }
-    s.push_str(
-        &t.columns
-            .iter()
-            .map(|c| csv_field(c))
-            .collect::<Vec<_>>()
-            .join(","),
-    );
+    let sep_text = sep.to_string();
+    let header: Vec<String> = t.columns.iter().map(|c| delimited_field(c, sep)).collect();
+    s.push_str(&header.join(&sep_text));
     s.push('\n');
     for r in &t.rows {
-        s.push_str(
-            &r.iter()
-                .map(|c| csv_field(&c.text()))
-                .collect::<Vec<_>>()
-                .join(","),
-        );
+        let cells: Vec<String> = r
+            .iter()
+            .map(|c| delimited_field(&c.delimited(), sep))
+            .collect();
+        s.push_str(&cells.join(&sep_text));
         s.push('\n');
     }
     s.into_bytes()
@@ -225,41 +319,86 @@ fn json_bytes(t: &ExportTable, meta: &Metadata, path: &Path) -> Result<Vec<u8>> 
     serde_json::to_vec_pretty(&v).map_err(|e| Error::format(path, e.to_string()))
 }
 
-/// Parquet, the metadata in the file's key-value metadata.
+/// Parquet with typed columns (whole numbers, numbers, booleans, dates, text; null where a cell
+/// is empty), the metadata in the file's key-value metadata.
 fn parquet_bytes(t: &ExportTable, meta: &Metadata, path: &Path) -> Result<Vec<u8>> {
     use polars::prelude::*;
-    let cols: Vec<Column> = t
-        .columns
-        .iter()
-        .enumerate()
-        .map(|(i, name)| {
-            let v: Vec<Option<String>> = t
-                .rows
-                .iter()
-                .map(|r| (r[i] != Cell::Empty).then(|| r[i].text()))
-                .collect();
-            Column::new(name.as_str().into(), v)
-        })
-        .collect();
-    let mut df = DataFrame::new(t.rows.len(), cols).map_err(|e| Error::Polars {
+    let polars_err = |e| Error::Polars {
         path: path.to_path_buf(),
         source: e,
-    })?;
+    };
+    let mut cols: Vec<Column> = Vec::with_capacity(t.columns.len());
+    for (i, name) in t.columns.iter().enumerate() {
+        let cells = || t.rows.iter().map(move |r| r.get(i).unwrap_or(&Cell::Empty));
+        let name: PlSmallStr = name.as_str().into();
+        let col = match t.kind(i) {
+            Kind::Int => {
+                let v: Vec<Option<i64>> = cells()
+                    .map(|c| match c {
+                        Cell::Int(x) => Some(*x),
+                        _ => None,
+                    })
+                    .collect();
+                Column::new(name, v)
+            }
+            Kind::Num => {
+                let v: Vec<Option<f64>> = cells()
+                    .map(|c| match c {
+                        Cell::Num(x) => Some(*x),
+                        Cell::Int(x) => Some(*x as f64),
+                        _ => None,
+                    })
+                    .collect();
+                Column::new(name, v)
+            }
+            Kind::Bool => {
+                let v: Vec<Option<bool>> = cells()
+                    .map(|c| match c {
+                        Cell::Bool(x) => Some(*x),
+                        _ => None,
+                    })
+                    .collect();
+                Column::new(name, v)
+            }
+            Kind::Date => {
+                let v: Vec<Option<i32>> = cells()
+                    .map(|c| match c {
+                        // Parquet counts dates in days since 1970-01-01.
+                        Cell::Date(x) => {
+                            Some((*x - chrono::DateTime::UNIX_EPOCH.date_naive()).num_days() as i32)
+                        }
+                        _ => None,
+                    })
+                    .collect();
+                Column::new(name, v)
+                    .cast(&DataType::Date)
+                    .map_err(polars_err)?
+            }
+            Kind::Text => {
+                let v: Vec<Option<String>> = cells()
+                    .map(|c| (*c != Cell::Empty).then(|| c.plain()))
+                    .collect();
+                Column::new(name, v)
+            }
+        };
+        cols.push(col);
+    }
+    let mut df = DataFrame::new(t.rows.len(), cols).map_err(polars_err)?;
     let mut buf = Vec::new();
     let kv = polars::io::parquet::write::KeyValueMetadata::from_static(meta.entries.clone());
     ParquetWriter::new(&mut buf)
         .with_key_value_metadata(Some(kv))
         .finish(&mut df)
-        .map_err(|e| Error::Polars {
-            path: path.to_path_buf(),
-            source: e,
-        })?;
+        .map_err(polars_err)?;
     Ok(buf)
 }
 
-/// An xlsx workbook: the list, and an "about" sheet with the metadata.
+/// An xlsx workbook: the list (numbers as numbers, dates as dates shown in ISO 8601, booleans
+/// as booleans, text as text cells, which a spreadsheet never runs as a formula), and an
+/// "about" sheet with the metadata.
 fn xlsx_bytes(t: &ExportTable, meta: &Metadata, path: &Path) -> Result<Vec<u8>> {
     let err = |e: rust_xlsxwriter::XlsxError| Error::format(path, e.to_string());
+    let date_format = rust_xlsxwriter::Format::new().set_num_format("yyyy-mm-dd");
     let mut book = rust_xlsxwriter::Workbook::new();
     let sheet = book.add_worksheet();
     sheet.set_name("list").map_err(err)?;
@@ -274,7 +413,20 @@ fn xlsx_bytes(t: &ExportTable, meta: &Metadata, path: &Path) -> Result<Vec<u8>> 
                 Cell::Num(x) => sheet.write_number(r, c, *x).map(|_| ()),
                 Cell::Int(i) => sheet.write_number(r, c, *i as f64).map(|_| ()),
                 Cell::Bool(b) => sheet.write_boolean(r, c, *b).map(|_| ()),
-                Cell::Text(_) => sheet.write_string(r, c, cell.text()).map(|_| ()),
+                Cell::Date(d) => {
+                    use chrono::Datelike;
+                    rust_xlsxwriter::ExcelDateTime::from_ymd(
+                        d.year() as u16,
+                        d.month() as u8,
+                        d.day() as u8,
+                    )
+                    .and_then(|dt| {
+                        sheet
+                            .write_datetime_with_format(r, c, &dt, &date_format)
+                            .map(|_| ())
+                    })
+                }
+                Cell::Text(s) => sheet.write_string(r, c, s).map(|_| ()),
                 Cell::Empty => Ok(()),
             }
             .map_err(err)?;
@@ -322,6 +474,7 @@ pub fn select_columns(t: ExportTable, wanted: &[String]) -> Result<ExportTable> 
         })
         .collect::<Result<_>>()?;
     Ok(ExportTable {
+        kinds: idx.iter().map(|&i| t.kind(i)).collect(),
         columns: idx.iter().map(|&i| t.columns[i].clone()).collect(),
         rows: t
             .rows

@@ -6,7 +6,7 @@ use std::fmt::Write as _;
 use serde_json::{json, Map, Value};
 
 use crate::analysis::planning::{checkpoints, Plan, StrategyCurve, TSource, MODEL_CAUTION};
-use crate::export::{Cell, ExportTable};
+use crate::export::{Cell, ExportTable, Kind};
 use crate::metrics::{outlook, Stat};
 use crate::report::fmt::{range, Style};
 use crate::report::json::put;
@@ -285,7 +285,12 @@ pub fn reach_table(plan: &Plan) -> ExportTable {
             ]);
         }
     }
-    ExportTable { columns, rows }
+    use Kind::*;
+    ExportTable {
+        columns,
+        rows,
+        kinds: vec![Text, Int, Num, Num, Num, Num, Num],
+    }
 }
 
 /// The curve over T as a table.
@@ -310,7 +315,11 @@ pub fn t_table(plan: &Plan) -> ExportTable {
             ]
         })
         .collect();
-    ExportTable { columns, rows }
+    ExportTable {
+        columns,
+        rows,
+        kinds: vec![Kind::Num; 5],
+    }
 }
 
 /// A number cell, empty where the figure is undefined.

@@ -3,7 +3,7 @@
 
 use crate::analysis::priority::{Ranked, COMPONENTS};
 use crate::dataset::Dataset;
-use crate::export::{pseudonym, Cell, ExportTable};
+use crate::export::{pseudonym, Cell, ExportTable, Kind};
 use crate::ingest::dates;
 use crate::workspace::PersonState;
 
@@ -72,9 +72,15 @@ pub fn priority_table(
     .collect();
     columns.extend(COMPONENTS.iter().map(|c| format!("score_{c}")));
     columns.extend(attrs.iter().map(|&c| d.attrs.names[c].clone()));
+    use Kind::*;
+    let mut kinds = vec![
+        Int, Text, Num, Int, Date, Date, Int, Bool, Bool, Bool, Text, Text, Text,
+    ];
+    kinds.extend(COMPONENTS.iter().map(|_| Num));
+    kinds.extend(attrs.iter().map(|_| Text));
     let mut rows = Vec::new();
     let text = |s: Option<&str>| s.map_or(Cell::Empty, |v| Cell::Text(v.to_string()));
-    let day = |x: Option<i32>| x.map_or(Cell::Empty, |v| Cell::Text(dates::iso(v)));
+    let day = |x: Option<i32>| x.and_then(dates::from_days).map_or(Cell::Empty, Cell::Date);
     for (i, r) in ranked.iter().enumerate() {
         let st = state_of.get(d.ids.name(r.node)).copied();
         if flagged_only && st.is_none_or(|s| s.flags.is_empty()) {
@@ -108,7 +114,11 @@ pub fn priority_table(
         }));
         rows.push(row);
     }
-    ExportTable { columns, rows }
+    ExportTable {
+        columns,
+        rows,
+        kinds,
+    }
 }
 
 /// Every quarantined row and field problem, with file, line, column, value and reason.
@@ -141,7 +151,12 @@ pub fn quarantine_table(d: &Dataset) -> ExportTable {
             Cell::Text(format!("{}: {}", p.kind.code(), p.reason)),
         ]);
     }
-    ExportTable { columns, rows }
+    use Kind::*;
+    ExportTable {
+        columns,
+        rows,
+        kinds: vec![Text, Text, Int, Text, Text, Text],
+    }
 }
 
 /// The sentinel sample: each sentinel with their number of contacts and who led to them.
@@ -178,5 +193,11 @@ pub fn sentinel_table(
             row
         })
         .collect();
-    ExportTable { columns, rows }
+    let mut kinds = vec![Kind::Int, Kind::Text, Kind::Int, Kind::Text];
+    kinds.extend(attrs.iter().map(|_| Kind::Text));
+    ExportTable {
+        columns,
+        rows,
+        kinds,
+    }
 }

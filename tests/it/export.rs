@@ -358,3 +358,201 @@ fn chosen_columns_and_workspace_states_shape_the_list() {
         .lines()
         .any(|l| l == "Q2,reached"));
 }
+
+/// Parquet, xlsx, JSON, CSV and TSV of the same list, read back with general-purpose readers
+/// (polars for Parquet and delimited text, calamine for xlsx): each column keeps its type, IDs
+/// come back byte for byte where nothing evaluates text, and only CSV and TSV carry the formula
+/// guard (OWASP, "CSV Injection": the guard is for spreadsheets opening delimited text; text
+/// cells of xlsx are never run, Parquet and JSON are not evaluated).
+#[test]
+fn typed_tables_read_back_with_their_types_and_exact_ids() {
+    use polars::prelude::*;
+    let dir = tempfile::tempdir().unwrap();
+    let ex = dir.path().join("ex");
+    std::fs::create_dir(&ex).unwrap();
+    // IDs that look like arithmetic or an international phone number, and an area value that
+    // is a formula: all must survive as they are outside CSV/TSV.
+    std::fs::write(
+        ex.join("people.csv"),
+        "person_id,role,area\n-2+3,case,North\n+447700900123,contact,\"=HYPERLINK(\"\"x\"\")\"\nQ3,contact,South\n@Q4,contact,South\n",
+    )
+    .unwrap();
+    std::fs::write(
+        ex.join("exposures.csv"),
+        "source_id,target_id,exposure_date,setting\n-2+3,+447700900123,2024-03-01,household\n-2+3,Q3,2024-03-05,workplace\nQ3,@Q4,2024-03-06,household\n",
+    )
+    .unwrap();
+    let export = |ext: &str| {
+        let out = dir.path().join(format!("typed.{ext}"));
+        let (code, _, err) = hubwatch(
+            &[
+                "export",
+                ex.to_str().unwrap(),
+                "--as-of",
+                "2024-03-10",
+                "--out",
+                out.to_str().unwrap(),
+            ],
+            None,
+        );
+        assert_eq!(code, 0, "{ext}: {err}");
+        out
+    };
+    // JSON: the reference list (IDs, dates as ISO 8601, numbers as numbers).
+    let json: serde_json::Value =
+        serde_json::from_slice(&std::fs::read(export("json")).unwrap()).unwrap();
+    let rows = json["rows"].as_array().unwrap();
+    let ids: Vec<String> = rows
+        .iter()
+        .map(|r| r["person_id"].as_str().unwrap().to_string())
+        .collect();
+    let mut sorted = ids.clone();
+    sorted.sort();
+    assert_eq!(sorted, ["+447700900123", "-2+3", "@Q4", "Q3"]);
+    let last: Vec<Option<String>> = rows
+        .iter()
+        .map(|r| r["last_exposure"].as_str().map(str::to_string))
+        .collect();
+    assert!(rows
+        .iter()
+        .all(|r| r["rank"].is_i64() && r["score"].is_f64() && r["overdue"].is_boolean()));
+    let area_of = |id: &str| rows.iter().find(|r| r["person_id"] == id).unwrap()["area"].clone();
+    assert_eq!(area_of("+447700900123"), "=HYPERLINK(\"x\")");
+
+    // Parquet: real types, nulls where empty, IDs exact.
+    let df = ParquetReader::new(std::fs::File::open(export("parquet")).unwrap())
+        .finish()
+        .unwrap();
+    let dtype = |c: &str| df.column(c).unwrap().dtype().clone();
+    assert_eq!(dtype("rank"), DataType::Int64);
+    assert_eq!(dtype("person_id"), DataType::String);
+    assert_eq!(dtype("score"), DataType::Float64);
+    assert_eq!(dtype("degree"), DataType::Int64);
+    assert_eq!(dtype("last_exposure"), DataType::Date);
+    assert_eq!(dtype("window_end"), DataType::Date);
+    assert_eq!(dtype("days_left"), DataType::Int64);
+    assert_eq!(dtype("overdue"), DataType::Boolean);
+    assert_eq!(dtype("bridge"), DataType::Boolean);
+    assert_eq!(dtype("score_degree"), DataType::Float64);
+    assert_eq!(dtype("area"), DataType::String);
+    let strs = |c: &str| -> Vec<Option<String>> {
+        df.column(c)
+            .unwrap()
+            .str()
+            .unwrap()
+            .iter()
+            .map(|s| s.map(str::to_string))
+            .collect()
+    };
+    assert_eq!(
+        strs("person_id"),
+        ids.iter().cloned().map(Some).collect::<Vec<_>>()
+    );
+    assert!(strs("area").contains(&Some("=HYPERLINK(\"x\")".to_string())));
+    assert_eq!(
+        df.column("followup").unwrap().null_count(),
+        df.height(),
+        "no follow-up: nulls"
+    );
+    let as_text = df
+        .column("last_exposure")
+        .unwrap()
+        .cast(&DataType::String)
+        .unwrap();
+    let parquet_last: Vec<Option<String>> = as_text
+        .str()
+        .unwrap()
+        .iter()
+        .map(|s| s.map(str::to_string))
+        .collect();
+    assert_eq!(parquet_last, last);
+    let rank: Vec<i64> = df
+        .column("rank")
+        .unwrap()
+        .i64()
+        .unwrap()
+        .into_no_null_iter()
+        .collect();
+    assert_eq!(rank, (1..=ids.len() as i64).collect::<Vec<_>>());
+
+    // xlsx: numbers, dates (a date cell, shown yyyy-mm-dd), booleans, text cells as they are.
+    {
+        use calamine::{open_workbook_auto, Data, Reader};
+        let mut book = open_workbook_auto(export("xlsx")).unwrap();
+        let range = book.worksheet_range("list").unwrap();
+        let header: Vec<String> = range
+            .rows()
+            .next()
+            .unwrap()
+            .iter()
+            .map(|c| c.to_string())
+            .collect();
+        let col = |name: &str| header.iter().position(|h| h == name).unwrap();
+        for (i, row) in range.rows().skip(1).enumerate() {
+            assert_eq!(row[col("rank")], Data::Float(i as f64 + 1.0));
+            assert_eq!(row[col("person_id")], Data::String(ids[i].clone()));
+            assert!(
+                matches!(row[col("overdue")], Data::Bool(_)),
+                "{:?}",
+                row[col("overdue")]
+            );
+            match (&row[col("last_exposure")], &last[i]) {
+                (Data::DateTime(dt), Some(iso)) => {
+                    // Excel's serial day: days since 1899-12-30 (1970-01-01 is 25569).
+                    let day = chrono::NaiveDate::parse_from_str(iso, "%Y-%m-%d").unwrap();
+                    let epoch = chrono::NaiveDate::from_ymd_opt(1899, 12, 30).unwrap();
+                    assert_eq!(dt.as_f64(), (day - epoch).num_days() as f64);
+                }
+                (Data::Empty, None) => {}
+                other => panic!("last_exposure: {other:?}"),
+            }
+        }
+        let areas: Vec<String> = range
+            .rows()
+            .skip(1)
+            .map(|r| r[col("area")].to_string())
+            .collect();
+        assert!(
+            areas.contains(&"=HYPERLINK(\"x\")".to_string()),
+            "{areas:?}"
+        );
+    }
+
+    // CSV and TSV: the metadata lines are one cell each (no delimiter or quote in them), a
+    // general reader skips them as comments, and text cells a spreadsheet would run carry the
+    // guard.
+    for (ext, sep) in [("csv", b','), ("tsv", b'\t')] {
+        let out = export(ext);
+        let text = std::fs::read_to_string(&out).unwrap();
+        for l in text.lines().filter(|l| l.starts_with('#')) {
+            assert!(!l.contains(sep as char) && !l.contains('"'), "{ext}: {l}");
+        }
+        assert!(text.lines().any(|l| l.starts_with("# weights: ")), "{text}");
+        let df = CsvReadOptions::default()
+            .map_parse_options(|p| p.with_separator(sep).with_comment_prefix(Some("#")))
+            .try_into_reader_with_file_path(Some(out.clone()))
+            .unwrap()
+            .finish()
+            .unwrap();
+        assert_eq!(df.height(), ids.len(), "{ext}");
+        let read: Vec<String> = df
+            .column("person_id")
+            .unwrap()
+            .cast(&DataType::String)
+            .unwrap()
+            .str()
+            .unwrap()
+            .iter()
+            .map(|s| s.unwrap().to_string())
+            .collect();
+        let guarded: Vec<String> = ids
+            .iter()
+            .map(|id| match id.starts_with(['=', '+', '-', '@']) {
+                true => format!("'{id}"),
+                false => id.clone(),
+            })
+            .collect();
+        assert_eq!(read, guarded, "{ext}");
+        assert!(text.contains("'=HYPERLINK"), "{ext}");
+    }
+}

@@ -127,10 +127,7 @@ fn write_sheets(
         .collect();
     let mut lines = String::new();
     for (i, rows) in ex::split_sheets(&groups, k).into_iter().enumerate() {
-        let sheet = ExportTable {
-            columns: table.columns.clone(),
-            rows: rows.iter().map(|&r| table.rows[r].clone()).collect(),
-        };
+        let sheet = table.subset(&rows);
         let path = ex::sheet_path(&e.out, i, k);
         ex::write(&sheet, meta, format, &path, e.force)?;
         lines.push_str(&format!(

@@ -465,6 +465,9 @@ impl App {
         if let Some(c) = table.columns.iter().position(|c| c == "rank") {
             table.columns[c] = "row".into();
             table.columns.insert(c + 1, "rank".into());
+            if !table.kinds.is_empty() {
+                table.kinds.insert(c + 1, crate::export::Kind::Int);
+            }
             for (row, &i) in table.rows.iter_mut().zip(&self.rows) {
                 row.insert(c + 1, crate::export::Cell::Int(i as i64 + 1));
             }
