@@ -226,11 +226,21 @@ impl App {
                         }
                     }
                 }
-                let mut buckets = vec![Vec::new(); FOLLOWUP_STATES.len() + 1];
-                for (i, &k) in key.iter().enumerate() {
-                    buckets[(k as usize).min(FOLLOWUP_STATES.len())].push(i as u32);
+                // A counting sort: one pass to count each state, one to place the rows.
+                let bucket = |k: u8| (k as usize).min(FOLLOWUP_STATES.len());
+                let mut start = vec![0usize; FOLLOWUP_STATES.len() + 2];
+                for &k in &key {
+                    start[bucket(k) + 1] += 1;
                 }
-                buckets.concat()
+                for b in 1..start.len() {
+                    start[b] += start[b - 1];
+                }
+                let mut out = vec![0u32; key.len()];
+                for (i, &k) in key.iter().enumerate() {
+                    out[start[bucket(k)]] = i as u32;
+                    start[bucket(k)] += 1;
+                }
+                out
             }
             SortCol::Flags => {
                 let mut flagged = vec![false; n];
@@ -271,7 +281,9 @@ impl App {
         let ranked = &m.list.ranked;
         let filtered = self.filters != Filters::default();
         if filtered && self.mask_for.as_ref() != Some(&self.filters) {
-            // One pass in rank order (sequential), then the sorted order only reads the mask.
+            // One pass in rank order, then the sorted order only reads the mask. Sequential on
+            // purpose: the shared worker pool may be busy with the background statistics, and a
+            // key must not wait for it.
             let mask: Vec<bool> = match m.index.matcher(&self.filters, &m.d) {
                 Ok(k) => (0..ranked.len()).map(|i| m.index.keeps(&k, i)).collect(),
                 Err(_) => vec![true; ranked.len()],
