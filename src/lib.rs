@@ -23,6 +23,7 @@ pub mod graph;
 pub mod ids;
 pub mod ingest;
 pub mod metrics;
+pub mod plot;
 pub mod report;
 pub mod sample;
 pub mod sort;

@@ -104,6 +104,10 @@ pub enum Command {
     /// Epidemic threshold, expected outbreak size, and how many people to reach (and whom) to
     /// bring R below 1.
     Outlook(OutlookArgs),
+    /// Figures for reports and the wall: the degree and excess degree distributions with their
+    /// fits, contacts' contacts, the friendship paradox, cluster sizes and the outlook, as SVG
+    /// and/or PNG.
+    Figures(FiguresArgs),
     /// Write a list for the callers: the priority list, the flagged people, or the quarantine.
     Export(ExportArgs),
     /// Set a person's follow-up state (to call, reached, unreachable, completed).
@@ -251,6 +255,52 @@ pub struct OutlookArgs {
     /// Print one JSON object (keys documented in the README).
     #[arg(long)]
     pub json: bool,
+}
+
+/// Image formats of `hubwatch figures`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum FigureFormat {
+    /// Scalable vector graphics.
+    Svg,
+    /// Portable network graphics.
+    Png,
+    /// Both.
+    Both,
+}
+
+/// Options of `hubwatch figures`.
+#[derive(Debug, Args)]
+pub struct FiguresArgs {
+    /// Loading options and paths.
+    #[command(flatten)]
+    pub load: LoadArgs,
+    /// Ranking options (for the priority strategy of the outlook).
+    #[command(flatten)]
+    pub rank: PriorityArgs,
+    /// Folder to write the figures into (created if absent).
+    #[arg(long, value_name = "DIR")]
+    pub out: PathBuf,
+    /// Image format.
+    #[arg(long, value_enum, default_value = "svg")]
+    pub format: FigureFormat,
+    /// TrueType font for the text (default: DejaVu Sans where installed).
+    #[arg(long, value_name = "FILE")]
+    pub font: Option<PathBuf>,
+    /// Transmissibility T in [0, 1] for the outlook (default: the secondary attack rate).
+    #[arg(long, value_name = "T")]
+    pub transmissibility: Option<f64>,
+    /// Follow the reach curves up to N people.
+    #[arg(long, default_value_t = 1000, value_name = "N")]
+    pub max_reach: usize,
+    /// Also write each figure's numbers as NAME.data.EXT in this table format.
+    #[arg(long, value_enum, value_name = "FORMAT")]
+    pub with_data: Option<crate::export::Format>,
+    /// Replace existing figure files.
+    #[arg(long)]
+    pub force: bool,
+    /// Workspace file (follow-up states used by the priority strategy).
+    #[arg(long, value_name = "FILE")]
+    pub workspace: Option<PathBuf>,
 }
 
 /// Options of `hubwatch export`.

@@ -6,6 +6,7 @@
 //! Nothing here reads an input file; files are written by `export`.
 
 pub mod check;
+pub mod figures;
 pub mod fmt;
 pub mod json;
 pub mod meta;

@@ -15,7 +15,7 @@ const LAYERS: &[&[&str]] = &[
     &["metrics"],
     &["analysis"],
     &["report"],
-    &["tui"],
+    &["tui", "plot"],
     &["cli"],
 ];
 

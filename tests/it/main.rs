@@ -13,6 +13,7 @@ mod cli;
 mod dashboard;
 mod errors;
 mod export;
+mod figures;
 mod fits;
 mod formats;
 mod hostile;

@@ -4,6 +4,7 @@
 pub mod check;
 pub mod dashboard;
 pub mod export;
+pub mod figures;
 pub mod outlook;
 pub mod priority;
 pub mod state;

@@ -1,0 +1,97 @@
+//! `hubwatch figures`: the report's figures as SVG and/or PNG files in a folder, each written
+//! privately and atomically by the one writer.
+
+use crate::analysis::planning::{PlanOptions, Strategy};
+use crate::cli::args::{FigureFormat, FiguresArgs};
+use crate::cli::commands::priority::ranking_parts;
+use crate::cli::emit;
+use crate::error::{Error, Result};
+use crate::export;
+use crate::report::{figures, Report};
+
+/// Compute the report and write its figures.
+pub fn run(f: &FiguresArgs) -> Result<()> {
+    if let Some(t) = f.transmissibility {
+        if !(0.0..=1.0).contains(&t) {
+            return Err(Error::Usage(format!(
+                "--transmissibility {t}: T is a probability, give a value from 0 to 1"
+            )));
+        }
+    }
+    // A missing font is said before any work.
+    crate::plot::use_font(crate::plot::find_font(f.font.as_deref())?)?;
+    std::fs::create_dir_all(&f.out).map_err(|e| Error::io(&f.out, e))?;
+    let d = f.load.load()?;
+    let mut parts = ranking_parts(&f.load, &f.rank, f.workspace.as_deref())?;
+    parts.plan = Some(PlanOptions {
+        transmissibility: f.transmissibility,
+        strategies: Strategy::ALL.to_vec(),
+        max_reach: f.max_reach,
+        ..Default::default()
+    });
+    let r = Report::build(d, parts)?;
+    let window = r
+        .list
+        .as_ref()
+        .map(|l| (l.window.days, l.window.pathogen.as_str()));
+    let caption = figures::caption(&r.d, window)?;
+    let all = figures::all(&r.stats, r.plan.as_ref(), &caption);
+    let mut files = Vec::new();
+    for fig in &all {
+        if matches!(f.format, FigureFormat::Svg | FigureFormat::Both) {
+            files.push((
+                f.out.join(format!("{}.svg", fig.name)),
+                crate::plot::svg(fig)?.into_bytes(),
+            ));
+        }
+        if matches!(f.format, FigureFormat::Png | FigureFormat::Both) {
+            files.push((
+                f.out.join(format!("{}.png", fig.name)),
+                crate::plot::png(fig)?,
+            ));
+        }
+    }
+    let meta = crate::report::meta::Meta::new(&r.d, "figure data")
+        .inputs(&r.d)?
+        .finish();
+    let mut tables = Vec::new();
+    if let Some(format) = f.with_data {
+        let ext = match format {
+            export::Format::Csv => "csv",
+            export::Format::Tsv => "tsv",
+            export::Format::Json => "json",
+            export::Format::Parquet => "parquet",
+            export::Format::Xlsx => "xlsx",
+        };
+        for fig in &all {
+            tables.push((
+                f.out.join(format!("{}.data.{ext}", fig.name)),
+                figures::data_table(fig),
+                format,
+            ));
+        }
+    }
+    if !f.force {
+        let taken = files
+            .iter()
+            .map(|(p, _)| p)
+            .chain(tables.iter().map(|(p, _, _)| p))
+            .find(|p| p.exists());
+        if let Some(p) = taken {
+            return Err(Error::Usage(format!(
+                "{} exists; add --force to replace the figures",
+                p.display()
+            )));
+        }
+    }
+    let mut text = String::new();
+    for (p, bytes) in &files {
+        export::write_private(p, bytes)?;
+        text.push_str(&format!("wrote {}\n", p.display()));
+    }
+    for (p, table, format) in &tables {
+        export::write(table, &meta, *format, p, true)?;
+        text.push_str(&format!("wrote {}\n", p.display()));
+    }
+    emit(&text)
+}

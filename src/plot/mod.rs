@@ -1,0 +1,364 @@
+//! Draws the figures of `report::figures` as SVG (and PNG) with plotters. Lays out what the view
+//! model says and computes nothing of its own: logarithmic axes are drawn as log10 of the data
+//! with the ticks labelled in the data's units.
+//!
+//! Colours: the Okabe-Ito palette for colour-blind readers (Okabe and Ito, "Color Universal
+//! Design", 2008; hex values from memory), and every series also differs by marker shape or
+//! dash, so the figures read in greyscale.
+
+use plotters::coord::Shift;
+use plotters::prelude::*;
+
+use crate::error::{Error, Result};
+use crate::report::figures::{Figure, Mark};
+
+/// Okabe-Ito: black, orange, sky blue, bluish green, vermillion, blue, reddish purple, yellow.
+const PALETTE: [RGBColor; 8] = [
+    RGBColor(0, 0, 0),
+    RGBColor(230, 159, 0),
+    RGBColor(86, 180, 233),
+    RGBColor(0, 158, 115),
+    RGBColor(213, 94, 0),
+    RGBColor(0, 114, 178),
+    RGBColor(204, 121, 167),
+    RGBColor(240, 228, 66),
+];
+
+/// Figure size in pixels.
+pub const SIZE: (u32, u32) = (1000, 640);
+
+fn err(e: impl std::fmt::Display) -> Error {
+    Error::Usage(format!("drawing a figure failed: {e}"))
+}
+
+/// The figure as an SVG document (after [`use_font`]).
+pub fn svg(fig: &Figure) -> Result<String> {
+    let mut out = String::new();
+    {
+        let root = SVGBackend::with_string(&mut out, SIZE).into_drawing_area();
+        draw(&root, fig)?;
+        root.present().map_err(err)?;
+    }
+    Ok(out)
+}
+
+/// Use this TrueType font for measuring text (both formats) and drawing it (PNG); call once
+/// before drawing. SVG files name the family `sans-serif`, so a viewer draws them with its own.
+pub fn use_font(font: &'static [u8]) -> Result<()> {
+    plotters::style::register_font("sans-serif", FontStyle::Normal, font)
+        .map_err(|_| Error::Usage("the font file could not be read as TrueType".into()))
+}
+
+/// The figure as a PNG image (after [`use_font`]).
+pub fn png(fig: &Figure) -> Result<Vec<u8>> {
+    let (w, h) = SIZE;
+    let mut rgb = vec![255u8; (w * h * 3) as usize];
+    {
+        let root = BitMapBackend::with_buffer(&mut rgb, SIZE).into_drawing_area();
+        draw(&root, fig)?;
+        root.present().map_err(err)?;
+    }
+    let mut bytes = Vec::new();
+    {
+        let mut enc = png::Encoder::new(&mut bytes, w, h);
+        enc.set_color(png::ColorType::Rgb);
+        enc.set_depth(png::BitDepth::Eight);
+        let mut writer = enc.write_header().map_err(err)?;
+        writer.write_image_data(&rgb).map_err(err)?;
+    }
+    Ok(bytes)
+}
+
+/// A TrueType font to lay text out with: the file given, else the first of the common system
+/// fonts.
+pub fn find_font(given: Option<&std::path::Path>) -> Result<&'static [u8]> {
+    const COMMON: [&str; 3] = [
+        "/usr/share/fonts/truetype/dejavu/DejaVuSans.ttf",
+        "/usr/share/fonts/TTF/DejaVuSans.ttf",
+        "/usr/share/fonts/dejavu/DejaVuSans.ttf",
+    ];
+    let path = match given {
+        Some(p) => p.to_path_buf(),
+        None => COMMON
+            .iter()
+            .map(std::path::PathBuf::from)
+            .find(|p| p.exists())
+            .ok_or_else(|| {
+                Error::Usage(
+                    "figures need a TrueType font to lay text out: none of the common ones is \
+                     installed (DejaVu Sans, Debian package fonts-dejavu-core); give one with \
+                     --font FILE"
+                        .into(),
+                )
+            })?,
+    };
+    let bytes = std::fs::read(&path).map_err(|e| Error::io(&path, e))?;
+    Ok(Box::leak(bytes.into_boxed_slice()))
+}
+
+fn log10(v: f64) -> f64 {
+    v.log10()
+}
+
+/// Data to drawing coordinates (log10 on a logarithmic axis; non-positive values dropped there).
+fn to_plot(fig: &Figure, (x, y): (f64, f64)) -> Option<(f64, f64)> {
+    let (lx, ly) = fig.log;
+    if (lx && x <= 0.0) || (ly && y <= 0.0) || !x.is_finite() || !y.is_finite() {
+        return None;
+    }
+    Some((if lx { log10(x) } else { x }, if ly { log10(y) } else { y }))
+}
+
+/// The drawn range of the data and guides, padded a little.
+fn ranges(fig: &Figure) -> ((f64, f64), (f64, f64)) {
+    let pts: Vec<(f64, f64)> = fig
+        .series
+        .iter()
+        .flat_map(|s| s.points.iter())
+        .filter_map(|&p| to_plot(fig, p))
+        .collect();
+    let span = |v: &mut dyn Iterator<Item = f64>, log: bool| {
+        let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
+        for x in v {
+            lo = lo.min(x);
+            hi = hi.max(x);
+        }
+        if !lo.is_finite() {
+            return (0.0, 1.0);
+        }
+        if !log {
+            lo = lo.min(0.0);
+        }
+        let pad = ((hi - lo) * 0.05).max(if log { 0.1 } else { 1e-9 });
+        (lo - if log { pad } else { 0.0 }, hi + pad)
+    };
+    let guide = |vertical: bool, log: bool| {
+        fig.guides
+            .iter()
+            .filter(move |g| g.vertical == vertical)
+            .map(move |g| if log { log10(g.value) } else { g.value })
+            .filter(|v| v.is_finite())
+    };
+    let x = span(
+        &mut pts.iter().map(|p| p.0).chain(guide(true, fig.log.0)),
+        fig.log.0,
+    );
+    let y = span(
+        &mut pts.iter().map(|p| p.1).chain(guide(false, fig.log.1)),
+        fig.log.1,
+    );
+    (x, y)
+}
+
+/// Tick label of an axis value (on a logarithmic axis, two significant digits).
+fn tick(v: f64, log: bool) -> String {
+    let x = if log { 10f64.powf(v) } else { v };
+    if log && (0.01..1000.0).contains(&x) {
+        let digits = (1 - x.log10().floor() as i32).max(0) as usize;
+        let r = format!("{x:.digits$}");
+        return match r.contains('.') {
+            true => r.trim_end_matches('0').trim_end_matches('.').to_string(),
+            false => r,
+        };
+    }
+    if x == 0.0 {
+        "0".into()
+    } else if x.abs() >= 1000.0 || x.abs() < 0.01 {
+        format!("{x:.0e}")
+    } else if (x - x.round()).abs() < 1e-9 {
+        format!("{}", x.round())
+    } else {
+        format!("{x:.2}")
+    }
+}
+
+fn draw<DB: DrawingBackend>(root: &DrawingArea<DB, Shift>, fig: &Figure) -> Result<()>
+where
+    DB::ErrorType: 'static,
+{
+    root.fill(&WHITE).map_err(err)?;
+    let (_, h) = root.dim_in_pixel();
+    let (main, foot) = root.split_vertically(h - 28);
+    foot.draw(&Text::new(
+        fig.caption.clone(),
+        (12, 6),
+        ("sans-serif", 13).into_font().color(&RGBColor(60, 60, 60)),
+    ))
+    .map_err(err)?;
+    if !fig.bars.is_empty() {
+        return draw_bars(&main, fig);
+    }
+    let ((x0, x1), (y0, y1)) = ranges(fig);
+    let mut chart = ChartBuilder::on(&main)
+        .caption(&fig.title, ("sans-serif", 20))
+        .margin(14)
+        .x_label_area_size(48)
+        .y_label_area_size(70)
+        .build_cartesian_2d(x0..x1, y0..y1)
+        .map_err(err)?;
+    let (lx, ly) = fig.log;
+    chart
+        .configure_mesh()
+        .x_desc(&fig.x_label)
+        .y_desc(&fig.y_label)
+        .x_label_formatter(&|v| tick(*v, lx))
+        .y_label_formatter(&|v| tick(*v, ly))
+        .light_line_style(RGBColor(235, 235, 235))
+        .draw()
+        .map_err(err)?;
+    let mut shape = 0usize;
+    for s in &fig.series {
+        let colour = PALETTE[s.group % PALETTE.len()];
+        let pts: Vec<(f64, f64)> = s.points.iter().filter_map(|&p| to_plot(fig, p)).collect();
+        let style = ShapeStyle::from(&colour).stroke_width(2);
+        match s.mark {
+            Mark::Line => {
+                chart
+                    .draw_series(LineSeries::new(pts, style))
+                    .map_err(err)?
+                    .label(&s.label)
+                    .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 24, y)], style));
+            }
+            Mark::Dashed => {
+                chart
+                    .draw_series(DashedLineSeries::new(pts, 8, 5, style))
+                    .map_err(err)?
+                    .label(&s.label)
+                    .legend(move |(x, y)| {
+                        EmptyElement::at((x, y))
+                            + PathElement::new(vec![(0, 0), (9, 0)], style)
+                            + PathElement::new(vec![(15, 0), (24, 0)], style)
+                    });
+            }
+            Mark::Points => {
+                let which = shape;
+                shape += 1;
+                // Circle, triangle, cross, square, cycling: series differ in greyscale.
+                let fill = style.filled();
+                let anno = match which % 4 {
+                    0 => chart
+                        .draw_series(pts.iter().map(|&p| Circle::new(p, 4, fill)))
+                        .map_err(err)?
+                        .legend(move |(x, y)| Circle::new((x + 12, y), 4, fill)),
+                    1 => chart
+                        .draw_series(pts.iter().map(|&p| TriangleMarker::new(p, 5, style)))
+                        .map_err(err)?
+                        .legend(move |(x, y)| TriangleMarker::new((x + 12, y), 5, style)),
+                    2 => chart
+                        .draw_series(pts.iter().map(|&p| Cross::new(p, 4, style)))
+                        .map_err(err)?
+                        .legend(move |(x, y)| Cross::new((x + 12, y), 4, style)),
+                    _ => chart
+                        .draw_series(pts.iter().map(|&p| {
+                            EmptyElement::at(p) + Rectangle::new([(-3, -3), (3, 3)], style)
+                        }))
+                        .map_err(err)?
+                        .legend(move |(x, y)| {
+                            Rectangle::new([(x + 9, y - 3), (x + 15, y + 3)], style)
+                        }),
+                };
+                anno.label(&s.label);
+            }
+        }
+    }
+    for (i, g) in fig.guides.iter().enumerate() {
+        let colour = RGBColor(110, 110, 110);
+        let style = ShapeStyle::from(&colour).stroke_width(1);
+        let v = if (g.vertical && lx) || (!g.vertical && ly) {
+            log10(g.value)
+        } else {
+            g.value
+        };
+        if !v.is_finite() {
+            continue;
+        }
+        let line = if g.vertical {
+            vec![(v, y0), (v, y1)]
+        } else {
+            vec![(x0, v), (x1, v)]
+        };
+        // Guides are dotted (short dashes), each with its own spacing.
+        let gap = 3 + 2 * i as u32;
+        chart
+            .draw_series(DashedLineSeries::new(line, 3, gap, style))
+            .map_err(err)?
+            .label(&g.label)
+            .legend(move |(x, y)| {
+                EmptyElement::at((x, y))
+                    + PathElement::new(vec![(0, 0), (3, 0)], style)
+                    + PathElement::new(vec![(9, 0), (12, 0)], style)
+                    + PathElement::new(vec![(18, 0), (21, 0)], style)
+            });
+    }
+    chart
+        .configure_series_labels()
+        .position(match fig.legend_low {
+            true => SeriesLabelPosition::LowerLeft,
+            false => SeriesLabelPosition::UpperRight,
+        })
+        .background_style(WHITE.mix(0.85))
+        .border_style(RGBColor(160, 160, 160))
+        .label_font(("sans-serif", 14))
+        .draw()
+        .map_err(err)?;
+    Ok(())
+}
+
+/// A bar chart: one bar per entry, its value written above it, labels under the axis.
+fn draw_bars<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, fig: &Figure) -> Result<()>
+where
+    DB::ErrorType: 'static,
+{
+    let n = fig.bars.len();
+    let top = fig.bars.iter().map(|b| b.1).fold(0.0f64, f64::max) * 1.15;
+    let top = if top > 0.0 { top } else { 1.0 };
+    let mut chart = ChartBuilder::on(area)
+        .caption(&fig.title, ("sans-serif", 18))
+        .margin(14)
+        .x_label_area_size(48)
+        .y_label_area_size(70)
+        .build_cartesian_2d(-0.5f64..n as f64 - 0.5, 0.0..top)
+        .map_err(err)?;
+    let labels: Vec<String> = fig.bars.iter().map(|b| b.0.clone()).collect();
+    chart
+        .configure_mesh()
+        .disable_x_mesh()
+        .x_labels(n)
+        .x_label_formatter(&|v| {
+            let i = v.round();
+            match (i - v).abs() < 1e-6 && i >= 0.0 {
+                true => labels.get(i as usize).cloned().unwrap_or_default(),
+                false => String::new(),
+            }
+        })
+        .y_desc(&fig.y_label)
+        .light_line_style(RGBColor(235, 235, 235))
+        .draw()
+        .map_err(err)?;
+    for (i, (_, v)) in fig.bars.iter().enumerate() {
+        let x = i as f64;
+        let colour = PALETTE[(i + 1) % PALETTE.len()];
+        // Fill and a distinct hatch-free outline; the value is written on each bar, so the
+        // chart reads without colour.
+        chart
+            .draw_series(std::iter::once(Rectangle::new(
+                [(x - 0.3, 0.0), (x + 0.3, *v)],
+                colour.filled(),
+            )))
+            .map_err(err)?;
+        chart
+            .draw_series(std::iter::once(Rectangle::new(
+                [(x - 0.3, 0.0), (x + 0.3, *v)],
+                ShapeStyle::from(&BLACK).stroke_width(1),
+            )))
+            .map_err(err)?;
+        chart
+            .draw_series(std::iter::once(Text::new(
+                format!("{v:.2}"),
+                (x - 0.1, *v + top * 0.02),
+                ("sans-serif", 16),
+            )))
+            .map_err(err)?;
+    }
+    Ok(())
+}

@@ -1,0 +1,435 @@
+//! The figures for the wall: what each one shows, as numbers (series of points, bars, guide
+//! lines), with its title, axis labels and caption. The drawing (`plot`) lays these out and
+//! adds nothing; the tests compare the numbers here with `summary --json`.
+
+use crate::analysis::planning::Plan;
+use crate::analysis::stats::NetworkStats;
+use crate::dataset::Dataset;
+use crate::error::Result;
+use crate::ingest::dates;
+use crate::metrics::Stat;
+
+/// How a series is drawn (each also differs in shape or dash, so that it reads in greyscale).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Mark {
+    /// Solid line.
+    Line,
+    /// Dashed line.
+    Dashed,
+    /// Markers only (shape by series).
+    Points,
+}
+
+/// One series of points.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Series {
+    /// Legend text.
+    pub label: String,
+    /// (x, y) in data units.
+    pub points: Vec<(f64, f64)>,
+    /// How it is drawn.
+    pub mark: Mark,
+    /// Colour group: series of one group share a colour (a strategy on the network and in the
+    /// model, say) and differ by dash.
+    pub group: usize,
+}
+
+/// A guide line across the plot.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Guide {
+    /// Legend text.
+    pub label: String,
+    /// True: vertical at x = value; false: horizontal at y = value.
+    pub vertical: bool,
+    /// Where.
+    pub value: f64,
+}
+
+/// One figure.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Figure {
+    /// File stem (`degree-distribution` -> `degree-distribution.svg`).
+    pub name: String,
+    /// Title.
+    pub title: String,
+    /// X axis label with unit.
+    pub x_label: String,
+    /// Y axis label with unit.
+    pub y_label: String,
+    /// Logarithmic axes.
+    pub log: (bool, bool),
+    /// Series (lines and markers).
+    pub series: Vec<Series>,
+    /// Bars: (label, value), for a bar chart instead of series.
+    pub bars: Vec<(String, f64)>,
+    /// Guide lines.
+    pub guides: Vec<Guide>,
+    /// Caption line: as-of date, view, window, inputs.
+    pub caption: String,
+    /// Legend in the lower left corner (else the upper right), where the data leave room.
+    pub legend_low: bool,
+}
+
+/// The caption every figure carries: as-of date, view, monitoring window (when known) and the
+/// input files with their SHA-256 shortened to 12 hex digits.
+pub fn caption(d: &Dataset, window: Option<(u32, &str)>) -> Result<String> {
+    let mut parts = vec![
+        format!("as of {}", dates::iso(d.as_of)),
+        format!("view: {}", d.view.0.describe()),
+    ];
+    if let Some((days, pathogen)) = window {
+        parts.push(format!("window {days} days ({pathogen})"));
+    }
+    for f in &d.ledger.files {
+        let name = f
+            .path
+            .file_name()
+            .map(|n| n.to_string_lossy().into_owned())
+            .unwrap_or_default();
+        parts.push(match f.path.exists() {
+            true => format!(
+                "{name} sha256 {}",
+                &crate::export::file_sha256(&f.path)?[..12]
+            ),
+            // The bundled sample's name already says it is built in.
+            false => name,
+        });
+    }
+    Ok(parts.join(" · "))
+}
+
+fn ok(s: Stat) -> Option<f64> {
+    s.ok().filter(|x| x.is_finite())
+}
+
+fn fmt(s: Stat, digits: usize) -> String {
+    ok(s).map_or("undefined".into(), |x| format!("{x:.digits$}"))
+}
+
+/// Points (k, v[k]) with v[k] > 0 when `positive` (for logarithmic axes).
+fn indexed(v: &[f64], positive: bool) -> Vec<(f64, f64)> {
+    v.iter()
+        .enumerate()
+        .filter(|(_, &y)| y.is_finite() && (!positive || y > 0.0))
+        .map(|(k, &y)| (k as f64, y))
+        .collect()
+}
+
+/// The degree distribution p_k, the excess degree distribution q_k, and the fitted
+/// distributions over p_k; `log`: on logarithmic axes (zeros left out), with the power-law tail
+/// where it was fitted.
+pub fn degree_distribution(s: &NetworkStats, log: bool, caption: &str) -> Figure {
+    let (p, q) = (s.degree.p(), s.degree.q());
+    let kmax = p.len().saturating_sub(1);
+    let fit = |label: &str, f: &crate::metrics::fits::Fit, group: usize| Series {
+        label: label.to_string(),
+        points: (0..=kmax as u64)
+            .filter_map(|k| ok(f.pmf(k)).map(|y| (k as f64, y)))
+            .filter(|&(_, y)| !log || y > 0.0)
+            .collect(),
+        mark: Mark::Dashed,
+        group,
+    };
+    let f = &s.fits;
+    let mut series = vec![
+        Series {
+            label: "p_k: share of people with k contacts".into(),
+            points: indexed(&p, log),
+            mark: Mark::Points,
+            group: 0,
+        },
+        Series {
+            label: "q_k: excess degree at the end of a random exposure".into(),
+            points: indexed(&q, log),
+            mark: Mark::Points,
+            group: 1,
+        },
+        fit("negative binomial fit", &f.negative_binomial.fit, 2),
+        fit("Poisson fit", &f.poisson, 3),
+        fit("geometric fit", &f.geometric, 4),
+    ];
+    if log {
+        if let Ok(tail) = &f.power_law {
+            // p_k ~ C k^-alpha from x_min, scaled to meet p at x_min.
+            let (xmin, alpha) = (tail.x_min as usize, tail.alpha);
+            if let Some(&p0) = p.get(xmin).filter(|&&v| v > 0.0) {
+                series.push(Series {
+                    label: format!("power-law tail, alpha {alpha:.2} from k = {xmin}"),
+                    points: (xmin..=kmax)
+                        .map(|k| (k as f64, p0 * (k as f64 / xmin as f64).powf(-alpha)))
+                        .collect(),
+                    mark: Mark::Line,
+                    group: 5,
+                });
+            }
+        }
+    }
+    Figure {
+        name: if log {
+            "degree-distribution-loglog".into()
+        } else {
+            "degree-distribution".into()
+        },
+        title: "Contacts per person: p_k and the excess degree q_k".into(),
+        x_label: "k (contacts of a person; excess: other contacts)".into(),
+        y_label: "share".into(),
+        log: (log, log),
+        series,
+        bars: Vec::new(),
+        guides: Vec::new(),
+        caption: caption.to_string(),
+        legend_low: log,
+    }
+}
+
+/// k_nn(k) against the flat line <k^2>/<k> of a network without degree correlations.
+pub fn neighbour_degree(s: &NetworkStats, caption: &str) -> Figure {
+    let null = match (ok(s.null.mean), ok(s.null.sd)) {
+        (Some(m), Some(sd)) => format!("; null model r {m:.3} ± {sd:.3}"),
+        _ => String::new(),
+    };
+    let flat = ok(s.degree.edge_end_mean);
+    Figure {
+        name: "neighbour-degree".into(),
+        title: format!(
+            "Contacts' mean number of contacts by own number (r = {} ± {}{null})",
+            fmt(s.r, 3),
+            fmt(s.r_se, 3)
+        ),
+        x_label: "k (own contacts)".into(),
+        y_label: "k_nn (contacts' mean contacts)".into(),
+        log: (false, false),
+        series: vec![Series {
+            label: "k_nn(k), observed".into(),
+            points: s
+                .neighbours
+                .knn
+                .iter()
+                .map(|&(k, v)| (f64::from(k), v))
+                .collect(),
+            mark: Mark::Points,
+            group: 0,
+        }],
+        bars: Vec::new(),
+        guides: flat
+            .map(|v| Guide {
+                label: format!("<k²>/<k> = {v:.2}: no degree correlation"),
+                vertical: false,
+                value: v,
+            })
+            .into_iter()
+            .collect(),
+        caption: caption.to_string(),
+        legend_low: false,
+    }
+}
+
+/// The three versions of the friendship paradox: mean contacts of a person, of the person at
+/// the end of a random exposure, of a person's contacts on average.
+pub fn paradox(s: &NetworkStats, caption: &str) -> Figure {
+    let bar = |label: &str, v: Stat| (label.to_string(), ok(v).unwrap_or(0.0));
+    Figure {
+        name: "friendship-paradox".into(),
+        title: format!(
+            "Why your contacts have more contacts than you (share of people whose contacts have more: {})",
+            ok(s.neighbours.share_more).map_or("undefined".into(), |x| format!("{:.0}%", 100.0 * x))
+        ),
+        x_label: "".into(),
+        y_label: "mean number of contacts".into(),
+        log: (false, false),
+        series: Vec::new(),
+        bars: vec![
+            bar("a person <k>", s.degree.mean),
+            bar("end of an exposure <k²>/<k>", s.degree.edge_end_mean),
+            bar("a person's contacts (mean)", s.neighbours.contact_mean),
+        ],
+        guides: Vec::new(),
+        caption: caption.to_string(),
+        legend_low: false,
+    }
+}
+
+/// Cluster sizes in rank order, on logarithmic axes.
+pub fn components(s: &NetworkStats, caption: &str) -> Figure {
+    let mut sizes: Vec<u32> = s.components.1.clone();
+    sizes.sort_unstable_by(|a, b| b.cmp(a));
+    Figure {
+        name: "cluster-sizes".into(),
+        title: format!("Cluster sizes by rank ({} clusters)", sizes.len()),
+        x_label: "rank (largest first)".into(),
+        y_label: "people in the cluster".into(),
+        log: (true, true),
+        series: vec![Series {
+            label: "cluster size".into(),
+            points: sizes
+                .iter()
+                .enumerate()
+                .map(|(i, &n)| (i as f64 + 1.0, f64::from(n)))
+                .collect(),
+            mark: Mark::Points,
+            group: 0,
+        }],
+        bars: Vec::new(),
+        guides: Vec::new(),
+        caption: caption.to_string(),
+        legend_low: false,
+    }
+}
+
+/// R0 and the expected final size over the transmissibility T, with the threshold and the
+/// estimated T.
+pub fn outlook_t(plan: &Plan, caption: &str) -> Figure {
+    let pts = |f: &dyn Fn(&crate::metrics::outlook::Outlook) -> Stat| {
+        plan.curve
+            .iter()
+            .filter_map(|o| ok(f(o)).map(|y| (o.t, y)))
+            .collect::<Vec<_>>()
+    };
+    let mut guides = Vec::new();
+    if let Some(tc) = ok(plan.at_t.threshold) {
+        guides.push(Guide {
+            label: format!("threshold T_c = {tc:.3}"),
+            vertical: true,
+            value: tc,
+        });
+    }
+    if let Some(t) = plan.t {
+        guides.push(Guide {
+            label: format!("estimated T = {t:.3}"),
+            vertical: true,
+            value: t,
+        });
+    }
+    guides.push(Guide {
+        label: "R0 = 1".into(),
+        vertical: false,
+        value: 1.0,
+    });
+    Figure {
+        name: "outlook-transmissibility".into(),
+        title: "Configuration-model outlook over the transmissibility T".into(),
+        x_label: "T (chance an exposure passes infection on)".into(),
+        y_label: "R0 (people) / final size (share)".into(),
+        log: (false, false),
+        series: vec![
+            Series {
+                label: "R0 = T κ".into(),
+                points: pts(&|o| o.r0),
+                mark: Mark::Line,
+                group: 0,
+            },
+            Series {
+                label: "expected final size S (share of people)".into(),
+                points: pts(&|o| o.final_size),
+                mark: Mark::Dashed,
+                group: 1,
+            },
+        ],
+        bars: Vec::new(),
+        guides,
+        caption: caption.to_string(),
+        legend_low: false,
+    }
+}
+
+/// Residual R against people reached, for every strategy (graph and configuration model).
+pub fn outlook_reach(plan: &Plan, caption: &str) -> Option<Figure> {
+    let t = plan.t?;
+    let mut series = Vec::new();
+    for (group, s) in plan.strategies.iter().enumerate() {
+        let n = s.len();
+        let step = (n / 400).max(1);
+        series.push(Series {
+            label: format!("{} (network)", s.strategy.name()),
+            points: (0..=n)
+                .step_by(step)
+                .filter_map(|i| ok(s.r(t, i)).map(|r| (i as f64, r)))
+                .collect(),
+            mark: Mark::Line,
+            group,
+        });
+        series.push(Series {
+            label: format!("{} (configuration model)", s.strategy.name()),
+            points: (0..=n)
+                .step_by(step)
+                .filter_map(|i| ok(s.model_kappa[i]).map(|k| (i as f64, t * k)))
+                .collect(),
+            mark: Mark::Dashed,
+            group,
+        });
+    }
+    Some(Figure {
+        name: "outlook-reach".into(),
+        title: format!("Residual R as people are reached (T = {t:.3})"),
+        x_label: "people reached (removed from the network)".into(),
+        y_label: "residual R".into(),
+        log: (false, false),
+        series,
+        bars: Vec::new(),
+        guides: vec![Guide {
+            label: "R = 1".into(),
+            vertical: false,
+            value: 1.0,
+        }],
+        caption: caption.to_string(),
+        legend_low: false,
+    })
+}
+
+/// Every figure hubwatch draws for a report (the outlook ones when it was computed).
+pub fn all(s: &NetworkStats, plan: Option<&Plan>, caption: &str) -> Vec<Figure> {
+    let mut v = vec![
+        degree_distribution(s, false, caption),
+        degree_distribution(s, true, caption),
+        neighbour_degree(s, caption),
+        paradox(s, caption),
+        components(s, caption),
+    ];
+    if let Some(p) = plan {
+        v.push(outlook_t(p, caption));
+        v.extend(outlook_reach(p, caption));
+    }
+    v
+}
+
+/// The numbers behind a figure as a typed table: one row per point (series, x, y), per bar
+/// (label, position, value) and per guide line (its value on x or y).
+pub fn data_table(fig: &Figure) -> crate::export::ExportTable {
+    use crate::export::{Cell, ExportTable, Kind};
+    let mut rows = Vec::new();
+    for s in &fig.series {
+        for &(x, y) in &s.points {
+            rows.push(vec![
+                Cell::Text("series".into()),
+                Cell::Text(s.label.clone()),
+                Cell::Num(x),
+                Cell::Num(y),
+            ]);
+        }
+    }
+    for (i, (label, v)) in fig.bars.iter().enumerate() {
+        rows.push(vec![
+            Cell::Text("bar".into()),
+            Cell::Text(label.clone()),
+            Cell::Num(i as f64),
+            Cell::Num(*v),
+        ]);
+    }
+    for g in &fig.guides {
+        let (x, y) = match g.vertical {
+            true => (Cell::Num(g.value), Cell::Empty),
+            false => (Cell::Empty, Cell::Num(g.value)),
+        };
+        rows.push(vec![
+            Cell::Text("guide".into()),
+            Cell::Text(g.label.clone()),
+            x,
+            y,
+        ]);
+    }
+    ExportTable {
+        columns: ["part", "label", "x", "y"].map(String::from).to_vec(),
+        rows,
+        kinds: vec![Kind::Text, Kind::Text, Kind::Num, Kind::Num],
+    }
+}
