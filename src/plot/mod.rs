@@ -10,7 +10,7 @@ use plotters::coord::Shift;
 use plotters::prelude::*;
 
 use crate::error::{Error, Result};
-use crate::report::figures::{Figure, Mark};
+use crate::report::figures::{Figure, Mark, Matrix, Stacked};
 
 /// Okabe-Ito: black, orange, sky blue, bluish green, vermillion, blue, reddish purple, yellow.
 const PALETTE: [RGBColor; 8] = [
@@ -188,6 +188,12 @@ where
     if !fig.bars.is_empty() {
         return draw_bars(&main, fig);
     }
+    if let Some(m) = &fig.matrix {
+        return draw_matrix(&main, fig, m);
+    }
+    if let Some(st) = &fig.stacked {
+        return draw_stacked(&main, fig, st);
+    }
     let ((x0, x1), (y0, y1)) = ranges(fig);
     let mut chart = ChartBuilder::on(&main)
         .caption(&fig.title, ("sans-serif", 20))
@@ -358,6 +364,157 @@ where
                 (x - 0.1, *v + top * 0.02),
                 ("sans-serif", 16),
             )))
+            .map_err(err)?;
+    }
+    Ok(())
+}
+
+/// A heat map: darker is more (a single-hue ramp, so it reads in greyscale), the count written
+/// in every cell in black or white by the cell's darkness.
+fn draw_matrix<DB: DrawingBackend>(
+    area: &DrawingArea<DB, Shift>,
+    fig: &Figure,
+    m: &Matrix,
+) -> Result<()>
+where
+    DB::ErrorType: 'static,
+{
+    let n = m.groups.len();
+    let max = m.values.iter().flatten().fold(0.0f64, |a, &b| a.max(b));
+    let mut chart = ChartBuilder::on(area)
+        .caption(&fig.title, ("sans-serif", 18))
+        .margin(14)
+        .x_label_area_size(48)
+        .y_label_area_size(110)
+        .build_cartesian_2d(-0.5f64..n as f64 - 0.5, -0.5f64..n as f64 - 0.5)
+        .map_err(err)?;
+    let label = |v: &f64| {
+        let i = v.round();
+        match (i - v).abs() < 1e-6 && i >= 0.0 {
+            true => m.groups.get(i as usize).cloned().unwrap_or_default(),
+            false => String::new(),
+        }
+    };
+    chart
+        .configure_mesh()
+        .disable_mesh()
+        .x_labels(n)
+        .y_labels(n)
+        .x_label_formatter(&label)
+        .y_label_formatter(&label)
+        .x_desc(&fig.x_label)
+        .y_desc(&fig.y_label)
+        .draw()
+        .map_err(err)?;
+    for (i, row) in m.values.iter().enumerate() {
+        for (j, &v) in row.iter().enumerate() {
+            let share = if max > 0.0 { v / max } else { 0.0 };
+            // From near-white to the palette's blue.
+            let mix = |hi: u8| (255.0 - share * (255.0 - f64::from(hi))).round() as u8;
+            let fill = RGBColor(mix(0), mix(114), mix(178));
+            let (x, y) = (j as f64, i as f64);
+            chart
+                .draw_series(std::iter::once(Rectangle::new(
+                    [(x - 0.5, y - 0.5), (x + 0.5, y + 0.5)],
+                    fill.filled(),
+                )))
+                .map_err(err)?;
+            let ink = if share > 0.55 { WHITE } else { BLACK };
+            chart
+                .draw_series(std::iter::once(Text::new(
+                    format!("{v:.0}"),
+                    (x - 0.08, y + 0.05),
+                    ("sans-serif", 15).into_font().color(&ink),
+                )))
+                .map_err(err)?;
+        }
+    }
+    Ok(())
+}
+
+/// Stacked bars: one bar per category, layers bottom to top in order, each layer its colour and
+/// a black outline, the layers named in the legend.
+fn draw_stacked<DB: DrawingBackend>(
+    area: &DrawingArea<DB, Shift>,
+    fig: &Figure,
+    st: &Stacked,
+) -> Result<()>
+where
+    DB::ErrorType: 'static,
+{
+    let n = st.x.len();
+    let totals: Vec<f64> = (0..n)
+        .map(|i| st.layers.iter().map(|l| l.1[i]).sum())
+        .collect();
+    let top = totals.iter().fold(0.0f64, |a, &b| a.max(b)) * 1.1;
+    let top = if top > 0.0 { top } else { 1.0 };
+    let mut chart = ChartBuilder::on(area)
+        .caption(&fig.title, ("sans-serif", 18))
+        .margin(14)
+        .x_label_area_size(48)
+        .y_label_area_size(70)
+        .build_cartesian_2d(-0.5f64..n as f64 - 0.5, 0.0..top)
+        .map_err(err)?;
+    let every = st.label_every.max(1);
+    chart
+        .configure_mesh()
+        .disable_x_mesh()
+        .x_labels(n)
+        .x_label_formatter(&|v| {
+            let i = v.round();
+            match (i - v).abs() < 1e-6 && i >= 0.0 && (i as usize).is_multiple_of(every) {
+                true => st.x.get(i as usize).cloned().unwrap_or_default(),
+                false => String::new(),
+            }
+        })
+        .x_desc(&fig.x_label)
+        .y_desc(&fig.y_label)
+        .light_line_style(RGBColor(235, 235, 235))
+        .draw()
+        .map_err(err)?;
+    let mut base = vec![0.0f64; n];
+    for (li, (label, values)) in st.layers.iter().enumerate() {
+        let colour = PALETTE[(li + 1) % PALETTE.len()];
+        let bars: Vec<Rectangle<(f64, f64)>> = (0..n)
+            .filter(|&i| values[i] > 0.0)
+            .map(|i| {
+                let x = i as f64;
+                Rectangle::new(
+                    [(x - 0.4, base[i]), (x + 0.4, base[i] + values[i])],
+                    colour.filled(),
+                )
+            })
+            .collect();
+        let outlines: Vec<Rectangle<(f64, f64)>> = (0..n)
+            .filter(|&i| values[i] > 0.0)
+            .map(|i| {
+                let x = i as f64;
+                Rectangle::new(
+                    [(x - 0.4, base[i]), (x + 0.4, base[i] + values[i])],
+                    ShapeStyle::from(&BLACK).stroke_width(1),
+                )
+            })
+            .collect();
+        chart
+            .draw_series(bars)
+            .map_err(err)?
+            .label(label)
+            .legend(move |(x, y)| {
+                Rectangle::new([(x + 4, y - 5), (x + 18, y + 5)], colour.filled())
+            });
+        chart.draw_series(outlines).map_err(err)?;
+        for i in 0..n {
+            base[i] += values[i];
+        }
+    }
+    if st.layers.len() > 1 {
+        chart
+            .configure_series_labels()
+            .position(SeriesLabelPosition::UpperLeft)
+            .background_style(WHITE.mix(0.85))
+            .border_style(RGBColor(160, 160, 160))
+            .label_font(("sans-serif", 14))
+            .draw()
             .map_err(err)?;
     }
     Ok(())

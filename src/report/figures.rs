@@ -68,6 +68,30 @@ pub struct Figure {
     pub caption: String,
     /// Legend in the lower left corner (else the upper right), where the data leave room.
     pub legend_low: bool,
+    /// A matrix drawn as a heat map with the values in the cells (instead of series).
+    pub matrix: Option<Matrix>,
+    /// Stacked bars (instead of series).
+    pub stacked: Option<Stacked>,
+}
+
+/// A square matrix of counts between groups.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Matrix {
+    /// Group labels, for rows and columns alike.
+    pub groups: Vec<String>,
+    /// `values[i][j]`.
+    pub values: Vec<Vec<f64>>,
+}
+
+/// Bars at categories, each stacked from layers.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Stacked {
+    /// Category labels along x (shown every `label_every`).
+    pub x: Vec<String>,
+    /// Show every n-th label.
+    pub label_every: usize,
+    /// (layer label, value at each category).
+    pub layers: Vec<(String, Vec<f64>)>,
 }
 
 /// The caption every figure carries: as-of date, view, monitoring window (when known) and the
@@ -179,28 +203,30 @@ pub fn degree_distribution(s: &NetworkStats, log: bool, caption: &str) -> Figure
         guides: Vec::new(),
         caption: caption.to_string(),
         legend_low: log,
+        matrix: None,
+        stacked: None,
     }
 }
 
 /// k_nn(k) against the flat line <k^2>/<k> of a network without degree correlations.
 pub fn neighbour_degree(s: &NetworkStats, caption: &str) -> Figure {
     let null = match (ok(s.null.mean), ok(s.null.sd)) {
-        (Some(m), Some(sd)) => format!("; null model r {m:.3} ± {sd:.3}"),
+        (Some(m), Some(sd)) => format!("; degree-preserving null {m:.3} ± {sd:.3}"),
         _ => String::new(),
     };
     let flat = ok(s.degree.edge_end_mean);
     Figure {
         name: "neighbour-degree".into(),
-        title: format!(
-            "Contacts' mean number of contacts by own number (r = {} ± {}{null})",
-            fmt(s.r, 3),
-            fmt(s.r_se, 3)
-        ),
+        title: "Contacts' mean number of contacts by own number".into(),
         x_label: "k (own contacts)".into(),
         y_label: "k_nn (contacts' mean contacts)".into(),
         log: (false, false),
         series: vec![Series {
-            label: "k_nn(k), observed".into(),
+            label: format!(
+                "k_nn(k), observed: r = {} ± {} (jackknife){null}",
+                fmt(s.r, 3),
+                fmt(s.r_se, 3)
+            ),
             points: s
                 .neighbours
                 .knn
@@ -220,7 +246,9 @@ pub fn neighbour_degree(s: &NetworkStats, caption: &str) -> Figure {
             .into_iter()
             .collect(),
         caption: caption.to_string(),
-        legend_low: false,
+        legend_low: true,
+        matrix: None,
+        stacked: None,
     }
 }
 
@@ -246,6 +274,8 @@ pub fn paradox(s: &NetworkStats, caption: &str) -> Figure {
         guides: Vec::new(),
         caption: caption.to_string(),
         legend_low: false,
+        matrix: None,
+        stacked: None,
     }
 }
 
@@ -273,6 +303,8 @@ pub fn components(s: &NetworkStats, caption: &str) -> Figure {
         guides: Vec::new(),
         caption: caption.to_string(),
         legend_low: false,
+        matrix: None,
+        stacked: None,
     }
 }
 
@@ -329,6 +361,8 @@ pub fn outlook_t(plan: &Plan, caption: &str) -> Figure {
         guides,
         caption: caption.to_string(),
         legend_low: false,
+        matrix: None,
+        stacked: None,
     }
 }
 
@@ -373,18 +407,192 @@ pub fn outlook_reach(plan: &Plan, caption: &str) -> Option<Figure> {
         }],
         caption: caption.to_string(),
         legend_low: false,
+        matrix: None,
+        stacked: None,
     })
 }
 
-/// Every figure hubwatch draws for a report (the outlook ones when it was computed).
-pub fn all(s: &NetworkStats, plan: Option<&Plan>, caption: &str) -> Vec<Figure> {
+/// What a random contact's other contacts look like: the observed share, followed from each
+/// person to their contacts, against q_k of the configuration model.
+pub fn excess_observed(s: &NetworkStats, caption: &str) -> Figure {
+    Figure {
+        name: "excess-degree-observed".into(),
+        title: "Contacts' other contacts: observed against the configuration model's q_k".into(),
+        x_label: "k (a contact's other contacts)".into(),
+        y_label: "share".into(),
+        log: (false, false),
+        series: vec![
+            Series {
+                label: "observed (from each person to their contacts)".into(),
+                points: indexed(&s.neighbours.contact_excess, false),
+                mark: Mark::Points,
+                group: 0,
+            },
+            Series {
+                label: "q_k = (k+1) p_(k+1) / <k>".into(),
+                points: indexed(&s.degree.q(), false),
+                mark: Mark::Line,
+                group: 1,
+            },
+        ],
+        bars: Vec::new(),
+        guides: Vec::new(),
+        caption: caption.to_string(),
+        legend_low: false,
+        matrix: None,
+        stacked: None,
+    }
+}
+
+/// Who meets whom: contact pairs between the groups of each people attribute (area, age
+/// group), as heat maps with the counts in the cells.
+pub fn mixing_matrices(s: &NetworkStats, caption: &str) -> Vec<Figure> {
+    s.attribute_mixing
+        .iter()
+        .filter(|(_, m)| !m.groups.is_empty())
+        .map(|(field, m)| Figure {
+            name: format!("mixing-{}", field.replace('_', "-")),
+            title: format!(
+                "Contact pairs by {} (assortativity r = {}; {} pairs with a value missing)",
+                field.replace('_', " "),
+                fmt(m.r, 3),
+                m.unknown
+            ),
+            x_label: field.replace('_', " "),
+            y_label: field.replace('_', " "),
+            log: (false, false),
+            series: Vec::new(),
+            bars: Vec::new(),
+            guides: Vec::new(),
+            caption: caption.to_string(),
+            legend_low: false,
+            matrix: Some(Matrix {
+                groups: m.groups.clone(),
+                values: m
+                    .pairs
+                    .iter()
+                    .map(|row| row.iter().map(|&x| x as f64).collect())
+                    .collect(),
+            }),
+            stacked: None,
+        })
+        .collect()
+}
+
+/// Contact pairs by the date of their last exposure, stacked by setting (a pair in several
+/// settings counts under the first; pairs without a date are left out and counted in the
+/// title), over the 42 days up to the as-of date.
+pub fn exposures_per_day(d: &Dataset, caption: &str) -> Figure {
+    const DAYS: i32 = 42;
+    let first = d.as_of - DAYS + 1;
+    let e = &d.edges;
+    let mut layers: Vec<Vec<f64>> = vec![vec![0.0; DAYS as usize]; d.settings.len() + 1];
+    let (mut undated, mut outside) = (0u64, 0u64);
+    for i in 0..e.len() {
+        let day = if e.last[i] != crate::ingest::reconcile::NO_DATE {
+            e.last[i]
+        } else {
+            e.first[i]
+        };
+        if day == crate::ingest::reconcile::NO_DATE {
+            undated += 1;
+            continue;
+        }
+        if day < first || day > d.as_of {
+            outside += 1;
+            continue;
+        }
+        let layer = e.settings(i).first().map_or(0, |&c| c as usize);
+        layers[layer][(day - first) as usize] += 1.0;
+    }
+    let mut named: Vec<(String, Vec<f64>)> = d
+        .settings
+        .iter()
+        .cloned()
+        .zip(layers.iter().skip(1).cloned())
+        .collect();
+    named.push(("no setting".into(), layers[0].clone()));
+    named.retain(|(_, v)| v.iter().any(|&x| x > 0.0));
+    Figure {
+        name: "exposures-per-day".into(),
+        title: format!(
+            "Contact pairs by date of last exposure, by setting ({undated} undated, {outside} outside these {DAYS} days)"
+        ),
+        x_label: "date of last exposure".into(),
+        y_label: "contact pairs".into(),
+        log: (false, false),
+        series: Vec::new(),
+        bars: Vec::new(),
+        guides: Vec::new(),
+        caption: caption.to_string(),
+        legend_low: false,
+        matrix: None,
+        stacked: Some(Stacked {
+            x: (first..=d.as_of).map(dates::iso).collect(),
+            label_every: 7,
+            layers: named,
+        }),
+    }
+}
+
+/// People whose monitoring window ends on each of the next 21 days from the as-of date (the
+/// as-of date included), from the ranked list's window ends.
+pub fn windows_ending(
+    d: &Dataset,
+    window_end: impl Iterator<Item = i32>,
+    days: u32,
+    caption: &str,
+) -> Figure {
+    const AHEAD: i32 = 21;
+    let mut counts = vec![0.0; AHEAD as usize];
+    for end in window_end {
+        let i = end - d.as_of;
+        if (0..AHEAD).contains(&i) {
+            counts[i as usize] += 1.0;
+        }
+    }
+    Figure {
+        name: "windows-ending".into(),
+        title: format!("People whose {days}-day monitoring window ends, by day"),
+        x_label: "last day of monitoring".into(),
+        y_label: "people".into(),
+        log: (false, false),
+        series: Vec::new(),
+        bars: Vec::new(),
+        guides: Vec::new(),
+        caption: caption.to_string(),
+        legend_low: false,
+        matrix: None,
+        stacked: Some(Stacked {
+            x: (0..AHEAD).map(|i| dates::iso(d.as_of + i)).collect(),
+            label_every: 7,
+            layers: vec![("people".into(), counts)],
+        }),
+    }
+}
+
+/// Every figure hubwatch draws for a report (the outlook ones when it was computed; the windows
+/// when the list was ranked: (window end of each person ranked, window days)).
+pub fn all(
+    d: &Dataset,
+    s: &NetworkStats,
+    plan: Option<&Plan>,
+    windows: Option<(Vec<i32>, u32)>,
+    caption: &str,
+) -> Vec<Figure> {
     let mut v = vec![
         degree_distribution(s, false, caption),
         degree_distribution(s, true, caption),
+        excess_observed(s, caption),
         neighbour_degree(s, caption),
         paradox(s, caption),
         components(s, caption),
     ];
+    v.extend(mixing_matrices(s, caption));
+    v.push(exposures_per_day(d, caption));
+    if let Some((ends, days)) = windows {
+        v.push(windows_ending(d, ends.into_iter(), days, caption));
+    }
     if let Some(p) = plan {
         v.push(outlook_t(p, caption));
         v.extend(outlook_reach(p, caption));
@@ -414,6 +622,30 @@ pub fn data_table(fig: &Figure) -> crate::export::ExportTable {
             Cell::Num(i as f64),
             Cell::Num(*v),
         ]);
+    }
+    if let Some(m) = &fig.matrix {
+        for (i, row) in m.values.iter().enumerate() {
+            for (j, &v) in row.iter().enumerate() {
+                rows.push(vec![
+                    Cell::Text("cell".into()),
+                    Cell::Text(format!("{} / {}", m.groups[i], m.groups[j])),
+                    Cell::Num(j as f64),
+                    Cell::Num(v),
+                ]);
+            }
+        }
+    }
+    if let Some(st) = &fig.stacked {
+        for (label, values) in &st.layers {
+            for (i, &v) in values.iter().enumerate() {
+                rows.push(vec![
+                    Cell::Text("stack".into()),
+                    Cell::Text(format!("{label} / {}", st.x[i])),
+                    Cell::Num(i as f64),
+                    Cell::Num(v),
+                ]);
+            }
+        }
     }
     for g in &fig.guides {
         let (x, y) = match g.vertical {

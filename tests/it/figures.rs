@@ -143,6 +143,57 @@ fn the_numbers_behind_each_figure_are_the_reports_numbers() {
         .map(|p| p.1)
         .collect();
     assert_eq!(got, sizes);
+    // The observed excess degree, followed from each person to their contacts.
+    let obs: Vec<(f64, f64)> = s["excess"]["contacts_observed"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|p| (p[0].as_f64().unwrap(), p[1].as_f64().unwrap()))
+        .collect();
+    let got = series(&data(dir.path(), "excess-degree-observed"), "observed");
+    assert_eq!(got.len(), obs.len());
+    assert!(got
+        .iter()
+        .zip(&obs)
+        .all(|(a, b)| a.0 == b.0 && close(a.1, b.1)));
+    // The mixing matrices are the reported pair counts.
+    for (field, file) in [("area", "mixing-area"), ("age_group", "mixing-age-group")] {
+        let want: Vec<f64> = s["mixing"][field]["pairs"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .flat_map(|row| row.as_array().unwrap().iter().map(|x| x.as_f64().unwrap()))
+            .collect();
+        let got: Vec<f64> = data(dir.path(), file)
+            .iter()
+            .filter(|r| r.0 == "cell")
+            .map(|r| r.3.unwrap())
+            .collect();
+        assert_eq!(got, want, "{field}");
+    }
+    // Windows ending per day: counted again here from `priority --json`'s window ends.
+    let p = json(&["priority", "--as-of", AS_OF, "--top", "0", "--json"]);
+    let mut want = [0.0f64; 21];
+    for r in p["list"].as_array().unwrap() {
+        if let Some(end) = r["window_end"].as_str() {
+            let end = chrono::NaiveDate::parse_from_str(end, "%Y-%m-%d").unwrap();
+            let as_of = chrono::NaiveDate::parse_from_str(AS_OF, "%Y-%m-%d").unwrap();
+            let i = (end - as_of).num_days();
+            if (0..21).contains(&i) {
+                want[i as usize] += 1.0;
+            }
+        }
+    }
+    let got: Vec<f64> = data(dir.path(), "windows-ending")
+        .iter()
+        .filter(|r| r.0 == "stack")
+        .map(|r| r.3.unwrap())
+        .collect();
+    assert_eq!(got, want.to_vec());
+    assert!(
+        want.iter().sum::<f64>() > 0.0,
+        "the sample has windows ending soon"
+    );
     // R0 and the final size over T.
     let t = data(dir.path(), "outlook-transmissibility");
     let curve = o["curve"].as_array().unwrap();
@@ -178,7 +229,9 @@ fn svg_and_png_files_are_valid_private_and_of_the_stated_size() {
         .filter(|n| n.ends_with(".svg"))
         .collect();
     names.sort();
-    assert_eq!(names.len(), 7, "{names:?}");
+    // Six network figures, one mixing matrix per attribute (the sample has area and age group),
+    // exposures per day, windows ending, and the two outlook figures.
+    assert_eq!(names.len(), 12, "{names:?}");
     for name in &names {
         let svg = std::fs::read_to_string(dir.path().join(name)).unwrap();
         let doc = roxmltree::Document::parse(&svg).unwrap_or_else(|e| panic!("{name}: {e}"));
@@ -221,4 +274,51 @@ fn svg_and_png_files_are_valid_private_and_of_the_stated_size() {
     ]);
     assert_eq!(code, 2, "{err}");
     assert!(err.contains("add --force"), "{err}");
+}
+
+#[test]
+fn exposures_per_day_count_each_pair_once_by_its_last_date() {
+    // Worked by hand: A-B twice (11-20 and 11-30, household): one pair on 11-30; B-C on 11-30
+    // (work); C-D undated and D-E in January, both outside the bars. As of 2026-12-01 the 42
+    // days run from 2026-10-21, so 11-30 is bar 40.
+    let dir = tempfile::tempdir().unwrap();
+    let ex = dir.path().join("exposures.csv");
+    std::fs::write(
+        &ex,
+        "source_id,target_id,exposure_date,setting\nA,B,2026-11-20,household\nB,A,2026-11-30,household\nB,C,2026-11-30,work\nC,D,,household\nD,E,2026-01-01,work\n",
+    )
+    .unwrap();
+    let out = dir.path().join("figs");
+    let (code, _, err) = hubwatch(&[
+        "figures",
+        ex.to_str().unwrap(),
+        "--as-of",
+        AS_OF,
+        "--out",
+        out.to_str().unwrap(),
+        "--with-data",
+        "json",
+    ]);
+    if code != 0 && err.contains("TrueType font") {
+        skip(&format!("figures: {err}"));
+        return;
+    }
+    assert_eq!(code, 0, "{err}");
+    let rows: Vec<(String, f64, f64)> = data(&out, "exposures-per-day")
+        .into_iter()
+        .filter(|r| r.0 == "stack" && r.3.unwrap() > 0.0)
+        .map(|r| (r.1, r.2.unwrap(), r.3.unwrap()))
+        .collect();
+    assert_eq!(
+        rows,
+        [
+            ("household / 2026-11-30".to_string(), 40.0, 1.0),
+            ("work / 2026-11-30".to_string(), 40.0, 1.0)
+        ]
+    );
+    let svg = std::fs::read_to_string(out.join("exposures-per-day.svg")).unwrap();
+    assert!(
+        svg.contains("1 undated, 1 outside these 42 days"),
+        "the title counts the rest"
+    );
 }

@@ -23,6 +23,8 @@ pub fn run(f: &FiguresArgs) -> Result<()> {
     std::fs::create_dir_all(&f.out).map_err(|e| Error::io(&f.out, e))?;
     let d = f.load.load()?;
     let mut parts = ranking_parts(&f.load, &f.rank, f.workspace.as_deref())?;
+    // With the null model of r, for its band in the neighbour-degree figure.
+    parts.metrics = crate::analysis::stats::MetricOptions::default();
     parts.plan = Some(PlanOptions {
         transmissibility: f.transmissibility,
         strategies: Strategy::ALL.to_vec(),
@@ -35,7 +37,13 @@ pub fn run(f: &FiguresArgs) -> Result<()> {
         .as_ref()
         .map(|l| (l.window.days, l.window.pathogen.as_str()));
     let caption = figures::caption(&r.d, window)?;
-    let all = figures::all(&r.stats, r.plan.as_ref(), &caption);
+    let windows = r.list.as_ref().map(|l| {
+        (
+            l.ranked.iter().filter_map(|x| x.window_end).collect(),
+            l.window.days,
+        )
+    });
+    let all = figures::all(&r.d, &r.stats, r.plan.as_ref(), windows, &caption);
     let mut files = Vec::new();
     for fig in &all {
         if matches!(f.format, FigureFormat::Svg | FigureFormat::Both) {
