@@ -292,6 +292,10 @@ pub struct FiguresArgs {
     /// Follow the reach curves up to N people.
     #[arg(long, default_value_t = 1000, value_name = "N")]
     pub max_reach: usize,
+    /// Randomised networks for the null-model band of r in the neighbour-degree figure (0: not
+    /// run; each takes about as long as the load).
+    #[arg(long, default_value_t = 0, value_name = "N")]
+    pub null_replicates: usize,
     /// Also write each figure's numbers as NAME.data.EXT in this table format.
     #[arg(long, value_enum, value_name = "FORMAT")]
     pub with_data: Option<crate::export::Format>,

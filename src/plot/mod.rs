@@ -111,9 +111,13 @@ fn to_plot(fig: &Figure, (x, y): (f64, f64)) -> Option<(f64, f64)> {
 
 /// The drawn range of the data and guides, padded a little.
 fn ranges(fig: &Figure) -> ((f64, f64), (f64, f64)) {
+    // On a logarithmic y axis the observed points (markers) set the range when there are any:
+    // a fitted curve that falls many decades below the data would squash it.
+    let observed = fig.log.1 && fig.series.iter().any(|s| s.mark == Mark::Points);
     let pts: Vec<(f64, f64)> = fig
         .series
         .iter()
+        .filter(|s| !observed || s.mark == Mark::Points)
         .flat_map(|s| s.points.iter())
         .filter_map(|&p| to_plot(fig, p))
         .collect();
@@ -215,7 +219,13 @@ where
     let mut shape = 0usize;
     for s in &fig.series {
         let colour = PALETTE[s.group % PALETTE.len()];
-        let pts: Vec<(f64, f64)> = s.points.iter().filter_map(|&p| to_plot(fig, p)).collect();
+        // Points outside the drawn range are left out (a curve ends at the frame).
+        let pts: Vec<(f64, f64)> = s
+            .points
+            .iter()
+            .filter_map(|&p| to_plot(fig, p))
+            .filter(|p| (y0..=y1).contains(&p.1) && (x0..=x1).contains(&p.0))
+            .collect();
         let style = ShapeStyle::from(&colour).stroke_width(2);
         match s.mark {
             Mark::Line => {

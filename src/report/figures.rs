@@ -212,7 +212,7 @@ pub fn degree_distribution(s: &NetworkStats, log: bool, caption: &str) -> Figure
 pub fn neighbour_degree(s: &NetworkStats, caption: &str) -> Figure {
     let null = match (ok(s.null.mean), ok(s.null.sd)) {
         (Some(m), Some(sd)) => format!("; degree-preserving null {m:.3} ± {sd:.3}"),
-        _ => String::new(),
+        _ => "; null model not run".into(),
     };
     let flat = ok(s.degree.edge_end_mean);
     Figure {

@@ -23,8 +23,11 @@ pub fn run(f: &FiguresArgs) -> Result<()> {
     std::fs::create_dir_all(&f.out).map_err(|e| Error::io(&f.out, e))?;
     let d = f.load.load()?;
     let mut parts = ranking_parts(&f.load, &f.rank, f.workspace.as_deref())?;
-    // With the null model of r, for its band in the neighbour-degree figure.
-    parts.metrics = crate::analysis::stats::MetricOptions::default();
+    // The null model of r only when asked (its band in the neighbour-degree figure).
+    parts.metrics = crate::analysis::stats::MetricOptions {
+        null_replicates: f.null_replicates,
+        ..Default::default()
+    };
     parts.plan = Some(PlanOptions {
         transmissibility: f.transmissibility,
         strategies: Strategy::ALL.to_vec(),
