@@ -49,6 +49,18 @@ pub fn use_font(font: &'static [u8]) -> Result<()> {
         .map_err(|_| Error::Usage("the font file could not be read as TrueType".into()))
 }
 
+/// [`find_font`] and [`use_font`] once per process (the dashboard writes figures on keys).
+pub fn ensure_font() -> Result<()> {
+    static DONE: std::sync::OnceLock<std::result::Result<(), String>> = std::sync::OnceLock::new();
+    DONE.get_or_init(|| {
+        find_font(None)
+            .and_then(use_font)
+            .map_err(|e| e.to_string())
+    })
+    .clone()
+    .map_err(Error::Usage)
+}
+
 /// The figure as a PNG image (after [`use_font`]).
 pub fn png(fig: &Figure) -> Result<Vec<u8>> {
     let (w, h) = SIZE;

@@ -112,7 +112,7 @@ pub enum Action {
     Followup,
     /// Write a note.
     Note,
-    /// Export the current view.
+    /// Export the current view (the list, or the pane's figure).
     Export,
     /// Raise T by 0.01.
     TUp,
@@ -330,6 +330,27 @@ pub const BINDINGS: &[Binding] = &[
         In(P::Priority),
         A::Export,
         "export view",
+        true,
+    ),
+    b(
+        &[K::Char('E')],
+        In(P::Degrees),
+        A::Export,
+        "write figure (svg/png)",
+        true,
+    ),
+    b(
+        &[K::Char('E')],
+        In(P::Neighbours),
+        A::Export,
+        "write figure (svg/png)",
+        true,
+    ),
+    b(
+        &[K::Char('E')],
+        In(P::Outlook),
+        A::Export,
+        "write figure (svg/png)",
         true,
     ),
     // Person

@@ -189,6 +189,8 @@ pub enum Purpose {
     Note,
     /// Export file path.
     Export,
+    /// Figure file path (.svg or .png).
+    Figure,
 }
 
 /// An open text prompt.

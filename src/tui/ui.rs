@@ -78,6 +78,7 @@ fn status_line<'a>(app: &'a App, th: &Theme) -> Line<'a> {
             Purpose::Flag => "flag (Enter: \"call first\"; a flag the person has is removed)",
             Purpose::Note => "note",
             Purpose::Export => "export the list as shown to",
+            Purpose::Figure => "write this pane's figure (.svg or .png) to",
         };
         Line::from(vec![
             Span::styled(format!("{label}: "), th.title),

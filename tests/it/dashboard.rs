@@ -544,3 +544,48 @@ fn the_footer_keeps_what_fits_and_always_the_help_key() {
     assert!(width <= 120, "{width}");
     assert_eq!(ui::footer_fit(items.clone(), 10_000), items);
 }
+
+#[test]
+fn e_on_a_figure_pane_writes_that_panes_figure() {
+    // Issue 14: the dashboard's E on a figure pane writes the pane's figure, the same figure
+    // as `hubwatch figures` (its numbers are checked in tests/it/figures.rs).
+    if hubwatch::plot::find_font(None).is_err() {
+        crate::common::skip("no TrueType font for figures (fonts-dejavu-core)");
+        return;
+    }
+    let dir = tempfile::tempdir().unwrap();
+    let (m, mut app) = setup(dir.path());
+    for (pane, file, name) in [
+        (Pane::Degrees, "degrees.svg", "degree-distribution"),
+        (Pane::Neighbours, "nb.svg", "neighbour-degree"),
+        (Pane::Outlook, "outlook.png", "outlook-reach"),
+    ] {
+        app.act(&m, Action::Go(pane));
+        app.act(&m, Action::Export);
+        let input = app.input.as_mut().unwrap();
+        assert!(
+            input.text.ends_with(".svg") && input.text.contains(name),
+            "{}",
+            input.text
+        );
+        let out = dir.path().join(file);
+        input.text = out.display().to_string();
+        app.act(&m, Action::Submit);
+        let msg = app.message.as_ref().unwrap();
+        assert!(!msg.error && msg.text.contains(name), "{msg:?}");
+        let bytes = std::fs::read(&out).unwrap();
+        if file.ends_with(".svg") {
+            let text = String::from_utf8(bytes).unwrap();
+            let doc = roxmltree::Document::parse(&text).unwrap();
+            assert_eq!(doc.root_element().tag_name().name(), "svg");
+        } else {
+            assert_eq!(&bytes[..8], b"\x89PNG\r\n\x1a\n");
+        }
+        // Not over an existing file: a message, and the dashboard keeps going.
+        app.act(&m, Action::Export);
+        app.input.as_mut().unwrap().text = out.display().to_string();
+        app.act(&m, Action::Submit);
+        let msg = app.message.as_ref().unwrap();
+        assert!(msg.error && msg.text.contains("exists"), "{msg:?}");
+    }
+}

@@ -82,9 +82,22 @@ impl App {
             | Action::ClearFilters => self.filter_action(m, action),
             Action::Flag | Action::Note | Action::Followup => self.person_state(m, action),
             Action::Export => {
-                let name = format!("hubwatch-view-{}.csv", dates::iso(m.d.as_of));
+                let (purpose, name) = match self.pane {
+                    Pane::Degrees | Pane::Neighbours | Pane::Outlook => (
+                        Purpose::Figure,
+                        format!(
+                            "hubwatch-{}-{}.svg",
+                            self.pane_figure(m).map_or("figure".into(), |f| f.name),
+                            dates::iso(m.d.as_of)
+                        ),
+                    ),
+                    _ => (
+                        Purpose::Export,
+                        format!("hubwatch-view-{}.csv", dates::iso(m.d.as_of)),
+                    ),
+                };
                 self.input = Some(Input {
-                    purpose: Purpose::Export,
+                    purpose,
                     text: m.export_dir.join(name).display().to_string(),
                 });
             }
@@ -435,7 +448,66 @@ impl App {
                     Err(e) => self.say(format!("export failed: {e}"), true),
                 }
             }
+            Purpose::Figure => {
+                let path = PathBuf::from(input.text.trim());
+                match self.export_figure(m, &path) {
+                    Ok(name) => self.say(
+                        format!("wrote the {name} figure to {}", path.display()),
+                        false,
+                    ),
+                    Err(e) => self.say(format!("figure not written: {e}"), true),
+                }
+            }
         }
+    }
+
+    /// The figure of the pane shown: the degree distribution (log-log when the pane is), the
+    /// neighbour degrees, or the outlook's reach curves (R0 over T while T is unknown). The
+    /// whole network's, as in `hubwatch figures`.
+    pub fn pane_figure(&self, m: &Model) -> Option<crate::report::figures::Figure> {
+        use crate::report::figures as f;
+        let caption = f::caption(
+            &m.d,
+            Some((m.list.window.days, m.list.window.pathogen.as_str())),
+        )
+        .ok()?;
+        match self.pane {
+            Pane::Degrees => Some(f::degree_distribution(&m.stats, self.log_scale, &caption)),
+            Pane::Neighbours => Some(f::neighbour_degree(&m.stats, &caption)),
+            Pane::Outlook => {
+                let plan = m.plan()?;
+                f::outlook_reach(plan, &caption).or_else(|| Some(f::outlook_t(plan, &caption)))
+            }
+            _ => None,
+        }
+    }
+
+    /// Write the pane's figure as SVG or PNG (by the extension), privately and atomically; not
+    /// over an existing file.
+    pub fn export_figure(&self, m: &Model, path: &std::path::Path) -> crate::error::Result<String> {
+        use crate::error::Error;
+        let fig = self
+            .pane_figure(m)
+            .ok_or_else(|| Error::Usage("this pane has no figure yet".into()))?;
+        if path.exists() {
+            return Err(Error::Usage(format!("{} exists", path.display())));
+        }
+        crate::plot::ensure_font()?;
+        let ext = path
+            .extension()
+            .map(|e| e.to_string_lossy().to_lowercase())
+            .unwrap_or_default();
+        let bytes = match ext.as_str() {
+            "svg" => crate::plot::svg(&fig)?.into_bytes(),
+            "png" => crate::plot::png(&fig)?,
+            _ => {
+                return Err(Error::Usage(
+                    "give a file name ending in .svg or .png".into(),
+                ))
+            }
+        };
+        crate::export::write_private(path, &bytes)?;
+        Ok(fig.name)
     }
 
     /// Write the priority list as shown (filters and sort) with the export module.
