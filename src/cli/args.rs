@@ -108,6 +108,10 @@ pub enum Command {
     /// fits, contacts' contacts, the friendship paradox, cluster sizes and the outlook, as SVG
     /// and/or PNG.
     Figures(FiguresArgs),
+    /// One self-contained HTML page to send or print: headline figures, the row ledger, the top
+    /// of the list (pseudonymised unless --raw-ids), follow-up progress, the outlook and the
+    /// figures.
+    Brief(BriefArgs),
     /// Write a list for the callers: the priority list, the flagged people, or the quarantine.
     Export(ExportArgs),
     /// Set a person's follow-up state (to call, reached, unreachable, completed).
@@ -303,6 +307,41 @@ pub struct FiguresArgs {
     #[arg(long)]
     pub force: bool,
     /// Workspace file (follow-up states used by the priority strategy).
+    #[arg(long, value_name = "FILE")]
+    pub workspace: Option<PathBuf>,
+}
+
+/// Options of `hubwatch brief`.
+#[derive(Debug, Args)]
+pub struct BriefArgs {
+    /// Loading options and paths.
+    #[command(flatten)]
+    pub load: LoadArgs,
+    /// Ranking options.
+    #[command(flatten)]
+    pub rank: PriorityArgs,
+    /// The page to write (.html).
+    #[arg(long, value_name = "FILE")]
+    pub out: PathBuf,
+    /// People listed.
+    #[arg(long, default_value_t = 20, value_name = "N")]
+    pub top: usize,
+    /// Show the export's own person IDs instead of pseudonyms (the page then carries a warning).
+    #[arg(long)]
+    pub raw_ids: bool,
+    /// Key for stable pseudonyms (else HUBWATCH_PSEUDONYM_KEY; else a one-off key).
+    #[arg(long, value_name = "FILE")]
+    pub key_file: Option<PathBuf>,
+    /// TrueType font to lay the figures' text out (default: DejaVu Sans where installed).
+    #[arg(long, value_name = "FILE")]
+    pub font: Option<PathBuf>,
+    /// Transmissibility T in [0, 1] for the outlook (default: the secondary attack rate).
+    #[arg(long, value_name = "T")]
+    pub transmissibility: Option<f64>,
+    /// Replace an existing page.
+    #[arg(long)]
+    pub force: bool,
+    /// Workspace file (follow-up progress and states).
     #[arg(long, value_name = "FILE")]
     pub workspace: Option<PathBuf>,
 }

@@ -99,6 +99,7 @@ pub fn run(cli: Cli) -> Result<()> {
         }) => c::priority::run(&load, &rank, top, json),
         Some(Command::Outlook(o)) => c::outlook::run(&o),
         Some(Command::Figures(f)) => c::figures::run(&f),
+        Some(Command::Brief(b)) => c::brief::run(&b),
         Some(Command::Export(e)) => c::export::run(&e),
         Some(Command::Followup {
             load,

@@ -5,6 +5,7 @@
 //! `meta` (the one metadata builder of every file) and `fmt` (the one formatter of a statistic).
 //! Nothing here reads an input file; files are written by `export`.
 
+pub mod brief;
 pub mod check;
 pub mod figures;
 pub mod fmt;

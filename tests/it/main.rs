@@ -7,6 +7,7 @@
 
 mod common;
 
+mod brief;
 mod casedata;
 mod cases;
 mod cli;

@@ -1,6 +1,7 @@
 //! One file per command: each loads what it needs, builds one `Report` and prints or writes
 //! its renderings. Arguments come from `cli::args`; nothing here computes a statistic.
 
+pub mod brief;
 pub mod check;
 pub mod dashboard;
 pub mod export;
