@@ -289,8 +289,10 @@ where
             }
         }
     }
+    let groups = fig.series.iter().map(|s| s.group + 1).max().unwrap_or(0);
     for (i, g) in fig.guides.iter().enumerate() {
-        let colour = RGBColor(110, 110, 110);
+        // Guides take the colours after the series', and are dotted.
+        let colour = PALETTE[(groups + g.group) % PALETTE.len()];
         let style = ShapeStyle::from(&colour).stroke_width(1);
         let v = if (g.vertical && lx) || (!g.vertical && ly) {
             log10(g.value)

@@ -43,6 +43,8 @@ pub struct Guide {
     pub vertical: bool,
     /// Where.
     pub value: f64,
+    /// Colour group (after the series' colours; the two ends of a band share one).
+    pub group: usize,
 }
 
 /// One figure.
@@ -242,6 +244,7 @@ pub fn neighbour_degree(s: &NetworkStats, caption: &str) -> Figure {
                 label: format!("<k²>/<k> = {v:.2}: no degree correlation"),
                 vertical: false,
                 value: v,
+                group: 0,
             })
             .into_iter()
             .collect(),
@@ -308,21 +311,16 @@ pub fn components(s: &NetworkStats, caption: &str) -> Figure {
     }
 }
 
-/// R0 and the expected final size over the transmissibility T, with the threshold and the
-/// estimated T.
-pub fn outlook_t(plan: &Plan, caption: &str) -> Figure {
-    let pts = |f: &dyn Fn(&crate::metrics::outlook::Outlook) -> Stat| {
-        plan.curve
-            .iter()
-            .filter_map(|o| ok(f(o)).map(|y| (o.t, y)))
-            .collect::<Vec<_>>()
-    };
+/// The guides of the figures over T: the threshold, the estimated T and its band, each its
+/// own colour group.
+fn t_guides(plan: &Plan) -> Vec<Guide> {
     let mut guides = Vec::new();
     if let Some(tc) = ok(plan.at_t.threshold) {
         guides.push(Guide {
             label: format!("threshold T_c = {tc:.3}"),
             vertical: true,
             value: tc,
+            group: 0,
         });
     }
     if let Some(t) = plan.t {
@@ -330,35 +328,78 @@ pub fn outlook_t(plan: &Plan, caption: &str) -> Figure {
             label: format!("estimated T = {t:.3}"),
             vertical: true,
             value: t,
+            group: 1,
         });
     }
+    if let crate::analysis::planning::TSource::SecondaryAttackRate { band, .. } = &plan.source {
+        for (end, v) in [("low", band.0), ("high", band.1)] {
+            guides.push(Guide {
+                label: format!("T band, {end} end (Wilson 95%) = {v:.3}"),
+                vertical: true,
+                value: v,
+                group: 2,
+            });
+        }
+    }
+    guides
+}
+
+/// R0 over the transmissibility T, with the threshold, the estimated T and its band.
+pub fn outlook_t(plan: &Plan, caption: &str) -> Figure {
+    let pts = |f: &dyn Fn(&crate::metrics::outlook::Outlook) -> Stat| {
+        plan.curve
+            .iter()
+            .filter_map(|o| ok(f(o)).map(|y| (o.t, y)))
+            .collect::<Vec<_>>()
+    };
+    let mut guides = t_guides(plan);
     guides.push(Guide {
         label: "R0 = 1".into(),
         vertical: false,
         value: 1.0,
+        group: 3,
     });
     Figure {
         name: "outlook-transmissibility".into(),
-        title: "Configuration-model outlook over the transmissibility T".into(),
+        title: "R0 over the transmissibility T (configuration model)".into(),
         x_label: "T (chance an exposure passes infection on)".into(),
-        y_label: "R0 (people) / final size (share)".into(),
+        y_label: "R0 (people infected by one case)".into(),
         log: (false, false),
-        series: vec![
-            Series {
-                label: "R0 = T κ".into(),
-                points: pts(&|o| o.r0),
-                mark: Mark::Line,
-                group: 0,
-            },
-            Series {
-                label: "expected final size S (share of people)".into(),
-                points: pts(&|o| o.final_size),
-                mark: Mark::Dashed,
-                group: 1,
-            },
-        ],
+        series: vec![Series {
+            label: "R0 = T κ".into(),
+            points: pts(&|o| o.r0),
+            mark: Mark::Line,
+            group: 0,
+        }],
         bars: Vec::new(),
         guides,
+        caption: caption.to_string(),
+        legend_low: false,
+        matrix: None,
+        stacked: None,
+    }
+}
+
+/// The expected final size over T, with the same guides.
+pub fn outlook_final_size(plan: &Plan, caption: &str) -> Figure {
+    Figure {
+        name: "outlook-final-size".into(),
+        title: "Expected final size over the transmissibility T (configuration model)".into(),
+        x_label: "T (chance an exposure passes infection on)".into(),
+        y_label: "S (share of people ever infected)".into(),
+        log: (false, false),
+        series: vec![Series {
+            label: "expected final size S".into(),
+            points: plan
+                .curve
+                .iter()
+                .filter_map(|o| ok(o.final_size).map(|y| (o.t, y)))
+                .collect(),
+            mark: Mark::Line,
+            group: 1,
+        }],
+        bars: Vec::new(),
+        guides: t_guides(plan),
         caption: caption.to_string(),
         legend_low: false,
         matrix: None,
@@ -373,8 +414,17 @@ pub fn outlook_reach(plan: &Plan, caption: &str) -> Option<Figure> {
     for (group, s) in plan.strategies.iter().enumerate() {
         let n = s.len();
         let step = (n / 400).max(1);
+        let crossing = |n: Option<usize>| {
+            n.map_or("R stays above 1".to_string(), |n| {
+                format!("R < 1 from {n} reached")
+            })
+        };
         series.push(Series {
-            label: format!("{} (network)", s.strategy.name()),
+            label: format!(
+                "{} (network): {}",
+                s.strategy.name(),
+                crossing(s.below_one(t))
+            ),
             points: (0..=n)
                 .step_by(step)
                 .filter_map(|i| ok(s.r(t, i)).map(|r| (i as f64, r)))
@@ -383,7 +433,11 @@ pub fn outlook_reach(plan: &Plan, caption: &str) -> Option<Figure> {
             group,
         });
         series.push(Series {
-            label: format!("{} (configuration model)", s.strategy.name()),
+            label: format!(
+                "{} (configuration model): {}",
+                s.strategy.name(),
+                crossing(s.model_below_one(t))
+            ),
             points: (0..=n)
                 .step_by(step)
                 .filter_map(|i| ok(s.model_kappa[i]).map(|k| (i as f64, t * k)))
@@ -404,6 +458,7 @@ pub fn outlook_reach(plan: &Plan, caption: &str) -> Option<Figure> {
             label: "R = 1".into(),
             vertical: false,
             value: 1.0,
+            group: 0,
         }],
         caption: caption.to_string(),
         legend_low: false,
@@ -477,6 +532,55 @@ pub fn mixing_matrices(s: &NetworkStats, caption: &str) -> Vec<Figure> {
             stacked: None,
         })
         .collect()
+}
+
+/// Setting by setting: people with contacts in both settings (the diagonal: people with
+/// contacts in that setting), a heat map with the counts in the cells. The people off the
+/// diagonal carry spread from one setting into another.
+pub fn settings_overlap(d: &Dataset, caption: &str) -> Option<Figure> {
+    let n = d.settings.len();
+    if n < 2 {
+        return None;
+    }
+    let e = &d.edges;
+    let mut seen: Vec<Vec<bool>> = vec![vec![false; n]; d.people()];
+    for i in 0..e.len() {
+        for &c in e.settings(i) {
+            let c = c as usize - 1;
+            seen[e.a[i] as usize][c] = true;
+            seen[e.b[i] as usize][c] = true;
+        }
+    }
+    let mut values = vec![vec![0.0; n]; n];
+    for person in &seen {
+        for (x, &sx) in person.iter().enumerate() {
+            if !sx {
+                continue;
+            }
+            for (y, &sy) in person.iter().enumerate() {
+                if sy {
+                    values[x][y] += 1.0;
+                }
+            }
+        }
+    }
+    Some(Figure {
+        name: "settings-overlap".into(),
+        title: "People with contacts in both settings (diagonal: in that setting)".into(),
+        x_label: "setting".into(),
+        y_label: "setting".into(),
+        log: (false, false),
+        series: Vec::new(),
+        bars: Vec::new(),
+        guides: Vec::new(),
+        caption: caption.to_string(),
+        legend_low: false,
+        matrix: Some(Matrix {
+            groups: d.settings.clone(),
+            values,
+        }),
+        stacked: None,
+    })
 }
 
 /// Contact pairs by the date of their last exposure, stacked by setting (a pair in several
@@ -589,12 +693,14 @@ pub fn all(
         components(s, caption),
     ];
     v.extend(mixing_matrices(s, caption));
+    v.extend(settings_overlap(d, caption));
     v.push(exposures_per_day(d, caption));
     if let Some((ends, days)) = windows {
         v.push(windows_ending(d, ends.into_iter(), days, caption));
     }
     if let Some(p) = plan {
         v.push(outlook_t(p, caption));
+        v.push(outlook_final_size(p, caption));
         v.extend(outlook_reach(p, caption));
     }
     v

@@ -73,8 +73,8 @@ fn the_brief_is_self_contained_and_holds_no_raw_id() {
     ] {
         assert!(!lower.contains(banned), "the page holds {banned}");
     }
-    // Every figure inline (12 on the sample, as `hubwatch figures` writes).
-    assert_eq!(page.matches("<svg").count(), 12);
+    // Every figure inline (14 on the sample, as `hubwatch figures` writes).
+    assert_eq!(page.matches("<svg").count(), 14);
     assert!(page.contains("does not replace, the judgement of public-health staff"));
     assert!(page.contains("Model-based indicators"));
     assert!(page.contains("@media print") && page.contains("size: A4"));
@@ -153,7 +153,7 @@ fn headless_chromium_renders_the_brief_with_every_figure() {
     let dom = String::from_utf8_lossy(&dom.stdout);
     assert_eq!(
         dom.matches("<svg").count(),
-        12,
+        14,
         "figures in the rendered page"
     );
 }

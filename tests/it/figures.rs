@@ -230,8 +230,8 @@ fn svg_and_png_files_are_valid_private_and_of_the_stated_size() {
         .collect();
     names.sort();
     // Six network figures, one mixing matrix per attribute (the sample has area and age group),
-    // exposures per day, windows ending, and the two outlook figures.
-    assert_eq!(names.len(), 12, "{names:?}");
+    // the settings overlap, exposures per day, windows ending, and the three outlook figures.
+    assert_eq!(names.len(), 14, "{names:?}");
     for name in &names {
         let svg = std::fs::read_to_string(dir.path().join(name)).unwrap();
         let doc = roxmltree::Document::parse(&svg).unwrap_or_else(|e| panic!("{name}: {e}"));
