@@ -585,8 +585,8 @@ pub fn settings_overlap(d: &Dataset, caption: &str) -> Option<Figure> {
 
 /// Contact pairs by the date of their last exposure, stacked by setting (a pair in several
 /// settings counts under the first; pairs without a date are left out and counted in the
-/// title), over the 42 days up to the as-of date.
-pub fn exposures_per_day(d: &Dataset, caption: &str) -> Figure {
+/// title), over the 42 days up to the as-of date. None when no pair falls in those days.
+pub fn exposures_per_day(d: &Dataset, caption: &str) -> Option<Figure> {
     const DAYS: i32 = 42;
     let first = d.as_of - DAYS + 1;
     let e = &d.edges;
@@ -617,7 +617,10 @@ pub fn exposures_per_day(d: &Dataset, caption: &str) -> Figure {
         .collect();
     named.push(("no setting".into(), layers[0].clone()));
     named.retain(|(_, v)| v.iter().any(|&x| x > 0.0));
-    Figure {
+    if named.is_empty() {
+        return None;
+    }
+    Some(Figure {
         name: "exposures-per-day".into(),
         title: format!(
             "Contact pairs by date of last exposure, by setting ({undated} undated, {outside} outside these {DAYS} days)"
@@ -636,17 +639,17 @@ pub fn exposures_per_day(d: &Dataset, caption: &str) -> Figure {
             label_every: 7,
             layers: named,
         }),
-    }
+    })
 }
 
 /// People whose monitoring window ends on each of the next 21 days from the as-of date (the
-/// as-of date included), from the ranked list's window ends.
+/// as-of date included), from the ranked list's window ends. None when no window ends then.
 pub fn windows_ending(
     d: &Dataset,
     window_end: impl Iterator<Item = i32>,
     days: u32,
     caption: &str,
-) -> Figure {
+) -> Option<Figure> {
     const AHEAD: i32 = 21;
     let mut counts = vec![0.0; AHEAD as usize];
     for end in window_end {
@@ -655,7 +658,10 @@ pub fn windows_ending(
             counts[i as usize] += 1.0;
         }
     }
-    Figure {
+    if counts.iter().all(|&c| c == 0.0) {
+        return None;
+    }
+    Some(Figure {
         name: "windows-ending".into(),
         title: format!("People whose {days}-day monitoring window ends, by day"),
         x_label: "last day of monitoring".into(),
@@ -672,7 +678,7 @@ pub fn windows_ending(
             label_every: 7,
             layers: vec![("people".into(), counts)],
         }),
-    }
+    })
 }
 
 /// Every figure hubwatch draws for a report (the outlook ones when it was computed; the windows
@@ -694,9 +700,10 @@ pub fn all(
     ];
     v.extend(mixing_matrices(s, caption));
     v.extend(settings_overlap(d, caption));
-    v.push(exposures_per_day(d, caption));
+    // The per-day figures only where some day has a count (an export without dates has none).
+    v.extend(exposures_per_day(d, caption));
     if let Some((ends, days)) = windows {
-        v.push(windows_ending(d, ends.into_iter(), days, caption));
+        v.extend(windows_ending(d, ends.into_iter(), days, caption));
     }
     if let Some(p) = plan {
         v.push(outlook_t(p, caption));
