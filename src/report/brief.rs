@@ -232,11 +232,13 @@ pub fn html(r: &Report, figures: &[(String, String)], names: &Names, top: usize)
     for s in FOLLOWUP_STATES {
         let _ = write!(h, "<th class=\"n\">{}</th>", escape(s));
     }
-    h.push_str("</tr>\n<tr>");
+    h.push_str("<th class=\"n\">overdue</th></tr>\n<tr>");
     for c in counts {
         let _ = write!(h, "<td class=\"n\">{c}</td>");
     }
-    h.push_str("</tr>\n</table>\n<p class=\"meta\">People whose state was set in the workspace; the others have no state recorded there.</p>\n");
+    let overdue = r.list.as_ref().map_or(0, |l| l.overdue);
+    let _ = write!(h, "<td class=\"n\">{overdue}</td>");
+    h.push_str("</tr>\n</table>\n<p class=\"meta\">States set in the workspace (the others have none recorded there); overdue: window over and follow-up not completed, counted over the whole list.</p>\n");
 
     // Outlook.
     if let Some(plan) = &r.plan {
