@@ -38,6 +38,9 @@ pub struct Dataset {
     pub timings: Timings,
     /// The sub-network the graph shows, and how many exposure rows it holds.
     pub view: (View, u64),
+    /// Usable exposure rows in view per (date, setting code; 0: none), sorted: the last
+    /// exposure date of a row, else its first; rows without a date are not counted here.
+    pub exposures_by_day: Vec<(i32, u16, u64)>,
 }
 
 /// Wall-clock seconds spent in each stage of a load (for the benchmark).
@@ -117,11 +120,16 @@ pub fn build(loaded: Loaded, view: &View) -> Result<Dataset> {
         .map(|i| rows.fields.settings.name(i).to_string())
         .collect();
     let exposure_extras = std::mem::take(&mut rows.extras);
+    let keep = match view.is_all() {
+        true => None,
+        false => Some(view::mask(view, &rows, &settings)?),
+    };
+    let exposures_by_day = rows_by_day(&rows.fields, keep.as_deref());
     let (edges, edge_of_row, rows_in_view) = if view.is_all() {
         (agg.edges, agg.edge_of_row, agg.first_of_pair.len() as u64)
     } else {
         // The ledger above counted every row; the network is built from the view's rows only.
-        let keep = view::mask(view, &rows, &settings)?;
+        let keep = keep.unwrap_or_default();
         let mut subset = rows.subset(&keep);
         let keys = std::mem::take(&mut subset.keys);
         let sub = graph::aggregate(&subset, keys, !exposure_extras.names.is_empty());
@@ -165,7 +173,64 @@ pub fn build(loaded: Loaded, view: &View) -> Result<Dataset> {
         exposure_extras,
         edge_of_row,
         view: (view.clone(), rows_in_view),
+        exposures_by_day,
     })
+}
+
+/// Rows per (date, setting) over the rows `keep` names (None: all), sorted. Counted in a dense
+/// array over the dates' range when it is not absurdly wide (a hash map otherwise).
+fn rows_by_day(f: &ingest::rows::ExposureFields, keep: Option<&[bool]>) -> Vec<(i32, u16, u64)> {
+    use ingest::reconcile::NO_DATE;
+    let n = f.last.len().max(f.first.len());
+    let day_of = |r: usize| {
+        let last = f.last.get(r).copied().unwrap_or(NO_DATE);
+        match last != NO_DATE {
+            true => last,
+            false => f.first.get(r).copied().unwrap_or(NO_DATE),
+        }
+    };
+    let rows = (0..n).filter(|&r| keep.is_none_or(|k| k[r]));
+    let (mut lo, mut hi) = (i32::MAX, i32::MIN);
+    for r in rows.clone() {
+        let d = day_of(r);
+        if d != NO_DATE {
+            lo = lo.min(d);
+            hi = hi.max(d);
+        }
+    }
+    if lo > hi {
+        return Vec::new();
+    }
+    let settings = f.setting.iter().copied().max().unwrap_or(0) as usize + 1;
+    let span = (i64::from(hi) - i64::from(lo) + 1) as usize;
+    let mut out = Vec::new();
+    if span.saturating_mul(settings) <= 1 << 22 {
+        let mut counts = vec![0u64; span * settings];
+        for r in rows {
+            let d = day_of(r);
+            if d != NO_DATE {
+                let s = f.setting.get(r).copied().unwrap_or(0) as usize;
+                counts[(d - lo) as usize * settings + s] += 1;
+            }
+        }
+        for (i, &c) in counts.iter().enumerate().filter(|(_, &c)| c > 0) {
+            out.push((lo + (i / settings) as i32, (i % settings) as u16, c));
+        }
+    } else {
+        let mut counts: std::collections::HashMap<(i32, u16), u64> =
+            std::collections::HashMap::new();
+        for r in rows {
+            let d = day_of(r);
+            if d != NO_DATE {
+                *counts
+                    .entry((d, f.setting.get(r).copied().unwrap_or(0)))
+                    .or_insert(0) += 1;
+            }
+        }
+        out = counts.into_iter().map(|((d, s), c)| (d, s, c)).collect();
+        out.sort_unstable();
+    }
+    out
 }
 
 /// People whose ID reads like a missing-value code and whose number of contacts is far above

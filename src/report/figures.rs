@@ -583,32 +583,24 @@ pub fn settings_overlap(d: &Dataset, caption: &str) -> Option<Figure> {
     })
 }
 
-/// Contact pairs by the date of their last exposure, stacked by setting (a pair in several
-/// settings counts under the first; pairs without a date are left out and counted in the
-/// title), over the 42 days up to the as-of date. None when no pair falls in those days.
+/// Exposures (usable rows in view) per day by the date of the exposure (its last date, else
+/// its first), stacked by setting, over the 42 days up to the as-of date; undated rows and those
+/// outside are counted in the title. None when no exposure falls in those days.
 pub fn exposures_per_day(d: &Dataset, caption: &str) -> Option<Figure> {
     const DAYS: i32 = 42;
     let first = d.as_of - DAYS + 1;
-    let e = &d.edges;
     let mut layers: Vec<Vec<f64>> = vec![vec![0.0; DAYS as usize]; d.settings.len() + 1];
-    let (mut undated, mut outside) = (0u64, 0u64);
-    for i in 0..e.len() {
-        let day = if e.last[i] != crate::ingest::reconcile::NO_DATE {
-            e.last[i]
-        } else {
-            e.first[i]
-        };
-        if day == crate::ingest::reconcile::NO_DATE {
-            undated += 1;
-            continue;
-        }
+    let (mut dated, mut outside) = (0u64, 0u64);
+    for &(day, setting, count) in &d.exposures_by_day {
+        dated += count;
         if day < first || day > d.as_of {
-            outside += 1;
+            outside += count;
             continue;
         }
-        let layer = e.settings(i).first().map_or(0, |&c| c as usize);
-        layers[layer][(day - first) as usize] += 1.0;
+        let layer = (setting as usize).min(d.settings.len());
+        layers[layer][(day - first) as usize] += count as f64;
     }
+    let undated = d.view.1.saturating_sub(dated);
     let mut named: Vec<(String, Vec<f64>)> = d
         .settings
         .iter()
@@ -623,10 +615,10 @@ pub fn exposures_per_day(d: &Dataset, caption: &str) -> Option<Figure> {
     Some(Figure {
         name: "exposures-per-day".into(),
         title: format!(
-            "Contact pairs by date of last exposure, by setting ({undated} undated, {outside} outside these {DAYS} days)"
+            "Exposures per day, by setting ({undated} undated, {outside} outside these {DAYS} days)"
         ),
-        x_label: "date of last exposure".into(),
-        y_label: "contact pairs".into(),
+        x_label: "date of exposure (the last, where a row gives two)".into(),
+        y_label: "exposures (rows)".into(),
         log: (false, false),
         series: Vec::new(),
         bars: Vec::new(),

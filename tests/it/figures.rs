@@ -277,10 +277,10 @@ fn svg_and_png_files_are_valid_private_and_of_the_stated_size() {
 }
 
 #[test]
-fn exposures_per_day_count_each_pair_once_by_its_last_date() {
-    // Worked by hand: A-B twice (11-20 and 11-30, household): one pair on 11-30; B-C on 11-30
-    // (work); C-D undated and D-E in January, both outside the bars. As of 2026-12-01 the 42
-    // days run from 2026-10-21, so 11-30 is bar 40.
+fn exposures_per_day_count_each_row_by_its_date() {
+    // Worked by hand: A-B on 11-20 and again on 11-30 (household), B-C on 11-30 (work), C-D
+    // undated, D-E in January. As of 2026-12-01 the 42 days run from 2026-10-21, so 11-20 is
+    // bar 30 and 11-30 bar 40; the undated row and the January one are counted in the title.
     let dir = tempfile::tempdir().unwrap();
     let ex = dir.path().join("exposures.csv");
     std::fs::write(
@@ -312,6 +312,7 @@ fn exposures_per_day_count_each_pair_once_by_its_last_date() {
     assert_eq!(
         rows,
         [
+            ("household / 2026-11-20".to_string(), 30.0, 1.0),
             ("household / 2026-11-30".to_string(), 40.0, 1.0),
             ("work / 2026-11-30".to_string(), 40.0, 1.0)
         ]
