@@ -177,14 +177,20 @@ fn tick(v: f64, log: bool) -> String {
             false => r,
         };
     }
+    if log {
+        return format!("{x:.0e}");
+    }
     if x == 0.0 {
-        "0".into()
-    } else if x.abs() >= 1000.0 || x.abs() < 0.01 {
-        format!("{x:.0e}")
-    } else if (x - x.round()).abs() < 1e-9 {
-        format!("{}", x.round())
-    } else {
-        format!("{x:.2}")
+        return "0".into();
+    }
+    if x.abs() >= 1e5 || x.abs() < 1e-4 {
+        return format!("{x:.0e}");
+    }
+    // Up to four decimals, trailing zeros dropped: ticks 0.005 apart stay distinct.
+    let r = format!("{x:.4}");
+    match r.contains('.') {
+        true => r.trim_end_matches('0').trim_end_matches('.').to_string(),
+        false => r,
     }
 }
 
@@ -542,4 +548,27 @@ where
             .map_err(err)?;
     }
     Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn tick_labels_stay_distinct_and_short() {
+        let lin: Vec<String> = [0.0, 0.005, 0.01, 0.015, 0.045, 1.2, 35.0, 2.5e5]
+            .iter()
+            .map(|&v| tick(v, false))
+            .collect();
+        assert_eq!(
+            lin,
+            ["0", "0.005", "0.01", "0.015", "0.045", "1.2", "35", "2e5"]
+        );
+        // Logarithmic axes hold log10 of the value.
+        let log: Vec<String> = [0.0, 0.2, 1.0, -1.0, -3.0, 3.0]
+            .iter()
+            .map(|&v| tick(v, true))
+            .collect();
+        assert_eq!(log, ["1", "1.6", "10", "0.1", "1e-3", "1e3"]);
+    }
 }
