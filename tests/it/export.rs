@@ -374,12 +374,12 @@ fn typed_tables_read_back_with_their_types_and_exact_ids() {
     // is a formula: all must survive as they are outside CSV/TSV.
     std::fs::write(
         ex.join("people.csv"),
-        "person_id,role,area\n-2+3,case,North\n+447700900123,contact,\"=HYPERLINK(\"\"x\"\")\"\nQ3,contact,South\n@Q4,contact,South\n",
+        "person_id,role,area\n-2+3,case,North\n+447700900123,contact,\"=HYPERLINK(\"\"x\"\")\"\nQ3,contact,South\n@Q4,contact,South\n=Q5,contact,North\n",
     )
     .unwrap();
     std::fs::write(
         ex.join("exposures.csv"),
-        "source_id,target_id,exposure_date,setting\n-2+3,+447700900123,2024-03-01,household\n-2+3,Q3,2024-03-05,workplace\nQ3,@Q4,2024-03-06,household\n",
+        "source_id,target_id,exposure_date,setting\n-2+3,+447700900123,2024-03-01,household\n-2+3,Q3,2024-03-05,workplace\nQ3,@Q4,2024-03-06,household\n=Q5,Q3,2024-03-07,household\n",
     )
     .unwrap();
     let export = |ext: &str| {
@@ -408,7 +408,7 @@ fn typed_tables_read_back_with_their_types_and_exact_ids() {
         .collect();
     let mut sorted = ids.clone();
     sorted.sort();
-    assert_eq!(sorted, ["+447700900123", "-2+3", "@Q4", "Q3"]);
+    assert_eq!(sorted, ["+447700900123", "-2+3", "=Q5", "@Q4", "Q3"]);
     let last: Vec<Option<String>> = rows
         .iter()
         .map(|r| r["last_exposure"].as_str().map(str::to_string))

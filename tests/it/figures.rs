@@ -214,6 +214,95 @@ fn the_numbers_behind_each_figure_are_the_reports_numbers() {
         .2
         .unwrap();
     assert!(close(threshold, o["threshold"].as_f64().unwrap()));
+    // The final size over T.
+    let fs = series(
+        &data(dir.path(), "outlook-final-size"),
+        "expected final size",
+    );
+    let fs_want: Vec<(f64, f64)> = curve
+        .iter()
+        .filter_map(|c| Some((c["t"].as_f64()?, c["final_size"].as_f64()?)))
+        .collect();
+    assert_eq!(fs.len(), fs_want.len());
+    assert!(fs
+        .iter()
+        .zip(&fs_want)
+        .all(|(a, b)| close(a.0, b.0) && close(a.1, b.1)));
+    // Residual R as people are reached: each strategy's network curve and model curve are the
+    // outlook's points (r, and T times the model's mean excess degree), and the legend says
+    // where each falls below 1 as the outlook does.
+    let reach = data(dir.path(), "outlook-reach");
+    let t_est = o["transmissibility"].as_f64().unwrap();
+    for st in o["strategies"].as_array().unwrap() {
+        let name = st["strategy"].as_str().unwrap();
+        let points = st["points"].as_array().unwrap();
+        let net = series(&reach, &format!("{name} (network)"));
+        let model = series(&reach, &format!("{name} (configuration model)"));
+        // Points where R is undefined (no contact left) are not drawn.
+        let defined = |key: &str| -> Vec<(f64, f64)> {
+            points
+                .iter()
+                .filter_map(|p| Some((p["reached"].as_f64()?, p[key].as_f64()?)))
+                .collect()
+        };
+        let r_want = defined("r");
+        assert_eq!(net.len(), r_want.len(), "{name}");
+        assert!(
+            net.iter()
+                .zip(&r_want)
+                .all(|(a, b)| a.0 == b.0 && close(a.1, b.1)),
+            "{name}"
+        );
+        let m_want = defined("model_mean_excess");
+        assert_eq!(model.len(), m_want.len(), "{name}");
+        assert!(
+            model
+                .iter()
+                .zip(&m_want)
+                .all(|(a, b)| a.0 == b.0 && close(a.1, t_est * b.1)),
+            "{name}"
+        );
+        let label = &reach
+            .iter()
+            .find(|r| r.1.starts_with(&format!("{name} (network)")))
+            .unwrap()
+            .1;
+        match st["reach_for_r_below_1"].as_u64() {
+            Some(n) => assert!(
+                label.ends_with(&format!("R < 1 from {n} reached")),
+                "{label}"
+            ),
+            None => assert!(label.ends_with("R stays above 1"), "{label}"),
+        }
+    }
+    // People with contacts in both settings, counted again here from the sample's exposures
+    // file: each person's set of settings, then every pair of settings they hold.
+    let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("sample-contacts");
+    let text = std::fs::read_to_string(root.join("exposures.csv")).unwrap();
+    let mut held: std::collections::BTreeMap<String, std::collections::BTreeSet<String>> =
+        Default::default();
+    for line in text.lines().skip(1) {
+        let f: Vec<&str> = line.split(',').collect();
+        let (a, b, setting) = (f[0].trim(), f[1].trim(), f[3].trim().to_lowercase());
+        // Rows the ledger quarantines (a blank ID or one person on both sides) make no pair.
+        if a.is_empty() || b.is_empty() || a == b || setting.is_empty() {
+            continue;
+        }
+        for id in [a, b] {
+            held.entry(id.to_string())
+                .or_default()
+                .insert(setting.clone());
+        }
+    }
+    let overlap = data(dir.path(), "settings-overlap");
+    for r in overlap.iter().filter(|r| r.0 == "cell") {
+        let (x, y) = r.1.split_once(" / ").unwrap();
+        let want = held
+            .values()
+            .filter(|s| s.contains(&x.to_lowercase()) && s.contains(&y.to_lowercase()))
+            .count();
+        assert_eq!(r.3.unwrap(), want as f64, "{x} and {y}");
+    }
 }
 
 #[test]
