@@ -243,19 +243,27 @@ impl App {
                 out
             }
             SortCol::Flags => {
-                let mut flagged = vec![false; n];
-                for (id, st) in &self.states {
-                    if st.flags.is_empty() {
-                        continue;
-                    }
-                    if let Some(p) = rank_of(m, id) {
-                        flagged[p as usize] = true;
+                // The flagged people (few) in rank order, then everyone else: one pass into a
+                // vector of the final size.
+                let mut yes: Vec<u32> = self
+                    .states
+                    .iter()
+                    .filter(|(_, st)| !st.flags.is_empty())
+                    .filter_map(|(id, _)| rank_of(m, id))
+                    .collect();
+                yes.sort_unstable();
+                yes.dedup();
+                let mut out = Vec::with_capacity(n);
+                out.extend_from_slice(&yes);
+                let mut next = yes.iter().peekable();
+                for i in 0..n as u32 {
+                    if next.peek() == Some(&&i) {
+                        next.next();
+                    } else {
+                        out.push(i);
                     }
                 }
-                let (mut yes, no): (Vec<u32>, Vec<u32>) =
-                    (0..n as u32).partition(|&i| flagged[i as usize]);
-                yes.extend(no);
-                yes
+                out
             }
         };
         let v = std::rc::Rc::new(v);
