@@ -8,6 +8,7 @@ use crate::dataset::Dataset;
 use crate::error::Result;
 use crate::ingest::dates;
 use crate::metrics::Stat;
+use crate::report::fmt::short;
 
 /// How a series is drawn (each also differs in shape or dash, so that it reads in greyscale).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -128,10 +129,6 @@ fn ok(s: Stat) -> Option<f64> {
     s.ok().filter(|x| x.is_finite())
 }
 
-fn fmt(s: Stat, digits: usize) -> String {
-    ok(s).map_or("undefined".into(), |x| format!("{x:.digits$}"))
-}
-
 /// Points (k, v[k]) with v[k] > 0 when `positive` (for logarithmic axes).
 fn indexed(v: &[f64], positive: bool) -> Vec<(f64, f64)> {
     v.iter()
@@ -226,8 +223,8 @@ pub fn neighbour_degree(s: &NetworkStats, caption: &str) -> Figure {
         series: vec![Series {
             label: format!(
                 "k_nn(k), observed: r = {} ± {} (jackknife){null}",
-                fmt(s.r, 3),
-                fmt(s.r_se, 3)
+                short(s.r, 3),
+                short(s.r_se, 3)
             ),
             points: s
                 .neighbours
@@ -510,7 +507,7 @@ pub fn mixing_matrices(s: &NetworkStats, caption: &str) -> Vec<Figure> {
             title: format!(
                 "Contact pairs by {} (assortativity r = {}; {} pairs with a value missing)",
                 field.replace('_', " "),
-                fmt(m.r, 3),
+                short(m.r, 3),
                 m.unknown
             ),
             x_label: field.replace('_', " "),
