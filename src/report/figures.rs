@@ -97,9 +97,26 @@ pub struct Stacked {
     pub layers: Vec<(String, Vec<f64>)>,
 }
 
+/// The SHA-256 of each input file of `d` (None for the built-in sample), in ledger order: the
+/// slow part of a caption on a large export, so callers can run it beside other work.
+pub fn input_hashes(files: &[std::path::PathBuf]) -> Result<Vec<Option<String>>> {
+    files
+        .iter()
+        .map(|p| match p.exists() {
+            true => crate::export::file_sha256(p).map(Some),
+            false => Ok(None),
+        })
+        .collect()
+}
+
+/// The input files' paths, in ledger order (for [`input_hashes`]).
+pub fn input_paths(d: &Dataset) -> Vec<std::path::PathBuf> {
+    d.ledger.files.iter().map(|f| f.path.clone()).collect()
+}
+
 /// The caption every figure carries: as-of date, view, monitoring window (when known) and the
-/// input files with their SHA-256 shortened to 12 hex digits.
-pub fn caption(d: &Dataset, window: Option<(u32, &str)>) -> Result<String> {
+/// input files with their SHA-256 (from [`input_hashes`]) shortened to 12 hex digits.
+pub fn caption(d: &Dataset, window: Option<(u32, &str)>, hashes: &[Option<String>]) -> String {
     let mut parts = vec![
         format!("as of {}", dates::iso(d.as_of)),
         format!("view: {}", d.view.0.describe()),
@@ -107,22 +124,19 @@ pub fn caption(d: &Dataset, window: Option<(u32, &str)>) -> Result<String> {
     if let Some((days, pathogen)) = window {
         parts.push(format!("window {days} days ({pathogen})"));
     }
-    for f in &d.ledger.files {
+    for (f, sum) in d.ledger.files.iter().zip(hashes) {
         let name = f
             .path
             .file_name()
             .map(|n| n.to_string_lossy().into_owned())
             .unwrap_or_default();
-        parts.push(match f.path.exists() {
-            true => format!(
-                "{name} sha256 {}",
-                &crate::export::file_sha256(&f.path)?[..12]
-            ),
+        parts.push(match sum {
+            Some(sum) => format!("{name} sha256 {}", &sum[..12.min(sum.len())]),
             // The bundled sample's name already says it is built in.
-            false => name,
+            None => name,
         });
     }
-    Ok(parts.join(" · "))
+    parts.join(" · ")
 }
 
 fn ok(s: Stat) -> Option<f64> {

@@ -143,6 +143,9 @@ pub struct Model {
     /// The null model of r, computed in the background (it takes seconds at a million rows);
     /// empty until done.
     pub null: Arc<OnceLock<NullModel>>,
+    /// The input files' checksums for figure captions, read on a worker; empty until done
+    /// (an error reading a file is kept as its message).
+    pub input_hashes: Arc<OnceLock<std::result::Result<Vec<Option<String>>, String>>>,
 }
 
 impl Model {
@@ -212,6 +215,17 @@ impl Model {
         // The workers start after the first frame's parts, so as not to share the cores with
         // them.
         let null = background_null_model(&d, &stats.degrees);
+        let input_hashes = Arc::new(OnceLock::new());
+        {
+            let (cell, paths) = (
+                Arc::clone(&input_hashes),
+                crate::report::figures::input_paths(&d),
+            );
+            std::thread::spawn(move || {
+                let _ = cell
+                    .set(crate::report::figures::input_hashes(&paths).map_err(|e| e.to_string()));
+            });
+        }
         let plan_reach = plan_options.max_reach;
         let plan_cell = background_plan(&d, &list, &stats, plan_options, &id_rank);
         Ok(Model {
@@ -232,6 +246,7 @@ impl Model {
             theme: dash.theme.clone(),
             compute_seconds: t.elapsed().as_secs_f64(),
             null,
+            input_hashes,
             stats,
             d,
         })

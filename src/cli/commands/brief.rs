@@ -47,12 +47,22 @@ pub fn run(b: &BriefArgs) -> Result<()> {
         strategies: Strategy::ALL.to_vec(),
         ..Default::default()
     });
-    let r = Report::build(d, parts)?;
+    // The inputs' checksums for the captions are read beside the statistics.
+    let paths = figures::input_paths(&d);
+    let (r, hashes) = std::thread::scope(|sc| {
+        let hashing = sc.spawn(|| figures::input_hashes(&paths));
+        let r = Report::build(d, parts);
+        let hashes = hashing
+            .join()
+            .unwrap_or_else(|p| std::panic::resume_unwind(p));
+        (r, hashes)
+    });
+    let (r, hashes) = (r?, hashes?);
     let window = r
         .list
         .as_ref()
         .map(|l| (l.window.days, l.window.pathogen.as_str()));
-    let caption = figures::caption(&r.d, window)?;
+    let caption = figures::caption(&r.d, window, &hashes);
     let windows = r.list.as_ref().map(|l| {
         (
             l.ranked.iter().filter_map(|x| x.window_end).collect(),

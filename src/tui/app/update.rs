@@ -87,7 +87,7 @@ impl App {
                         Purpose::Figure,
                         format!(
                             "hubwatch-{}-{}.svg",
-                            self.pane_figure(m).map_or("figure".into(), |f| f.name),
+                            self.pane_figure_name(m),
                             dates::iso(m.d.as_of)
                         ),
                     ),
@@ -461,16 +461,37 @@ impl App {
         }
     }
 
+    /// The file stem of the pane's figure (for the prompt; the figure is drawn on Enter).
+    fn pane_figure_name(&self, m: &Model) -> &'static str {
+        match self.pane {
+            Pane::Degrees if self.log_scale => "degree-distribution-loglog",
+            Pane::Degrees => "degree-distribution",
+            Pane::Neighbours => "neighbour-degree",
+            Pane::Outlook if m.plan().is_some_and(|p| p.t.is_some()) => "outlook-reach",
+            Pane::Outlook => "outlook-transmissibility",
+            _ => "figure",
+        }
+    }
+
     /// The figure of the pane shown: the degree distribution (log-log when the pane is), the
     /// neighbour degrees, or the outlook's reach curves (R0 over T while T is unknown). The
     /// whole network's, as in `hubwatch figures`.
     pub fn pane_figure(&self, m: &Model) -> Option<crate::report::figures::Figure> {
         use crate::report::figures as f;
+        // The checksums are read on a worker at load; a figure asked for before they are
+        // ready waits for them (seconds at most, once).
+        let hashes = loop {
+            match m.input_hashes.get() {
+                Some(Ok(h)) => break h.clone(),
+                Some(Err(_)) => break Vec::new(),
+                None => std::thread::sleep(std::time::Duration::from_millis(20)),
+            }
+        };
         let caption = f::caption(
             &m.d,
             Some((m.list.window.days, m.list.window.pathogen.as_str())),
-        )
-        .ok()?;
+            &hashes,
+        );
         match self.pane {
             Pane::Degrees => Some(f::degree_distribution(&m.stats, self.log_scale, &caption)),
             Pane::Neighbours => Some(f::neighbour_degree(&m.stats, &caption)),
