@@ -18,6 +18,8 @@ use sha2::{Digest, Sha256};
 
 use crate::error::{Error, Result};
 
+mod formats;
+
 /// One cell of an export.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Cell {
@@ -81,6 +83,46 @@ impl Cell {
             Cell::Date(d) => d.format("%Y-%m-%d").to_string().into(),
             Cell::Empty => serde_json::Value::Null,
         }
+    }
+
+    /// A whole number, if the cell is one.
+    fn int(&self) -> Option<i64> {
+        match self {
+            Cell::Int(x) => Some(*x),
+            _ => None,
+        }
+    }
+
+    /// A number (whole numbers included), if the cell is one.
+    fn num(&self) -> Option<f64> {
+        match self {
+            Cell::Num(x) => Some(*x),
+            Cell::Int(x) => Some(*x as f64),
+            _ => None,
+        }
+    }
+
+    /// A boolean, if the cell is one.
+    fn boolean(&self) -> Option<bool> {
+        match self {
+            Cell::Bool(x) => Some(*x),
+            _ => None,
+        }
+    }
+
+    /// A date as days since 1970-01-01 (as Parquet counts dates), if the cell is one.
+    fn unix_day(&self) -> Option<i32> {
+        match self {
+            Cell::Date(d) => {
+                Some((*d - chrono::DateTime::UNIX_EPOCH.date_naive()).num_days() as i32)
+            }
+            _ => None,
+        }
+    }
+
+    /// Any value as exact text (None when empty).
+    fn text(&self) -> Option<String> {
+        (*self != Cell::Empty).then(|| self.plain())
     }
 
     fn kind(&self) -> Option<Kind> {
@@ -161,6 +203,19 @@ pub enum Format {
     Xlsx,
 }
 
+impl Format {
+    /// The usual file extension.
+    pub fn extension(self) -> &'static str {
+        match self {
+            Format::Csv => "csv",
+            Format::Tsv => "tsv",
+            Format::Json => "json",
+            Format::Parquet => "parquet",
+            Format::Xlsx => "xlsx",
+        }
+    }
+}
+
 /// The format given, else the one the extension of `out` names.
 pub fn format_for(out: &Path, given: Option<Format>) -> Result<Format> {
     if let Some(f) = given {
@@ -237,210 +292,6 @@ pub fn file_sha256(path: &Path) -> Result<String> {
     Ok(h.finalize().iter().map(|b| format!("{b:02x}")).collect())
 }
 
-/// A field of delimited text: quoted when it holds the delimiter, a quote or a line break.
-fn delimited_field(v: &str, sep: char) -> String {
-    if v.contains([sep, '"', '\n', '\r']) {
-        format!("\"{}\"", v.replace('"', "\"\""))
-    } else {
-        v.to_string()
-    }
-}
-
-fn bytes(t: &ExportTable, meta: &Metadata, format: Format, path: &Path) -> Result<Vec<u8>> {
-    match format {
-        Format::Csv => Ok(delimited_bytes(t, meta, ',')),
-        Format::Tsv => Ok(delimited_bytes(t, meta, '\t')),
-        Format::Json => json_bytes(t, meta, path),
-        Format::Parquet => parquet_bytes(t, meta, path),
-        Format::Xlsx => xlsx_bytes(t, meta, path),
-    }
-}
-
-/// A metadata line of delimited text, `# key: value`, kept to one cell when a spreadsheet
-/// opens the file: no delimiter, quote or line break (commas and tabs become semicolons,
-/// double quotes single ones). The exact values are in the JSON, Parquet and xlsx metadata.
-fn metadata_line(k: &str, v: &str) -> String {
-    let clean = |s: &str| {
-        s.chars()
-            .map(|c| match c {
-                ',' | '\t' => ';',
-                '"' => '\'',
-                '\n' | '\r' => ' ',
-                c => c,
-            })
-            .collect::<String>()
-    };
-    format!("# {}: {}\n", clean(k), clean(v))
-}
-
-/// CSV or TSV: metadata as leading `#` lines, then the table; text cells guarded against
-/// formulas.
-fn delimited_bytes(t: &ExportTable, meta: &Metadata, sep: char) -> Vec<u8> {
-    let mut s = String::new();
-    for (k, v) in &meta.entries {
-        s.push_str(&metadata_line(k, v));
-    }
-    let sep_text = sep.to_string();
-    let header: Vec<String> = t.columns.iter().map(|c| delimited_field(c, sep)).collect();
-    s.push_str(&header.join(&sep_text));
-    s.push('\n');
-    for r in &t.rows {
-        let cells: Vec<String> = r
-            .iter()
-            .map(|c| delimited_field(&c.delimited(), sep))
-            .collect();
-        s.push_str(&cells.join(&sep_text));
-        s.push('\n');
-    }
-    s.into_bytes()
-}
-
-/// One JSON object: metadata, columns, rows.
-fn json_bytes(t: &ExportTable, meta: &Metadata, path: &Path) -> Result<Vec<u8>> {
-    let meta: serde_json::Map<String, serde_json::Value> = meta
-        .entries
-        .iter()
-        .map(|(k, v)| (k.clone(), v.clone().into()))
-        .collect();
-    let rows: Vec<serde_json::Value> = t
-        .rows
-        .iter()
-        .map(|r| {
-            serde_json::Value::Object(
-                t.columns
-                    .iter()
-                    .cloned()
-                    .zip(r.iter().map(Cell::json))
-                    .collect(),
-            )
-        })
-        .collect();
-    let v = serde_json::json!({"metadata": meta, "columns": t.columns, "rows": rows});
-    serde_json::to_vec_pretty(&v).map_err(|e| Error::format(path, e.to_string()))
-}
-
-/// Parquet with typed columns (whole numbers, numbers, booleans, dates, text; null where a cell
-/// is empty), the metadata in the file's key-value metadata.
-fn parquet_bytes(t: &ExportTable, meta: &Metadata, path: &Path) -> Result<Vec<u8>> {
-    use polars::prelude::*;
-    let polars_err = |e| Error::Polars {
-        path: path.to_path_buf(),
-        source: e,
-    };
-    let mut cols: Vec<Column> = Vec::with_capacity(t.columns.len());
-    for (i, name) in t.columns.iter().enumerate() {
-        let cells = || t.rows.iter().map(move |r| r.get(i).unwrap_or(&Cell::Empty));
-        let name: PlSmallStr = name.as_str().into();
-        let col = match t.kind(i) {
-            Kind::Int => {
-                let v: Vec<Option<i64>> = cells()
-                    .map(|c| match c {
-                        Cell::Int(x) => Some(*x),
-                        _ => None,
-                    })
-                    .collect();
-                Column::new(name, v)
-            }
-            Kind::Num => {
-                let v: Vec<Option<f64>> = cells()
-                    .map(|c| match c {
-                        Cell::Num(x) => Some(*x),
-                        Cell::Int(x) => Some(*x as f64),
-                        _ => None,
-                    })
-                    .collect();
-                Column::new(name, v)
-            }
-            Kind::Bool => {
-                let v: Vec<Option<bool>> = cells()
-                    .map(|c| match c {
-                        Cell::Bool(x) => Some(*x),
-                        _ => None,
-                    })
-                    .collect();
-                Column::new(name, v)
-            }
-            Kind::Date => {
-                let v: Vec<Option<i32>> = cells()
-                    .map(|c| match c {
-                        // Parquet counts dates in days since 1970-01-01.
-                        Cell::Date(x) => {
-                            Some((*x - chrono::DateTime::UNIX_EPOCH.date_naive()).num_days() as i32)
-                        }
-                        _ => None,
-                    })
-                    .collect();
-                Column::new(name, v)
-                    .cast(&DataType::Date)
-                    .map_err(polars_err)?
-            }
-            Kind::Text => {
-                let v: Vec<Option<String>> = cells()
-                    .map(|c| (*c != Cell::Empty).then(|| c.plain()))
-                    .collect();
-                Column::new(name, v)
-            }
-        };
-        cols.push(col);
-    }
-    let mut df = DataFrame::new(t.rows.len(), cols).map_err(polars_err)?;
-    let mut buf = Vec::new();
-    let kv = polars::io::parquet::write::KeyValueMetadata::from_static(meta.entries.clone());
-    ParquetWriter::new(&mut buf)
-        .with_key_value_metadata(Some(kv))
-        .finish(&mut df)
-        .map_err(polars_err)?;
-    Ok(buf)
-}
-
-/// An xlsx workbook: the list (numbers as numbers, dates as dates shown in ISO 8601, booleans
-/// as booleans, text as text cells, which a spreadsheet never runs as a formula), and an
-/// "about" sheet with the metadata.
-fn xlsx_bytes(t: &ExportTable, meta: &Metadata, path: &Path) -> Result<Vec<u8>> {
-    let err = |e: rust_xlsxwriter::XlsxError| Error::format(path, e.to_string());
-    let date_format = rust_xlsxwriter::Format::new().set_num_format("yyyy-mm-dd");
-    let mut book = rust_xlsxwriter::Workbook::new();
-    let sheet = book.add_worksheet();
-    sheet.set_name("list").map_err(err)?;
-    for (c, name) in t.columns.iter().enumerate() {
-        sheet.write_string(0, c as u16, name).map_err(err)?;
-    }
-    for (r, row) in t.rows.iter().enumerate() {
-        let r = r as u32 + 1;
-        for (c, cell) in row.iter().enumerate() {
-            let c = c as u16;
-            match cell {
-                Cell::Num(x) => sheet.write_number(r, c, *x).map(|_| ()),
-                Cell::Int(i) => sheet.write_number(r, c, *i as f64).map(|_| ()),
-                Cell::Bool(b) => sheet.write_boolean(r, c, *b).map(|_| ()),
-                Cell::Date(d) => {
-                    use chrono::Datelike;
-                    rust_xlsxwriter::ExcelDateTime::from_ymd(
-                        d.year() as u16,
-                        d.month() as u8,
-                        d.day() as u8,
-                    )
-                    .and_then(|dt| {
-                        sheet
-                            .write_datetime_with_format(r, c, &dt, &date_format)
-                            .map(|_| ())
-                    })
-                }
-                Cell::Text(s) => sheet.write_string(r, c, s).map(|_| ()),
-                Cell::Empty => Ok(()),
-            }
-            .map_err(err)?;
-        }
-    }
-    let about = book.add_worksheet();
-    about.set_name("about").map_err(err)?;
-    for (i, (k, v)) in meta.entries.iter().enumerate() {
-        about.write_string(i as u32, 0, k).map_err(err)?;
-        about.write_string(i as u32, 1, v).map_err(err)?;
-    }
-    book.save_to_buffer().map_err(err)
-}
-
 /// Write the table to `out` (atomically, 0600); refuse to replace a file unless `force`.
 pub fn write(
     t: &ExportTable,
@@ -455,7 +306,7 @@ pub fn write(
             out.display()
         )));
     }
-    let b = bytes(t, meta, format, out)?;
+    let b = formats::bytes(t, meta, format, out)?;
     write_private(out, &b)
 }
 

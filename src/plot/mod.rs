@@ -194,6 +194,43 @@ fn tick(v: f64, log: bool) -> String {
     }
 }
 
+/// The chart of a figure in `area`: its title on top, room for the axis labels (`y_room`
+/// pixels for the y labels), over the given ranges.
+fn frame<'a, DB: DrawingBackend>(
+    area: &'a DrawingArea<DB, Shift>,
+    fig: &Figure,
+    title_size: u32,
+    y_room: u32,
+    (x, y): (std::ops::Range<f64>, std::ops::Range<f64>),
+) -> Result<
+    ChartContext<
+        'a,
+        DB,
+        Cartesian2d<plotters::coord::types::RangedCoordf64, plotters::coord::types::RangedCoordf64>,
+    >,
+>
+where
+    DB::ErrorType: 'static,
+{
+    ChartBuilder::on(area)
+        .caption(&fig.title, ("sans-serif", title_size))
+        .margin(14)
+        .x_label_area_size(48)
+        .y_label_area_size(y_room)
+        .build_cartesian_2d(x, y)
+        .map_err(err)
+}
+
+/// The label of category `labels[i]` at axis value `v` when `v` is the whole number `i` and
+/// a multiple of `every` (categories sit at 0, 1, 2 ...; other ticks get no label).
+fn category(labels: &[String], v: f64, every: usize) -> String {
+    let i = v.round();
+    match (i - v).abs() < 1e-6 && i >= 0.0 && (i as usize).is_multiple_of(every.max(1)) {
+        true => labels.get(i as usize).cloned().unwrap_or_default(),
+        false => String::new(),
+    }
+}
+
 fn draw<DB: DrawingBackend>(root: &DrawingArea<DB, Shift>, fig: &Figure) -> Result<()>
 where
     DB::ErrorType: 'static,
@@ -217,13 +254,7 @@ where
         return draw_stacked(&main, fig, st);
     }
     let ((x0, x1), (y0, y1)) = ranges(fig);
-    let mut chart = ChartBuilder::on(&main)
-        .caption(&fig.title, ("sans-serif", 20))
-        .margin(14)
-        .x_label_area_size(48)
-        .y_label_area_size(70)
-        .build_cartesian_2d(x0..x1, y0..y1)
-        .map_err(err)?;
+    let mut chart = frame(&main, fig, 20, 70, (x0..x1, y0..y1))?;
     let (lx, ly) = fig.log;
     chart
         .configure_mesh()
@@ -348,25 +379,13 @@ where
     let n = fig.bars.len();
     let top = fig.bars.iter().map(|b| b.1).fold(0.0f64, f64::max) * 1.15;
     let top = if top > 0.0 { top } else { 1.0 };
-    let mut chart = ChartBuilder::on(area)
-        .caption(&fig.title, ("sans-serif", 18))
-        .margin(14)
-        .x_label_area_size(48)
-        .y_label_area_size(70)
-        .build_cartesian_2d(-0.5f64..n as f64 - 0.5, 0.0..top)
-        .map_err(err)?;
+    let mut chart = frame(area, fig, 18, 70, (-0.5..n as f64 - 0.5, 0.0..top))?;
     let labels: Vec<String> = fig.bars.iter().map(|b| b.0.clone()).collect();
     chart
         .configure_mesh()
         .disable_x_mesh()
         .x_labels(n)
-        .x_label_formatter(&|v| {
-            let i = v.round();
-            match (i - v).abs() < 1e-6 && i >= 0.0 {
-                true => labels.get(i as usize).cloned().unwrap_or_default(),
-                false => String::new(),
-            }
-        })
+        .x_label_formatter(&|v| category(&labels, *v, 1))
         .y_desc(&fig.y_label)
         .light_line_style(RGBColor(235, 235, 235))
         .draw()
@@ -411,20 +430,9 @@ where
 {
     let n = m.groups.len();
     let max = m.values.iter().flatten().fold(0.0f64, |a, &b| a.max(b));
-    let mut chart = ChartBuilder::on(area)
-        .caption(&fig.title, ("sans-serif", 18))
-        .margin(14)
-        .x_label_area_size(48)
-        .y_label_area_size(110)
-        .build_cartesian_2d(-0.5f64..n as f64 - 0.5, -0.5f64..n as f64 - 0.5)
-        .map_err(err)?;
-    let label = |v: &f64| {
-        let i = v.round();
-        match (i - v).abs() < 1e-6 && i >= 0.0 {
-            true => m.groups.get(i as usize).cloned().unwrap_or_default(),
-            false => String::new(),
-        }
-    };
+    let span = -0.5..n as f64 - 0.5;
+    let mut chart = frame(area, fig, 18, 110, (span.clone(), span))?;
+    let label = |v: &f64| category(&m.groups, *v, 1);
     chart
         .configure_mesh()
         .disable_mesh()
@@ -478,25 +486,12 @@ where
         .collect();
     let top = totals.iter().fold(0.0f64, |a, &b| a.max(b)) * 1.1;
     let top = if top > 0.0 { top } else { 1.0 };
-    let mut chart = ChartBuilder::on(area)
-        .caption(&fig.title, ("sans-serif", 18))
-        .margin(14)
-        .x_label_area_size(48)
-        .y_label_area_size(70)
-        .build_cartesian_2d(-0.5f64..n as f64 - 0.5, 0.0..top)
-        .map_err(err)?;
-    let every = st.label_every.max(1);
+    let mut chart = frame(area, fig, 18, 70, (-0.5..n as f64 - 0.5, 0.0..top))?;
     chart
         .configure_mesh()
         .disable_x_mesh()
         .x_labels(n)
-        .x_label_formatter(&|v| {
-            let i = v.round();
-            match (i - v).abs() < 1e-6 && i >= 0.0 && (i as usize).is_multiple_of(every) {
-                true => st.x.get(i as usize).cloned().unwrap_or_default(),
-                false => String::new(),
-            }
-        })
+        .x_label_formatter(&|v| category(&st.x, *v, st.label_every))
         .x_desc(&fig.x_label)
         .y_desc(&fig.y_label)
         .light_line_style(RGBColor(235, 235, 235))

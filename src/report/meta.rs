@@ -62,23 +62,41 @@ impl Meta {
     }
 
     /// The SHA-256 of every input file (the bundled sample says so instead).
-    pub fn inputs(mut self, d: &Dataset) -> Result<Meta> {
-        for f in &d.ledger.files {
-            let sum = if f.path.exists() {
-                file_sha256(&f.path)?
-            } else {
-                "built-in sample".into()
-            };
+    pub fn inputs(self, d: &Dataset) -> Result<Meta> {
+        Ok(self.inputs_hashed(d, &input_hashes(&input_paths(d))?))
+    }
+
+    /// The same with the checksums already read ([`input_hashes`], in ledger order).
+    pub fn inputs_hashed(mut self, d: &Dataset, hashes: &[Option<String>]) -> Meta {
+        for (f, sum) in d.ledger.files.iter().zip(hashes) {
+            let sum = sum.as_deref().unwrap_or("built-in sample");
             self.0.push((
                 format!("input {}", f.role.name()),
                 format!("{} sha256 {sum}", f.path.display()),
             ));
         }
-        Ok(self)
+        self
     }
 
     /// The entries, for the writer.
     pub fn finish(self) -> Metadata {
         Metadata { entries: self.0 }
     }
+}
+
+/// The SHA-256 of each input file (None for the built-in sample), in the order of `paths`: the
+/// slow part of a file's metadata on a large export, so callers can read it beside other work.
+pub fn input_hashes(paths: &[std::path::PathBuf]) -> Result<Vec<Option<String>>> {
+    paths
+        .iter()
+        .map(|p| match p.exists() {
+            true => file_sha256(p).map(Some),
+            false => Ok(None),
+        })
+        .collect()
+}
+
+/// The input files' paths, in ledger order (for [`input_hashes`]).
+pub fn input_paths(d: &Dataset) -> Vec<std::path::PathBuf> {
+    d.ledger.files.iter().map(|f| f.path.clone()).collect()
 }

@@ -219,11 +219,11 @@ impl Model {
         {
             let (cell, paths) = (
                 Arc::clone(&input_hashes),
-                crate::report::figures::input_paths(&d),
+                crate::report::meta::input_paths(&d),
             );
             std::thread::spawn(move || {
-                let _ = cell
-                    .set(crate::report::figures::input_hashes(&paths).map_err(|e| e.to_string()));
+                let _ =
+                    cell.set(crate::report::meta::input_hashes(&paths).map_err(|e| e.to_string()));
             });
         }
         let plan_reach = plan_options.max_reach;

@@ -1,13 +1,11 @@
 //! `hubwatch brief`: the one-page HTML brief, written privately and atomically by the one
 //! writer.
 
-use crate::analysis::planning::{PlanOptions, Strategy};
 use crate::cli::args::BriefArgs;
-use crate::cli::commands::priority::ranking_parts;
+use crate::cli::commands::figures::report_and_figures;
 use crate::cli::emit;
 use crate::error::{Error, Result};
 use crate::report::brief::{html, Names};
-use crate::report::{figures, Report};
 
 /// Compute the report, draw its figures and write the page.
 pub fn run(b: &BriefArgs) -> Result<()> {
@@ -17,7 +15,6 @@ pub fn run(b: &BriefArgs) -> Result<()> {
             b.out.display()
         )));
     }
-    crate::plot::use_font(crate::plot::find_font(b.font.as_deref())?)?;
     // The user's key when there is one (stable pseudonyms); else a one-off key of this run.
     let own = match (&b.key_file, std::env::var_os("HUBWATCH_PSEUDONYM_KEY")) {
         (None, None) => None,
@@ -40,37 +37,9 @@ pub fn run(b: &BriefArgs) -> Result<()> {
             stable: false,
         },
     };
-    let d = b.load.load()?;
-    let mut parts = ranking_parts(&b.load, &b.rank, b.workspace.as_deref())?;
-    parts.plan = Some(PlanOptions {
-        transmissibility: b.transmissibility,
-        strategies: Strategy::ALL.to_vec(),
-        ..Default::default()
-    });
-    // The inputs' checksums for the captions are read beside the statistics.
-    let paths = figures::input_paths(&d);
-    let (r, hashes) = std::thread::scope(|sc| {
-        let hashing = sc.spawn(|| figures::input_hashes(&paths));
-        let r = Report::build(d, parts);
-        let hashes = hashing
-            .join()
-            .unwrap_or_else(|p| std::panic::resume_unwind(p));
-        (r, hashes)
-    });
-    let (r, hashes) = (r?, hashes?);
-    let window = r
-        .list
-        .as_ref()
-        .map(|l| (l.window.days, l.window.pathogen.as_str()));
-    let caption = figures::caption(&r.d, window, &hashes);
-    let windows = r.list.as_ref().map(|l| {
-        (
-            l.ranked.iter().filter_map(|x| x.window_end).collect(),
-            l.window.days,
-        )
-    });
+    let (r, all, _) = report_and_figures(&b.from)?;
     let mut svgs = Vec::new();
-    for fig in figures::all(&r.d, &r.stats, r.plan.as_ref(), windows, &caption) {
+    for fig in all {
         svgs.push((fig.title.clone(), crate::plot::svg(&fig)?));
     }
     let page = html(&r, &svgs, &names, b.top);

@@ -1,17 +1,20 @@
 //! `hubwatch figures`: the report's figures as SVG and/or PNG files in a folder, each written
-//! privately and atomically by the one writer.
+//! privately and atomically by the one writer. [`report_and_figures`] also serves `brief`.
 
 use crate::analysis::planning::{PlanOptions, Strategy};
-use crate::cli::args::{FigureFormat, FiguresArgs};
+use crate::cli::args::{FigureArgs, FigureFormat, FiguresArgs};
 use crate::cli::commands::priority::ranking_parts;
 use crate::cli::emit;
 use crate::error::{Error, Result};
 use crate::export;
-use crate::report::{figures, Report};
+use crate::report::figures::{self, Figure};
+use crate::report::meta::{input_hashes, input_paths};
+use crate::report::Report;
 
-/// Compute the report and write its figures.
-pub fn run(f: &FiguresArgs) -> Result<()> {
-    if let Some(t) = f.transmissibility {
+/// Load, compute the report (statistics, list and outlook) and its figures, the inputs'
+/// checksums read beside the statistics; returns them with the checksums (in ledger order).
+pub fn report_and_figures(a: &FigureArgs) -> Result<(Report, Vec<Figure>, Vec<Option<String>>)> {
+    if let Some(t) = a.transmissibility {
         if !(0.0..=1.0).contains(&t) {
             return Err(Error::Usage(format!(
                 "--transmissibility {t}: T is a probability, give a value from 0 to 1"
@@ -19,25 +22,23 @@ pub fn run(f: &FiguresArgs) -> Result<()> {
         }
     }
     // A missing font is said before any work.
-    crate::plot::use_font(crate::plot::find_font(f.font.as_deref())?)?;
-    std::fs::create_dir_all(&f.out).map_err(|e| Error::io(&f.out, e))?;
-    let d = f.load.load()?;
-    let mut parts = ranking_parts(&f.load, &f.rank, f.workspace.as_deref())?;
+    crate::plot::use_font(crate::plot::find_font(a.font.as_deref())?)?;
+    let d = a.load.load()?;
+    let mut parts = ranking_parts(&a.load, &a.rank, a.workspace.as_deref())?;
     // The null model of r only when asked (its band in the neighbour-degree figure).
     parts.metrics = crate::analysis::stats::MetricOptions {
-        null_replicates: f.null_replicates,
+        null_replicates: a.null_replicates,
         ..Default::default()
     };
     parts.plan = Some(PlanOptions {
-        transmissibility: f.transmissibility,
+        transmissibility: a.transmissibility,
         strategies: Strategy::ALL.to_vec(),
-        max_reach: f.max_reach,
+        max_reach: a.max_reach,
         ..Default::default()
     });
-    // The inputs' checksums for the captions are read beside the statistics.
-    let paths = figures::input_paths(&d);
+    let paths = input_paths(&d);
     let (r, hashes) = std::thread::scope(|sc| {
-        let hashing = sc.spawn(|| figures::input_hashes(&paths));
+        let hashing = sc.spawn(|| input_hashes(&paths));
         let r = Report::build(d, parts);
         let hashes = hashing
             .join()
@@ -57,6 +58,13 @@ pub fn run(f: &FiguresArgs) -> Result<()> {
         )
     });
     let all = figures::all(&r.d, &r.stats, r.plan.as_ref(), windows, &caption);
+    Ok((r, all, hashes))
+}
+
+/// Compute the report and write its figures.
+pub fn run(f: &FiguresArgs) -> Result<()> {
+    std::fs::create_dir_all(&f.out).map_err(|e| Error::io(&f.out, e))?;
+    let (r, all, hashes) = report_and_figures(&f.from)?;
     let mut files = Vec::new();
     for fig in &all {
         if matches!(f.format, FigureFormat::Svg | FigureFormat::Both) {
@@ -73,25 +81,22 @@ pub fn run(f: &FiguresArgs) -> Result<()> {
         }
     }
     let meta = crate::report::meta::Meta::new(&r.d, "figure data")
-        .inputs(&r.d)?
+        .inputs_hashed(&r.d, &hashes)
         .finish();
-    let mut tables = Vec::new();
-    if let Some(format) = f.with_data {
-        let ext = match format {
-            export::Format::Csv => "csv",
-            export::Format::Tsv => "tsv",
-            export::Format::Json => "json",
-            export::Format::Parquet => "parquet",
-            export::Format::Xlsx => "xlsx",
-        };
-        for fig in &all {
-            tables.push((
-                f.out.join(format!("{}.data.{ext}", fig.name)),
-                figures::data_table(fig),
-                format,
-            ));
-        }
-    }
+    let tables: Vec<_> = f
+        .with_data
+        .iter()
+        .flat_map(|&format| {
+            all.iter().map(move |fig| {
+                (
+                    f.out
+                        .join(format!("{}.data.{}", fig.name, format.extension())),
+                    figures::data_table(fig),
+                    format,
+                )
+            })
+        })
+        .collect();
     if !f.force {
         let taken = files
             .iter()
