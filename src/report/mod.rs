@@ -62,11 +62,7 @@ impl Report {
         // once.
         let settled = parts.rank.as_ref().map(settings).transpose()?;
         let t = std::time::Instant::now();
-        let lap = |what: &str| {
-            if std::env::var_os("HUBWATCH_STAGES").is_some() {
-                eprintln!("report: {what} at {:.3} s", t.elapsed().as_secs_f64());
-            }
-        };
+        let lap = |what: &str| stage_lap("report", what, t);
         let stats = stats::compute(&d, &parts.metrics);
         lap("statistics");
         let list = match (&parts.rank, settled) {
@@ -108,5 +104,13 @@ impl Report {
             id_rank,
             d,
         })
+    }
+}
+
+/// With `HUBWATCH_STAGES` set, say on stderr how long `part` has taken to reach `what` since
+/// `since` (for benchmarks; `cli::stages` prints the load's stages).
+pub fn stage_lap(part: &str, what: &str, since: std::time::Instant) {
+    if std::env::var_os("HUBWATCH_STAGES").is_some() {
+        eprintln!("{part}: {what} at {:.3} s", since.elapsed().as_secs_f64());
     }
 }

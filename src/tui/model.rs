@@ -183,11 +183,7 @@ impl Model {
             list,
             ..
         } = Report::build(d, parts)?;
-        let lap = |what: &str| {
-            if std::env::var_os("HUBWATCH_STAGES").is_some() {
-                eprintln!("model: {what} at {:.3} s", t.elapsed().as_secs_f64());
-            }
-        };
+        let lap = |what: &str| crate::report::stage_lap("model", what, t);
         lap("report");
         let list = list.expect("ranking asked for");
         let d = Arc::new(d);
