@@ -42,6 +42,15 @@ pub struct Edges {
     pub links_ab: Vec<u32>,
     /// Rows marking `b` as infector of `a`.
     pub links_ba: Vec<u32>,
+    /// The dated exposures of pairs whose rows give more than one distinct date span (a row's
+    /// span runs from its first exposure date to its last; a row with one date is one day):
+    /// pair `span_pairs[i]` has spans `spans[span_off[i]..span_off[i + 1]]`, sorted. Every
+    /// other dated pair has the one span `first..=last` (see [`Edges::day_spans`]).
+    pub span_pairs: Vec<u32>,
+    /// Offsets into `spans` (one more than `span_pairs`, or empty when there are none).
+    pub span_off: Vec<u32>,
+    /// Date spans (first day, last day), inclusive.
+    pub spans: Vec<(i32, i32)>,
 }
 
 impl Edges {
@@ -61,6 +70,27 @@ impl Edges {
             return &[];
         }
         &self.setting_codes[self.setting_off[e] as usize..self.setting_off[e + 1] as usize]
+    }
+
+    /// Each distinct date span (first day, last day; inclusive) of pair `e`'s rows, sorted
+    /// (none when no row of the pair is dated).
+    pub fn day_spans(&self, e: usize) -> impl Iterator<Item = (i32, i32)> + '_ {
+        let (many, one) = match self.span_pairs.binary_search(&(e as u32)) {
+            Ok(i) => (
+                &self.spans[self.span_off[i] as usize..self.span_off[i + 1] as usize],
+                None,
+            ),
+            Err(_) => {
+                let (first, last) = (self.first[e], self.last[e]);
+                let one = match (first != NO_DATE, last != NO_DATE) {
+                    (true, true) => Some((first, last)),
+                    (true, false) => Some((first, first)),
+                    _ => None,
+                };
+                (&self.spans[..0], one)
+            }
+        };
+        many.iter().copied().chain(one)
     }
 }
 
@@ -83,11 +113,13 @@ struct Pair<'c> {
     named: u32,
     links: (u32, u32),
     codes: &'c mut Vec<u16>,
+    spans: &'c mut Vec<(i32, i32)>,
 }
 
 impl<'c> Pair<'c> {
-    fn new(codes: &'c mut Vec<u16>) -> Pair<'c> {
+    fn new(codes: &'c mut Vec<u16>, spans: &'c mut Vec<(i32, i32)>) -> Pair<'c> {
         codes.clear();
+        spans.clear();
         Pair {
             first: NO_DATE,
             last: NO_DATE,
@@ -95,6 +127,7 @@ impl<'c> Pair<'c> {
             named: 0,
             links: (0, 0),
             codes,
+            spans,
         }
     }
 
@@ -108,6 +141,17 @@ impl<'c> Pair<'c> {
         let f = rows.fields.first.get(r).copied().unwrap_or(NO_DATE);
         if l != NO_DATE {
             self.last = self.last.max(l);
+        }
+        let span = match (f != NO_DATE, l != NO_DATE) {
+            (true, true) => Some((f.min(l), f.max(l))),
+            (true, false) => Some((f, f)),
+            (false, true) => Some((l, l)),
+            (false, false) => None,
+        };
+        if let Some(sp) = span {
+            if !self.spans.contains(&sp) {
+                self.spans.push(sp);
+            }
         }
         for d in [f, l] {
             if d != NO_DATE && (self.first == NO_DATE || d < self.first) {
@@ -150,6 +194,15 @@ impl<'c> Pair<'c> {
         if !rows.links.is_empty() {
             e.links_ab.push(self.links.0);
             e.links_ba.push(self.links.1);
+        }
+        if self.spans.len() > 1 {
+            self.spans.sort_unstable();
+            if e.span_off.is_empty() {
+                e.span_off.push(0);
+            }
+            e.span_pairs.push(e.a.len() as u32 - 1);
+            e.spans.extend_from_slice(self.spans);
+            e.span_off.push(e.spans.len() as u32);
         }
         if settings {
             self.codes.sort_unstable();
@@ -255,11 +308,12 @@ fn fold_pairs(
         e.setting_off.push(0);
     }
     let mut codes: Vec<u16> = Vec::new();
+    let mut spans: Vec<(i32, i32)> = Vec::new();
     let mut i = 0;
     while i < keys.len() {
         let key = keys[i];
         let mut j = i;
-        let mut pair = Pair::new(&mut codes);
+        let mut pair = Pair::new(&mut codes, &mut spans);
         while j < keys.len() && keys[j] == key {
             pair.add(rows, order[j] as usize);
             j += 1;
@@ -281,6 +335,7 @@ impl Edges {
     /// Append the pairs of `other` (all after this one's in pair order).
     fn append(&mut self, mut other: Edges) {
         let base = self.setting_codes.len() as u32;
+        let pairs = self.len() as u32;
         self.a.append(&mut other.a);
         self.b.append(&mut other.b);
         self.rows.append(&mut other.rows);
@@ -291,6 +346,17 @@ impl Edges {
         self.links_ab.append(&mut other.links_ab);
         self.links_ba.append(&mut other.links_ba);
         self.setting_codes.append(&mut other.setting_codes);
+        if !other.span_off.is_empty() {
+            let spans = self.spans.len() as u32;
+            if self.span_off.is_empty() {
+                self.span_off.push(0);
+            }
+            self.span_pairs
+                .extend(other.span_pairs.iter().map(|p| p + pairs));
+            self.span_off
+                .extend(other.span_off[1..].iter().map(|o| o + spans));
+            self.spans.append(&mut other.spans);
+        }
         if !other.setting_off.is_empty() {
             // Skip the other half's leading 0: its offsets continue after this half's codes.
             self.setting_off

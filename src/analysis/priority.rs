@@ -17,7 +17,7 @@ use crate::error::{Error, Result};
 pub const DEFAULT_TOML: &str = include_str!("../../config/priority.toml");
 
 /// Names of the score components, in display order.
-pub const COMPONENTS: [&str; 8] = [
+pub const COMPONENTS: [&str; 9] = [
     "degree",
     "cases",
     "window",
@@ -26,6 +26,7 @@ pub const COMPONENTS: [&str; 8] = [
     "bridge",
     "core",
     "contacts_mean",
+    "chain",
 ];
 
 /// Priority settings.
@@ -46,6 +47,8 @@ pub struct PriorityConfig {
     pub pathogens: BTreeMap<String, Pathogen>,
     /// Export settings.
     pub export: ExportConfig,
+    /// Chains of exposures.
+    pub chains: ChainConfig,
 }
 
 /// Export settings.
@@ -76,7 +79,7 @@ pub struct HubRule {
     pub value: f64,
 }
 
-/// A monitoring window.
+/// A monitoring window, and the periods that time chains of exposures.
 #[derive(Debug, Clone, Deserialize, Serialize)]
 #[serde(deny_unknown_fields)]
 pub struct Pathogen {
@@ -84,6 +87,25 @@ pub struct Pathogen {
     pub days: u32,
     /// Where the figure comes from.
     pub source: String,
+    /// Incubation period, shortest and longest, in days.
+    #[serde(default)]
+    pub incubation_days: Option<[u32; 2]>,
+    /// Days a case can pass it on before and after their onset.
+    #[serde(default)]
+    pub infectious_days: Option<[u32; 2]>,
+    /// Where the two periods come from.
+    #[serde(default)]
+    pub periods_source: Option<String>,
+}
+
+/// How chains of exposures are followed (`hubwatch chains`, the "chain" component).
+#[derive(Debug, Clone, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct ChainConfig {
+    /// Longest chain followed, in steps.
+    pub generations: u16,
+    /// Whether a chain may continue on the day the person was exposed.
+    pub same_day: bool,
 }
 
 impl PriorityConfig {
@@ -163,7 +185,7 @@ pub struct Ranked {
     /// Total score.
     pub score: f64,
     /// Raw value of each component, in [`COMPONENTS`] order (see [`Ranked::parts`]).
-    pub raw: [f64; 8],
+    pub raw: [f64; 9],
     /// Contacts of their own.
     pub degree: u32,
     /// Last exposure day (None when no exposure is dated).
@@ -185,10 +207,10 @@ pub fn scaled(name: &str, raw: f64, preset: &Preset) -> f64 {
     scale_by(cap(name, preset), raw)
 }
 
-/// The cap a component's raw value is divided by; None for window, setting and bridge, which
-/// are already 0..1.
+/// The cap a component's raw value is divided by; None for window, setting, bridge and chain,
+/// which are already 0..1.
 pub fn cap(name: &str, preset: &Preset) -> Option<f64> {
-    (!matches!(name, "window" | "setting" | "bridge"))
+    (!matches!(name, "window" | "setting" | "bridge" | "chain"))
         .then(|| preset.caps.get(name).copied().unwrap_or(1.0))
 }
 

@@ -8,6 +8,7 @@
 use std::collections::HashMap;
 use std::path::PathBuf;
 
+use crate::analysis::chains::{self, ChainRequest, Windows};
 use crate::analysis::filters::{FilterIndex, Filters};
 use crate::analysis::priority::{
     cap, hub_threshold, scale_by, Pathogen, Preset, PriorityConfig, Ranked, COMPONENTS,
@@ -77,7 +78,7 @@ pub fn settings(req: &RankRequest) -> Result<(PriorityConfig, (String, Preset), 
         .pathogen
         .clone()
         .unwrap_or_else(|| config.pathogen.clone());
-    let Pathogen { days, source } = config.pathogen(&pathogen_name)?.clone();
+    let Pathogen { days, source, .. } = config.pathogen(&pathogen_name)?.clone();
     let window = match req.window_days {
         Some(d) => Window {
             pathogen: pathogen_name,
@@ -128,7 +129,8 @@ pub fn rank_settled(
             .ok_or_else(|| Error::Usage(format!("no person with ID \"{id}\"")))?;
         filters.cluster = Some(stats.components.0[node as usize]);
     }
-    let ctx = Context::new(d, stats, &config, &preset.1, window.days, &followup);
+    let chain = chain_values(d, &config, &preset.1, &window.pathogen)?;
+    let ctx = Context::new(d, stats, &config, &preset.1, window.days, &followup, chain);
     let (ranked, people, overdue) = if filters.is_empty() && req.top.is_some() {
         // Keys and counts in one pass; the entries are then built again for the people shown
         // only, straight into their places.
@@ -178,6 +180,25 @@ pub fn rank_settled(
     })
 }
 
+/// The "chain" component of everyone (1 when a chain of dated exposures leads to them from a
+/// case), computed only when the preset weighs it.
+fn chain_values(
+    d: &Dataset,
+    config: &PriorityConfig,
+    preset: &Preset,
+    pathogen: &str,
+) -> Result<Option<Vec<f64>>> {
+    if preset.weights.get("chain").copied().unwrap_or(0.0) <= 0.0 {
+        return Ok(None);
+    }
+    let req = ChainRequest {
+        pathogen: Some(pathogen.to_string()),
+        ..ChainRequest::default()
+    };
+    let w = Windows::settle(config, &req)?;
+    Ok(Some(chains::chain_component(d, &w)))
+}
+
 /// Per-person inputs of the score that do not depend on the person's own contacts.
 struct Context<'a> {
     d: &'a Dataset,
@@ -189,12 +210,14 @@ struct Context<'a> {
     hub: (f64, bool),
     /// Per component, in [`COMPONENTS`] order: its cap (None: already 0..1) and weight, looked
     /// up once rather than by name for every person.
-    scale: [(Option<f64>, f64); 8],
+    scale: [(Option<f64>, f64); 9],
     /// The people table's `followup_status` column, if any.
     followup_column: Option<usize>,
     /// What each pair adds to its two people's scores, gathered once (one read per contact
     /// instead of one per array).
     edge_info: Vec<EdgeInfo>,
+    /// The chain component per person (None: not weighed, so 0).
+    chain: Option<Vec<f64>>,
 }
 
 /// One pair's part in the score of each of its people.
@@ -293,6 +316,7 @@ impl Context<'_> {
             f64::from(u8::from(self.bridge[i])),
             f64::from(stats.cores[i]),
             contacts_mean,
+            self.chain.as_ref().map_or(0.0, |c| c[i]),
         ];
         let score = self
             .scale
@@ -332,11 +356,12 @@ pub fn rank(
     preset: &Preset,
     window_days: u32,
     followup: &HashMap<String, String>,
-) -> Vec<Ranked> {
-    let ctx = Context::new(d, stats, config, preset, window_days, followup);
+) -> Result<Vec<Ranked>> {
+    let chain = chain_values(d, config, preset, &config.pathogen)?;
+    let ctx = Context::new(d, stats, config, preset, window_days, followup, chain);
     let out = on_all_cores(d.people(), |i| ctx.rank_one(i));
     let order = best_first(out.par_iter().map(key).collect(), None, |i| d.ids.name(i));
-    gather(&out, &order)
+    Ok(gather(&out, &order))
 }
 
 impl<'a> Context<'a> {
@@ -347,6 +372,7 @@ impl<'a> Context<'a> {
         preset: &Preset,
         window_days: u32,
         followup: &'a HashMap<String, String>,
+        chain: Option<Vec<f64>>,
     ) -> Context<'a> {
         let n = d.people();
         let mut bridge = vec![false; n];
@@ -379,6 +405,7 @@ impl<'a> Context<'a> {
                 (cap(name, preset), weight)
             }),
             followup_column: d.attrs.column("followup_status"),
+            chain,
         }
     }
 }
@@ -451,7 +478,7 @@ mod tests {
         Ranked {
             node,
             score,
-            raw: [0.0; 8],
+            raw: [0.0; 9],
             degree,
             last_exposure: None,
             window_end: None,

@@ -106,7 +106,8 @@ fn one(dir: &Path) -> Result<(), String> {
         .clone();
     let t = Instant::now();
     let ranked =
-        hubwatch::analysis::ranking::rank(&d, &stats, &config, &preset, 14, &Default::default());
+        hubwatch::analysis::ranking::rank(&d, &stats, &config, &preset, 14, &Default::default())
+            .map_err(|e| e.to_string())?;
     let rank_seconds = t.elapsed().as_secs_f64();
     std::hint::black_box(&ranked);
     // The first 1,000 only, as `priority --top 1000` asks for them (settings loaded as well).
@@ -149,6 +150,20 @@ fn one(dir: &Path) -> Result<(), String> {
     let t = Instant::now();
     std::hint::black_box(hubwatch::metrics::outlook::curve(&p, 101));
     let t_curve_seconds = t.elapsed().as_secs_f64();
+    // Chains from every case: forward (default generations) and backward, with the windows of
+    // the default pathogen.
+    let (chains_forward_seconds, chains_backward_seconds, chains_reached, chains_sources) = {
+        use hubwatch::analysis::chains::{self, ChainRequest, People, Windows};
+        let w = Windows::settle(&config, &ChainRequest::default()).map_err(|e| e.to_string())?;
+        let t = Instant::now();
+        let people = People::of(&d);
+        let cases = people.cases();
+        let f = chains::forward(&d, &people, &w, &cases);
+        let fs = t.elapsed().as_secs_f64();
+        let t = Instant::now();
+        let b = chains::backward(&d, &people, &w, &cases);
+        (fs, t.elapsed().as_secs_f64(), f.reached.len(), b.sources.len())
+    };
     let (graph_build, graph_walk, csr_walk) = graph_alternative(&d);
     let (csr_bytes, graph_bytes) = structure_bytes(&d);
     let out = json!({
@@ -158,6 +173,8 @@ fn one(dir: &Path) -> Result<(), String> {
         "csr_bytes": csr_bytes, "csr_walk": csr_walk,
         "components_seconds": components_seconds, "degree_curve_seconds": degree_curve_seconds,
         "acquaintance_curve_seconds": acquaintance_curve_seconds, "t_curve_seconds": t_curve_seconds, "max_degree": p.len() - 1,
+        "chains_forward_seconds": chains_forward_seconds, "chains_backward_seconds": chains_backward_seconds,
+        "chains_reached": chains_reached, "chains_sources": chains_sources,
         "graph_build": graph_build, "graph_walk": graph_walk, "graph_bytes": graph_bytes,
     });
     println!("{out}");

@@ -101,6 +101,7 @@ pub fn run(cli: Cli) -> Result<()> {
         Some(Command::Figures(f)) => c::figures::run(&f),
         Some(Command::Brief(b)) => c::brief::run(&b),
         Some(Command::Export(e)) => c::export::run(&e),
+        Some(Command::Chains { direction }) => c::chains::run(&direction),
         Some(Command::Followup {
             load,
             person,

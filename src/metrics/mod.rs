@@ -7,6 +7,7 @@
 //! decide ties are made in integers.
 
 pub mod cases;
+pub mod chains;
 pub mod degree;
 pub mod fits;
 pub mod mixing;

@@ -6,6 +6,7 @@
 //! Nothing here reads an input file; files are written by `export`.
 
 pub mod brief;
+pub mod chains;
 pub mod check;
 pub mod figures;
 pub mod fmt;

@@ -28,7 +28,8 @@ impl Ids<'_> {
                 .any(|d| crate::ingest::mapping::fold_header(d) == f)
     }
 
-    fn show(&self, node: u32) -> String {
+    /// A person's ID as this export shows it.
+    pub fn show(&self, node: u32) -> String {
         let id = self.d.ids.name(node);
         match self.key {
             Some(k) => pseudonym(k, id),

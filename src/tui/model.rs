@@ -453,7 +453,7 @@ mod tests {
     use super::*;
     use proptest::prelude::*;
 
-    fn entry(i: usize, degree: u32, cases: f64, days_left: Option<i32>, raw: [f64; 8]) -> Ranked {
+    fn entry(i: usize, degree: u32, cases: f64, days_left: Option<i32>, raw: [f64; 9]) -> Ranked {
         let mut raw = raw;
         raw[1] = cases;
         Ranked {
@@ -479,7 +479,7 @@ mod tests {
             let ranked: Vec<Ranked> = v
                 .iter()
                 .enumerate()
-                .map(|(i, &(k, c, d))| entry(i, k, f64::from(c), d, [0.0; 8]))
+                .map(|(i, &(k, c, d))| entry(i, k, f64::from(c), d, [0.0; 9]))
                 .collect();
             let base: Vec<u32> = (0..ranked.len() as u32).collect();
             let mut by_degree = base.clone();
@@ -495,7 +495,7 @@ mod tests {
         /// (the last of equal ones, as `max_by` picks).
         #[test]
         fn main_reason_is_the_largest_part(
-            raws in proptest::collection::vec(proptest::array::uniform8(0u8..4), 1..50)
+            raws in proptest::collection::vec(proptest::array::uniform9(0u8..4), 1..50)
         ) {
             let config = crate::analysis::priority::PriorityConfig::load(None).unwrap();
             let preset = config.preset("balanced").unwrap();

@@ -9,6 +9,7 @@ mod common;
 
 mod brief;
 mod casedata;
+mod chains;
 mod cases;
 mod cli;
 mod dashboard;

@@ -32,7 +32,7 @@ fn rank(
     f: &Filters,
 ) -> hubwatch::error::Result<Vec<Ranked>> {
     let none = Default::default();
-    let ranked = hubwatch::analysis::ranking::rank(d, stats, c, p, days, &none);
+    let ranked = hubwatch::analysis::ranking::rank(d, stats, c, p, days, &none)?;
     let mut want = filters::Filters {
         setting: f.setting.clone(),
         still_in_window: f.still_in_window,
@@ -371,5 +371,5 @@ fn shipped_priority_settings_parse_and_bad_ones_are_named() {
         .preset("nope")
         .unwrap_err()
         .to_string()
-        .contains("presets: balanced"));
+        .contains("presets: along chains, balanced"));
 }

@@ -17,7 +17,9 @@ use crate::ingest::{dates, mapping, table::ReadOptions, Input, LoadOptions};
 use crate::sample;
 use crate::workspace::Workspace;
 
+mod chains;
 mod outputs;
+pub use chains::{BackwardArgs, ChainCommon, ChainDirection, ForwardArgs};
 pub use outputs::{
     BriefArgs, ExportArgs, FigureArgs, FigureFormat, FiguresArgs, ListKind, OutlookArgs,
 };
@@ -119,6 +121,13 @@ pub enum Command {
     Brief(BriefArgs),
     /// Write a list for the callers: the priority list, the flagged people, or the quarantine.
     Export(ExportArgs),
+    /// Trace along dated exposures: forward from cases to whom they may have exposed (and
+    /// those people's contacts), or backward from cases to where they may have been infected.
+    Chains {
+        /// Forward or backward.
+        #[command(subcommand)]
+        direction: ChainDirection,
+    },
     /// Set a person's follow-up state (to call, reached, unreachable, completed).
     Followup {
         /// Loading options and paths (the person must be in the export).

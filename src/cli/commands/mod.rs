@@ -2,6 +2,7 @@
 //! its renderings. Arguments come from `cli::args`; nothing here computes a statistic.
 
 pub mod brief;
+pub mod chains;
 pub mod check;
 pub mod dashboard;
 pub mod export;
