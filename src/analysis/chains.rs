@@ -69,7 +69,11 @@ impl Windows {
                 a.map_or((inc_lo as i32 - before as i32).max(0), |a| a as i32),
                 b.map_or(inc_hi as i32 + after as i32, |b| b as i32),
             ),
-            _ => return Err(need("give both --min-gap and --max-gap, or add the periods")),
+            _ => {
+                return Err(need(
+                    "give both --min-gap and --max-gap, or add the periods",
+                ))
+            }
         };
         if max_gap < min_gap {
             return Err(Error::Usage(format!(
@@ -169,7 +173,9 @@ impl People {
             is_case: (0..n)
                 .map(|i| value(role, i).is_some_and(|v| v.trim().eq_ignore_ascii_case("case")))
                 .collect(),
-            reference: (0..n).map(|i| day(onset, i).or_else(|| day(report, i))).collect(),
+            reference: (0..n)
+                .map(|i| day(onset, i).or_else(|| day(report, i)))
+                .collect(),
         }
     }
 

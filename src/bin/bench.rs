@@ -162,7 +162,12 @@ fn one(dir: &Path) -> Result<(), String> {
         let fs = t.elapsed().as_secs_f64();
         let t = Instant::now();
         let b = chains::backward(&d, &people, &w, &cases);
-        (fs, t.elapsed().as_secs_f64(), f.reached.len(), b.sources.len())
+        (
+            fs,
+            t.elapsed().as_secs_f64(),
+            f.reached.len(),
+            b.sources.len(),
+        )
     };
     let (graph_build, graph_walk, csr_walk) = graph_alternative(&d);
     let (csr_bytes, graph_bytes) = structure_bytes(&d);

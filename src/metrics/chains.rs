@@ -191,7 +191,10 @@ pub fn forward(g: &Adjacency, edges: &Edges, seeds: &[Seed], rules: &Rules) -> R
             continue;
         }
         let u = r.node[si];
-        let (lo, hi) = (a.saturating_add(rules.min_gap), a.saturating_add(rules.max_gap));
+        let (lo, hi) = (
+            a.saturating_add(rules.min_gap),
+            a.saturating_add(rules.max_gap),
+        );
         for (&v, &e) in g.neighbors_slice(u).iter().zip(g.edges_slice(u)) {
             days_within(edges, e as usize, lo, hi, |t| {
                 offer(&mut r, &mut queue, (v, t, steps + 1, s, u));

@@ -154,7 +154,11 @@ pub fn forward_text(ids: &Ids, f: &Forward, w: &Windows, g: &Gain, top: usize) -
             .join(", "),
         new
     ));
-    let shown = if top == 0 { f.reached.len() } else { top.min(f.reached.len()) };
+    let shown = if top == 0 {
+        f.reached.len()
+    } else {
+        top.min(f.reached.len())
+    };
     if shown > 0 {
         s.push_str(&format!(
             "{:>4}  {:<14} {:>3} {:<10} {:>8}  {:<14} chain\n",
@@ -220,7 +224,11 @@ pub fn backward_text(ids: &Ids, b: &Backward, w: &Windows, g: &Gain, top: usize)
     let mut s = format!(
         "Backward along dated exposures to {} {}\n{}\n",
         b.targets.len(),
-        if b.targets.len() == 1 { "case" } else { "cases" },
+        if b.targets.len() == 1 {
+            "case"
+        } else {
+            "cases"
+        },
         w.describe()
     );
     if !b.undated.is_empty() {
@@ -237,7 +245,11 @@ pub fn backward_text(ids: &Ids, b: &Backward, w: &Windows, g: &Gain, top: usize)
         "\n{} possible sources; {common} met more than one of the cases in their windows\n\n",
         b.sources.len()
     ));
-    let shown = if top == 0 { b.sources.len() } else { top.min(b.sources.len()) };
+    let shown = if top == 0 {
+        b.sources.len()
+    } else {
+        top.min(b.sources.len())
+    };
     if shown > 0 {
         s.push_str(&format!(
             "{:>4}  {:<14} {:>5} {:<10} {:>8}  {:<14} met\n",
@@ -307,7 +319,11 @@ pub fn forward_table(ids: &Ids, f: &Forward) -> ExportTable {
             ]
         })
         .collect();
-    table(&columns, vec![Int, Text, Int, Date, Text, Int, Text, Text], rows)
+    table(
+        &columns,
+        vec![Int, Text, Int, Date, Text, Int, Text, Text],
+        rows,
+    )
 }
 
 /// Backward tracing as a table for the writer.

@@ -390,7 +390,7 @@ impl App {
         self.clusters
             .clamp(m.clusters.len(), page_rows(self.size, 0));
         if let Some(p) = &mut self.person {
-            p.pos.clamp(p.contacts.len(), page_rows(self.size, 12));
+            p.pos.clamp(p.rows(), page_rows(self.size, 12));
         }
     }
 

@@ -94,6 +94,8 @@ pub enum Action {
     SortNext,
     /// Reverse the sort.
     SortReverse,
+    /// Person pane: contacts, forward chains, backward sources.
+    PersonList,
     /// Cycle the role filter.
     FilterRole,
     /// Cycle the status filter.
@@ -374,6 +376,13 @@ pub const BINDINGS: &[Binding] = &[
         A::SortReverse,
         "reverse sort",
         false,
+    ),
+    b(
+        &[K::Char('c')],
+        In(P::Person),
+        A::PersonList,
+        "contacts / chains",
+        true,
     ),
     b(&[K::Char('f')], In(P::Person), A::Flag, "flag", true),
     b(

@@ -146,9 +146,27 @@ pub struct Model {
     /// The input files' checksums for figure captions, read on a worker; empty until done
     /// (an error reading a file is kept as its message).
     pub input_hashes: Arc<OnceLock<std::result::Result<Vec<Option<String>>, String>>>,
+    /// Who is a case and each person's onset (else report) date, read the first time the
+    /// Person pane shows chains.
+    pub chain_people: OnceLock<crate::analysis::chains::People>,
 }
 
 impl Model {
+    /// Cases and reference dates for the Person pane's chains (read once, when first asked).
+    pub fn chain_people(&self) -> &crate::analysis::chains::People {
+        self.chain_people
+            .get_or_init(|| crate::analysis::chains::People::of(&self.d))
+    }
+
+    /// The chains' windows for the list's pathogen, or why there are none.
+    pub fn chain_windows(&self) -> std::result::Result<crate::analysis::chains::Windows, String> {
+        let req = crate::analysis::chains::ChainRequest {
+            pathogen: Some(self.list.window.pathogen.clone()),
+            ..Default::default()
+        };
+        crate::analysis::chains::Windows::settle(&self.list.config, &req).map_err(|e| e.to_string())
+    }
+
     /// Compute everything from a loaded export.
     pub fn build(
         d: Dataset,
@@ -243,6 +261,7 @@ impl Model {
             compute_seconds: t.elapsed().as_secs_f64(),
             null,
             input_hashes,
+            chain_people: OnceLock::new(),
             stats,
             d,
         })

@@ -153,6 +153,49 @@ pub struct ContactRow {
     pub followup: String,
 }
 
+/// What the Person pane's lower list shows.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum PersonList {
+    /// Their contacts.
+    #[default]
+    Contacts,
+    /// Who they may have exposed along dated exposures.
+    Forward,
+    /// Where they may have been infected.
+    Backward,
+}
+
+impl PersonList {
+    /// The next list (c key).
+    pub fn next(self) -> PersonList {
+        match self {
+            PersonList::Contacts => PersonList::Forward,
+            PersonList::Forward => PersonList::Backward,
+            PersonList::Backward => PersonList::Contacts,
+        }
+    }
+}
+
+/// One row of a chain list on the Person pane (forward: a person reached; backward: a possible
+/// source).
+#[derive(Debug, Clone, PartialEq)]
+pub struct ChainRow {
+    /// Node.
+    pub node: u32,
+    /// ID.
+    pub id: String,
+    /// Forward: generation; backward: cases met in their windows.
+    pub count: u32,
+    /// Earliest date.
+    pub day: i32,
+    /// In the people table, and as what.
+    pub listed: &'static str,
+    /// Their contacts.
+    pub contacts: u32,
+    /// Forward: the chain; backward: the meeting.
+    pub via: String,
+}
+
 /// Everything shown about one person.
 #[derive(Debug, Clone)]
 pub struct PersonView {
@@ -176,6 +219,30 @@ pub struct PersonView {
     pub pos: ListPos,
     /// Sort column and direction (true = descending).
     pub sort: (ContactSort, bool),
+    /// Which list the lower half shows.
+    pub list: PersonList,
+    /// The chain list (empty when `list` is Contacts).
+    pub chains: Vec<ChainRow>,
+    /// What the chain list is, or why it is empty.
+    pub chains_note: String,
+}
+
+impl PersonView {
+    /// Rows in the list shown.
+    pub fn rows(&self) -> usize {
+        match self.list {
+            PersonList::Contacts => self.contacts.len(),
+            _ => self.chains.len(),
+        }
+    }
+
+    /// The person on the selected row of the list shown.
+    pub fn selected_node(&self) -> Option<u32> {
+        match self.list {
+            PersonList::Contacts => self.contacts.get(self.pos.selected).map(|c| c.node),
+            _ => self.chains.get(self.pos.selected).map(|c| c.node),
+        }
+    }
 }
 
 /// What a text prompt is for.

@@ -56,7 +56,11 @@ const EXPOSURES: &str = "source_id,target_id,exposure_date\n\
 C,A,2026-03-01\nA,B,2026-03-03\nA,Y,2026-03-01\nY,Z,2026-02-28\nA,X,2026-03-09\n\
 B,X,2026-03-07\nB,Y,2026-03-04\nX,W,2026-03-08\nB,A,2026-03-04\n";
 
-fn forward_of(people: &str, exposures: &str, req: ChainRequest) -> HashMap<String, (u16, String, Listed, Vec<String>)> {
+fn forward_of(
+    people: &str,
+    exposures: &str,
+    req: ChainRequest,
+) -> HashMap<String, (u16, String, Listed, Vec<String>)> {
     let dir = tempfile::tempdir().unwrap();
     let p = write(dir.path(), "people.csv", people);
     let e = write(dir.path(), "exposures.csv", exposures);
@@ -84,17 +88,35 @@ fn forward_of(people: &str, exposures: &str, req: ChainRequest) -> HashMap<Strin
 fn forward_follows_dates_windows_same_day_and_generations() {
     let got = forward_of(PEOPLE, EXPOSURES, gaps(0, 5, 3));
     let want = |g: u16, day: &str, listed: Listed, chain: &[&str]| {
-        (g, day.to_string(), listed, chain.iter().map(|s| s.to_string()).collect::<Vec<_>>())
+        (
+            g,
+            day.to_string(),
+            listed,
+            chain.iter().map(|s| s.to_string()).collect::<Vec<_>>(),
+        )
     };
     assert_eq!(got.len(), 4, "{got:?}");
-    assert_eq!(got["A"], want(1, "2026-03-01", Listed::Contact, &["C>A@2026-03-01"]));
+    assert_eq!(
+        got["A"],
+        want(1, "2026-03-01", Listed::Contact, &["C>A@2026-03-01"])
+    );
     assert_eq!(
         got["B"],
-        want(2, "2026-03-03", Listed::New, &["C>A@2026-03-01", "A>B@2026-03-03"])
+        want(
+            2,
+            "2026-03-03",
+            Listed::New,
+            &["C>A@2026-03-01", "A>B@2026-03-03"]
+        )
     );
     assert_eq!(
         got["Y"],
-        want(2, "2026-03-01", Listed::Contact, &["C>A@2026-03-01", "A>Y@2026-03-01"])
+        want(
+            2,
+            "2026-03-01",
+            Listed::Contact,
+            &["C>A@2026-03-01", "A>Y@2026-03-01"]
+        )
     );
     assert_eq!(
         got["X"],
@@ -150,7 +172,14 @@ fn forward_follows_dates_windows_same_day_and_generations() {
 fn a_case_passes_it_on_only_inside_the_infectious_period() {
     let people = "person_id,role,onset_date\nK,case,2026-03-10\n";
     let exposures = "source_id,target_id,exposure_date\nK,P,2026-03-05\nK,Q,2026-03-08\nK,R,2026-03-21\nK,S,2026-03-20\n";
-    let got = forward_of(people, exposures, ChainRequest { generations: Some(1), ..ChainRequest::default() });
+    let got = forward_of(
+        people,
+        exposures,
+        ChainRequest {
+            generations: Some(1),
+            ..ChainRequest::default()
+        },
+    );
     let mut names: Vec<_> = got.keys().cloned().collect();
     names.sort();
     assert_eq!(names, ["Q", "S"]);
@@ -174,7 +203,8 @@ fn a_date_range_counts_on_every_day() {
     assert_eq!(got["B"].3, ["C>A@2026-03-09", "A>B@2026-03-14"]);
     // Two rows of one pair, on the 1st and on the 10th (not a range): only those two days
     // count, and the 10th still reaches B.
-    let exposures = "source_id,target_id,exposure_date\nC,A,2026-03-01\nA,C,2026-03-10\nA,B,2026-03-14\n";
+    let exposures =
+        "source_id,target_id,exposure_date\nC,A,2026-03-01\nA,C,2026-03-10\nA,B,2026-03-14\n";
     let got = forward_of(people, exposures, gaps(0, 5, 3));
     assert_eq!(got["B"].3, ["C>A@2026-03-10", "A>B@2026-03-14"]);
     // With the 1st only, B is out of reach.
@@ -212,7 +242,10 @@ fn backward_finds_common_sources_inside_the_infection_window() {
     assert_eq!(w.infection, (2, 14));
     let b = chains::backward(&d, &ppl, &w, &ppl.cases());
     let name = |v: u32| d.ids.name(v).to_string();
-    assert_eq!(b.undated.iter().map(|&v| name(v)).collect::<Vec<_>>(), ["V"]);
+    assert_eq!(
+        b.undated.iter().map(|&v| name(v)).collect::<Vec<_>>(),
+        ["V"]
+    );
     let got: Vec<(String, usize, String)> = b
         .sources
         .iter()
@@ -229,7 +262,10 @@ fn backward_finds_common_sources_inside_the_infection_window() {
     assert_eq!(b.sources[0].listed, Listed::New);
     // --days 20 looks 0-20 days before onset: S2 (1 day before T's onset) and S3 (19 days)
     // join, each with one case.
-    let w = windows(ChainRequest { days: Some(20), ..ChainRequest::default() });
+    let w = windows(ChainRequest {
+        days: Some(20),
+        ..ChainRequest::default()
+    });
     let b = chains::backward(&d, &ppl, &w, &ppl.cases());
     let mut names: Vec<String> = b.sources.iter().map(|s| name(s.node)).collect();
     names.sort();
@@ -257,14 +293,30 @@ fn backward_finds_common_sources_inside_the_infection_window() {
 #[test]
 fn a_pathogen_without_periods_says_what_is_missing() {
     let dir = tempfile::tempdir().unwrap();
-    let cfg = write(dir.path(), "p.toml", "[pathogens.plain]\ndays = 10\nsource = \"local rule\"\n");
+    let cfg = write(
+        dir.path(),
+        "p.toml",
+        "[pathogens.plain]\ndays = 10\nsource = \"local rule\"\n",
+    );
     let config = PriorityConfig::load(Some(&cfg)).unwrap();
-    let req = ChainRequest { pathogen: Some("plain".into()), ..ChainRequest::default() };
+    let req = ChainRequest {
+        pathogen: Some("plain".into()),
+        ..ChainRequest::default()
+    };
     let err = Windows::settle(&config, &req).unwrap_err().to_string();
     assert!(err.contains("--min-gap") && err.contains("plain"), "{err}");
-    let req = ChainRequest { pathogen: Some("plain".into()), min_gap: Some(1), max_gap: Some(9), days: Some(12), ..ChainRequest::default() };
+    let req = ChainRequest {
+        pathogen: Some("plain".into()),
+        min_gap: Some(1),
+        max_gap: Some(9),
+        days: Some(12),
+        ..ChainRequest::default()
+    };
     let w = Windows::settle(&config, &req).unwrap();
-    assert_eq!((w.rules.min_gap, w.rules.max_gap, w.infection), (1, 9, (0, 12)));
+    assert_eq!(
+        (w.rules.min_gap, w.rules.max_gap, w.infection),
+        (1, 9, (0, 12))
+    );
 }
 
 // ----------------------------------------------------------------------------------------
@@ -427,8 +479,18 @@ fn the_command_prints_json_and_writes_a_private_formula_safe_file() {
     );
     let out = dir.path().join("fwd.csv");
     let (code, stdout, stderr) = hubwatch(&[
-        "chains", "forward", "--from-cases", "--min-gap", "0", "--max-gap", "5", "--json",
-        "--out", out.to_str().unwrap(), p.to_str().unwrap(), e.to_str().unwrap(),
+        "chains",
+        "forward",
+        "--from-cases",
+        "--min-gap",
+        "0",
+        "--max-gap",
+        "5",
+        "--json",
+        "--out",
+        out.to_str().unwrap(),
+        p.to_str().unwrap(),
+        e.to_str().unwrap(),
     ]);
     assert_eq!(code, 0, "{stderr}");
     let j: serde_json::Value = serde_json::from_str(&stdout).unwrap();
@@ -438,7 +500,10 @@ fn the_command_prints_json_and_writes_a_private_formula_safe_file() {
     assert_eq!(j["by_generation"], serde_json::json!([1, 2, 2]));
     assert_eq!(j["not_listed"], 2); // B and =SUM(1), both only in the exposures
     assert_eq!(j["reached"][0]["person_id"], "A");
-    assert!(j["caution"].as_str().unwrap().contains("does not say that anyone was infected"));
+    assert!(j["caution"]
+        .as_str()
+        .unwrap()
+        .contains("does not say that anyone was infected"));
     assert!(j["gain"]["edge_end_mean"].is_number());
     let text = std::fs::read_to_string(&out).unwrap();
     assert!(text.contains("'=SUM(1)"), "formula guard: {text}");
@@ -446,21 +511,45 @@ fn the_command_prints_json_and_writes_a_private_formula_safe_file() {
     #[cfg(unix)]
     {
         use std::os::unix::fs::PermissionsExt;
-        assert_eq!(std::fs::metadata(&out).unwrap().permissions().mode() & 0o777, 0o600);
+        assert_eq!(
+            std::fs::metadata(&out).unwrap().permissions().mode() & 0o777,
+            0o600
+        );
     }
     // Pseudonymised: no raw ID of a reached person in the file.
     let key = write(dir.path(), "key", "a test key, not a secret");
     let out2 = dir.path().join("bwd.csv");
     let (code, stdout, stderr) = hubwatch(&[
-        "chains", "backward", "--to-person", "C", "--days", "10", "--out", out2.to_str().unwrap(),
-        "--pseudonymise", "--key-file", key.to_str().unwrap(), p.to_str().unwrap(), e.to_str().unwrap(),
+        "chains",
+        "backward",
+        "--to-person",
+        "C",
+        "--days",
+        "10",
+        "--out",
+        out2.to_str().unwrap(),
+        "--pseudonymise",
+        "--key-file",
+        key.to_str().unwrap(),
+        p.to_str().unwrap(),
+        e.to_str().unwrap(),
     ]);
     assert_eq!(code, 0, "{stderr}");
-    assert!(stdout.contains("left out without an onset or report date: C"), "{stdout}");
+    assert!(
+        stdout.contains("left out without an onset or report date: C"),
+        "{stdout}"
+    );
     let text = std::fs::read_to_string(&out2).unwrap();
     assert!(text.contains("pseudonymised"));
     // An unknown person is a usage error naming the ID.
-    let (code, _, stderr) = hubwatch(&["chains", "forward", "--from-person", "NOPE", p.to_str().unwrap(), e.to_str().unwrap()]);
+    let (code, _, stderr) = hubwatch(&[
+        "chains",
+        "forward",
+        "--from-person",
+        "NOPE",
+        p.to_str().unwrap(),
+        e.to_str().unwrap(),
+    ]);
     assert_eq!(code, 2);
     assert!(stderr.contains("NOPE"), "{stderr}");
 }
@@ -472,8 +561,16 @@ fn the_chain_component_is_off_in_balanced_and_on_in_along_chains() {
     let e = write(dir.path(), "exposures.csv", EXPOSURES);
     let run = |preset: &str| {
         let (code, stdout, stderr) = hubwatch(&[
-            "priority", "--preset", preset, "--json", "--top", "0", "--as-of", "2026-03-10",
-            p.to_str().unwrap(), e.to_str().unwrap(),
+            "priority",
+            "--preset",
+            preset,
+            "--json",
+            "--top",
+            "0",
+            "--as-of",
+            "2026-03-10",
+            p.to_str().unwrap(),
+            e.to_str().unwrap(),
         ]);
         assert_eq!(code, 0, "{stderr}");
         let j: serde_json::Value = serde_json::from_str(&stdout).unwrap();
@@ -489,7 +586,11 @@ fn the_chain_component_is_off_in_balanced_and_on_in_along_chains() {
                     .find(|x| x["name"] == "chain")
                     .unwrap()
                     .clone();
-                (r["id"].as_str().unwrap().to_string(), chain["raw"].as_f64().unwrap(), chain["weight"].as_f64().unwrap())
+                (
+                    r["id"].as_str().unwrap().to_string(),
+                    chain["raw"].as_f64().unwrap(),
+                    chain["weight"].as_f64().unwrap(),
+                )
             })
             .collect::<Vec<_>>()
     };
@@ -501,7 +602,11 @@ fn the_chain_component_is_off_in_balanced_and_on_in_along_chains() {
     // the 8th needs X exposed by the 8th, which only the 7th (generation 3) gives, so W would
     // be generation 4: out. Z (28 February, before Y's exposure) is not reached. C is the case.
     let along = run("along chains");
-    let on: Vec<&str> = along.iter().filter(|x| x.1 == 1.0).map(|x| x.0.as_str()).collect();
+    let on: Vec<&str> = along
+        .iter()
+        .filter(|x| x.1 == 1.0)
+        .map(|x| x.0.as_str())
+        .collect();
     let mut on = on.clone();
     on.sort();
     assert_eq!(on, ["A", "B", "X", "Y"]);

@@ -589,3 +589,81 @@ fn e_on_a_figure_pane_writes_that_panes_figure() {
         assert!(msg.error && msg.text.contains("exists"), "{msg:?}");
     }
 }
+
+/// The Person pane's chain lists (c cycles contacts -> forward -> backward) are the command
+/// line's `chains forward --from-person` and `chains backward --to-person` for that person
+/// (whose own tests check the method), and Enter walks along them.
+#[test]
+fn person_pane_walks_along_chains_forward_and_backward() {
+    let dir = tempfile::tempdir().unwrap();
+    let (m, mut app) = setup(dir.path());
+    // A case with an onset date: it has both a forward chain and possible sources.
+    let people = hubwatch::analysis::chains::People::of(&m.d);
+    let case = (0..m.d.people() as u32)
+        .filter(|&v| people.is_case[v as usize] && people.reference[v as usize].is_some())
+        .max_by_key(|&v| m.stats.degrees[v as usize])
+        .unwrap();
+    let id = m.d.ids.name(case).to_string();
+    app.act(&m, Action::Go(Pane::Priority));
+    app.act(&m, Action::Search);
+    for c in id.chars() {
+        app.act(&m, Action::Type(c));
+    }
+    app.act(&m, Action::Submit);
+    app.act(&m, Action::Open);
+    assert_eq!(app.person.as_ref().unwrap().node, case);
+    let cli = |dir: &str, flag: &str| {
+        let (code, out, err) =
+            crate::common::hubwatch(&["chains", dir, flag, &id, "--json", "--as-of", "2026-11-28"]);
+        assert_eq!(code, 0, "{err}");
+        serde_json::from_str::<serde_json::Value>(&out).unwrap()
+    };
+    // Forward.
+    app.act(&m, Action::PersonList);
+    let p = app.person.as_ref().unwrap();
+    let want = cli("forward", "--from-person");
+    let want_ids: Vec<&str> = want["reached"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|r| r["person_id"].as_str().unwrap())
+        .collect();
+    let got_ids: Vec<&str> = p.chains.iter().map(|r| r.id.as_str()).collect();
+    assert!(!got_ids.is_empty());
+    assert_eq!(got_ids, want_ids);
+    let s = text(&m, &app, dir.path());
+    assert!(
+        s.contains("Chains forward") && s.contains("possible, not proven"),
+        "{s}"
+    );
+    insta::assert_snapshot!("person_forward", s);
+    // Enter opens the first person reached, still on the forward list; Back returns.
+    let first = p.chains[0].node;
+    app.act(&m, Action::Open);
+    let q = app.person.as_ref().unwrap();
+    assert_eq!(q.node, first);
+    assert_eq!(q.list, hubwatch::tui::state::PersonList::Forward);
+    app.act(&m, Action::Back);
+    assert_eq!(app.person.as_ref().unwrap().node, case);
+    // Backward.
+    app.act(&m, Action::PersonList);
+    let p = app.person.as_ref().unwrap();
+    let want = cli("backward", "--to-person");
+    let want_ids: Vec<&str> = want["sources"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|r| r["person_id"].as_str().unwrap())
+        .collect();
+    let got_ids: Vec<&str> = p.chains.iter().map(|r| r.id.as_str()).collect();
+    assert_eq!(got_ids, want_ids);
+    let s = text(&m, &app, dir.path());
+    assert!(s.contains("Sources backward"), "{s}");
+    insta::assert_snapshot!("person_backward", s);
+    // And back to the contacts.
+    app.act(&m, Action::PersonList);
+    assert_eq!(
+        app.person.as_ref().unwrap().list,
+        hubwatch::tui::state::PersonList::Contacts
+    );
+}

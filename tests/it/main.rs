@@ -9,8 +9,8 @@ mod common;
 
 mod brief;
 mod casedata;
-mod chains;
 mod cases;
+mod chains;
 mod cli;
 mod dashboard;
 mod errors;

@@ -5,9 +5,12 @@
 use petgraph::visit::EdgeRef;
 
 use super::{App, ContactRow, ContactSort, ListPos, PersonView};
+use crate::analysis::chains;
+use crate::ingest::dates::iso;
 use crate::tui::keys::Pane;
 use crate::tui::model::Model;
 use crate::tui::state::sort_contacts;
+use crate::tui::state::{ChainRow, PersonList};
 use crate::workspace::Workspace;
 
 impl App {
@@ -48,8 +51,107 @@ impl App {
         }
     }
 
+    /// The chain list of `node` (forward or backward) and a line saying what it is.
+    fn chain_rows(&self, m: &Model, node: u32, list: PersonList) -> (Vec<ChainRow>, String) {
+        if list == PersonList::Contacts {
+            return (Vec::new(), String::new());
+        }
+        let w = match m.chain_windows() {
+            Ok(w) => w,
+            Err(e) => return (Vec::new(), e),
+        };
+        let d = &m.d;
+        let people = m.chain_people();
+        let gaps = format!(
+            "{}: gaps {}-{} days, {} steps",
+            w.pathogen, w.rules.min_gap, w.rules.max_gap, w.rules.generations
+        );
+        match list {
+            PersonList::Forward => {
+                let f = chains::forward(d, people, &w, &[node]);
+                let rows = f
+                    .reached
+                    .iter()
+                    .map(|r| ChainRow {
+                        node: r.node,
+                        id: d.ids.name(r.node).to_string(),
+                        count: u32::from(r.generation),
+                        day: r.earliest,
+                        listed: r.listed.word(),
+                        contacts: r.degree,
+                        via: r
+                            .chain
+                            .iter()
+                            .map(|s| format!("{} {}", d.ids.name(s.from), iso(s.day)))
+                            .collect::<Vec<_>>()
+                            .join(" > "),
+                    })
+                    .collect();
+                let from = match (
+                    people.reference[node as usize],
+                    people.is_case[node as usize],
+                ) {
+                    (Some(r), _) => format!("infectious around {}", iso(r)),
+                    (None, true) => {
+                        "a case without onset or report date: every dated exposure counts".into()
+                    }
+                    (None, false) => "no onset date: every dated exposure of theirs counts".into(),
+                };
+                (
+                    rows,
+                    format!(
+                        "Forward: {} people the dates allow ({from}; {gaps})",
+                        f.reached.len()
+                    ),
+                )
+            }
+            _ => {
+                let b = chains::backward(d, people, &w, &[node]);
+                if !b.undated.is_empty() {
+                    return (
+                        Vec::new(),
+                        "Backward: no onset or report date, so no window before onset to search"
+                            .into(),
+                    );
+                }
+                let rows = b
+                    .sources
+                    .iter()
+                    .map(|s| ChainRow {
+                        node: s.node,
+                        id: d.ids.name(s.node).to_string(),
+                        count: s.targets.len() as u32,
+                        day: s.earliest,
+                        listed: s.listed.word(),
+                        contacts: s.degree,
+                        via: format!("met {}", iso(s.earliest)),
+                    })
+                    .collect();
+                let t = &b.targets[0];
+                (
+                    rows,
+                    format!(
+                        "Backward: {} possible sources met {} to {} (infected {}-{} days before onset; {})",
+                        b.sources.len(),
+                        iso(t.from),
+                        iso(t.to),
+                        w.infection.0,
+                        w.infection.1,
+                        w.pathogen
+                    ),
+                )
+            }
+        }
+    }
+
     /// Build the view of one person.
-    pub fn person_view(&self, m: &Model, node: u32, sort: (ContactSort, bool)) -> PersonView {
+    pub fn person_view(
+        &self,
+        m: &Model,
+        node: u32,
+        sort: (ContactSort, bool),
+        list: PersonList,
+    ) -> PersonView {
         let d = &m.d;
         let id = d.ids.name(node).to_string();
         let attrs = d
@@ -86,6 +188,7 @@ impl App {
             .map(|e| self.contact_row(m, node, e.target(), *e.weight() as usize))
             .collect();
         sort_contacts(&mut contacts, sort);
+        let (chains, chains_note) = self.chain_rows(m, node, list);
         PersonView {
             node,
             state: self.states.get(&id).cloned(),
@@ -97,6 +200,9 @@ impl App {
             contacts,
             pos: ListPos::default(),
             sort,
+            list,
+            chains,
+            chains_note,
         }
     }
 
@@ -108,7 +214,8 @@ impl App {
         pos: ListPos,
         sort: (ContactSort, bool),
     ) {
-        let mut v = self.person_view(m, node, sort);
+        let list = self.person.as_ref().map(|p| p.list).unwrap_or_default();
+        let mut v = self.person_view(m, node, sort, list);
         v.pos = pos;
         self.person = Some(v);
     }
@@ -119,12 +226,12 @@ impl App {
                 self.history.push((p.node, p.pos, p.sort));
             }
         }
-        let sort = self
+        let (sort, list) = self
             .person
             .as_ref()
-            .map(|p| p.sort)
-            .unwrap_or((ContactSort::Degree, true));
-        self.person = Some(self.person_view(m, node, sort));
+            .map(|p| (p.sort, p.list))
+            .unwrap_or(((ContactSort::Degree, true), PersonList::Contacts));
+        self.person = Some(self.person_view(m, node, sort, list));
         self.pane = Pane::Person;
     }
 }

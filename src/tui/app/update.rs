@@ -74,6 +74,13 @@ impl App {
             Action::LogScale => self.log_scale = !self.log_scale,
             Action::Cutoff => self.cutoff = (self.cutoff + 1) % CUTOFFS.len(),
             Action::SortNext | Action::SortReverse => self.sort_by(m, action),
+            Action::PersonList => {
+                if let Some(p) = &self.person {
+                    let (node, sort, list) = (p.node, p.sort, p.list.next());
+                    let v = self.person_view(m, node, sort, list);
+                    self.person = Some(v);
+                }
+            }
             Action::FilterRole
             | Action::FilterStatus
             | Action::FilterArea
@@ -189,7 +196,7 @@ impl App {
             Pane::Person => {
                 if let Some(p) = &mut self.person {
                     let page = page_rows(self.size, 12);
-                    p.pos.step(action, p.contacts.len(), page);
+                    p.pos.step(action, p.rows(), page);
                 }
             }
             Pane::Overview if action == Action::Down => {
@@ -210,11 +217,7 @@ impl App {
                 }
             }
             Pane::Person => {
-                let next = self
-                    .person
-                    .as_ref()
-                    .and_then(|p| p.contacts.get(p.pos.selected))
-                    .map(|c| c.node);
+                let next = self.person.as_ref().and_then(|p| p.selected_node());
                 if let Some(n) = next {
                     self.open_person(m, n, true);
                 }

@@ -1,4 +1,6 @@
-//! The Person pane: one person, their score parts, state, history and contacts.
+//! The Person pane: one person, their score parts, state, history, and their contacts or
+//! their chains (forward: whom the dates allow them to have exposed; backward: whom they met
+//! before onset).
 
 use ratatui::layout::{Constraint, Layout, Rect};
 use ratatui::text::{Line, Span};
@@ -9,6 +11,7 @@ use super::*;
 use crate::ingest::dates;
 use crate::tui::app::{App, PersonView};
 use crate::tui::model::Model;
+use crate::tui::state::PersonList;
 use crate::tui::theme::Theme;
 use crate::tui::ui::block;
 
@@ -34,7 +37,10 @@ pub fn render(frame: &mut Frame, area: Rect, _m: &Model, app: &App, th: &Theme) 
     render_about(frame, about, app, p, th);
     render_score(frame, score, p, th);
     render_state(frame, state, p, th);
-    render_contacts(frame, bottom, p, th);
+    match p.list {
+        PersonList::Contacts => render_contacts(frame, bottom, p, th),
+        _ => render_chains(frame, bottom, p, th),
+    }
 }
 
 /// Who the person is: rank, contacts, window and the people-table attributes.
@@ -192,7 +198,7 @@ fn render_contacts(frame: &mut Frame, area: Rect, p: &PersonView, th: &Theme) {
         )
         .block(block(
             format!(
-                "Contacts: {} · sorted by {}{} · Enter opens one",
+                "Contacts: {} · sorted by {}{} · Enter opens one · c: chains",
                 p.contacts.len(),
                 col.name(),
                 if desc {
@@ -204,5 +210,77 @@ fn render_contacts(frame: &mut Frame, area: Rect, p: &PersonView, th: &Theme) {
             th,
         )),
         area,
+    );
+}
+
+/// The person's forward chains or backward sources (c cycles), the selected one highlighted.
+fn render_chains(frame: &mut Frame, area: Rect, p: &PersonView, th: &Theme) {
+    let page = area.height.saturating_sub(4) as usize;
+    let forward = p.list == PersonList::Forward;
+    let rows: Vec<Row> = p
+        .chains
+        .iter()
+        .enumerate()
+        .skip(p.pos.offset)
+        .take(page)
+        .map(|(i, c)| {
+            let row = Row::new(vec![
+                c.id.clone(),
+                c.count.to_string(),
+                dates::iso(c.day),
+                c.contacts.to_string(),
+                c.listed.to_string(),
+                c.via.clone(),
+            ]);
+            if i == p.pos.selected {
+                row.style(th.selected)
+            } else {
+                row.style(th.text)
+            }
+        })
+        .collect();
+    let (count, day, via) = match forward {
+        true => ("gen", "earliest", "chain (who exposed whom, when)"),
+        false => ("cases", "met", "when"),
+    };
+    let [note, table] = Layout::vertical([Constraint::Length(1), Constraint::Min(3)]).areas(area);
+    frame.render_widget(
+        Paragraph::new(Line::from(Span::styled(
+            format!(" {}", p.chains_note),
+            th.dim,
+        ))),
+        note,
+    );
+    frame.render_widget(
+        Table::new(
+            rows,
+            [
+                Constraint::Length(12),
+                Constraint::Length(6),
+                Constraint::Length(11),
+                Constraint::Length(9),
+                Constraint::Length(15),
+                Constraint::Min(20),
+            ],
+        )
+        .header(Row::new(vec!["person", count, day, "contacts", "listed", via]).style(th.title))
+        .block(block(
+            format!(
+                "{}: {} · possible, not proven · Enter opens one · c: {}",
+                if forward {
+                    "Chains forward"
+                } else {
+                    "Sources backward"
+                },
+                p.chains.len(),
+                if forward {
+                    "sources backward"
+                } else {
+                    "contacts"
+                }
+            ),
+            th,
+        )),
+        table,
     );
 }
