@@ -75,7 +75,14 @@ impl Edges {
     /// Each distinct date span (first day, last day; inclusive) of pair `e`'s rows, sorted
     /// (none when no row of the pair is dated).
     pub fn day_spans(&self, e: usize) -> impl Iterator<Item = (i32, i32)> + '_ {
-        let (many, one) = match self.span_pairs.binary_search(&(e as u32)) {
+        // A pair of one row has one span: only pairs of several rows are looked up.
+        let several = self.rows[e] > 1 && !self.span_pairs.is_empty();
+        let found = if several {
+            self.span_pairs.binary_search(&(e as u32))
+        } else {
+            Err(0)
+        };
+        let (many, one) = match found {
             Ok(i) => (
                 &self.spans[self.span_off[i] as usize..self.span_off[i + 1] as usize],
                 None,

@@ -151,12 +151,14 @@ impl Listed {
     }
 }
 
-/// Per person: is a case, reference date (onset, else report date).
+/// Per person: is a case, reference date (onset, else report date); and everyone's exposures
+/// sorted by day, built on the first search from many people and kept for the next.
 pub struct People {
     /// Role is "case".
     pub is_case: Vec<bool>,
     /// Onset date, else report date.
     pub reference: Vec<Option<i32>>,
+    timeline: std::sync::OnceLock<chains::Timeline>,
 }
 
 impl People {
@@ -176,6 +178,7 @@ impl People {
             reference: (0..n)
                 .map(|i| day(onset, i).or_else(|| day(report, i)))
                 .collect(),
+            timeline: std::sync::OnceLock::new(),
         }
     }
 
@@ -260,10 +263,23 @@ pub fn seeds(people: &People, w: &Windows, nodes: &[u32]) -> (Vec<Seed>, usize) 
     (seeds, undated)
 }
 
+/// From more seeds than this, the search builds the day-sorted timeline of exposures first.
+const MANY_SEEDS: usize = 64;
+
 /// The walk from `nodes` under `w` (the raw reach, for callers that need only who).
 pub fn reach(d: &Dataset, people: &People, w: &Windows, nodes: &[u32]) -> (Reach, usize) {
     let (s, undated) = seeds(people, w, nodes);
-    (chains::forward(&d.graph, &d.edges, &s, &w.rules), undated)
+    // From a few people, walk their pairs; from many, sort everyone's exposures by day first.
+    let r = match s.len() > MANY_SEEDS {
+        true => {
+            let t = people
+                .timeline
+                .get_or_init(|| chains::Timeline::build(&d.graph, &d.edges));
+            chains::search(t, &s, &w.rules)
+        }
+        false => chains::forward(&d.graph, &d.edges, &s, &w.rules),
+    };
+    (r, undated)
 }
 
 /// Forward tracing from `nodes`.

@@ -13,7 +13,7 @@ use hubwatch::analysis::priority::PriorityConfig;
 use hubwatch::graph::{adjacency, Edges};
 use hubwatch::ingest::dates::iso;
 use hubwatch::ingest::reconcile::NO_DATE;
-use hubwatch::metrics::chains::{forward, Rules, Seed};
+use hubwatch::metrics::chains::{forward, forward_many, Rules, Seed};
 use proptest::prelude::*;
 
 use crate::common::{hubwatch, load};
@@ -435,8 +435,9 @@ proptest! {
         let seeds: Vec<Seed> = seeds.into_iter().filter(|s| seen.insert(s.node)).collect();
         let rules = Rules { min_gap, max_gap: min_gap + extra, generations };
         let (g, e) = edges_of(n, &events);
-        let reach = forward(&g, &e, &seeds, &rules);
         let want = brute(n, &events, &seeds, &rules);
+        // Both sources of exposures: the pairs walked directly, and the day-sorted timeline.
+        for reach in [forward(&g, &e, &seeds, &rules), forward_many(&g, &e, &seeds, &rules)] {
         for v in 0..n {
             let got = reach.earliest(v).map(|x| (x, reach.generation(v).unwrap()));
             prop_assert_eq!(got, want[v as usize], "node {}", v);
@@ -460,6 +461,7 @@ proptest! {
             } else {
                 prop_assert!(chain.is_empty());
             }
+        }
         }
     }
 }

@@ -27,10 +27,15 @@ pub fn run(direction: &ChainDirection) -> Result<()> {
         true => Some(ex::pseudonym_key(common.key_file.as_deref())?),
         false => None,
     };
+    let t = std::time::Instant::now();
+    let lap = |what: &str| crate::report::stage_lap("chains", what, t);
     let d = common.load.load()?;
+    lap("loaded");
     let people = People::of(&d);
+    lap("people read");
     let degrees = crate::graph::degrees(&d.graph);
     let gain = chains::gain(&d, &people, &w, &degrees);
+    lap("gain measured");
     let shown = Ids {
         d: &d,
         key: None,
@@ -48,11 +53,16 @@ pub fn run(direction: &ChainDirection) -> Result<()> {
                 false => chains::nodes_of(&d, &f.from_person)?,
             };
             let fw = chains::forward(&d, &people, &w, &nodes);
+            lap("forward done");
             let text = match common.json {
                 true => to_json(&rep::forward_json(&shown, &fw, &w, &gain))?,
                 false => rep::forward_text(&shown, &fw, &w, &gain, common.top),
             };
-            (text, rep::forward_table(&written, &fw), "forward")
+            let table = common
+                .out
+                .is_some()
+                .then(|| rep::forward_table(&written, &fw));
+            (text, table, "forward")
         }
         ChainDirection::Backward(b) => {
             let nodes = match b.to_cases {
@@ -60,14 +70,20 @@ pub fn run(direction: &ChainDirection) -> Result<()> {
                 false => chains::nodes_of(&d, &b.to_person)?,
             };
             let bw = chains::backward(&d, &people, &w, &nodes);
+            lap("backward done");
             let text = match common.json {
                 true => to_json(&rep::backward_json(&shown, &bw, &w, &gain))?,
                 false => rep::backward_text(&shown, &bw, &w, &gain, common.top),
             };
-            (text, rep::backward_table(&written, &bw), "backward")
+            let table = common
+                .out
+                .is_some()
+                .then(|| rep::backward_table(&written, &bw));
+            (text, table, "backward")
         }
     };
-    if let (Some(out), Some(format)) = (&common.out, format) {
+    lap("reported");
+    if let (Some(out), Some(format), Some(table)) = (&common.out, format, table) {
         let mut meta = rep::meta(&d, name, &w);
         if key.is_some() {
             meta = meta.with(
