@@ -334,10 +334,7 @@ pub fn search(x: &dyn Exposures, seeds: &[Seed], rules: &Rules) -> Reach {
     while let Some(Reverse(day)) = q.days.pop() {
         // Rounds of equal steps, fewest first; a round may add states of this day with one
         // more step, taken in a later round.
-        loop {
-            let Some(mut b) = q.bucket.remove(&day) else {
-                break;
-            };
+        while let Some(mut b) = q.bucket.remove(&day) {
             // A state may sit in the bucket more than once (improved since); its current
             // steps decide.
             let Some(low) = b.iter().map(|&s| r.steps[s as usize]).min() else {
@@ -382,9 +379,6 @@ pub fn search(x: &dyn Exposures, seeds: &[Seed], rules: &Rules) -> Reach {
                 x.within(u, lo, hi, &mut |v, t| {
                     q.offer(&mut r, (v, t, steps + 1, s, u))
                 });
-            }
-            if !q.bucket.contains_key(&day) {
-                break;
             }
         }
     }
