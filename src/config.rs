@@ -55,6 +55,18 @@ pub struct Config {
     pub input: InputConfig,
     /// The dashboard.
     pub dashboard: DashboardConfig,
+    /// The workspace.
+    pub workspace: WorkspaceConfig,
+}
+
+/// Workspace settings.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct WorkspaceConfig {
+    /// Snapshots of loads kept (the newest; at least 2).
+    pub keep_snapshots: usize,
+    /// Places at the top of the list whose entries and exits `changes` reports.
+    pub changes_top: usize,
 }
 
 /// Dashboard settings.

@@ -9,6 +9,7 @@
 
 pub mod casedata;
 pub mod chains;
+pub mod daywork;
 pub mod filters;
 pub mod planning;
 pub mod priority;

@@ -8,6 +8,7 @@
 pub mod brief;
 pub mod chains;
 pub mod check;
+pub mod daywork;
 pub mod figures;
 pub mod fmt;
 pub mod json;

@@ -15,6 +15,7 @@ use crate::error::{Error, Result};
 use crate::ids::IdMap;
 
 pub mod backup;
+pub mod snapshot;
 
 /// File name used beside the export when no `--workspace` is given.
 pub const DEFAULT_NAME: &str = "hubwatch-workspace.sqlite";
@@ -111,10 +112,20 @@ pub fn current_user() -> String {
         .unwrap_or_else(|_| "unknown".into())
 }
 
-fn now() -> String {
-    chrono::Utc::now()
-        .format("%Y-%m-%dT%H:%M:%S%.3fZ")
-        .to_string()
+/// The time written with each change and snapshot (UTC, RFC 3339 with milliseconds).
+/// `HUBWATCH_NOW` (an RFC 3339 time) stands in for the clock: scripted runs and tests replay
+/// days of work with it.
+pub fn now() -> String {
+    now_utc().format("%Y-%m-%dT%H:%M:%S%.3fZ").to_string()
+}
+
+/// The clock, or `HUBWATCH_NOW` when set to an RFC 3339 time.
+pub fn now_utc() -> chrono::DateTime<chrono::Utc> {
+    std::env::var("HUBWATCH_NOW")
+        .ok()
+        .and_then(|v| chrono::DateTime::parse_from_rfc3339(v.trim()).ok())
+        .map(|t| t.with_timezone(&chrono::Utc))
+        .unwrap_or_else(chrono::Utc::now)
 }
 
 impl Workspace {
@@ -149,7 +160,8 @@ impl Workspace {
             c.busy_timeout(std::time::Duration::from_secs(10))?;
             c.pragma_update(None, "journal_mode", "WAL")?;
             c.pragma_update(None, "synchronous", "FULL")?;
-            c.execute_batch(SCHEMA)
+            c.execute_batch(SCHEMA)?;
+            c.execute_batch(snapshot::SCHEMA)
         };
         init(&conn).map_err(|e| damage_or(path, e))?;
         let backup_problem = Self::daily_backup(&conn, path)?;

@@ -13,6 +13,7 @@ mod cases;
 mod chains;
 mod cli;
 mod dashboard;
+mod daywork;
 mod errors;
 mod export;
 mod figures;

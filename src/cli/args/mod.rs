@@ -18,8 +18,10 @@ use crate::sample;
 use crate::workspace::Workspace;
 
 mod chains;
+mod day;
 mod outputs;
 pub use chains::{BackwardArgs, ChainCommon, ChainDirection, ForwardArgs};
+pub use day::{ChangesArgs, DayArgs};
 pub use outputs::{
     BriefArgs, ExportArgs, FigureArgs, FigureFormat, FiguresArgs, ListKind, OutlookArgs,
 };
@@ -121,6 +123,14 @@ pub enum Command {
     Brief(BriefArgs),
     /// Write a list for the callers: the priority list, the flagged people, or the quarantine.
     Export(ExportArgs),
+    /// What changed since an earlier load of the export: people new and gone, people who
+    /// crossed the high-degree threshold, new bridges, clusters merged or split, new exposures
+    /// between known people, moves into and out of the top of the list.
+    Changes(ChangesArgs),
+    /// The day's work: windows ending today, tomorrow and within three days, overdue, people
+    /// with many contacts still to call, people unreachable for two days, and follow-up
+    /// progress over the last 14 days.
+    Today(DayArgs),
     /// Trace along dated exposures: forward from cases to whom they may have exposed (and
     /// those people's contacts), or backward from cases to where they may have been infected.
     Chains {

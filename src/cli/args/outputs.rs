@@ -189,4 +189,7 @@ pub enum ListKind {
     Quarantine,
     /// A sentinel sample: random people each replaced by one random contact (--sample, --seed).
     Sentinel,
+    /// The day's work: people whose window ends within 3 days, overdue, with many contacts
+    /// and not reached, or unreachable for 2 days, in list order, with why.
+    Today,
 }

@@ -50,6 +50,28 @@ pub fn run(e: &ExportArgs) -> Result<()> {
             };
             tables::sentinel_table(&ids, &picks, &st.degrees)
         }
+        ListKind::Today => {
+            // The day's work as of this load; exporting records no snapshot.
+            let (r, w) = crate::cli::commands::day::run_day(
+                d,
+                (&e.load, &e.rank, e.workspace.as_deref()),
+                false,
+                crate::analysis::daywork::Since::Loads(1),
+                None,
+            )?;
+            if let Some(list) = &r.list {
+                meta = meta.ranking(list);
+            }
+            let t = crate::cli::commands::day::today_table(&r, &w, key.as_deref());
+            let t = match e.top {
+                0 => t,
+                n => {
+                    let keep: Vec<usize> = (0..t.rows.len().min(n)).collect();
+                    t.subset(&keep)
+                }
+            };
+            return finish(e, t, meta, key.is_some(), &r.d, format, note);
+        }
         ListKind::Priority | ListKind::Flagged => {
             let r = Report::build(d, ranking_parts(&e.load, &e.rank, e.workspace.as_deref())?)?;
             let list = r.list.as_ref().expect("ranking asked for");

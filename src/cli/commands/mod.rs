@@ -5,6 +5,7 @@ pub mod brief;
 pub mod chains;
 pub mod check;
 pub mod dashboard;
+pub mod day;
 pub mod export;
 pub mod figures;
 pub mod outlook;
