@@ -90,13 +90,13 @@ pub struct Changes {
 
 /// Compare an earlier load with this one.
 pub fn compare(before: &Snapshot, now: &Snapshot, top: usize) -> Changes {
-    let idx_b: HashMap<&str, u32> = before
+    let idx_b: hashbrown::HashMap<&str, u32> = before
         .ids
         .iter()
         .enumerate()
         .map(|(i, s)| (s.as_str(), i as u32))
         .collect();
-    let idx_n: HashMap<&str, u32> = now
+    let idx_n: hashbrown::HashMap<&str, u32> = now
         .ids
         .iter()
         .enumerate()
@@ -131,8 +131,7 @@ pub fn compare(before: &Snapshot, now: &Snapshot, top: usize) -> Changes {
             .collect(),
     );
     let mark = |s: &Snapshot, i: u32, m: u8| s.marks[i as usize] & m != 0;
-    for i in 0..now.ids.len() {
-        let b = was[i];
+    for (i, &b) in was.iter().enumerate() {
         let (hub_now, bridge_now) = (
             mark(now, i as u32, HIGH_DEGREE),
             mark(now, i as u32, BRIDGE),
@@ -154,40 +153,55 @@ pub fn compare(before: &Snapshot, now: &Snapshot, top: usize) -> Changes {
     c.became_high_degree.sort();
     c.no_longer_high_degree.sort();
     c.new_bridges.sort();
-    // Pairs by ID-independent keys: before's pairs in before's indices; now's mapped back.
+    // Pairs in before's indices, both lists sorted, then merged: new pairs (now only) and
+    // lost ones (before only, both people still here).
     let key = |x: u32, y: u32| (x.min(y) as u64) << 32 | x.max(y) as u64;
-    let pairs_b: HashSet<u64> = before.pairs.iter().map(|&(x, y)| key(x, y)).collect();
-    let mut seen_now: HashSet<u64> = HashSet::with_capacity(now.pairs.len());
-    for &(x, y) in &now.pairs {
-        let (bx, by) = (was[x as usize], was[y as usize]);
-        if bx == u32::MAX || by == u32::MAX {
-            continue;
-        }
-        let k = key(bx, by);
-        seen_now.insert(k);
-        if !pairs_b.contains(&k) {
+    let sorted_keys = |mut k: Vec<u64>| {
+        let mut pos: Vec<u32> = (0..k.len() as u32).collect();
+        crate::sort::radix_sort_by_key(&mut k, &mut pos);
+        (k, pos)
+    };
+    let (kb, _) = sorted_keys(before.pairs.iter().map(|&(x, y)| key(x, y)).collect());
+    let known: Vec<u32> = (0..now.pairs.len() as u32)
+        .filter(|&i| {
+            let (x, y) = now.pairs[i as usize];
+            was[x as usize] != u32::MAX && was[y as usize] != u32::MAX
+        })
+        .collect();
+    let (kn, at) = sorted_keys(
+        known
+            .iter()
+            .map(|&i| {
+                let (x, y) = now.pairs[i as usize];
+                key(was[x as usize], was[y as usize])
+            })
+            .collect(),
+    );
+    let still = |b: u32| idx_n.contains_key(before.ids[b as usize].as_str());
+    let (mut i, mut j) = (0, 0);
+    while i < kb.len() || j < kn.len() {
+        if j == kn.len() || (i < kb.len() && kb[i] < kn[j]) {
+            let (x, y) = ((kb[i] >> 32) as u32, kb[i] as u32);
+            c.lost_exposures += usize::from(still(x) && still(y));
+            i += 1;
+        } else if i == kb.len() || kn[j] < kb[i] {
+            let (x, y) = now.pairs[known[at[j] as usize] as usize];
             let (p, q) = (now.ids[x as usize].clone(), now.ids[y as usize].clone());
             c.new_exposures.push(if p < q { (p, q) } else { (q, p) });
+            j += 1;
+        } else {
+            i += 1;
+            j += 1;
         }
     }
     c.new_exposures.sort();
-    c.lost_exposures = before
-        .pairs
-        .iter()
-        .filter(|&&(x, y)| {
-            let (a, b) = (&before.ids[x as usize], &before.ids[y as usize]);
-            idx_n.contains_key(a.as_str())
-                && idx_n.contains_key(b.as_str())
-                && !seen_now.contains(&key(x, y))
-        })
-        .count();
     clusters(before, now, &was, &mut c);
     top_moves(before, now, &was, &idx_n, &mut c);
     c
 }
 
-fn sizes(s: &Snapshot) -> HashMap<u32, usize> {
-    let mut m = HashMap::new();
+fn sizes(s: &Snapshot) -> hashbrown::HashMap<u32, usize> {
+    let mut m = hashbrown::HashMap::new();
     for &l in &s.component {
         *m.entry(l).or_insert(0) += 1;
     }
@@ -260,14 +274,14 @@ fn top_moves(
     before: &Snapshot,
     now: &Snapshot,
     was: &[u32],
-    idx_n: &HashMap<&str, u32>,
+    idx_n: &hashbrown::HashMap<&str, u32>,
     c: &mut Changes,
 ) {
     let top = c.top as u32;
     let in_top = |r: u32| r >= 1 && r <= top;
-    for i in 0..now.ids.len() {
+    for (i, &b) in was.iter().enumerate() {
         let rn = now.rank[i];
-        let rb = match was[i] {
+        let rb = match b {
             u32::MAX => 0,
             b => before.rank[b as usize],
         };
@@ -296,11 +310,7 @@ pub enum Since {
 }
 
 /// The earlier snapshot `since` names, among `stored` (oldest first), `current` excluded.
-pub fn pick<'a>(
-    stored: &'a [SnapshotInfo],
-    current: i64,
-    since: Since,
-) -> Option<&'a SnapshotInfo> {
+pub fn pick(stored: &[SnapshotInfo], current: i64, since: Since) -> Option<&SnapshotInfo> {
     let earlier: Vec<&SnapshotInfo> = stored.iter().filter(|s| s.id < current).collect();
     match since {
         Since::Loads(n) => earlier.len().checked_sub(n.max(1)).map(|i| earlier[i]),
@@ -405,15 +415,58 @@ impl Today {
     }
 }
 
+/// What today's counts read of one entry of the list (a light copy, so that a worker can
+/// count without the list).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Due {
+    /// Node.
+    pub node: u32,
+    /// Days from the as-of date to the window end.
+    pub days_left: Option<i32>,
+    /// Window over, follow-up not completed.
+    pub overdue: bool,
+    /// Above the hub threshold.
+    pub high_degree: bool,
+}
+
+/// The list as [`Due`] entries, in list order.
+pub fn dues(ranked: &[Ranked]) -> Vec<Due> {
+    ranked
+        .iter()
+        .map(|r| Due {
+            node: r.node,
+            days_left: r.days_left,
+            overdue: r.overdue,
+            high_degree: r.high_degree,
+        })
+        .collect()
+}
+
 /// What a follow-up state means here (workspace first, then the export's column).
-fn state_of<'a>(d: &'a Dataset, states: &'a HashMap<&str, &PersonState>, v: u32) -> Option<String> {
-    match states.get(d.ids.name(v)).and_then(|s| s.followup.clone()) {
-        Some(f) => Some(f.to_lowercase()),
-        None => d
-            .attrs
-            .get("followup_status", v)
-            .map(|x| x.trim().to_lowercase()),
-    }
+/// `column` is the people table's `followup_status` column, if any. No allocation: the
+/// states compare without case.
+fn state_of<'a>(
+    d: &'a Dataset,
+    states: &'a hashbrown::HashMap<&str, &PersonState>,
+    column: Option<usize>,
+    v: u32,
+) -> Option<&'a str> {
+    let ws = match states.is_empty() {
+        true => None,
+        false => states
+            .get(d.ids.name(v))
+            .and_then(|s| s.followup.as_deref()),
+    };
+    ws.or_else(|| {
+        column
+            .and_then(|c| d.attrs.values[c].get(v as usize))
+            .and_then(|x| x.as_deref())
+            .map(str::trim)
+    })
+}
+
+fn is(state: Option<&str>, words: &[&str]) -> bool {
+    state.is_some_and(|s| words.iter().any(|w| s.eq_ignore_ascii_case(w)))
 }
 
 fn time(s: &str) -> Option<DateTime<Utc>> {
@@ -426,39 +479,37 @@ fn time(s: &str) -> Option<DateTime<Utc>> {
 /// `first_seen` the first-seen times by ID; `now` the time the time-based counts use.
 pub fn today(
     d: &Dataset,
-    ranked: &[Ranked],
+    ranked: &[Due],
     states: &[PersonState],
     audit: &[Change],
     first_seen: &HashMap<String, String>,
     now: DateTime<Utc>,
 ) -> Today {
-    let by_id: HashMap<&str, &PersonState> =
+    let by_id: hashbrown::HashMap<&str, &PersonState> =
         states.iter().map(|s| (s.person_id.as_str(), s)).collect();
+    let column = d.attrs.column("followup_status");
     let mut t = Today {
         as_of: d.as_of,
         now: now.format("%Y-%m-%dT%H:%M:%SZ").to_string(),
         ..Today::default()
     };
     for r in ranked {
-        let st = state_of(d, &by_id, r.node);
-        let done = matches!(st.as_deref(), Some("completed" | "complete"));
         if r.overdue {
             t.overdue.push(r.node);
         }
-        if !done {
+        let due = matches!(r.days_left, Some(0..=3));
+        if !due && !r.high_degree {
+            continue;
+        }
+        let st = state_of(d, &by_id, column, r.node);
+        if due && !is(st, &["completed", "complete"]) {
             match r.days_left {
                 Some(0) => t.ending_today.push(r.node),
                 Some(1) => t.ending_tomorrow.push(r.node),
-                Some(2 | 3) => t.ending_in_3_days.push(r.node),
-                _ => {}
+                _ => t.ending_in_3_days.push(r.node),
             }
         }
-        if r.high_degree
-            && !matches!(
-                st.as_deref(),
-                Some("reached" | "completed" | "complete" | "unreachable")
-            )
-        {
+        if r.high_degree && !is(st, &["reached", "completed", "complete", "unreachable"]) {
             t.hubs_to_call.push(r.node);
         }
     }
@@ -487,20 +538,25 @@ pub fn today(
             }
         }
     }
-    for r in ranked {
-        let id = d.ids.name(r.node);
-        if by_id
-            .get(id)
-            .and_then(|s| s.followup.as_deref())
-            .is_some_and(|f| f == "unreachable")
-        {
-            if let Some(at) = since.get(id) {
-                if time(at).is_some_and(|x| now - x >= Duration::hours(48)) {
-                    t.unreachable_2_days.push((r.node, at.to_string()));
-                }
-            }
+    // Unreachable in the workspace since at least 48 hours, in list order.
+    let mut pos: Vec<u32> = Vec::new();
+    let mut un: Vec<(u32, String)> = states
+        .iter()
+        .filter(|s| s.followup.as_deref() == Some("unreachable"))
+        .filter_map(|s| {
+            let at = since.get(s.person_id.as_str())?;
+            let long = time(at).is_some_and(|x| now - x >= Duration::hours(48));
+            Some((d.ids.get(&s.person_id)?, at.to_string())).filter(|_| long)
+        })
+        .collect();
+    if !un.is_empty() {
+        pos = vec![u32::MAX; d.people()];
+        for (i, r) in ranked.iter().enumerate() {
+            pos[r.node as usize] = i as u32;
         }
     }
+    un.sort_by_key(|(v, _)| pos[*v as usize]);
+    t.unreachable_2_days = un;
     // Per day, and progress per group.
     t.days = (0..14)
         .map(|i| DayCount {
@@ -509,37 +565,32 @@ pub fn today(
         })
         .collect();
     let area = d.attrs.column("area");
-    let group_area = |v: u32| -> String {
+    let group_area = |v: u32| -> &str {
         area.and_then(|c| d.attrs.values[c].get(v as usize).and_then(|x| x.as_deref()))
-            .map_or("(none)".to_string(), |x| x.trim().to_string())
+            .map_or("(none)", |x| x.trim())
     };
-    let settings_of = |v: u32| -> Vec<String> {
-        let mut s: Vec<String> = d
-            .graph
-            .edges_slice(v)
-            .iter()
-            .flat_map(|&e| {
-                d.edges
-                    .settings(e as usize)
-                    .iter()
-                    .map(|&c| d.settings[c as usize - 1].clone())
-            })
-            .collect();
-        s.sort();
-        s.dedup();
-        s
-    };
-    let mut by_area: BTreeMap<String, Progress> = BTreeMap::new();
-    let mut by_setting: BTreeMap<String, Progress> = BTreeMap::new();
+    // Setting codes of a person's exposures, in a buffer reused from person to person.
+    let mut codes: Vec<u16> = Vec::new();
+    let mut by_area: hashbrown::HashMap<&str, Progress> = hashbrown::HashMap::new();
+    let mut by_code: hashbrown::HashMap<u16, Progress> = hashbrown::HashMap::new();
     let mut add = |v: u32, f: &dyn Fn(&mut Progress)| {
         f(&mut t.all);
         f(by_area.entry(group_area(v)).or_default());
-        for s in settings_of(v) {
-            f(by_setting.entry(s).or_default());
+        codes.clear();
+        for &e in d.graph.edges_slice(v) {
+            codes.extend_from_slice(d.edges.settings(e as usize));
+        }
+        codes.sort_unstable();
+        codes.dedup();
+        for &c in codes.iter() {
+            f(by_code.entry(c).or_default());
         }
     };
+    // Loads are few: each first-seen time is parsed once.
+    let mut parsed: hashbrown::HashMap<&str, Option<DateTime<Utc>>> = hashbrown::HashMap::new();
     for (id, at) in first_seen {
-        let (Some(v), Some(seen)) = (d.ids.get(id), time(at)) else {
+        let seen = *parsed.entry(at.as_str()).or_insert_with(|| time(at));
+        let (Some(v), Some(seen)) = (d.ids.get(id), seen) else {
             continue;
         };
         let day = dates::to_days(seen.date_naive());
@@ -576,8 +627,18 @@ pub fn today(
             });
         }
     }
-    t.by_area = by_area.into_iter().collect();
-    t.by_setting = by_setting.into_iter().collect();
+    let mut areas: Vec<(String, Progress)> = by_area
+        .into_iter()
+        .map(|(k, p)| (k.to_string(), p))
+        .collect();
+    areas.sort_by(|a, b| a.0.cmp(&b.0));
+    let mut settings: Vec<(String, Progress)> = by_code
+        .into_iter()
+        .map(|(c, p)| (d.settings[c as usize - 1].clone(), p))
+        .collect();
+    settings.sort_by(|a, b| a.0.cmp(&b.0));
+    t.by_area = areas;
+    t.by_setting = settings;
     t
 }
 
@@ -613,6 +674,25 @@ pub struct DayRequest<'a> {
     pub record: bool,
 }
 
+/// What the day's work reads of a loaded and ranked export, taken before the work starts
+/// (cheap; the rest can run on a worker with the dataset alone).
+pub struct DayInput {
+    /// This load's snapshot.
+    pub snap: Snapshot,
+    /// The list, lightly.
+    pub dues: Vec<Due>,
+}
+
+impl DayInput {
+    /// Take it from the statistics and the whole list.
+    pub fn of(d: &Dataset, stats: &NetworkStats, ranked: &[Ranked]) -> DayInput {
+        DayInput {
+            snap: snapshot_of(d, stats, ranked),
+            dues: dues(ranked),
+        }
+    }
+}
+
 /// Record this load (when asked), compare it with the earlier one, and count today's work.
 pub fn day_work(
     d: &Dataset,
@@ -620,43 +700,94 @@ pub fn day_work(
     ranked: &[Ranked],
     req: &DayRequest,
 ) -> crate::error::Result<DayWork> {
+    day_work_from(d, DayInput::of(d, stats, ranked), req)
+}
+
+/// The same from a [`DayInput`].
+pub fn day_work_from(
+    d: &Dataset,
+    input: DayInput,
+    req: &DayRequest,
+) -> crate::error::Result<DayWork> {
     use crate::workspace::Workspace;
-    let snap = snapshot_of(d, stats, ranked);
+    let t0 = std::time::Instant::now();
+    let lap = |what: &str| {
+        if std::env::var_os("HUBWATCH_STAGES").is_some() {
+            eprintln!("day's work: {what} at {:.3} s", t0.elapsed().as_secs_f64());
+        }
+    };
+    let DayInput { snap, dues } = input;
+    lap("snapshot made");
     let as_of = dates::iso(d.as_of);
-    let exists = req.workspace.exists();
-    let mut ws = match (exists, req.record) {
+    let mut ws = match (req.workspace.exists(), req.record) {
         (false, false) => None,
         _ => Some(Workspace::open(req.workspace)?),
-    };
-    let (info, recorded) = match (&mut ws, req.record) {
-        (Some(w), true) => {
-            let (i, new) = w.record_snapshot(&snap, &as_of, &req.inputs, req.keep)?;
-            (Some(i), new)
-        }
-        _ => (None, false),
     };
     let stored = match &ws {
         Some(w) => w.snapshots()?,
         None => Vec::new(),
     };
-    let current = info.as_ref().map_or(i64::MAX, |i| i.id);
+    // The same load already stored (same inputs, as-of date and people) stands for this one.
+    let same = stored
+        .last()
+        .filter(|l| l.inputs == req.inputs && l.as_of == as_of && l.people == snap.ids.len() as i64)
+        .cloned();
+    let current = same.as_ref().map_or(i64::MAX, |s| s.id);
     let earlier = pick(&stored, current, req.since).cloned();
-    let changes = match (&ws, &earlier) {
-        (Some(w), Some(e)) => Some(compare(&w.snapshot(e.id)?, &snap, req.top)),
-        _ => None,
+    let record = req.record && same.is_none();
+    // The body is compressed on another core while the earlier load is read and compared.
+    let (body, changes) = std::thread::scope(|sc| -> crate::error::Result<_> {
+        let body = sc.spawn(|| record.then(|| snap.encode()));
+        let changes = match (&ws, &earlier) {
+            (Some(w), Some(e)) => {
+                let before = w.snapshot(e.id)?;
+                lap("earlier snapshot read");
+                Some(compare(&before, &snap, req.top))
+            }
+            _ => None,
+        };
+        let body = body.join().unwrap_or_else(|p| std::panic::resume_unwind(p));
+        Ok((body, changes))
+    })?;
+    lap("compared");
+    let info = match (&mut ws, body) {
+        (Some(w), Some(body)) => {
+            // Only people new since the newest stored load can be missing from first_seen
+            // (every recorded load adds its people); without one, everyone is offered.
+            let latest_compared = earlier.as_ref().map(|e| e.id) == stored.last().map(|l| l.id);
+            let all: Box<dyn Iterator<Item = &str>> = match (&changes, latest_compared) {
+                (Some(c), true) => Box::new(c.new_people.iter().map(|s| s.as_str())),
+                _ => Box::new(snap.ids.iter().map(|s| s.as_str())),
+            };
+            let meta = (
+                as_of.as_str(),
+                req.inputs.as_str(),
+                snap.ids.len(),
+                snap.pairs.len(),
+            );
+            Some(w.record_snapshot(&body, meta, all, req.keep)?)
+        }
+        _ => same,
     };
+    let recorded = record && info.is_some();
+    lap("snapshot recorded");
+    let since = (crate::workspace::now_utc() - Duration::days(15))
+        .format("%Y-%m-%dT%H:%M:%S%.3fZ")
+        .to_string();
     let (states, audit, first_seen) = match &ws {
-        Some(w) => (w.all()?, w.audit(None)?, w.first_seen()?),
+        Some(w) => (w.all()?, w.audit(None)?, w.first_seen(&since)?),
         None => Default::default(),
     };
+    lap("workspace read");
     let today = today(
         d,
-        ranked,
+        &dues,
         &states,
         &audit,
         &first_seen,
         crate::workspace::now_utc(),
     );
+    lap("today counted");
     Ok(DayWork {
         snapshot: info,
         recorded,

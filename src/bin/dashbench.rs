@@ -148,6 +148,7 @@ fn open_with(dir: &Path, ws_dir: &Path, columns: &[String]) -> (std::sync::Arc<M
             ws_dir.join("ws.sqlite"),
             ws_dir.to_path_buf(),
             &config.dashboard,
+            &config.workspace,
         )
         .expect("model"),
     );

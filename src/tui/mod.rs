@@ -95,6 +95,7 @@ pub fn prepare(start: &Start) -> Result<(Model, App)> {
         ws_path,
         export_dir,
         &start.config.dashboard,
+        &start.config.workspace,
     )?;
     let app = App::new(&model, states);
     Ok((model, app))

@@ -4,6 +4,7 @@
 use std::path::PathBuf;
 use std::sync::{Arc, OnceLock};
 
+use crate::analysis::daywork::{day_work_from, DayInput, DayRequest, DayWork, Since};
 use crate::analysis::filters::FilterIndex;
 use crate::analysis::planning::{Plan, PlanOptions, Strategy};
 use crate::analysis::priority::{cap, scale_by, Preset, Ranked, COMPONENTS};
@@ -149,6 +150,9 @@ pub struct Model {
     /// Who is a case and each person's onset (else report) date, read the first time the
     /// Person pane shows chains.
     pub chain_people: OnceLock<crate::analysis::chains::People>,
+    /// The day's work (this load recorded, compared with the previous one; what is due
+    /// today), computed on a worker after the first frame; empty until done.
+    pub day: Arc<OnceLock<std::result::Result<DayWork, String>>>,
 }
 
 impl Model {
@@ -175,6 +179,7 @@ impl Model {
         workspace_path: PathBuf,
         export_dir: PathBuf,
         dash: &crate::config::DashboardConfig,
+        work: &crate::config::WorkspaceConfig,
     ) -> Result<Model> {
         let t = std::time::Instant::now();
         // Everything but the null model now; the null model on a background thread.
@@ -230,14 +235,38 @@ impl Model {
         // them.
         let null = background_null_model(&d, &stats.degrees);
         let input_hashes = Arc::new(OnceLock::new());
+        let day = Arc::new(OnceLock::new());
         {
+            // The inputs' checksums, then the day's work (it records this load's snapshot in
+            // the workspace and compares it with the previous one).
             let (cell, paths) = (
                 Arc::clone(&input_hashes),
                 crate::report::meta::input_paths(&d),
             );
+            let input = DayInput::of(&d, &stats, &list.ranked);
+            let (day_cell, dd, ws) = (Arc::clone(&day), Arc::clone(&d), workspace_path.clone());
+            let (keep, top) = (work.keep_snapshots, work.changes_top);
             std::thread::spawn(move || {
-                let _ =
-                    cell.set(crate::report::meta::input_hashes(&paths).map_err(|e| e.to_string()));
+                let hashes = crate::report::meta::input_hashes(&paths).map_err(|e| e.to_string());
+                let inputs = match (&hashes, paths.is_empty()) {
+                    (_, true) => "built-in sample".to_string(),
+                    (Ok(h), false) => h
+                        .iter()
+                        .map(|x| x.clone().unwrap_or_default())
+                        .collect::<Vec<_>>()
+                        .join(","),
+                    (Err(e), false) => format!("unreadable: {e}"),
+                };
+                let _ = cell.set(hashes);
+                let req = DayRequest {
+                    workspace: &ws,
+                    inputs,
+                    since: Since::Loads(1),
+                    top,
+                    keep,
+                    record: true,
+                };
+                let _ = day_cell.set(day_work_from(&dd, input, &req).map_err(|e| e.to_string()));
             });
         }
         let plan_reach = plan_options.max_reach;
@@ -262,6 +291,7 @@ impl Model {
             null,
             input_hashes,
             chain_people: OnceLock::new(),
+            day,
             stats,
             d,
         })
@@ -269,7 +299,10 @@ impl Model {
 
     /// Wait until the background work is done (tests and benchmarks).
     pub fn wait_background(&self) {
-        while self.null.get().is_none() || self.plan_cell.get().is_none() {
+        while self.null.get().is_none()
+            || self.plan_cell.get().is_none()
+            || self.day.get().is_none()
+        {
             std::thread::sleep(std::time::Duration::from_millis(5));
         }
     }

@@ -168,24 +168,16 @@ fn info_row(r: &rusqlite::Row) -> rusqlite::Result<SnapshotInfo> {
 }
 
 impl Workspace {
-    /// Record `snap` as the newest load, unless the newest stored one has the same inputs and
-    /// as-of date (then that one stands). People not seen before get their first-seen time.
-    /// Keeps the newest `keep` snapshots (at least 2). Returns the snapshot's header and
-    /// whether it is new.
-    pub fn record_snapshot(
+    /// Store a snapshot body (from [`Snapshot::encode`]) as the newest load, give the people
+    /// in `first_seen` (IDs not seen in an earlier load; others are left as they are) this
+    /// load's time, and keep the newest `keep` snapshots (at least 2). One transaction.
+    pub fn record_snapshot<'a>(
         &mut self,
-        snap: &Snapshot,
-        as_of: &str,
-        inputs: &str,
+        body: &[u8],
+        (as_of, inputs, people, pairs): (&str, &str, usize, usize),
+        first_seen: impl Iterator<Item = &'a str>,
         keep: usize,
-    ) -> Result<(SnapshotInfo, bool)> {
-        if let Some(last) = self.snapshots()?.pop() {
-            if last.inputs == inputs && last.as_of == as_of && last.people == snap.ids.len() as i64
-            {
-                return Ok((last, false));
-            }
-        }
-        let body = snap.encode();
+    ) -> Result<SnapshotInfo> {
         let at = now();
         let path = self.path.clone();
         let tx = self
@@ -194,7 +186,7 @@ impl Workspace {
             .map_err(db_err(&path))?;
         tx.execute(
             "INSERT INTO snapshot (at, as_of, inputs, people, pairs, body) VALUES (?1, ?2, ?3, ?4, ?5, ?6)",
-            params![at, as_of, inputs, snap.ids.len() as i64, snap.pairs.len() as i64, body],
+            params![at, as_of, inputs, people as i64, pairs as i64, body],
         )
         .map_err(db_err(&path))?;
         let id = tx.last_insert_rowid();
@@ -202,7 +194,7 @@ impl Workspace {
             let mut ins = tx
                 .prepare("INSERT OR IGNORE INTO first_seen (person_id, at, snapshot) VALUES (?1, ?2, ?3)")
                 .map_err(db_err(&path))?;
-            for p in &snap.ids {
+            for p in first_seen {
                 ins.execute(params![p, at, id]).map_err(db_err(&path))?;
             }
         }
@@ -212,15 +204,14 @@ impl Workspace {
         )
         .map_err(db_err(&path))?;
         tx.commit().map_err(db_err(&path))?;
-        let info = SnapshotInfo {
+        Ok(SnapshotInfo {
             id,
             at,
             as_of: as_of.to_string(),
             inputs: inputs.to_string(),
-            people: snap.ids.len() as i64,
-            pairs: snap.pairs.len() as i64,
-        };
-        Ok((info, true))
+            people: people as i64,
+            pairs: pairs as i64,
+        })
     }
 
     /// The stored snapshots' headers, oldest first.
@@ -254,14 +245,15 @@ impl Workspace {
         })
     }
 
-    /// When each person was first seen in a load (UTC, RFC 3339).
-    pub fn first_seen(&self) -> Result<HashMap<String, String>> {
+    /// When each person first seen at or after `since` (UTC, RFC 3339; "" for everyone) was
+    /// first seen in a load.
+    pub fn first_seen(&self, since: &str) -> Result<HashMap<String, String>> {
         let mut st = self
             .conn
-            .prepare("SELECT person_id, at FROM first_seen")
+            .prepare("SELECT person_id, at FROM first_seen WHERE at >= ?1")
             .map_err(db_err(&self.path))?;
         let rows = st
-            .query_map([], |r| Ok((r.get(0)?, r.get(1)?)))
+            .query_map(params![since], |r| Ok((r.get(0)?, r.get(1)?)))
             .map_err(db_err(&self.path))?;
         rows.collect::<rusqlite::Result<HashMap<_, _>>>()
             .map_err(db_err(&self.path))

@@ -13,11 +13,15 @@ use ratatui::backend::TestBackend;
 use ratatui::Terminal;
 
 fn setup(dir: &std::path::Path) -> (Model, App) {
+    setup_as_of(dir, "2026-11-28")
+}
+
+fn setup_as_of(dir: &std::path::Path, as_of: &str) -> (Model, App) {
     let ws = dir.join("ws.sqlite");
     let cli = hubwatch::cli::Cli::parse_from([
         "hubwatch",
         "--as-of",
-        "2026-11-28",
+        as_of,
         "--workspace",
         ws.to_str().unwrap(),
     ]);
@@ -666,4 +670,59 @@ fn person_pane_walks_along_chains_forward_and_backward() {
         app.person.as_ref().unwrap().list,
         hubwatch::tui::state::PersonList::Contacts
     );
+}
+
+/// The Overview's lower half: the day's work and what changed since the last load, as the
+/// command line counts them (`today` and `changes`, tested against counts made by hand in
+/// `daywork.rs`), on two loads of the sample a day apart in one workspace.
+#[test]
+fn overview_shows_the_days_work_and_the_changes_since_the_last_load() {
+    let dir = tempfile::tempdir().unwrap();
+    let (m1, _) = setup_as_of(dir.path(), "2026-11-27");
+    let first = m1.day.get().unwrap().as_ref().unwrap().clone();
+    assert!(first.recorded && first.earlier.is_none());
+    drop(m1);
+    let (m, app) = setup_as_of(dir.path(), "2026-11-28");
+    let w = m.day.get().unwrap().as_ref().unwrap();
+    assert!(w.recorded);
+    assert_eq!(w.earlier.as_ref().unwrap().as_of, "2026-11-27");
+    let s = text(&m, &app, dir.path());
+    let c = w.changes.as_ref().unwrap();
+    assert!(
+        s.contains(&format!(
+            "into the top {} {} · out {}",
+            c.top,
+            c.into_top.len(),
+            c.out_of_top.len()
+        )),
+        "{s}"
+    );
+    let t = &w.today;
+    assert!(
+        s.contains(&format!(
+            "monitoring ends today {} · tomorrow {} · in 2-3 days {}",
+            t.ending_today.len(),
+            t.ending_tomorrow.len(),
+            t.ending_in_3_days.len()
+        )),
+        "{s}"
+    );
+    // The same counts as `hubwatch today --no-record` on the same workspace and date.
+    let (code, out, err) = crate::common::hubwatch(&[
+        "today",
+        "--as-of",
+        "2026-11-28",
+        "--no-record",
+        "--json",
+        "--workspace",
+        dir.path().join("ws.sqlite").to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_eq!(j["overdue"].as_array().unwrap().len(), t.overdue.len());
+    assert_eq!(
+        j["hubs_to_call"].as_array().unwrap().len(),
+        t.hubs_to_call.len()
+    );
+    insta::assert_snapshot!("overview_two_loads", s);
 }

@@ -15,6 +15,7 @@ use std::path::Path;
 use serde_json::Value;
 
 type Table = (Vec<String>, Vec<Vec<String>>);
+type Load = (BTreeSet<String>, BTreeSet<(String, String)>, Vec<String>);
 
 fn read(path: &Path) -> Table {
     let text = std::fs::read_to_string(path).unwrap();
@@ -242,7 +243,8 @@ fn three_loads_changes_and_today_match_counts_made_here() {
         col(&exposures, "target_id"),
         col(&exposures, "exposure_date"),
     );
-    let mut loads: Vec<(BTreeSet<String>, BTreeSet<(String, String)>, Vec<String>)> = Vec::new();
+    // Per load: people, pairs, the list's IDs in rank order.
+    let mut loads: Vec<Load> = Vec::new();
     let as_of = ["2026-11-20", "2026-11-21", "2026-11-22"];
     let times = [
         "2026-11-20T08:00:00Z",

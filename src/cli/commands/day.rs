@@ -19,12 +19,15 @@ pub fn run_day(
     top: Option<usize>,
 ) -> Result<(Report, DayWork)> {
     let config = load.config()?;
+    let t0 = std::time::Instant::now();
+    let lap = |what: &str| crate::report::stage_lap("day", what, t0);
     let mut parts = ranking_parts(load, rank, workspace)?;
     if let Some(req) = parts.rank.as_mut() {
         req.filters = Default::default();
         req.cluster_of = None;
     }
     let r = Report::build(d, parts)?;
+    lap("statistics and list");
     let paths = meta::input_paths(&r.d);
     let inputs = match paths.is_empty() {
         true => "built-in sample".to_string(),
@@ -34,6 +37,7 @@ pub fn run_day(
             .collect::<Vec<_>>()
             .join(","),
     };
+    lap("inputs hashed");
     let req = DayRequest {
         workspace: &load.workspace(workspace),
         inputs,

@@ -1,10 +1,12 @@
-//! The Overview pane: what was loaded (files, rows, network) and the headline figures.
+//! The Overview pane: what was loaded (files, rows, network), the headline figures, and the
+//! day's work: what is due today and what changed since the last load.
 
 use ratatui::layout::{Constraint, Layout, Rect};
 use ratatui::text::{Line, Span};
 use ratatui::widgets::{Paragraph, Wrap};
 use ratatui::Frame;
 
+use crate::analysis::daywork::DayWork;
 use crate::ingest::dates;
 use crate::report::fmt::{pct, plus_minus_short, short as f};
 use crate::tui::app::App;
@@ -15,8 +17,116 @@ use crate::tui::ui::block;
 pub fn render(frame: &mut Frame, area: Rect, m: &Model, _app: &App, th: &Theme) {
     let [left, right] =
         Layout::horizontal([Constraint::Percentage(50), Constraint::Percentage(50)]).areas(area);
-    render_loaded(frame, left, m, th);
-    render_figures(frame, right, m, th);
+    let split = |a: Rect| Layout::vertical([Constraint::Length(23), Constraint::Min(6)]).areas(a);
+    let ([loaded, today], [figures, changes]) = (split(left), split(right));
+    render_loaded(frame, loaded, m, th);
+    render_figures(frame, figures, m, th);
+    render_day(frame, (today, changes), m, th);
+}
+
+/// The day's work (left) and the changes since the last load (right), once the worker has
+/// counted them.
+fn render_day(frame: &mut Frame, (left, right): (Rect, Rect), m: &Model, th: &Theme) {
+    let (today, changes) = match m.day.get() {
+        None => {
+            let wait = vec![Line::from(Span::styled("  computing …", th.dim))];
+            (wait.clone(), wait)
+        }
+        Some(Err(e)) => {
+            let err = vec![Line::from(Span::styled(format!("  {e}"), th.warn))];
+            (err.clone(), err)
+        }
+        Some(Ok(w)) => (today_lines(w, th), change_lines(w, th)),
+    };
+    frame.render_widget(
+        Paragraph::new(today)
+            .wrap(Wrap { trim: false })
+            .block(block(
+                "The day's work (at load; `hubwatch today` lists it)".into(),
+                th,
+            )),
+        left,
+    );
+    frame.render_widget(
+        Paragraph::new(changes)
+            .wrap(Wrap { trim: false })
+            .block(block("Since the last load (`hubwatch changes`)".into(), th)),
+        right,
+    );
+}
+
+fn share(a: usize, b: usize) -> String {
+    match b {
+        0 => "–".into(),
+        _ => format!("{:.0}% ({a} of {b})", 100.0 * a as f64 / b as f64),
+    }
+}
+
+fn today_lines(w: &DayWork, th: &Theme) -> Vec<Line<'static>> {
+    let t = &w.today;
+    vec![
+        Line::from(format!(
+            "  monitoring ends today {} · tomorrow {} · in 2-3 days {}",
+            t.ending_today.len(),
+            t.ending_tomorrow.len(),
+            t.ending_in_3_days.len()
+        )),
+        Line::from(format!(
+            "  overdue {} · many contacts, not reached {} · unreachable 2+ days {}",
+            t.overdue.len(),
+            t.hubs_to_call.len(),
+            t.unreachable_2_days.len()
+        )),
+        Line::from(format!(
+            "  reached within 24 h of first appearing: {}",
+            share(t.all.reached_24, t.all.seen_24)
+        )),
+        Line::from(format!(
+            "  within 48 h: {} · last 14 days reached {} · completed {}",
+            share(t.all.reached_48, t.all.seen_48),
+            t.all.reached,
+            t.all.completed
+        )),
+        Line::from(Span::styled(
+            "  windows end: not completed; to call: high-degree, not reached or unreachable; times from the audit",
+            th.dim,
+        )),
+    ]
+}
+
+fn change_lines(w: &DayWork, th: &Theme) -> Vec<Line<'static>> {
+    let (Some(e), Some(c)) = (&w.earlier, &w.changes) else {
+        return vec![Line::from(Span::styled(
+            "  nothing to compare with yet: this is the first load recorded here",
+            th.dim,
+        ))];
+    };
+    vec![
+        Line::from(Span::styled(
+            format!("  compared with load {} (as of {})", e.id, e.as_of),
+            th.dim,
+        )),
+        Line::from(format!(
+            "  new people {} · gone {} · new exposures between known people {}",
+            c.new_people.len(),
+            c.gone.len(),
+            c.new_exposures.len()
+        )),
+        Line::from(format!(
+            "  became high-degree {} · no longer {} · new bridges {}",
+            c.became_high_degree.len(),
+            c.no_longer_high_degree.len(),
+            c.new_bridges.len()
+        )),
+        Line::from(format!(
+            "  clusters merged {} · split {} · into the top {} {} · out {}",
+            c.merged.len(),
+            c.split.len(),
+            c.top,
+            c.into_top.len(),
+            c.out_of_top.len()
+        )),
+    ]
 }
 
 /// Files, rows and the network, with the caution.
