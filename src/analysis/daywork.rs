@@ -569,7 +569,23 @@ pub fn today(
         area.and_then(|c| d.attrs.values[c].get(v as usize).and_then(|x| x.as_deref()))
             .map_or("(none)", |x| x.trim())
     };
-    // Setting codes of a person's exposures, in a buffer reused from person to person.
+    // Each person's settings as a bit mask, in one pass over the pairs (codes past 64 are
+    // looked up person by person).
+    let mut mask = vec![0u64; d.people()];
+    let many = d.settings.len() > 64;
+    if !many {
+        for e in 0..d.edges.len() {
+            let m = d
+                .edges
+                .settings(e)
+                .iter()
+                .fold(0u64, |m, &c| m | 1 << (c - 1));
+            if m != 0 {
+                mask[d.edges.a[e] as usize] |= m;
+                mask[d.edges.b[e] as usize] |= m;
+            }
+        }
+    }
     let mut codes: Vec<u16> = Vec::new();
     let mut by_area: hashbrown::HashMap<&str, Progress> = hashbrown::HashMap::new();
     let mut by_code: hashbrown::HashMap<u16, Progress> = hashbrown::HashMap::new();
@@ -577,11 +593,19 @@ pub fn today(
         f(&mut t.all);
         f(by_area.entry(group_area(v)).or_default());
         codes.clear();
-        for &e in d.graph.edges_slice(v) {
-            codes.extend_from_slice(d.edges.settings(e as usize));
+        if many {
+            for &e in d.graph.edges_slice(v) {
+                codes.extend_from_slice(d.edges.settings(e as usize));
+            }
+            codes.sort_unstable();
+            codes.dedup();
+        } else {
+            let mut m = mask[v as usize];
+            while m != 0 {
+                codes.push(m.trailing_zeros() as u16 + 1);
+                m &= m - 1;
+            }
         }
-        codes.sort_unstable();
-        codes.dedup();
         for &c in codes.iter() {
             f(by_code.entry(c).or_default());
         }

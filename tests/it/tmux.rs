@@ -290,3 +290,85 @@ fn sigterm_restores_the_terminal() {
     wait_file(&done, 30);
     t.assert_restored(&stty);
 }
+
+/// Two mornings in the dashboard on one workspace: the sample as of 27 November, then the
+/// next day's export (one person and two exposures added, one follow-up set in between). The
+/// second morning's Overview says what changed since the first load and what is due.
+#[test]
+fn two_loads_in_the_dashboard() {
+    if !have_tmux() {
+        eprintln!("SKIPPED: tmux is not installed; the two-load dashboard test did not run");
+        return;
+    }
+    let dir = tempfile::tempdir().unwrap();
+    let export = dir.path().join("export");
+    std::fs::create_dir(&export).unwrap();
+    let sample = Path::new(env!("CARGO_MANIFEST_DIR")).join("sample-contacts");
+    for f in ["people.csv", "exposures.csv"] {
+        std::fs::copy(sample.join(f), export.join(f)).unwrap();
+    }
+    let morning = |day: &str, now: &str, n: usize| {
+        let done = dir.path().join(format!("done{n}.txt"));
+        let script = dir.path().join(format!("run{n}.sh"));
+        std::fs::write(
+            &script,
+            format!(
+                "HUBWATCH_NOW={now} '{}' '{}' --as-of {day} 2> '{}/stderr{n}.txt'\necho $? > '{}/status{n}.txt'\necho done > '{}'\nsleep 120\n",
+                env!("CARGO_BIN_EXE_hubwatch"),
+                export.display(),
+                dir.path().display(),
+                dir.path().display(),
+                done.display()
+            ),
+        )
+        .unwrap();
+        (script, done)
+    };
+    // First morning.
+    let (script, done) = morning("2026-11-27", "2026-11-27T08:00:00Z", 1);
+    {
+        let t = Tmux::start(dir.path(), &script, 120, 40);
+        t.wait_for("people 262", 120);
+        t.wait_for("nothing to compare with yet", 60);
+        t.keys(&["q"]);
+        wait_file(&done, 30);
+    }
+    // In between: a follow-up set, and the next export with a new contact of P0000089.
+    let ws = export.join("hubwatch-workspace.sqlite");
+    let out = Command::new(env!("CARGO_BIN_EXE_hubwatch"))
+        .args([
+            "followup",
+            export.to_str().unwrap(),
+            "--person",
+            "P0000089",
+            "--set",
+            "reached",
+        ])
+        .env("HUBWATCH_NOW", "2026-11-27T10:00:00Z")
+        .output()
+        .unwrap();
+    assert!(out.status.success());
+    let mut e = std::fs::read_to_string(export.join("exposures.csv")).unwrap();
+    e.push_str("P0000089,Q9990001,2026-11-27,household,60,no\nQ9990001,P0000002,2026-11-27,household,30,no\n");
+    std::fs::write(export.join("exposures.csv"), e).unwrap();
+    // Second morning.
+    let (script, done) = morning("2026-11-28", "2026-11-28T08:00:00Z", 2);
+    let t = Tmux::start(dir.path(), &script, 120, 40);
+    t.wait_for("people 263", 120);
+    let screen = t.wait_for("compared with load 1 (as of 2026-11-27)", 60);
+    assert!(screen.contains("new people 1 · gone 0"), "{screen}");
+    assert!(screen.contains("monitoring ends today"), "{screen}");
+    if let Some(out) = std::env::var_os("HUBWATCH_CAPTURE_DIR") {
+        std::fs::write(PathBuf::from(out).join("overview-two-loads.txt"), &screen).unwrap();
+    }
+    t.keys(&["q"]);
+    wait_file(&done, 30);
+    let status = std::fs::read_to_string(dir.path().join("status2.txt")).unwrap();
+    assert_eq!(status.trim(), "0");
+    // Two snapshots in the workspace; the new person first seen on the second morning.
+    let w = hubwatch::workspace::Workspace::open(&ws).unwrap();
+    assert_eq!(w.snapshots().unwrap().len(), 2);
+    let seen = w.first_seen("").unwrap();
+    assert_eq!(seen["Q9990001"], "2026-11-28T08:00:00.000Z");
+    assert_eq!(seen["P0000089"], "2026-11-27T08:00:00.000Z");
+}
