@@ -220,6 +220,7 @@ pub fn today_json(d: &Dataset, t: &Today) -> Value {
         "overdue": ids(&t.overdue),
         "hubs_to_call": ids(&t.hubs_to_call),
         "unreachable_2_days": t.unreachable_2_days.iter().map(|(v, at)| json!({"person_id": d.ids.name(*v), "since": at})).collect::<Vec<_>>(),
+        "first_on_list": t.first.iter().map(|(v, why)| json!({"person_id": d.ids.name(*v), "why": why})).collect::<Vec<_>>(),
         "days": t.days.iter().map(|x| json!({"day": iso(x.day), "first_seen": x.first_seen, "reached": x.reached, "completed": x.completed})).collect::<Vec<_>>(),
         "progress": progress_json(&t.all),
         "by_area": t.by_area.iter().map(|(k, p)| (k.clone(), progress_json(p))).collect::<serde_json::Map<_, _>>(),
@@ -359,7 +360,7 @@ pub fn changes_table(w: &DayWork) -> ExportTable {
 
 /// Today's list: the priority list's rows for the people due today, with why, in rank order.
 pub fn today_rows(t: &Today, ranked: &[Ranked]) -> (Vec<Ranked>, Vec<String>) {
-    t.list(ranked)
+    t.list(ranked.iter().map(|r| r.node))
         .into_iter()
         .map(|(i, why)| (ranked[i].clone(), why.join("; ")))
         .unzip()

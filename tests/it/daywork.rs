@@ -634,6 +634,26 @@ fn three_loads_changes_and_today_match_counts_made_here() {
         assert!(body[0].starts_with("rank,today,person_id"), "{}", body[0]);
         rows += body.len() - 1;
     }
+    // The first ten of the exported list are `first_on_list`, in the same order.
+    let text = std::fs::read_to_string(tmp.path().join("today-1of2.csv")).unwrap()
+        + &std::fs::read_to_string(tmp.path().join("today-2of2.csv")).unwrap();
+    let mut listed: Vec<(usize, String)> = text
+        .lines()
+        .filter(|l| !l.starts_with('#') && !l.starts_with("rank,"))
+        .map(|l| {
+            let f: Vec<&str> = l.split(',').collect();
+            (f[0].parse().unwrap(), f[2].to_string())
+        })
+        .collect();
+    listed.sort();
+    let first: Vec<String> = t["first_on_list"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|x| x["person_id"].as_str().unwrap().to_string())
+        .collect();
+    let want: Vec<String> = listed.iter().take(10).map(|x| x.1.clone()).collect();
+    assert_eq!(first, want);
     let all: BTreeSet<String> = end0
         .iter()
         .chain(&end1)

@@ -67,18 +67,21 @@ pub struct Today {
     pub by_area: Vec<(String, Progress)>,
     /// By each setting of a person's exposures (a person in several settings counts in each).
     pub by_setting: Vec<(String, Progress)>,
+    /// The first ten people of today's list (see [`Today::list`]), in list order, with why.
+    pub first: Vec<(u32, Vec<&'static str>)>,
 }
 
 impl Today {
     /// Everyone on today's list, by rank, once, with the reasons in words.
-    pub fn list(&self, ranked: &[Ranked]) -> Vec<(usize, Vec<&'static str>)> {
+    /// `order` is the list's nodes in list order; the result gives each one's position in it.
+    pub fn list(&self, order: impl Iterator<Item = u32>) -> Vec<(usize, Vec<&'static str>)> {
         let mut why: HashMap<u32, Vec<&'static str>> = HashMap::new();
         let groups: [(&[u32], &'static str); 5] = [
             (&self.overdue, "overdue"),
             (&self.ending_today, "window ends today"),
             (&self.ending_tomorrow, "window ends tomorrow"),
             (&self.ending_in_3_days, "window ends in 2-3 days"),
-            (&self.hubs_to_call, "many contacts, not reached"),
+            (&self.hubs_to_call, "many contacts and not reached"),
         ];
         for (nodes, w) in groups {
             for &v in nodes {
@@ -90,10 +93,9 @@ impl Today {
                 .or_default()
                 .push("unreachable 2 days or more");
         }
-        ranked
-            .iter()
+        order
             .enumerate()
-            .filter_map(|(i, r)| why.remove(&r.node).map(|w| (i, w)))
+            .filter_map(|(i, v)| why.remove(&v).map(|w| (i, w)))
             .collect()
     }
 }
@@ -346,5 +348,11 @@ pub fn today(
     settings.sort_by(|a, b| a.0.cmp(&b.0));
     t.by_area = areas;
     t.by_setting = settings;
+    t.first = t
+        .list(ranked.iter().map(|r| r.node))
+        .into_iter()
+        .take(10)
+        .map(|(i, w)| (ranked[i].node, w))
+        .collect();
     t
 }

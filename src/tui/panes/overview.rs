@@ -36,7 +36,7 @@ fn render_day(frame: &mut Frame, (left, right): (Rect, Rect), m: &Model, th: &Th
             let err = vec![Line::from(Span::styled(format!("  {e}"), th.warn))];
             (err.clone(), err)
         }
-        Some(Ok(w)) => (today_lines(w, th), change_lines(w, th)),
+        Some(Ok(w)) => (today_lines(m, w, th), change_lines(w, th)),
     };
     frame.render_widget(
         Paragraph::new(today)
@@ -62,9 +62,9 @@ fn share(a: usize, b: usize) -> String {
     }
 }
 
-fn today_lines(w: &DayWork, th: &Theme) -> Vec<Line<'static>> {
+fn today_lines(m: &Model, w: &DayWork, th: &Theme) -> Vec<Line<'static>> {
     let t = &w.today;
-    vec![
+    let mut lines = vec![
         Line::from(format!(
             "  monitoring ends today {} · tomorrow {} · in 2-3 days {}",
             t.ending_today.len(),
@@ -91,7 +91,21 @@ fn today_lines(w: &DayWork, th: &Theme) -> Vec<Line<'static>> {
             "  windows end: not completed; to call: high-degree, not reached or unreachable; times from the audit",
             th.dim,
         )),
-    ]
+    ];
+    if !t.first.is_empty() {
+        lines.push(Line::from(Span::styled(
+            "  first on today's list (list order):",
+            th.title,
+        )));
+        for (v, why) in &t.first {
+            lines.push(Line::from(format!(
+                "  {:<12} {}",
+                m.d.ids.name(*v),
+                why.join(", ")
+            )));
+        }
+    }
+    lines
 }
 
 fn change_lines(w: &DayWork, th: &Theme) -> Vec<Line<'static>> {
