@@ -76,7 +76,8 @@ pub fn changes_json(w: &DayWork) -> Value {
     json!({
         "this_load": info_json(&w.snapshot),
         "recorded": w.recorded,
-        "compared_with": info_json(&w.earlier),
+        "compared_with": match w.changes { Some(_) => info_json(&w.earlier), None => Value::Null },
+        "problem": w.problem,
         "counted": CHANGES_COUNTED.iter().map(|(k, v)| (k.to_string(), json!(v))).collect::<serde_json::Map<_, _>>(),
         "new_people": c.new_people,
         "gone": c.gone,
@@ -117,6 +118,10 @@ pub fn changes_text(w: &DayWork) -> String {
             }
         )),
         None => s.push_str("This load: not recorded (--no-record).\n"),
+    }
+    if let Some(p) = &w.problem {
+        s.push_str(&format!("No comparison: {p}\n"));
+        return s;
     }
     let (Some(e), Some(c)) = (&w.earlier, &w.changes) else {
         s.push_str("No earlier load is recorded in this workspace to compare with: run again after the next export (the dashboard, `changes` and `today` record each load).\n");

@@ -718,3 +718,45 @@ fn a_split_and_a_merge_by_hand() {
         .unwrap()
         .contains("2 or more"));
 }
+
+/// A damaged snapshot (its body overwritten in the file) is reported, and the load is still
+/// recorded and today's work still counted; the load after compares with the new one.
+#[test]
+fn a_damaged_snapshot_is_said_and_the_next_load_compares_again() {
+    let tmp = tempfile::tempdir().unwrap();
+    let dir = tmp.path();
+    std::fs::write(dir.join("people.csv"), "person_id\nA\nB\nC\n").unwrap();
+    std::fs::write(
+        dir.join("exposures.csv"),
+        "source_id,target_id,exposure_date\nA,B,2026-11-01\n",
+    )
+    .unwrap();
+    let d = dir.to_str().unwrap();
+    run(
+        &["changes", d, "--as-of", "2026-11-02", "--json"],
+        "2026-11-02T08:00:00Z",
+    );
+    let ws = hubwatch::workspace::Workspace::open(&dir.join("hubwatch-workspace.sqlite")).unwrap();
+    ws.raw_execute_for_tests("UPDATE snapshot SET body = x'00112233'")
+        .unwrap();
+    drop(ws);
+    let c = run(
+        &["changes", d, "--as-of", "2026-11-03", "--json"],
+        "2026-11-03T08:00:00Z",
+    );
+    assert!(c["problem"].as_str().unwrap().contains("damaged"), "{c}");
+    assert!(c["compared_with"].is_null());
+    assert_eq!(c["recorded"], true);
+    std::fs::write(
+        dir.join("exposures.csv"),
+        "source_id,target_id,exposure_date\nA,B,2026-11-01\nB,C,2026-11-03\n",
+    )
+    .unwrap();
+    let c = run(
+        &["changes", d, "--as-of", "2026-11-04", "--json"],
+        "2026-11-04T08:00:00Z",
+    );
+    assert!(c["problem"].is_null());
+    assert_eq!(c["compared_with"]["as_of"], "2026-11-03");
+    assert_eq!(c["new_exposures"], serde_json::json!([["B", "C"]]));
+}

@@ -87,6 +87,9 @@ pub struct DayWork {
     pub changes: Option<Changes>,
     /// What is due today.
     pub today: Today,
+    /// Why there is no comparison although an earlier load is recorded (its snapshot could not
+    /// be read).
+    pub problem: Option<String>,
 }
 
 /// What [`day_work`] needs besides the dataset.
@@ -167,19 +170,27 @@ pub fn day_work_from(
     let earlier = pick(&stored, current, req.since).cloned();
     let record = req.record && same.is_none();
     // The body is compressed on another core while the earlier load is read and compared.
-    let (body, changes) = std::thread::scope(|sc| -> crate::error::Result<_> {
+    // A damaged earlier snapshot leaves this load without a comparison (said), not without
+    // its record and today's counts.
+    let mut problem = None;
+    let (body, changes) = std::thread::scope(|sc| {
         let body = sc.spawn(|| record.then(|| snap.encode()));
         let changes = match (&ws, &earlier) {
-            (Some(w), Some(e)) => {
-                let before = w.snapshot(e.id)?;
-                lap("earlier snapshot read");
-                Some(compare(&before, &snap, req.top))
-            }
+            (Some(w), Some(e)) => match w.snapshot(e.id) {
+                Ok(before) => {
+                    lap("earlier snapshot read");
+                    Some(compare(&before, &snap, req.top))
+                }
+                Err(err) => {
+                    problem = Some(err.to_string());
+                    None
+                }
+            },
             _ => None,
         };
         let body = body.join().unwrap_or_else(|p| std::panic::resume_unwind(p));
-        Ok((body, changes))
-    })?;
+        (body, changes)
+    });
     lap("compared");
     let info = match (&mut ws, body) {
         (Some(w), Some(body)) => {
@@ -225,5 +236,6 @@ pub fn day_work_from(
         earlier,
         changes,
         today,
+        problem,
     })
 }

@@ -109,6 +109,12 @@ fn today_lines(m: &Model, w: &DayWork, th: &Theme) -> Vec<Line<'static>> {
 }
 
 fn change_lines(w: &DayWork, th: &Theme) -> Vec<Line<'static>> {
+    if let Some(p) = &w.problem {
+        return vec![Line::from(Span::styled(
+            format!("  no comparison: {p}"),
+            th.warn,
+        ))];
+    }
     let (Some(e), Some(c)) = (&w.earlier, &w.changes) else {
         return vec![Line::from(Span::styled(
             "  nothing to compare with yet: this is the first load recorded here",
