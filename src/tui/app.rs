@@ -76,6 +76,11 @@ pub struct App {
     /// The model shared with worker threads (set by the terminal loop; tests leave it empty
     /// and get every result at once).
     pub shared: Option<std::sync::Arc<Model>>,
+    /// Today's counts again after a follow-up change in this session (None: as at load).
+    pub today_now: Option<crate::analysis::daywork::Today>,
+    /// Today's counts being made again on a worker.
+    pub today_pending:
+        Option<std::sync::mpsc::Receiver<Result<crate::analysis::daywork::Today, String>>>,
     /// Sets at least this large go to a worker thread ([`BACKGROUND_SCOPE`]).
     pub background_min: usize,
     /// Sorted orders of the list, per column, once computed.
@@ -129,6 +134,8 @@ impl App {
             scope_for: Filters::default(),
             scope_pending: None,
             shared: None,
+            today_now: None,
+            today_pending: None,
             background_min: BACKGROUND_SCOPE,
             perms: HashMap::new(),
             mask: Vec::new(),
@@ -463,6 +470,7 @@ impl App {
                     let (node, pos, sort) = (p.node, p.pos, p.sort);
                     self.show_person(m, node, pos, sort);
                 }
+                self.recount_today(m);
                 true
             }
             Err(e) => {

@@ -153,6 +153,8 @@ pub struct Model {
     /// The day's work (this load recorded, compared with the previous one; what is due
     /// today), computed on a worker after the first frame; empty until done.
     pub day: Arc<OnceLock<std::result::Result<DayWork, String>>>,
+    /// What today's counts read of the list (to count again after follow-up changes).
+    pub dues: Arc<Vec<crate::analysis::daywork::Due>>,
 }
 
 impl Model {
@@ -236,6 +238,7 @@ impl Model {
         let null = background_null_model(&d, &stats.degrees);
         let input_hashes = Arc::new(OnceLock::new());
         let day = Arc::new(OnceLock::new());
+        let dues;
         {
             // The inputs' checksums, then the day's work (it records this load's snapshot in
             // the workspace and compares it with the previous one).
@@ -244,6 +247,7 @@ impl Model {
                 crate::report::meta::input_paths(&d),
             );
             let input = DayInput::of(&d, &stats, &list.ranked);
+            dues = Arc::new(input.dues.clone());
             let (day_cell, dd, ws) = (Arc::clone(&day), Arc::clone(&d), workspace_path.clone());
             let (keep, top) = (work.keep_snapshots, work.changes_top);
             std::thread::spawn(move || {
@@ -292,6 +296,7 @@ impl Model {
             input_hashes,
             chain_people: OnceLock::new(),
             day,
+            dues,
             stats,
             d,
         })

@@ -725,4 +725,36 @@ fn overview_shows_the_days_work_and_the_changes_since_the_last_load() {
         t.hubs_to_call.len()
     );
     insta::assert_snapshot!("overview_two_loads", s);
+    // A follow-up recorded in the session counts at once: the first person with many contacts
+    // not yet reached, marked reached, leaves that count.
+    let mut app = app;
+    let hub = t.hubs_to_call[0];
+    let pos = m.list.ranked.iter().position(|r| r.node == hub).unwrap();
+    app.act(&m, Action::Go(Pane::Priority));
+    app.act(&m, Action::Search);
+    for ch in m.d.ids.name(hub).chars() {
+        app.act(&m, Action::Type(ch));
+    }
+    app.act(&m, Action::Submit);
+    assert_eq!(app.target(&m), Some(m.list.ranked[pos].node));
+    for _ in 0..4 {
+        if app.followup(&m, hub) == "reached" {
+            break;
+        }
+        app.act(&m, Action::Followup);
+    }
+    assert_eq!(app.followup(&m, hub), "reached");
+    let now = app.today_now.as_ref().expect("counted again");
+    assert_eq!(now.hubs_to_call.len(), t.hubs_to_call.len() - 1);
+    assert!(!now.hubs_to_call.contains(&hub));
+    app.act(&m, Action::Go(Pane::Overview));
+    let s = text(&m, &app, dir.path());
+    assert!(s.contains("with this session's follow-up"), "{s}");
+    assert!(
+        s.contains(&format!(
+            "many contacts, not reached {}",
+            t.hubs_to_call.len() - 1
+        )),
+        "{s}"
+    );
 }

@@ -361,6 +361,12 @@ fn two_loads_in_the_dashboard() {
     if let Some(out) = std::env::var_os("HUBWATCH_CAPTURE_DIR") {
         std::fs::write(PathBuf::from(out).join("overview-two-loads.txt"), &screen).unwrap();
     }
+    // A follow-up set in the session: today's counts are made again on a worker.
+    t.keys(&["5"]);
+    t.wait_for("5 Priority", 10);
+    t.keys(&["u"]);
+    t.keys(&["1"]);
+    t.wait_for("with this session's follow-up", 30);
     t.keys(&["q"]);
     wait_file(&done, 30);
     let status = std::fs::read_to_string(dir.path().join("status2.txt")).unwrap();

@@ -92,6 +92,35 @@ pub struct DayWork {
     pub problem: Option<String>,
 }
 
+/// The first-seen times today's counts read: the last 15 days (UTC, RFC 3339).
+fn recent() -> String {
+    (crate::workspace::now_utc() - Duration::days(15))
+        .format("%Y-%m-%dT%H:%M:%S%.3fZ")
+        .to_string()
+}
+
+/// Today's counts with the workspace as it is now (after follow-up changes made since the
+/// load); nothing is recorded.
+pub fn today_now(
+    d: &Dataset,
+    dues: &[Due],
+    workspace: &std::path::Path,
+) -> crate::error::Result<Today> {
+    let now = crate::workspace::now_utc();
+    if !workspace.exists() {
+        return Ok(today(d, dues, &[], &[], &Default::default(), now));
+    }
+    let w = crate::workspace::Workspace::open(workspace)?;
+    Ok(today(
+        d,
+        dues,
+        &w.all()?,
+        &w.audit(None)?,
+        &w.first_seen(&recent())?,
+        now,
+    ))
+}
+
 /// What [`day_work`] needs besides the dataset.
 pub struct DayRequest<'a> {
     /// The workspace file (created if absent when recording).
@@ -213,11 +242,8 @@ pub fn day_work_from(
     };
     let recorded = record && info.is_some();
     lap("snapshot recorded");
-    let since = (crate::workspace::now_utc() - Duration::days(15))
-        .format("%Y-%m-%dT%H:%M:%S%.3fZ")
-        .to_string();
     let (states, audit, first_seen) = match &ws {
-        Some(w) => (w.all()?, w.audit(None)?, w.first_seen(&since)?),
+        Some(w) => (w.all()?, w.audit(None)?, w.first_seen(&recent())?),
         None => Default::default(),
     };
     lap("workspace read");

@@ -1,7 +1,9 @@
-//! Background work of the dashboard: the Degrees and Neighbours figures of a large filtered set
-//! computed on a worker thread, so that the key returns at once.
+//! Background work of the dashboard: the Degrees and Neighbours figures of a large filtered set,
+//! and today's counts after a follow-up change, computed on a worker thread, so that the key
+//! returns at once.
 
 use super::{App, Filters};
+use crate::analysis::daywork::today_now;
 use crate::tui::model::{scope_stats, Model};
 
 impl App {
@@ -42,10 +44,48 @@ impl App {
         }
     }
 
+    /// Count today's work again with the workspace as it is now (after a follow-up change):
+    /// on a worker in the terminal, at once otherwise (tests).
+    pub fn recount_today(&mut self, m: &Model) {
+        let path = self.workspace_path.clone();
+        match &self.shared {
+            Some(shared) => {
+                let (tx, rx) = std::sync::mpsc::channel();
+                let shared = std::sync::Arc::clone(shared);
+                std::thread::spawn(move || {
+                    let t = today_now(&shared.d, &shared.dues, &path).map_err(|e| e.to_string());
+                    let _ = tx.send(t);
+                });
+                self.today_pending = Some(rx);
+            }
+            None => match today_now(&m.d, &m.dues, &path) {
+                Ok(t) => self.today_now = Some(t),
+                Err(e) => self.say(format!("today's counts: {e}"), true),
+            },
+        }
+    }
+
     /// Take finished background work; true when something arrived (redraw).
     pub fn poll_jobs(&mut self, m: &Model) -> bool {
+        let mut arrived = false;
+        if let Some(rx) = &self.today_pending {
+            match rx.try_recv() {
+                Ok(Ok(t)) => {
+                    self.today_now = Some(t);
+                    self.today_pending = None;
+                    arrived = true;
+                }
+                Ok(Err(e)) => {
+                    self.today_pending = None;
+                    self.say(format!("today's counts: {e}"), true);
+                    arrived = true;
+                }
+                Err(std::sync::mpsc::TryRecvError::Empty) => {}
+                Err(std::sync::mpsc::TryRecvError::Disconnected) => self.today_pending = None,
+            }
+        }
         let Some((filters, rx)) = &self.scope_pending else {
-            return false;
+            return arrived;
         };
         match rx.try_recv() {
             Ok(s) => {
@@ -56,7 +96,7 @@ impl App {
                 self.refresh_views(m);
                 true
             }
-            Err(std::sync::mpsc::TryRecvError::Empty) => false,
+            Err(std::sync::mpsc::TryRecvError::Empty) => arrived,
             Err(std::sync::mpsc::TryRecvError::Disconnected) => {
                 self.scope_pending = None;
                 self.say("the filtered figures could not be computed", true);

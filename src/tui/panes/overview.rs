@@ -6,7 +6,7 @@ use ratatui::text::{Line, Span};
 use ratatui::widgets::{Paragraph, Wrap};
 use ratatui::Frame;
 
-use crate::analysis::daywork::DayWork;
+use crate::analysis::daywork::{DayWork, Today};
 use crate::ingest::dates;
 use crate::report::fmt::{pct, plus_minus_short, short as f};
 use crate::tui::app::App;
@@ -14,19 +14,19 @@ use crate::tui::model::Model;
 use crate::tui::theme::Theme;
 use crate::tui::ui::block;
 
-pub fn render(frame: &mut Frame, area: Rect, m: &Model, _app: &App, th: &Theme) {
+pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
     let [left, right] =
         Layout::horizontal([Constraint::Percentage(50), Constraint::Percentage(50)]).areas(area);
     let split = |a: Rect| Layout::vertical([Constraint::Length(23), Constraint::Min(6)]).areas(a);
     let ([loaded, today], [figures, changes]) = (split(left), split(right));
     render_loaded(frame, loaded, m, th);
     render_figures(frame, figures, m, th);
-    render_day(frame, (today, changes), m, th);
+    render_day(frame, (today, changes), m, app, th);
 }
 
 /// The day's work (left) and the changes since the last load (right), once the worker has
 /// counted them.
-fn render_day(frame: &mut Frame, (left, right): (Rect, Rect), m: &Model, th: &Theme) {
+fn render_day(frame: &mut Frame, (left, right): (Rect, Rect), m: &Model, app: &App, th: &Theme) {
     let (today, changes) = match m.day.get() {
         None => {
             let wait = vec![Line::from(Span::styled("  computing …", th.dim))];
@@ -36,13 +36,20 @@ fn render_day(frame: &mut Frame, (left, right): (Rect, Rect), m: &Model, th: &Th
             let err = vec![Line::from(Span::styled(format!("  {e}"), th.warn))];
             (err.clone(), err)
         }
-        Some(Ok(w)) => (today_lines(m, w, th), change_lines(w, th)),
+        Some(Ok(w)) => (
+            today_lines(m, app.today_now.as_ref().unwrap_or(&w.today), th),
+            change_lines(w, th),
+        ),
     };
     frame.render_widget(
         Paragraph::new(today)
             .wrap(Wrap { trim: false })
             .block(block(
-                "The day's work (at load; `hubwatch today` lists it)".into(),
+                match app.today_now {
+                    Some(_) => "The day's work (with this session's follow-up)",
+                    None => "The day's work (at load; `hubwatch today` lists it)",
+                }
+                .into(),
                 th,
             )),
         left,
@@ -62,8 +69,7 @@ fn share(a: usize, b: usize) -> String {
     }
 }
 
-fn today_lines(m: &Model, w: &DayWork, th: &Theme) -> Vec<Line<'static>> {
-    let t = &w.today;
+fn today_lines(m: &Model, t: &Today, th: &Theme) -> Vec<Line<'static>> {
     let mut lines = vec![
         Line::from(format!(
             "  monitoring ends today {} · tomorrow {} · in 2-3 days {}",
