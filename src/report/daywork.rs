@@ -269,6 +269,19 @@ pub fn today_text(d: &Dataset, t: &Today) -> String {
         un.len(),
         ids(&un)
     ));
+    if !t.first.is_empty() {
+        s.push_str(
+            "\nFirst on today's list (list order; `export --list today` writes all of it):\n",
+        );
+        for (i, (v, why)) in t.first.iter().enumerate() {
+            s.push_str(&format!(
+                "  {:>2}. {:<14} {}\n",
+                i + 1,
+                d.ids.name(*v),
+                why.join("; ")
+            ));
+        }
+    }
     s.push_str("\nFollow-up over the last 14 days (from the workspace's audit trail)\n");
     s.push_str(&format!(
         "  reached within 24 h of first appearing: {}\n  reached within 48 h: {}\n  marked reached: {} · completed: {}\n",
