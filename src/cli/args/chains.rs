@@ -4,7 +4,7 @@ use std::path::PathBuf;
 
 use clap::{Args, Subcommand};
 
-use super::LoadArgs;
+use super::{ListOutput, LoadArgs};
 use crate::analysis::chains::ChainRequest;
 
 /// Which way to trace.
@@ -42,18 +42,9 @@ pub struct ChainCommon {
     /// People shown in the text (0 = all; JSON and files hold everyone).
     #[arg(long, default_value_t = 30, value_name = "N")]
     pub top: usize,
-    /// Print one JSON object (keys documented in the README).
-    #[arg(long)]
-    pub json: bool,
-    /// Also write the list to FILE (CSV, TSV, JSON, Parquet or xlsx, by extension).
-    #[arg(long, value_name = "FILE")]
-    pub out: Option<PathBuf>,
-    /// Format of --out (default: from the extension).
-    #[arg(long, value_enum)]
-    pub format: Option<crate::export::Format>,
-    /// Replace an existing --out file.
-    #[arg(long)]
-    pub force: bool,
+    /// Printing and writing the list.
+    #[command(flatten)]
+    pub output: ListOutput,
     /// Replace person IDs in the --out file with a keyed hash (HMAC-SHA256).
     #[arg(long, requires = "out")]
     pub pseudonymise: bool,

@@ -4,7 +4,7 @@ use std::path::PathBuf;
 
 use clap::Args;
 
-use super::{LoadArgs, PriorityArgs};
+use super::{ListOutput, LoadArgs, PriorityArgs};
 
 /// Options both commands share.
 #[derive(Debug, Args)]
@@ -22,18 +22,9 @@ pub struct DayArgs {
     /// Do not record this load's snapshot in the workspace.
     #[arg(long)]
     pub no_record: bool,
-    /// Print one JSON object (keys documented in the README).
-    #[arg(long)]
-    pub json: bool,
-    /// Also write the list to FILE (CSV, TSV, JSON, Parquet or xlsx, by extension).
-    #[arg(long, value_name = "FILE")]
-    pub out: Option<PathBuf>,
-    /// Format of --out (default: from the extension).
-    #[arg(long, value_enum)]
-    pub format: Option<crate::export::Format>,
-    /// Replace an existing --out file.
-    #[arg(long)]
-    pub force: bool,
+    /// Printing and writing the list.
+    #[command(flatten)]
+    pub output: ListOutput,
 }
 
 /// Options of `hubwatch changes`.

@@ -23,7 +23,7 @@ mod outputs;
 pub use chains::{BackwardArgs, ChainCommon, ChainDirection, ForwardArgs};
 pub use day::{ChangesArgs, DayArgs};
 pub use outputs::{
-    BriefArgs, ExportArgs, FigureArgs, FigureFormat, FiguresArgs, ListKind, OutlookArgs,
+    BriefArgs, ExportArgs, FigureArgs, FigureFormat, FiguresArgs, ListKind, ListOutput, OutlookArgs,
 };
 
 /// hubwatch: see who to reach first in a contact-tracing export.

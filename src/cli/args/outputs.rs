@@ -193,3 +193,45 @@ pub enum ListKind {
     /// and not reached, or unreachable for 2 days, in list order, with why.
     Today,
 }
+
+/// Output options of the commands that print a list and may also write it (`chains`,
+/// `changes`, `today`).
+#[derive(Debug, Args)]
+pub struct ListOutput {
+    /// Print one JSON object (keys documented in the README).
+    #[arg(long)]
+    pub json: bool,
+    /// Also write the list to FILE (CSV, TSV, JSON, Parquet or xlsx, by extension).
+    #[arg(long, value_name = "FILE")]
+    pub out: Option<PathBuf>,
+    /// Format of --out (default: from the extension).
+    #[arg(long, value_enum)]
+    pub format: Option<crate::export::Format>,
+    /// Replace an existing --out file.
+    #[arg(long)]
+    pub force: bool,
+}
+
+impl ListOutput {
+    /// The format of --out, checked before any work (None without --out).
+    pub fn checked_format(&self) -> crate::error::Result<Option<crate::export::Format>> {
+        self.out
+            .as_deref()
+            .map(|o| crate::export::format_for(o, self.format))
+            .transpose()
+    }
+
+    /// Write `table` to --out (nothing without it), saying so on stderr: stdout may hold JSON.
+    pub fn write(
+        &self,
+        table: &crate::export::ExportTable,
+        meta: &crate::export::Metadata,
+    ) -> crate::error::Result<()> {
+        let (Some(out), Some(format)) = (&self.out, self.checked_format()?) else {
+            return Ok(());
+        };
+        crate::export::write(table, meta, format, out, self.force)?;
+        eprintln!("wrote {} rows to {}", table.rows.len(), out.display());
+        Ok(())
+    }
+}

@@ -18,11 +18,8 @@ pub fn run(direction: &ChainDirection) -> Result<()> {
     };
     let config = PriorityConfig::load(common.priority_config.as_deref())?;
     let w = Windows::settle(&config, &req)?;
-    let format = common
-        .out
-        .as_deref()
-        .map(|o| ex::format_for(o, common.format))
-        .transpose()?;
+    // A wrong --out is said before the load.
+    common.output.checked_format()?;
     let key = match common.pseudonymise {
         true => Some(ex::pseudonym_key(common.key_file.as_deref())?),
         false => None,
@@ -54,11 +51,12 @@ pub fn run(direction: &ChainDirection) -> Result<()> {
             };
             let fw = chains::forward(&d, &people, &w, &nodes);
             lap("forward done");
-            let text = match common.json {
+            let text = match common.output.json {
                 true => to_json(&rep::forward_json(&shown, &fw, &w, &gain))?,
                 false => rep::forward_text(&shown, &fw, &w, &gain, common.top),
             };
             let table = common
+                .output
                 .out
                 .is_some()
                 .then(|| rep::forward_table(&written, &fw));
@@ -71,11 +69,12 @@ pub fn run(direction: &ChainDirection) -> Result<()> {
             };
             let bw = chains::backward(&d, &people, &w, &nodes);
             lap("backward done");
-            let text = match common.json {
+            let text = match common.output.json {
                 true => to_json(&rep::backward_json(&shown, &bw, &w, &gain))?,
                 false => rep::backward_text(&shown, &bw, &w, &gain, common.top),
             };
             let table = common
+                .output
                 .out
                 .is_some()
                 .then(|| rep::backward_table(&written, &bw));
@@ -83,7 +82,7 @@ pub fn run(direction: &ChainDirection) -> Result<()> {
         }
     };
     lap("reported");
-    if let (Some(out), Some(format), Some(table)) = (&common.out, format, table) {
+    if let Some(table) = table {
         let mut meta = rep::meta(&d, name, &w);
         if key.is_some() {
             meta = meta.with(
@@ -91,9 +90,7 @@ pub fn run(direction: &ChainDirection) -> Result<()> {
                 "person IDs replaced by HMAC-SHA256 under a key that is not stored",
             );
         }
-        let meta = meta.inputs(&d)?.finish();
-        ex::write(&table, &meta, format, out, common.force)?;
-        eprintln!("wrote {} rows to {}", table.rows.len(), out.display());
+        common.output.write(&table, &meta.inputs(&d)?.finish())?;
     }
     emit(&text)
 }

@@ -6,7 +6,7 @@ use crate::cli::args::{ChangesArgs, DayArgs};
 use crate::cli::commands::priority::ranking_parts;
 use crate::cli::{emit, parse_day, to_json, LoadArgs, PriorityArgs};
 use crate::error::Result;
-use crate::export::{self as ex, Cell, ExportTable, Kind};
+use crate::export::{Cell, ExportTable, Kind};
 use crate::report::{daywork as rep, meta, tables, Report};
 use std::path::Path;
 
@@ -53,18 +53,14 @@ pub fn run_day(
 
 /// Write `table` to --out when given.
 fn write_out(a: &DayArgs, r: &Report, table: ExportTable, list: &str) -> Result<()> {
-    let Some(out) = &a.out else {
+    if a.output.out.is_none() {
         return Ok(());
-    };
-    let format = ex::format_for(out, a.format)?;
+    }
     let mut m = meta::Meta::new(&r.d, list);
     if let Some(l) = &r.list {
         m = m.ranking(l);
     }
-    let m = m.inputs(&r.d)?.finish();
-    ex::write(&table, &m, format, out, a.force)?;
-    eprintln!("wrote {} rows to {}", table.rows.len(), out.display());
-    Ok(())
+    a.output.write(&table, &m.inputs(&r.d)?.finish())
 }
 
 /// `hubwatch changes`.
@@ -82,7 +78,7 @@ pub fn changes(a: &ChangesArgs) -> Result<()> {
         a.top,
     )?;
     write_out(&a.day, &r, rep::changes_table(&w), "changes")?;
-    emit(&match a.day.json {
+    emit(&match a.day.output.json {
         true => to_json(&rep::changes_json(&w))?,
         false => rep::changes_text(&w),
     })
@@ -97,10 +93,10 @@ pub fn today(a: &DayArgs) -> Result<()> {
         Since::Loads(1),
         None,
     )?;
-    if a.out.is_some() {
+    if a.output.out.is_some() {
         write_out(a, &r, today_table(&r, &w, None), "today")?;
     }
-    emit(&match a.json {
+    emit(&match a.output.json {
         true => to_json(&rep::today_json(&r.d, &w.today))?,
         false => rep::today_text(&r.d, &w.today),
     })

@@ -5,6 +5,7 @@ use ratatui::text::Line;
 use ratatui::widgets::{Paragraph, Row, Table};
 use ratatui::Frame;
 
+use super::list_row;
 use crate::tui::app::App;
 use crate::tui::model::Model;
 use crate::tui::theme::Theme;
@@ -34,11 +35,7 @@ pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
                 c.bridges.to_string(),
                 format!("{} ({})", c.hub.0, c.hub.1),
             ]);
-            if i == pos.selected {
-                r.style(th.selected)
-            } else {
-                r.style(th.text)
-            }
+            list_row(r, i == pos.selected, th)
         })
         .collect();
     frame.render_widget(

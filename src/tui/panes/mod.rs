@@ -81,6 +81,15 @@ pub fn computing(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme
     true
 }
 
+/// A list row in the selection's style when it is the selected one, else in plain text.
+pub fn list_row<'a>(
+    row: ratatui::widgets::Row<'a>,
+    selected: bool,
+    th: &Theme,
+) -> ratatui::widgets::Row<'a> {
+    row.style(if selected { th.selected } else { th.text })
+}
+
 pub fn days(x: Option<i32>) -> String {
     x.map(|d| d.to_string()).unwrap_or_else(|| "–".into())
 }

@@ -159,11 +159,7 @@ fn render_contacts(frame: &mut Frame, area: Rect, p: &PersonView, th: &Theme) {
                 c.named.to_string(),
                 c.followup.clone(),
             ]);
-            if i == p.pos.selected {
-                row.style(th.selected)
-            } else {
-                row.style(th.text)
-            }
+            list_row(row, i == p.pos.selected, th)
         })
         .collect();
     let (col, desc) = p.sort;
@@ -232,11 +228,7 @@ fn render_chains(frame: &mut Frame, area: Rect, p: &PersonView, th: &Theme) {
                 c.listed.to_string(),
                 c.via.clone(),
             ]);
-            if i == p.pos.selected {
-                row.style(th.selected)
-            } else {
-                row.style(th.text)
-            }
+            list_row(row, i == p.pos.selected, th)
         })
         .collect();
     let (count, day, via) = match forward {
