@@ -232,7 +232,11 @@ fn render_chains(frame: &mut Frame, area: Rect, p: &PersonView, th: &Theme) {
         })
         .collect();
     let (count, day, via) = match forward {
-        true => ("gen", "earliest", "chain (who exposed whom, when)"),
+        true => (
+            "gen",
+            "earliest",
+            "chain to the earliest date (who exposed whom, when)",
+        ),
         false => ("cases", "met", "when"),
     };
     let [note, table] = Layout::vertical([Constraint::Length(1), Constraint::Min(3)]).areas(area);
