@@ -78,7 +78,120 @@ impl Dataset {
 
 /// Read the inputs and build the network: read, check, reconcile, merge pairs, adjacency.
 pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dataset> {
+    if let [Input::Aggregates(dir)] = inputs {
+        aggregates_take_no_view(&opts.view)?;
+        return from_aggregates(ingest::aggregates::read(dir)?);
+    }
     build(ingest::read(inputs, config, opts)?, &opts.view)
+}
+
+/// Aggregate tables hold the network their SQL was made for: a view asked of them is an error.
+pub fn aggregates_take_no_view(view: &View) -> Result<()> {
+    match view.is_all() {
+        true => Ok(()),
+        false => Err(crate::error::Error::Usage(
+            "aggregate tables hold the network their SQL was made for: give --setting, \
+             --exclude-setting, --from, --to or --last-days to `hubwatch sql` instead"
+                .into(),
+        )),
+    }
+}
+
+/// The network from aggregate tables a database engine made (`hubwatch sql`): the pairs come
+/// merged, the ledger counted; the adjacency and the load's warnings are made here as for files.
+pub fn from_aggregates(t: ingest::aggregates::AggregateTables) -> Result<Dataset> {
+    let ingest::aggregates::AggregateTables {
+        dir,
+        ids,
+        people_in_table,
+        attrs,
+        pairs,
+        settings,
+        days,
+        mut ledger,
+        as_of,
+        view,
+        has_links,
+        read_secs,
+        ..
+    } = t;
+    let Some(p) = pairs else {
+        return Err(crate::error::Error::format(
+            &dir,
+            "the pair table (pairs.parquet) is not in this folder: only `hubwatch summary` works from \
+             the degree tables alone; copy the pair table here for every other command",
+        ));
+    };
+    let t1 = std::time::Instant::now();
+    let n_pairs = p.a.len();
+    let mut edges = Edges {
+        a: p.a,
+        b: p.b,
+        rows: p.rows,
+        a_named_b: p.a_named_b,
+        first: p.first,
+        last: p.last,
+        minutes: p.minutes,
+        ..Edges::default()
+    };
+    if has_links {
+        edges.links_ab = p.links_ab;
+        edges.links_ba = p.links_ba;
+    }
+    if !settings.is_empty() {
+        edges.setting_off.reserve(n_pairs + 1);
+        edges.setting_off.push(0);
+        let mut next = p.settings.iter().peekable();
+        for e in 0..n_pairs as u32 {
+            while let Some(&&(_, code)) = next.peek().filter(|(pe, _)| *pe == e) {
+                edges.setting_codes.push(code);
+                next.next();
+            }
+            edges.setting_off.push(edges.setting_codes.len() as u32);
+        }
+    }
+    for (i, &(e, f, l)) in p.spans.iter().enumerate() {
+        if edges.span_pairs.last() != Some(&e) {
+            if edges.span_off.is_empty() {
+                edges.span_off.push(0);
+            } else {
+                edges.span_off.push(i as u32);
+            }
+            edges.span_pairs.push(e);
+        }
+        edges.spans.push((f, l));
+    }
+    if !edges.span_pairs.is_empty() {
+        edges.span_off.push(edges.spans.len() as u32);
+    }
+    ledger
+        .warnings
+        .extend(ingest::warnings::id_collisions(&ids));
+    let rows_in_view: u64 = edges.rows.iter().map(|&r| u64::from(r)).sum();
+    let graph = graph::adjacency(ids.len(), &edges);
+    ledger.warnings.extend(code_like_hubs(&ids, &graph));
+    let timings = Timings {
+        parse: read_secs,
+        reconcile: 0.0,
+        merge_pairs: 0.0,
+        graph: t1.elapsed().as_secs_f64(),
+        peak_mib: [peak_mib(); 3],
+    };
+    Ok(Dataset {
+        ids,
+        people_in_table,
+        attrs,
+        edges,
+        settings,
+        graph,
+        ledger,
+        as_of,
+        timings,
+        exposure_extras: Attributes::default(),
+        edge_of_row: Vec::new(),
+        view: (view, rows_in_view),
+        exposures_by_day: days,
+    })
 }
 
 /// Merge the rows into pairs, finish the ledger (used / merged) and build the adjacency of the

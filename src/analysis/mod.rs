@@ -10,6 +10,7 @@
 pub mod casedata;
 pub mod chains;
 pub mod daywork;
+pub mod degree_tables;
 pub mod filters;
 pub mod planning;
 pub mod priority;

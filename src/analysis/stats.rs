@@ -77,7 +77,8 @@ pub struct DegreeFits {
 /// Smallest tail the power-law fit accepts (short tails give unstable alpha and small KS).
 pub const MIN_TAIL: u64 = 10;
 
-fn fit_degrees(histogram: &[u64]) -> DegreeFits {
+/// Fit the degree distribution (its histogram) with every model.
+pub fn fit_degrees(histogram: &[u64]) -> DegreeFits {
     let s = fits::Sample::from_counts(histogram.to_vec());
     let poisson = fits::poisson(&s);
     let geometric = fits::geometric(&s);

@@ -102,6 +102,7 @@ pub fn run(cli: Cli) -> Result<()> {
         Some(Command::Brief(b)) => c::brief::run(&b),
         Some(Command::Export(e)) => c::export::run(&e),
         Some(Command::Chains { direction }) => c::chains::run(&direction),
+        Some(Command::Sql(a)) => c::sql::run(&cli.load, &a),
         Some(Command::Changes(a)) => c::day::changes(&a),
         Some(Command::Today(a)) => c::day::today(&a),
         Some(Command::Followup {

@@ -21,6 +21,9 @@ pub struct DateParser {
     excel_serials: bool,
 }
 
+/// The ISO 8601 layout, as messages name it.
+pub const ISO_LAYOUT: &str = "YYYY-MM-DD (ISO 8601)";
+
 /// Days since 0001-01-01 of a calendar date.
 pub fn to_days(d: NaiveDate) -> i32 {
     d.num_days_from_ce()
@@ -49,7 +52,7 @@ impl DateParser {
 
     /// The layout shown in messages.
     pub fn layout(&self) -> &str {
-        self.format.as_deref().unwrap_or("YYYY-MM-DD (ISO 8601)")
+        self.format.as_deref().unwrap_or(ISO_LAYOUT)
     }
 
     /// Parse one trimmed, non-empty value.

@@ -171,6 +171,60 @@ impl ProblemKind {
     }
 }
 
+/// What a field problem's sentence needs to say (one wording for files and aggregate tables).
+#[derive(Debug, Clone, Copy, Default)]
+pub struct ReasonFacts<'a> {
+    /// The as-of date (day number).
+    pub as_of: i32,
+    /// The oldest plausible day.
+    pub oldest: i32,
+    /// The date layout read.
+    pub layout: &'a str,
+    /// The largest plausible duration.
+    pub max_minutes: f64,
+    /// The value as read (a number of minutes, for the implausible ones).
+    pub value: &'a str,
+    /// The row's last exposure date (for a first date after it).
+    pub last: i32,
+    /// The repeated person, the value kept, and where it was kept from.
+    pub person: &'a str,
+    /// The value kept.
+    pub kept: &'a str,
+    /// "line N" or "file F line N".
+    pub at: &'a str,
+}
+
+impl ProblemKind {
+    /// The sentence a field problem of this kind carries: what was wrong and what was done.
+    pub fn reason(self, f: &ReasonFacts) -> String {
+        use super::dates::iso;
+        match self {
+            ProblemKind::FutureDate => format!("after the as-of date {}; left empty", iso(f.as_of)),
+            ProblemKind::ImplausibleDate => format!(
+                "before {}, implausibly long before the as-of date ([dates] oldest_years); left empty",
+                iso(f.oldest)
+            ),
+            ProblemKind::ImpossibleDate => "no such calendar day; left empty".into(),
+            ProblemKind::UnreadableDate => format!("not a date in the layout {}; left empty", f.layout),
+            ProblemKind::DateOrder => format!(
+                "first exposure after the last exposure ({}); left empty",
+                iso(f.last)
+            ),
+            ProblemKind::ImplausibleNumber => format!(
+                "{} minutes is more than {} ([input] max_duration_min); left empty",
+                f.value.parse::<f64>().unwrap_or(f64::NAN),
+                f.max_minutes
+            ),
+            ProblemKind::NegativeNumber => "negative duration; left empty".into(),
+            ProblemKind::UnreadableNumber => "not a number of minutes; left empty".into(),
+            ProblemKind::UnreadableFlag => "not yes or no; read as no".into(),
+            ProblemKind::ConflictingValue => {
+                format!("person {} repeated; kept \"{}\" from {}", f.person, f.kept, f.at)
+            }
+        }
+    }
+}
+
 /// One bad optional value; the row itself was kept.
 #[derive(Debug, Clone, Serialize)]
 pub struct FieldProblem {

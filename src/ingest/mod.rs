@@ -5,6 +5,7 @@
 //! returns a [`Dataset`]: the ID map, people's attributes, aggregated pairs, the adjacency and
 //! the ledger that accounts for every row.
 
+pub mod aggregates;
 pub mod dates;
 pub mod decode;
 pub mod formats;
@@ -17,6 +18,7 @@ pub mod rows;
 pub mod rules;
 pub mod scan;
 pub mod sniff;
+pub mod sql;
 pub mod table;
 pub mod view;
 pub mod warnings;
@@ -79,6 +81,9 @@ pub enum Input {
         /// Its role.
         role: Role,
     },
+    /// A folder of aggregate tables made by `hubwatch sql` in a database engine (read by
+    /// [`crate::dataset::load`], never with other inputs).
+    Aggregates(PathBuf),
     /// Built-in bytes with a display name.
     Builtin {
         /// Shown in reports.

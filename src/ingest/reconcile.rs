@@ -8,7 +8,9 @@
 use polars::prelude::*;
 
 use super::dates::{self, DateParser, DateProblem};
-use super::ledger::{Counts, FieldProblem, ProblemKind, QuarantineReason, QuarantinedRow};
+use super::ledger::{
+    Counts, FieldProblem, ProblemKind, QuarantineReason, QuarantinedRow, ReasonFacts,
+};
 use super::mapping::Mapping;
 pub use super::rules::{IdValue, Rules};
 use super::table::{Chunk, TableMeta};
@@ -161,43 +163,42 @@ impl FieldChecker {
             return NO_DATE;
         };
         match self.parser.parse(v) {
-            Ok(d) if d > self.as_of => {
-                let msg = format!(
-                    "after the as-of date {}; left empty",
-                    dates::iso(self.as_of)
-                );
-                self.problem(ctx, line, c, v, ProblemKind::FutureDate, msg);
-                NO_DATE
-            }
+            Ok(d) if d > self.as_of => self.bad(ctx, (line, c, v), ProblemKind::FutureDate),
             Ok(d) if d < self.rules.oldest_day => {
-                let msg = format!(
-                    "before {}, implausibly long before the as-of date ([dates] oldest_years); left empty",
-                    dates::iso(self.rules.oldest_day)
-                );
-                self.problem(ctx, line, c, v, ProblemKind::ImplausibleDate, msg);
-                NO_DATE
+                self.bad(ctx, (line, c, v), ProblemKind::ImplausibleDate)
             }
             Ok(d) => d,
             Err(DateProblem::Impossible) => {
-                self.problem(
-                    ctx,
-                    line,
-                    c,
-                    v,
-                    ProblemKind::ImpossibleDate,
-                    "no such calendar day; left empty".into(),
-                );
-                NO_DATE
+                self.bad(ctx, (line, c, v), ProblemKind::ImpossibleDate)
             }
             Err(DateProblem::Unreadable) => {
-                let msg = format!(
-                    "not a date in the layout {}; left empty",
-                    self.parser.layout()
-                );
-                self.problem(ctx, line, c, v, ProblemKind::UnreadableDate, msg);
-                NO_DATE
+                self.bad(ctx, (line, c, v), ProblemKind::UnreadableDate)
             }
         }
+    }
+
+    /// The facts a problem's sentence needs, from this checker's settings.
+    pub fn facts<'a>(&'a self, value: &'a str) -> ReasonFacts<'a> {
+        ReasonFacts {
+            as_of: self.as_of,
+            oldest: self.rules.oldest_day,
+            layout: self.parser.layout(),
+            max_minutes: self.rules.max_minutes,
+            value,
+            ..ReasonFacts::default()
+        }
+    }
+
+    /// Record a problem of `kind` in the wording of [`ProblemKind::reason`]; the date is empty.
+    fn bad(
+        &mut self,
+        ctx: &mut FileCtx,
+        (line, c, v): (u64, usize, &str),
+        kind: ProblemKind,
+    ) -> i32 {
+        let msg = kind.reason(&self.facts(v));
+        self.problem(ctx, line, c, v, kind, msg);
+        NO_DATE
     }
 
     /// A duration in minutes: the value, or NaN with a field problem recorded.
@@ -211,39 +212,14 @@ impl FieldChecker {
         let (Some(c), Some(v)) = (column, self.rules.value(v)) else {
             return f32::NAN;
         };
-        match v.parse::<f64>() {
-            Ok(x) if x > self.rules.max_minutes && x.is_finite() => {
-                let msg = format!(
-                    "{x} minutes is more than {} ([input] max_duration_min); left empty",
-                    self.rules.max_minutes
-                );
-                self.problem(ctx, line, c, v, ProblemKind::ImplausibleNumber, msg);
-                f32::NAN
-            }
-            Ok(x) if x.is_finite() && x >= 0.0 => x as f32,
-            Ok(x) if x < 0.0 => {
-                self.problem(
-                    ctx,
-                    line,
-                    c,
-                    v,
-                    ProblemKind::NegativeNumber,
-                    "negative duration; left empty".into(),
-                );
-                f32::NAN
-            }
-            _ => {
-                self.problem(
-                    ctx,
-                    line,
-                    c,
-                    v,
-                    ProblemKind::UnreadableNumber,
-                    "not a number of minutes; left empty".into(),
-                );
-                f32::NAN
-            }
-        }
+        let kind = match v.parse::<f64>() {
+            Ok(x) if x > self.rules.max_minutes && x.is_finite() => ProblemKind::ImplausibleNumber,
+            Ok(x) if x.is_finite() && x >= 0.0 => return x as f32,
+            Ok(x) if x < 0.0 => ProblemKind::NegativeNumber,
+            _ => ProblemKind::UnreadableNumber,
+        };
+        self.bad(ctx, (line, c, v), kind);
+        f32::NAN
     }
 
     /// Stop the load if a date column is day/month ambiguous (ISO layout only).
@@ -348,7 +324,12 @@ impl PeopleBuilder {
                     } else {
                         format!("file {} line {l}", f + 1)
                     };
-                    let msg = format!("person {id} repeated; kept \"{old}\" from {at}");
+                    let msg = ProblemKind::ConflictingValue.reason(&ReasonFacts {
+                        person: id,
+                        kept: old,
+                        at: &at,
+                        ..ReasonFacts::default()
+                    });
                     checker.problem(ctx, line, c, &value, ProblemKind::ConflictingValue, msg);
                 }
                 Some(_) => {}

@@ -68,6 +68,10 @@ pub(super) fn open_input(
                 given: Some((*role, format!("given: --{}", role.name()))),
             }])
         }
+        Input::Aggregates(p) => Err(Error::Usage(format!(
+            "{}: aggregate tables are read on their own (--aggregates), not with export files",
+            p.display()
+        ))),
         Input::Path(p) if p.is_dir() => open_folder(p, config, read, ignored),
         Input::Path(p) => Ok(vec![Opened {
             table: Table::open(p, config, read)?,

@@ -6,7 +6,6 @@ use std::borrow::Cow;
 
 use polars::prelude::*;
 
-use super::dates;
 use super::intern::NewIds;
 use super::ledger::{Counts, ProblemKind, QuarantineReason, QuarantinedRow};
 use super::mapping::Mapping;
@@ -109,10 +108,10 @@ impl ExposureFields {
             let mut fd = checker.date(ctx, line, first_c, f);
             if ld != NO_DATE && fd != NO_DATE && fd > ld {
                 let v = f.unwrap_or("").trim().to_string();
-                let msg = format!(
-                    "first exposure after the last exposure ({}); left empty",
-                    dates::iso(ld)
-                );
+                let msg = ProblemKind::DateOrder.reason(&super::ledger::ReasonFacts {
+                    last: ld,
+                    ..checker.facts(&v)
+                });
                 checker.problem(
                     ctx,
                     line,
@@ -345,7 +344,7 @@ impl ExposureRows {
                 None | Some("no" | "n" | "false" | "f" | "0") => 0,
                 Some("yes" | "y" | "true" | "t" | "1") => 1,
                 Some(other) => {
-                    let msg = "not yes or no; read as no".to_string();
+                    let msg = ProblemKind::UnreadableFlag.reason(&checker.facts(other));
                     checker.problem(
                         ctx,
                         chunk.lines.line(row),

@@ -62,13 +62,36 @@ pub fn assortativity(a: &[u32], b: &[u32], deg: &[u32]) -> Stat {
 /// r_(i) depends on (j, k) only: the pairs are counted by their (j, k) once, and each distinct
 /// (j, k) is left out once and weighted by its count (thousands of r's rather than millions).
 pub fn jackknife_se(a: &[u32], b: &[u32], deg: &[u32]) -> Stat {
-    let all = sums(a, b, deg);
+    jackknife_from_joint(&joint_degree_counts(a, b, deg))
+}
+
+fn sums_of_joint(joint: &[((u32, u32), u64)]) -> Sums {
+    let mut s = Sums::default();
+    for &((j, k), count) in joint {
+        let (j, k, c) = (i128::from(j), i128::from(k), i128::from(count));
+        s.m += c;
+        s.jk += c * j * k;
+        s.b += c * (j + k);
+        s.c += c * (j * j + k * k);
+    }
+    s
+}
+
+/// r from the pairs counted by their end degrees (j <= k), as [`joint_degree_counts`] gives
+/// them (or a database engine's aggregate table): the same integer sums, the same value.
+pub fn assortativity_from_joint(joint: &[((u32, u32), u64)]) -> Stat {
+    sums_of_joint(joint).r()
+}
+
+/// The jackknife standard error of r from the pairs counted by their end degrees.
+pub fn jackknife_from_joint(joint: &[((u32, u32), u64)]) -> Stat {
+    let all = sums_of_joint(joint);
     let r = all.r()?;
     if all.m < 2 {
         return Err("needs at least two contacts");
     }
     let mut ss = 0.0;
-    for ((j, k), count) in joint_degree_counts(a, b, deg) {
+    for &((j, k), count) in joint {
         let mut s = all;
         s.add(j, k, -1);
         let ri = s

@@ -126,3 +126,79 @@ pub fn neighbours_of(g: &Adjacency, deg: &[u32], people: impl Iterator<Item = u3
         contact_excess,
     }
 }
+
+/// The same figures from tables a database engine counted (no adjacency): `degrees` gives
+/// people per degree (k, n_k); `joint` the ends of pairs by (own degree, other end's degree),
+/// each pair counted from both ends; `sums` people by (degree k, sum of contacts' degrees).
+/// Integers are as exact as from the adjacency; float sums may differ in the last bits (they
+/// are added in another order). `neighbour_degree_sum` is empty (no per-person figures).
+pub fn from_tables(
+    degrees: &[(u32, u64)],
+    joint: &[(u32, u32, u64)],
+    sums: &[(u32, u64, u64)],
+) -> Neighbours {
+    let max = degrees.iter().map(|d| d.0).max().unwrap_or(0) as usize;
+    let count: u64 = degrees.iter().map(|d| d.1).sum();
+    let (mut s1, mut s2) = (0u128, 0u128);
+    for &(k, n) in degrees {
+        s1 += u128::from(k) * u128::from(n);
+        s2 += u128::from(k) * u128::from(k) * u128::from(n);
+    }
+    let (mut more, mut fewer, mut equal, mut active) = (0u64, 0u64, 0u64, 0u64);
+    let mut m_total = 0.0;
+    let mut knn_sum = vec![0.0f64; max + 1];
+    let mut knn_count = vec![0u64; max + 1];
+    for &(k, total, n) in sums.iter().filter(|s| s.0 > 0) {
+        active += n;
+        let k2 = u64::from(k) * u64::from(k);
+        match total.cmp(&k2) {
+            std::cmp::Ordering::Greater => more += n,
+            std::cmp::Ordering::Less => fewer += n,
+            std::cmp::Ordering::Equal => equal += n,
+        }
+        let m = total as f64 / f64::from(k) * n as f64;
+        m_total += m;
+        knn_sum[k as usize] += m;
+        knn_count[k as usize] += n;
+    }
+    let mut contact_excess = vec![0.0f64; max.max(1)];
+    for &(own, other, ends) in joint.iter().filter(|j| j.0 > 0 && j.1 > 0) {
+        contact_excess[other as usize - 1] += ends as f64 / f64::from(own);
+    }
+    let knn = (1..=max)
+        .filter(|&k| knn_count[k] > 0)
+        .map(|k| (k as u32, knn_sum[k] / knn_count[k] as f64))
+        .collect();
+    if active == 0 {
+        let u = Err("no contacts (every person has degree 0)");
+        let u0 = if count == 0 { Err("no people") } else { u };
+        return Neighbours {
+            neighbour_degree_sum: Vec::new(),
+            n_active: 0,
+            edge_end_mean: u0,
+            contact_mean: u0,
+            mean_active: u0,
+            share_more: u0,
+            share_fewer: u0,
+            share_equal: u0,
+            knn,
+            contact_excess: Vec::new(),
+        };
+    }
+    let a = active as f64;
+    for v in contact_excess.iter_mut() {
+        *v /= a;
+    }
+    Neighbours {
+        neighbour_degree_sum: Vec::new(),
+        n_active: active as usize,
+        edge_end_mean: Ok(s2 as f64 / s1 as f64),
+        contact_mean: Ok(m_total / a),
+        mean_active: Ok(s1 as f64 / a),
+        share_more: Ok(more as f64 / a),
+        share_fewer: Ok(fewer as f64 / a),
+        share_equal: Ok(equal as f64 / a),
+        knn,
+        contact_excess,
+    }
+}

@@ -6,10 +6,11 @@ use serde_json::{json, Map, Value};
 
 use crate::analysis::casedata::CaseStats;
 use crate::analysis::casedata::Offspring;
-use crate::analysis::stats::{NetworkStats, MIN_TAIL, TOP};
+use crate::analysis::stats::{DegreeFits, NetworkStats, MIN_TAIL, TOP};
 use crate::dataset::Dataset;
+use crate::ids::IdMap;
 use crate::metrics::cases::Proportion;
-use crate::metrics::{fits, Stat};
+use crate::metrics::{degree, fits, neighbours, Stat};
 
 /// Insert `key: value`, or `key: null` and `key_undefined: reason`, into a JSON object.
 pub fn put(obj: &mut serde_json::Map<String, serde_json::Value>, key: &str, v: Stat) {
@@ -35,28 +36,28 @@ fn pairs_list<T: Into<Value> + Copy>(v: impl Iterator<Item = (u64, T)>) -> Value
 /// The statistics as JSON members, merged into the summary object.
 pub fn stats_members(st: &NetworkStats, d: &Dataset) -> Map<String, Value> {
     let mut out = Map::new();
-    out.insert("degree".into(), degree(st, d));
+    out.insert("degree".into(), degree(&st.degree, &st.degrees, &d.ids));
     excess_and_paradox(st, &mut out);
     structure(st, d, &mut out);
     out.insert("mixing".into(), mixing(st));
-    out.insert("fits".into(), fits_json(st));
+    out.insert("fits".into(), fits_json(&st.fits));
     out.insert("cases".into(), cases(&st.cases));
     out
 }
 
-fn degree(st: &NetworkStats, d: &Dataset) -> Value {
-    let s = &st.degree;
+/// The member `degree`: moments, the people with the most contacts, the histogram.
+pub fn degree(s: &degree::DegreeStats, degrees: &[u32], ids: &IdMap) -> Value {
     let mut deg = Map::new();
     put(&mut deg, "mean", s.mean);
     put(&mut deg, "mean_sq", s.mean_sq);
     put(&mut deg, "variance", s.variance);
     deg.insert("max".into(), json!(s.max));
     // The people with the most contacts (ties by ID, so the list is stable).
-    let mut order: Vec<u32> = (0..st.degrees.len() as u32).collect();
+    let mut order: Vec<u32> = (0..degrees.len() as u32).collect();
     order.sort_unstable_by(|&x, &y| {
-        st.degrees[y as usize]
-            .cmp(&st.degrees[x as usize])
-            .then_with(|| d.ids.name(x).cmp(d.ids.name(y)))
+        degrees[y as usize]
+            .cmp(&degrees[x as usize])
+            .then_with(|| ids.name(x).cmp(ids.name(y)))
     });
     deg.insert(
         "top".into(),
@@ -64,7 +65,7 @@ fn degree(st: &NetworkStats, d: &Dataset) -> Value {
             order
                 .iter()
                 .take(TOP)
-                .map(|&v| json!([d.ids.name(v), st.degrees[v as usize]]))
+                .map(|&v| json!([ids.name(v), degrees[v as usize]]))
                 .collect(),
         ),
     );
@@ -82,8 +83,21 @@ fn degree(st: &NetworkStats, d: &Dataset) -> Value {
 }
 
 fn excess_and_paradox(st: &NetworkStats, out: &mut Map<String, Value>) {
-    let s = &st.degree;
+    degree_members(&st.degree, &st.neighbours, out);
+    let mut r = assortativity(st.r, st.r_se);
+    put(&mut r, "null_mean", st.null.mean);
+    put(&mut r, "null_sd", st.null.sd);
+    r.insert("null_replicates".into(), json!(st.null.replicates));
+    r.insert("null_swaps_per_edge".into(), json!(st.null.swaps_per_edge));
+    out.insert("assortativity".into(), Value::Object(r));
+}
 
+/// The members `excess`, `paradox` and `knn`: what the degrees and the neighbours' degrees give.
+pub fn degree_members(
+    s: &degree::DegreeStats,
+    nb: &neighbours::Neighbours,
+    out: &mut Map<String, Value>,
+) {
     let mut ex = Map::new();
     put(&mut ex, "mean", s.mean_excess);
     put(&mut ex, "edge_end_mean", s.edge_end_mean);
@@ -95,8 +109,7 @@ fn excess_and_paradox(st: &NetworkStats, out: &mut Map<String, Value>) {
     ex.insert(
         "contacts_observed".into(),
         pairs_list(
-            st.neighbours
-                .contact_excess
+            nb.contact_excess
                 .iter()
                 .enumerate()
                 .map(|(k, &x)| (k as u64, x)),
@@ -104,7 +117,6 @@ fn excess_and_paradox(st: &NetworkStats, out: &mut Map<String, Value>) {
     );
     out.insert("excess".into(), Value::Object(ex));
 
-    let nb = &st.neighbours;
     let mut px = Map::new();
     put(&mut px, "edge_end_mean", nb.edge_end_mean);
     put(&mut px, "contact_mean", nb.contact_mean);
@@ -114,23 +126,22 @@ fn excess_and_paradox(st: &NetworkStats, out: &mut Map<String, Value>) {
     px.insert("people_with_contacts".into(), json!(nb.n_active));
     put(&mut px, "mean_degree_with_contacts", nb.mean_active);
     out.insert("paradox".into(), Value::Object(px));
-
-    let mut r = Map::new();
-    put(&mut r, "r", st.r);
-    put(&mut r, "se_jackknife", st.r_se);
-    r.insert(
-        "se_method".into(),
-        "jackknife over contacts, degrees kept fixed (variant A), Newman's form".into(),
-    );
-    put(&mut r, "null_mean", st.null.mean);
-    put(&mut r, "null_sd", st.null.sd);
-    r.insert("null_replicates".into(), json!(st.null.replicates));
-    r.insert("null_swaps_per_edge".into(), json!(st.null.swaps_per_edge));
-    out.insert("assortativity".into(), Value::Object(r));
     out.insert(
         "knn".into(),
         pairs_list(nb.knn.iter().map(|&(k, v)| (u64::from(k), v))),
     );
+}
+
+/// The member `assortativity` without the null model: r and its jackknife SE.
+pub fn assortativity(r_value: Stat, se: Stat) -> Map<String, Value> {
+    let mut r = Map::new();
+    put(&mut r, "r", r_value);
+    put(&mut r, "se_jackknife", se);
+    r.insert(
+        "se_method".into(),
+        "jackknife over contacts, degrees kept fixed (variant A), Newman's form".into(),
+    );
+    r
 }
 
 fn structure(st: &NetworkStats, d: &Dataset, out: &mut Map<String, Value>) {
@@ -186,8 +197,8 @@ fn mixing(st: &NetworkStats) -> Value {
     Value::Object(mix)
 }
 
-fn fits_json(st: &NetworkStats) -> Value {
-    let f = &st.fits;
+/// The member `fits`: the degree distribution's fits and which is best.
+pub fn fits_json(f: &DegreeFits) -> Value {
     let model = |fit: &fits::Fit| {
         let mut o = Map::new();
         for (name, v) in &fit.params {

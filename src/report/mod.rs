@@ -9,6 +9,7 @@ pub mod brief;
 pub mod chains;
 pub mod check;
 pub mod daywork;
+pub mod degree_tables;
 pub mod figures;
 pub mod fmt;
 pub mod json;

@@ -20,11 +20,13 @@ use crate::workspace::Workspace;
 mod chains;
 mod day;
 mod outputs;
+mod sql;
 pub use chains::{BackwardArgs, ChainCommon, ChainDirection, ForwardArgs};
 pub use day::{ChangesArgs, DayArgs};
 pub use outputs::{
     BriefArgs, ExportArgs, FigureArgs, FigureFormat, FiguresArgs, ListKind, ListOutput, OutlookArgs,
 };
+pub use sql::SqlArgs;
 
 /// hubwatch: see who to reach first in a contact-tracing export.
 #[derive(Debug, Parser)]
@@ -131,6 +133,10 @@ pub enum Command {
     /// with many contacts still to call, people unreachable for two days, and follow-up
     /// progress over the last 14 days.
     Today(DayArgs),
+    /// The SQL that makes, in DuckDB or Spark, the aggregate tables `--aggregates DIR` reads:
+    /// the same rules as the reader of files (ledger, people, pairs, degree tables), for
+    /// exports too large for one machine.
+    Sql(SqlArgs),
     /// Trace along dated exposures: forward from cases to whom they may have exposed (and
     /// those people's contacts), or backward from cases to where they may have been infected.
     Chains {
@@ -383,6 +389,10 @@ pub struct LoadArgs {
     /// Values that mean "missing" (added to [input] missing_values), e.g. 99,NA,unknown.
     #[arg(long, value_name = "CODES", value_delimiter = ',', global = true)]
     pub missing_values: Vec<String>,
+    /// Read the aggregate tables (Parquet) that the SQL of `hubwatch sql` made in a database
+    /// engine, instead of export files.
+    #[arg(long, value_name = "DIR", global = true, conflicts_with_all = ["paths", "people_files", "exposure_files"])]
+    pub aggregates: Option<PathBuf>,
     /// A people table, whatever its columns (repeatable).
     #[arg(long = "people", value_name = "FILE")]
     pub people_files: Vec<PathBuf>,
@@ -486,6 +496,9 @@ impl LoadArgs {
 
     /// The inputs: the paths given and the files with a given role, or the bundled sample.
     pub fn inputs(&self) -> Vec<Input> {
+        if let Some(dir) = &self.aggregates {
+            return vec![Input::Aggregates(dir.clone())];
+        }
         if self.paths.is_empty() && self.people_files.is_empty() && self.exposure_files.is_empty() {
             return sample::inputs();
         }

@@ -10,6 +10,7 @@ pub mod export;
 pub mod figures;
 pub mod outlook;
 pub mod priority;
+pub mod sql;
 pub mod state;
 pub mod summary;
 pub mod synth;

@@ -12,7 +12,17 @@ pub fn run(load: &LoadArgs, stats: &StatsArgs, as_json: bool) -> Result<()> {
         ..Parts::default()
     };
     let t = std::time::Instant::now();
-    let d = load.load()?;
+    let d = match &load.aggregates {
+        Some(dir) => {
+            crate::dataset::aggregates_take_no_view(&load.options(false)?.view)?;
+            let tables = crate::ingest::aggregates::read(dir)?;
+            if tables.pairs.is_none() {
+                return degree_tables_only(&tables, as_json);
+            }
+            crate::dataset::from_aggregates(tables)?
+        }
+        None => load.load()?,
+    };
     let loaded = t.elapsed().as_secs_f64();
     let r = Report::build(d, parts)?;
     crate::cli::stages(&r.d.timings, loaded, t.elapsed().as_secs_f64() - loaded);
@@ -36,4 +46,14 @@ pub fn run(load: &LoadArgs, stats: &StatsArgs, as_json: bool) -> Result<()> {
     emit(&to_json(&v)?)?;
     leave(r);
     Ok(())
+}
+
+/// The summary from the degree tables alone (the folder has no pair table).
+fn degree_tables_only(t: &crate::ingest::aggregates::AggregateTables, as_json: bool) -> Result<()> {
+    use crate::report::degree_tables;
+    let st = crate::analysis::degree_tables::compute(t)?;
+    match as_json {
+        true => emit(&to_json(&degree_tables::to_json(t, &st))?),
+        false => emit(&degree_tables::to_text(t, &st)),
+    }
 }
