@@ -146,9 +146,10 @@ impl W {
         match self.d {
             Dialect::DuckDb => format!("nfc_normalize({expr})"),
             // ICU4J ships with Spark 4; `compose(s, false)` is NFC.
-            Dialect::Spark => {
-                format!("reflect('com.ibm.icu.text.Normalizer', 'compose', {expr}, false)")
-            }
+            Dialect::Spark => format!(
+                "CASE WHEN {expr} IS NULL THEN NULL \
+                 ELSE reflect('com.ibm.icu.text.Normalizer', 'compose', {expr}, false) END"
+            ),
         }
     }
 
@@ -728,7 +729,8 @@ fn people_rows(
             ));
         }
         problems.push(format!(
-            "SELECT 'people', x.ord, {h}, x.{a}, 'conflicting_value', k.{a}, x.id, k.ord \
+            "SELECT 'people' AS role, x.ord AS ord, {h} AS column_name, x.{a} AS value, \
+             'conflicting_value' AS kind, k.{a} AS detail, x.id AS person, k.ord AS first_ord \
              FROM hw_p2 x JOIN hw_p k ON x.key = k.key WHERE x.{a} IS NOT NULL AND x.{a} <> k.{a}"
         ));
     }

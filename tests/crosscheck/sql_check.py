@@ -134,6 +134,50 @@ def split_statements(sql):
     return out
 
 
+def write_hostile(folder):
+    """A small export of invented rows, each planted to hit one rule of the reader: IDs padded
+    with tabs and no-break spaces, missing-value codes as IDs, one name in composed and
+    decomposed Unicode, a self-exposure hidden by padding, every kind of bad date and duration,
+    settings spelled in three cases, yes/no flags and one that is neither, a repeated person
+    whose area disagrees."""
+    os.makedirs(folder, exist_ok=True)
+    jose_nfc, jose_nfd = "Jos\u00e9-01", "Jose\u0301-01"
+    exposures = [
+        ["source_id", "target_id", "exposure_date", "first_exposure_date", "setting", "duration_min", "transmission"],
+        ["A1", "A2", "2026-10-05", "2026-10-01", "Household", "30", "yes"],
+        [" A1\t", "A3", "2026-10-05T10:00", "", "household ", "15.5", "no"],
+        ["A2", "A1", "2026-10-06", "", "HOUSEHOLD", "abc", "Y"],
+        ["A1", "\u00a0A1", "2026-10-06", "", "work", "10", "no"],
+        ["NA", "A2", "2026-10-06", "", "work", "10", "no"],
+        ["A3", "null", "2026-10-06", "", "work", "10", "no"],
+        ["A3", "", "2026-10-06", "", "work", "10", "no"],
+        ["A3", jose_nfc, "2026-02-30", "", "school", "-5", "maybe"],
+        [jose_nfd, "A4", "2026/01/05", "", "School", "1e9", "0"],
+        ["A4", "A5", "2027-01-01", "2026-12-30", "na", "inf", "false"],
+        ["A5", "A6", "1900-01-01", "", "work", "NaN", "t"],
+        ["A6", "A7", "2026-10-01", "2026-10-09", "work", "20", "n"],
+        ["A7", "A8", "", "2026-10-02", "", "", ""],
+        ["A8", "A1", "2026-10-03", "", "Community", "0", "1"],
+        ["A8", "A9", "2026-10-03", "", "community", "-0", "f"],
+        ["A9", "A2", "2026-10-04", "", "community", "1.5e2", "no"],
+    ]
+    people = [
+        ["person_id", "role", "onset_date", "area"],
+        ["A1", "case", "2026-10-01", "Fernhollow"],
+        ["A2", "contact", "", "Fernhollow"],
+        ["A1", "case", "2026-10-02", "Brackenmoor"],
+        [" A3 ", "contact", "2026-13-01", "Brackenmoor"],
+        ["", "contact", "", "Brackenmoor"],
+        ["N/A", "contact", "", "Brackenmoor"],
+        [jose_nfd, "case", "2026-10-04", "Saltmere"],
+        [jose_nfc, "case", "2026-10-04", "Saltmere"],
+        ["A6", "contact", "2099-01-01", ""],
+    ]
+    for name, rows in (("exposures.csv", exposures), ("people.csv", people)):
+        with open(os.path.join(folder, name), "w", newline="", encoding="utf-8") as f:
+            csv.writer(f).writerows(rows)
+
+
 def parse_spec(spec):
     parts = spec.split(";")
     case = {"exposures": parts[0], "people": None, "columns": [], "view": []}
@@ -200,6 +244,9 @@ def main():
     ENGINE_NAME = engine_name
     engine = DuckDb(work) if engine_name == "duckdb" else Spark(work)
     failed = []
+    hostile = os.path.join(work, "hostile")
+    write_hostile(hostile)
+    cases = [f"hostile={hostile}/exposures.csv;people={hostile}/people.csv", *cases]
     try:
         for c in cases:
             name, spec = c.split("=", 1)

@@ -7,6 +7,7 @@
 
 mod common;
 
+mod aggregates;
 mod brief;
 mod casedata;
 mod cases;

@@ -391,7 +391,7 @@ pub struct LoadArgs {
     pub missing_values: Vec<String>,
     /// Read the aggregate tables (Parquet) that the SQL of `hubwatch sql` made in a database
     /// engine, instead of export files.
-    #[arg(long, value_name = "DIR", global = true, conflicts_with_all = ["paths", "people_files", "exposure_files"])]
+    #[arg(long, value_name = "DIR", global = true)]
     pub aggregates: Option<PathBuf>,
     /// A people table, whatever its columns (repeatable).
     #[arg(long = "people", value_name = "FILE")]
@@ -447,6 +447,13 @@ impl LoadArgs {
 
     /// Load options from the flags.
     pub fn options(&self, progress: bool) -> Result<LoadOptions> {
+        if self.aggregates.is_some()
+            && !(self.paths.is_empty() && self.people_files.is_empty() && self.exposure_files.is_empty())
+        {
+            return Err(Error::Usage(
+                "--aggregates reads a folder of aggregate tables on its own: give no export files with it".into(),
+            ));
+        }
         let overrides = self
             .columns
             .iter()
