@@ -95,6 +95,7 @@ class Spark:
             SparkSession.builder.master("local[2]")
             .appName("hubwatch-sql-check")
             .config("spark.ui.enabled", "false")
+            .config("spark.ui.showConsoleProgress", "false")
             .config("spark.sql.shuffle.partitions", "4")
             .config("spark.sql.warehouse.dir", os.path.join(work, "warehouse"))
             .config("spark.driver.extraJavaOptions", f"-Djava.io.tmpdir={work}")

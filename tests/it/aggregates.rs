@@ -31,7 +31,10 @@ fn request(dialect: Dialect, columns: Option<&str>, overrides: &[&str]) -> SqlRe
         },
         people: None,
         row_order: None,
-        overrides: overrides.iter().map(|o| parse_override(o).unwrap()).collect(),
+        overrides: overrides
+            .iter()
+            .map(|o| parse_override(o).unwrap())
+            .collect(),
         as_of: dates::parse_iso(AS_OF).unwrap(),
         view: View::default(),
         parquet_dir: Some("/data/agg".into()),
@@ -41,7 +44,12 @@ fn request(dialect: Dialect, columns: Option<&str>, overrides: &[&str]) -> SqlRe
 #[test]
 fn sql_quotes_and_writes_per_dialect() {
     let cols = Some("src,dst,when,it's");
-    let over = ["source_id=src", "target_id=dst", "exposure_date=when", "setting=it's"];
+    let over = [
+        "source_id=src",
+        "target_id=dst",
+        "exposure_date=when",
+        "setting=it's",
+    ];
     let duck = generate(&request(Dialect::DuckDb, cols, &over), &Config::default()).unwrap();
     let spark = generate(&request(Dialect::Spark, cols, &over), &Config::default()).unwrap();
     // Identifiers: "double quotes" in DuckDB, `backticks` in Spark; a quote in a literal is
@@ -55,8 +63,12 @@ fn sql_quotes_and_writes_per_dialect() {
     assert!(spark.contains("com.ibm.icu.text.Normalizer"));
     // The tables are written where asked, one file or one folder each.
     for t in hubwatch::ingest::sql::TABLES {
-        assert!(duck.contains(&format!("COPY hw_{t} TO '/data/agg/{t}.parquet' (FORMAT PARQUET);")));
-        assert!(spark.contains(&format!("INSERT OVERWRITE DIRECTORY '/data/agg/{t}' USING parquet")));
+        assert!(duck.contains(&format!(
+            "COPY hw_{t} TO '/data/agg/{t}.parquet' (FORMAT PARQUET);"
+        )));
+        assert!(spark.contains(&format!(
+            "INSERT OVERWRITE DIRECTORY '/data/agg/{t}' USING parquet"
+        )));
     }
     // Every statement ends a line with a semicolon (how a runner splits the script).
     assert!(duck.trim_end().ends_with(';') && spark.trim_end().ends_with(';'));
@@ -99,17 +111,35 @@ fn sql_says_what_it_cannot_do() {
     )
     .unwrap_err();
     let msg = err.to_string();
-    assert!(msg.contains("table raw.exposures: no column for source_id"), "{msg}");
-    assert!(msg.contains("--column source_id=COLUMN") && msg.contains("a, b"), "{msg}");
+    assert!(
+        msg.contains("table raw.exposures: no column for source_id"),
+        "{msg}"
+    );
+    assert!(
+        msg.contains("--column source_id=COLUMN") && msg.contains("a, b"),
+        "{msg}"
+    );
     assert!(Dialect::parse("postgres").is_err());
-    let (code, _, err) = hubwatch(&["sql", "--dialect", "duckdb", "--exposures", "t", "--date-format", "%d.%m.%Y"]);
+    let (code, _, err) = hubwatch(&[
+        "sql",
+        "--dialect",
+        "duckdb",
+        "--exposures",
+        "t",
+        "--date-format",
+        "%d.%m.%Y",
+    ]);
     assert_eq!(code, 2, "{err}");
     assert!(err.contains("ISO 8601"));
 }
 
 #[test]
 fn sql_for_a_view_keeps_the_ledger_whole() {
-    let mut r = request(Dialect::DuckDb, Some("source_id,target_id,exposure_date,setting"), &[]);
+    let mut r = request(
+        Dialect::DuckDb,
+        Some("source_id,target_id,exposure_date,setting"),
+        &[],
+    );
     r.view = View {
         settings: vec!["Household".into()],
         from: Some(dates::parse_iso("2026-10-01").unwrap()),
@@ -162,37 +192,82 @@ fn write_tables(d: &Dataset, dir: &Path) {
         }
     }
     let (k, v): (Vec<String>, Vec<String>) = meta.into_iter().unzip();
-    put(dir, "meta", frame(vec![Column::new("key".into(), k), Column::new("value".into(), v)]));
+    put(
+        dir,
+        "meta",
+        frame(vec![
+            Column::new("key".into(), k),
+            Column::new("value".into(), v),
+        ]),
+    );
     let mut cols = vec![
         Column::new("node".into(), (0..n as i64).collect::<Vec<_>>()),
-        Column::new("id".into(), (0..n as u32).map(|i| d.ids.name(i).to_string()).collect::<Vec<_>>()),
-        Column::new("listed".into(), (0..n as u32).map(|i| i < d.people_in_table).collect::<Vec<_>>()),
-        Column::new("k".into(), deg.iter().map(|&k| i64::from(k)).collect::<Vec<_>>()),
+        Column::new(
+            "id".into(),
+            (0..n as u32)
+                .map(|i| d.ids.name(i).to_string())
+                .collect::<Vec<_>>(),
+        ),
+        Column::new(
+            "listed".into(),
+            (0..n as u32)
+                .map(|i| i < d.people_in_table)
+                .collect::<Vec<_>>(),
+        ),
+        Column::new(
+            "k".into(),
+            deg.iter().map(|&k| i64::from(k)).collect::<Vec<_>>(),
+        ),
     ];
     for (name, values) in d.attrs.names.iter().zip(&d.attrs.values) {
-        let v: Vec<Option<String>> = (0..n).map(|i| values.get(i).cloned().flatten().map(String::from)).collect();
+        let v: Vec<Option<String>> = (0..n)
+            .map(|i| values.get(i).cloned().flatten().map(String::from))
+            .collect();
         cols.push(Column::new(format!("attr:{name}").into(), v));
     }
     put(dir, "nodes", frame(cols));
-    put(dir, "settings", frame(vec![
-        Column::new("code".into(), (1..=d.settings.len() as i64).collect::<Vec<_>>()),
-        Column::new("label".into(), d.settings.clone()),
-    ]));
+    put(
+        dir,
+        "settings",
+        frame(vec![
+            Column::new(
+                "code".into(),
+                (1..=d.settings.len() as i64).collect::<Vec<_>>(),
+            ),
+            Column::new("label".into(), d.settings.clone()),
+        ]),
+    );
     let e = &d.edges;
     let m = e.len();
     let u = |v: &[u32]| v.iter().map(|&x| i64::from(x)).collect::<Vec<_>>();
     let links = |v: &[u32]| if v.is_empty() { vec![0i64; m] } else { u(v) };
-    put(dir, "pairs", frame(vec![
-        Column::new("a".into(), u(&e.a)),
-        Column::new("b".into(), u(&e.b)),
-        Column::new("rows".into(), u(&e.rows)),
-        Column::new("a_named_b".into(), u(&e.a_named_b)),
-        Column::new("first_day".into(), e.first.iter().map(|&x| iso(x)).collect::<Vec<_>>()),
-        Column::new("last_day".into(), e.last.iter().map(|&x| iso(x)).collect::<Vec<_>>()),
-        Column::new("minutes".into(), e.minutes.iter().map(|&x| (!x.is_nan()).then_some(x)).collect::<Vec<_>>()),
-        Column::new("links_ab".into(), links(&e.links_ab)),
-        Column::new("links_ba".into(), links(&e.links_ba)),
-    ]));
+    put(
+        dir,
+        "pairs",
+        frame(vec![
+            Column::new("a".into(), u(&e.a)),
+            Column::new("b".into(), u(&e.b)),
+            Column::new("rows".into(), u(&e.rows)),
+            Column::new("a_named_b".into(), u(&e.a_named_b)),
+            Column::new(
+                "first_day".into(),
+                e.first.iter().map(|&x| iso(x)).collect::<Vec<_>>(),
+            ),
+            Column::new(
+                "last_day".into(),
+                e.last.iter().map(|&x| iso(x)).collect::<Vec<_>>(),
+            ),
+            Column::new(
+                "minutes".into(),
+                e.minutes
+                    .iter()
+                    .map(|&x| (!x.is_nan()).then_some(x))
+                    .collect::<Vec<_>>(),
+            ),
+            Column::new("links_ab".into(), links(&e.links_ab)),
+            Column::new("links_ba".into(), links(&e.links_ba)),
+        ]),
+    );
     let (mut sa, mut sb, mut sc) = (Vec::new(), Vec::new(), Vec::new());
     let (mut xa, mut xb, mut xf, mut xl) = (Vec::new(), Vec::new(), Vec::new(), Vec::new());
     for i in 0..m {
@@ -211,49 +286,109 @@ fn write_tables(d: &Dataset, dir: &Path) {
             }
         }
     }
-    put(dir, "pair_settings", frame(vec![Column::new("a".into(), sa), Column::new("b".into(), sb), Column::new("code".into(), sc)]));
-    put(dir, "spans", frame(vec![
-        Column::new("a".into(), xa),
-        Column::new("b".into(), xb),
-        Column::new("span_first".into(), xf),
-        Column::new("span_last".into(), xl),
-    ]));
+    put(
+        dir,
+        "pair_settings",
+        frame(vec![
+            Column::new("a".into(), sa),
+            Column::new("b".into(), sb),
+            Column::new("code".into(), sc),
+        ]),
+    );
+    put(
+        dir,
+        "spans",
+        frame(vec![
+            Column::new("a".into(), xa),
+            Column::new("b".into(), xb),
+            Column::new("span_first".into(), xf),
+            Column::new("span_last".into(), xl),
+        ]),
+    );
     let days = &d.exposures_by_day;
-    put(dir, "days", frame(vec![
-        Column::new("day".into(), days.iter().map(|x| dates::iso(x.0)).collect::<Vec<_>>()),
-        Column::new("setting".into(), days.iter().map(|x| i64::from(x.1)).collect::<Vec<_>>()),
-        Column::new("rows".into(), days.iter().map(|x| x.2 as i64).collect::<Vec<_>>()),
-    ]));
+    put(
+        dir,
+        "days",
+        frame(vec![
+            Column::new(
+                "day".into(),
+                days.iter().map(|x| dates::iso(x.0)).collect::<Vec<_>>(),
+            ),
+            Column::new(
+                "setting".into(),
+                days.iter().map(|x| i64::from(x.1)).collect::<Vec<_>>(),
+            ),
+            Column::new(
+                "rows".into(),
+                days.iter().map(|x| x.2 as i64).collect::<Vec<_>>(),
+            ),
+        ]),
+    );
     let st = degree::degree_stats(&deg);
-    let hist: Vec<(i64, i64)> = st.histogram.iter().enumerate().filter(|(_, &c)| c > 0).map(|(k, &c)| (k as i64, c as i64)).collect();
-    put(dir, "degrees", frame(vec![
-        Column::new("k".into(), hist.iter().map(|h| h.0).collect::<Vec<_>>()),
-        Column::new("people".into(), hist.iter().map(|h| h.1).collect::<Vec<_>>()),
-    ]));
+    let hist: Vec<(i64, i64)> = st
+        .histogram
+        .iter()
+        .enumerate()
+        .filter(|(_, &c)| c > 0)
+        .map(|(k, &c)| (k as i64, c as i64))
+        .collect();
+    put(
+        dir,
+        "degrees",
+        frame(vec![
+            Column::new("k".into(), hist.iter().map(|h| h.0).collect::<Vec<_>>()),
+            Column::new(
+                "people".into(),
+                hist.iter().map(|h| h.1).collect::<Vec<_>>(),
+            ),
+        ]),
+    );
     let mut joint: std::collections::BTreeMap<(i64, i64), i64> = Default::default();
     for i in 0..m {
-        let (j, k) = (i64::from(deg[e.a[i] as usize]), i64::from(deg[e.b[i] as usize]));
+        let (j, k) = (
+            i64::from(deg[e.a[i] as usize]),
+            i64::from(deg[e.b[i] as usize]),
+        );
         *joint.entry((j, k)).or_default() += 1;
         *joint.entry((k, j)).or_default() += 1;
     }
-    put(dir, "joint", frame(vec![
-        Column::new("j".into(), joint.keys().map(|x| x.0).collect::<Vec<_>>()),
-        Column::new("k".into(), joint.keys().map(|x| x.1).collect::<Vec<_>>()),
-        Column::new("ends".into(), joint.values().copied().collect::<Vec<_>>()),
-    ]));
+    put(
+        dir,
+        "joint",
+        frame(vec![
+            Column::new("j".into(), joint.keys().map(|x| x.0).collect::<Vec<_>>()),
+            Column::new("k".into(), joint.keys().map(|x| x.1).collect::<Vec<_>>()),
+            Column::new("ends".into(), joint.values().copied().collect::<Vec<_>>()),
+        ]),
+    );
     let nb = neighbours::neighbours(&d.graph, &deg);
     let mut sums: std::collections::BTreeMap<(i64, i64), i64> = Default::default();
     for i in (0..n).filter(|&i| deg[i] > 0) {
-        *sums.entry((i64::from(deg[i]), nb.neighbour_degree_sum[i] as i64)).or_default() += 1;
+        *sums
+            .entry((i64::from(deg[i]), nb.neighbour_degree_sum[i] as i64))
+            .or_default() += 1;
     }
-    put(dir, "neighbour_sums", frame(vec![
-        Column::new("k".into(), sums.keys().map(|x| x.0).collect::<Vec<_>>()),
-        Column::new("total".into(), sums.keys().map(|x| x.1).collect::<Vec<_>>()),
-        Column::new("people".into(), sums.values().copied().collect::<Vec<_>>()),
-    ]));
+    put(
+        dir,
+        "neighbour_sums",
+        frame(vec![
+            Column::new("k".into(), sums.keys().map(|x| x.0).collect::<Vec<_>>()),
+            Column::new("total".into(), sums.keys().map(|x| x.1).collect::<Vec<_>>()),
+            Column::new("people".into(), sums.values().copied().collect::<Vec<_>>()),
+        ]),
+    );
     let (mut lr, mut li, mut ln) = (Vec::new(), Vec::new(), Vec::new());
-    for (role, c) in [("exposures", d.ledger.exposures), ("people", d.ledger.people)] {
-        for (item, v) in [("read", c.read), ("used", c.used), ("merged", c.merged), ("quarantined", c.quarantined), ("ids_normalised", c.ids_normalised)] {
+    for (role, c) in [
+        ("exposures", d.ledger.exposures),
+        ("people", d.ledger.people),
+    ] {
+        for (item, v) in [
+            ("read", c.read),
+            ("used", c.used),
+            ("merged", c.merged),
+            ("quarantined", c.quarantined),
+            ("ids_normalised", c.ids_normalised),
+        ] {
             lr.push(role.to_string());
             li.push(item.to_string());
             ln.push(v as i64);
@@ -266,7 +401,15 @@ fn write_tables(d: &Dataset, dir: &Path) {
             ln.push(count as i64);
         }
     }
-    put(dir, "ledger", frame(vec![Column::new("role".into(), lr), Column::new("item".into(), li), Column::new("n".into(), ln)]));
+    put(
+        dir,
+        "ledger",
+        frame(vec![
+            Column::new("role".into(), lr),
+            Column::new("item".into(), li),
+            Column::new("n".into(), ln),
+        ]),
+    );
     let q = &d.ledger.quarantined;
     let field = |r: &hubwatch::ingest::ledger::QuarantineReason| {
         use hubwatch::ingest::ledger::QuarantineReason::*;
@@ -275,29 +418,82 @@ fn write_tables(d: &Dataset, dir: &Path) {
             _ => None,
         }
     };
-    put(dir, "quarantine", frame(vec![
-        Column::new("role".into(), q.iter().map(|r| d.ledger.files[r.file].role.name()).collect::<Vec<_>>()),
-        Column::new("ord".into(), q.iter().map(|r| r.line as i64).collect::<Vec<_>>()),
-        Column::new("reason".into(), q.iter().map(|r| r.reason.code()).collect::<Vec<_>>()),
-        Column::new("field".into(), q.iter().map(|r| field(&r.reason)).collect::<Vec<_>>()),
-        Column::new("code".into(), q.iter().map(|r| match &r.reason {
-            hubwatch::ingest::ledger::QuarantineReason::MissingValueCode { code, .. } => Some(code.clone()),
-            _ => None,
-        }).collect::<Vec<_>>()),
-        Column::new("raw".into(), q.iter().map(|r| r.raw.clone()).collect::<Vec<_>>()),
-    ]));
+    put(
+        dir,
+        "quarantine",
+        frame(vec![
+            Column::new(
+                "role".into(),
+                q.iter()
+                    .map(|r| d.ledger.files[r.file].role.name())
+                    .collect::<Vec<_>>(),
+            ),
+            Column::new(
+                "ord".into(),
+                q.iter().map(|r| r.line as i64).collect::<Vec<_>>(),
+            ),
+            Column::new(
+                "reason".into(),
+                q.iter().map(|r| r.reason.code()).collect::<Vec<_>>(),
+            ),
+            Column::new(
+                "field".into(),
+                q.iter().map(|r| field(&r.reason)).collect::<Vec<_>>(),
+            ),
+            Column::new(
+                "code".into(),
+                q.iter()
+                    .map(|r| match &r.reason {
+                        hubwatch::ingest::ledger::QuarantineReason::MissingValueCode {
+                            code,
+                            ..
+                        } => Some(code.clone()),
+                        _ => None,
+                    })
+                    .collect::<Vec<_>>(),
+            ),
+            Column::new(
+                "raw".into(),
+                q.iter().map(|r| r.raw.clone()).collect::<Vec<_>>(),
+            ),
+        ]),
+    );
     let p = &d.ledger.problems;
     let none: Vec<Option<String>> = vec![None; p.len()];
-    put(dir, "problems", frame(vec![
-        Column::new("role".into(), p.iter().map(|r| d.ledger.files[r.file].role.name()).collect::<Vec<_>>()),
-        Column::new("ord".into(), p.iter().map(|r| r.line as i64).collect::<Vec<_>>()),
-        Column::new("column_name".into(), p.iter().map(|r| r.column.clone()).collect::<Vec<_>>()),
-        Column::new("value".into(), p.iter().map(|r| r.value.clone()).collect::<Vec<_>>()),
-        Column::new("kind".into(), p.iter().map(|r| r.kind.code()).collect::<Vec<_>>()),
-        Column::new("detail".into(), none.clone()),
-        Column::new("person".into(), none.clone()),
-        Column::new("first_ord".into(), p.iter().map(|_| None::<i64>).collect::<Vec<_>>()),
-    ]));
+    put(
+        dir,
+        "problems",
+        frame(vec![
+            Column::new(
+                "role".into(),
+                p.iter()
+                    .map(|r| d.ledger.files[r.file].role.name())
+                    .collect::<Vec<_>>(),
+            ),
+            Column::new(
+                "ord".into(),
+                p.iter().map(|r| r.line as i64).collect::<Vec<_>>(),
+            ),
+            Column::new(
+                "column_name".into(),
+                p.iter().map(|r| r.column.clone()).collect::<Vec<_>>(),
+            ),
+            Column::new(
+                "value".into(),
+                p.iter().map(|r| r.value.clone()).collect::<Vec<_>>(),
+            ),
+            Column::new(
+                "kind".into(),
+                p.iter().map(|r| r.kind.code()).collect::<Vec<_>>(),
+            ),
+            Column::new("detail".into(), none.clone()),
+            Column::new("person".into(), none.clone()),
+            Column::new(
+                "first_ord".into(),
+                p.iter().map(|_| None::<i64>).collect::<Vec<_>>(),
+            ),
+        ]),
+    );
 }
 
 fn sample_tables(dir: &Path) -> Dataset {
@@ -321,7 +517,11 @@ fn aggregates_give_the_statistics_of_the_raw_reading() {
     let sample = Path::new(env!("CARGO_MANIFEST_DIR")).join("sample-contacts");
     let (s, a) = (sample.to_str().unwrap(), agg.to_str().unwrap());
     let as_of = dates::iso(d.as_of);
-    for cmd in [&["summary", "--json", "--null-replicates", "2"][..], &["outlook", "--json"], &["priority", "--json", "--top", "0"]] {
+    for cmd in [
+        &["summary", "--json", "--null-replicates", "2"][..],
+        &["outlook", "--json"],
+        &["priority", "--json", "--top", "0"],
+    ] {
         let raw = json_of(&[cmd, &[s, "--as-of", &as_of]].concat());
         let from = json_of(&[cmd, &["--aggregates", a, "--as-of", &as_of]].concat());
         let (mut raw, mut from) = (raw, from);
@@ -348,26 +548,58 @@ fn degree_tables_alone_give_the_degree_statistics_and_say_what_is_missing() {
     std::fs::remove_file(agg.join("pairs.parquet")).unwrap();
     let sample = Path::new(env!("CARGO_MANIFEST_DIR")).join("sample-contacts");
     let as_of = dates::iso(d.as_of);
-    let raw = json_of(&["summary", "--json", sample.to_str().unwrap(), "--as-of", &as_of]);
+    let raw = json_of(&[
+        "summary",
+        "--json",
+        sample.to_str().unwrap(),
+        "--as-of",
+        &as_of,
+    ]);
     let lean = json_of(&["summary", "--json", "--aggregates", agg.to_str().unwrap()]);
-    for key in ["degree", "excess", "paradox", "knn", "fits", "rows", "people", "contacts", "max_degree"] {
+    for key in [
+        "degree",
+        "excess",
+        "paradox",
+        "knn",
+        "fits",
+        "rows",
+        "people",
+        "contacts",
+        "max_degree",
+    ] {
         let (a, b) = (&raw[key], &lean[key]);
         assert!(close(a, b), "{key}: {a} vs {b}");
     }
     for key in ["r", "se_jackknife"] {
-        assert!(close(&raw["assortativity"][key], &lean["assortativity"][key]), "{key}");
+        assert!(
+            close(&raw["assortativity"][key], &lean["assortativity"][key]),
+            "{key}"
+        );
     }
     let missing = lean["unavailable"].as_object().unwrap();
-    for key in ["components", "clustering", "bridges", "cores", "mixing", "cases"] {
+    for key in [
+        "components",
+        "clustering",
+        "bridges",
+        "cores",
+        "mixing",
+        "cases",
+    ] {
         assert!(missing.contains_key(key), "{key} not listed as unavailable");
     }
     let (code, text, _) = hubwatch(&["summary", "--aggregates", agg.to_str().unwrap()]);
     assert_eq!(code, 0);
-    assert!(text.contains("Not available without the pair table"), "{text}");
+    assert!(
+        text.contains("Not available without the pair table"),
+        "{text}"
+    );
     // Every other command needs the pairs, and says so.
     let (code, _, err) = hubwatch(&["priority", "--aggregates", agg.to_str().unwrap()]);
     assert_ne!(code, 0);
-    assert!(err.contains("the pair table (pairs.parquet) is not in this folder"), "{err}");
+    assert!(
+        err.contains("the pair table (pairs.parquet) is not in this folder"),
+        "{err}"
+    );
 }
 
 /// Equal JSON, floats to 1e-9 relative (they are summed in another order from the tables).
@@ -379,7 +611,9 @@ fn close(a: &serde_json::Value, b: &serde_json::Value) -> bool {
             (x - y).abs() <= 1e-9 * x.abs().max(y.abs()).max(1e-3)
         }
         (Array(x), Array(y)) => x.len() == y.len() && x.iter().zip(y).all(|(x, y)| close(x, y)),
-        (Object(x), Object(y)) => x.len() == y.len() && x.iter().all(|(k, v)| y.get(k).is_some_and(|w| close(v, w))),
+        (Object(x), Object(y)) => {
+            x.len() == y.len() && x.iter().all(|(k, v)| y.get(k).is_some_and(|w| close(v, w)))
+        }
         _ => a == b,
     }
 }
@@ -397,46 +631,70 @@ fn broken_tables_are_refused_with_the_table_and_what_is_wrong() {
     };
     // A view cannot be asked of tables made for one network.
     let err = err_of(&["summary", "--aggregates", a, "--setting", "household"]);
-    assert!(err.contains("give --setting") && err.contains("`hubwatch sql`"), "{err}");
+    assert!(
+        err.contains("give --setting") && err.contains("`hubwatch sql`"),
+        "{err}"
+    );
     // Unbalanced ledger.
     let ledger = agg.join("ledger.parquet");
     let keep = std::fs::read(&ledger).unwrap();
-    put(&agg, "ledger", frame(vec![
-        Column::new("role".into(), vec!["exposures"]),
-        Column::new("item".into(), vec!["read"]),
-        Column::new("n".into(), vec![5i64]),
-    ]));
+    put(
+        &agg,
+        "ledger",
+        frame(vec![
+            Column::new("role".into(), vec!["exposures"]),
+            Column::new("item".into(), vec!["read"]),
+            Column::new("n".into(), vec![5i64]),
+        ]),
+    );
     let err = err_of(&["summary", "--aggregates", a]);
-    assert!(err.contains("aggregate table ledger") && err.contains("read 5 is not used 0"), "{err}");
+    assert!(
+        err.contains("aggregate table ledger") && err.contains("read 5 is not used 0"),
+        "{err}"
+    );
     std::fs::write(&ledger, keep).unwrap();
     // A pair naming a person the nodes table does not have.
     let pairs = agg.join("pairs.parquet");
     let keep = std::fs::read(&pairs).unwrap();
-    put(&agg, "pairs", frame(vec![
-        Column::new("a".into(), vec![0i64]),
-        Column::new("b".into(), vec![99_999i64]),
-        Column::new("rows".into(), vec![1i64]),
-        Column::new("a_named_b".into(), vec![1i64]),
-        Column::new("first_day".into(), vec![None::<String>]),
-        Column::new("last_day".into(), vec![None::<String>]),
-        Column::new("minutes".into(), vec![None::<f64>]),
-        Column::new("links_ab".into(), vec![0i64]),
-        Column::new("links_ba".into(), vec![0i64]),
-    ]));
+    put(
+        &agg,
+        "pairs",
+        frame(vec![
+            Column::new("a".into(), vec![0i64]),
+            Column::new("b".into(), vec![99_999i64]),
+            Column::new("rows".into(), vec![1i64]),
+            Column::new("a_named_b".into(), vec![1i64]),
+            Column::new("first_day".into(), vec![None::<String>]),
+            Column::new("last_day".into(), vec![None::<String>]),
+            Column::new("minutes".into(), vec![None::<f64>]),
+            Column::new("links_ab".into(), vec![0i64]),
+            Column::new("links_ba".into(), vec![0i64]),
+        ]),
+    );
     let err = err_of(&["summary", "--aggregates", a]);
-    assert!(err.contains("aggregate table pairs: node 99999 is not in the nodes table"), "{err}");
+    assert!(
+        err.contains("aggregate table pairs: node 99999 is not in the nodes table"),
+        "{err}"
+    );
     std::fs::write(&pairs, keep).unwrap();
     // Another layout.
-    put(&agg, "meta", frame(vec![
-        Column::new("key".into(), vec!["layout"]),
-        Column::new("value".into(), vec!["0"]),
-    ]));
+    put(
+        &agg,
+        "meta",
+        frame(vec![
+            Column::new("key".into(), vec!["layout"]),
+            Column::new("value".into(), vec!["0"]),
+        ]),
+    );
     let err = err_of(&["summary", "--aggregates", a]);
     assert!(err.contains("this hubwatch reads layout 1"), "{err}");
     // A missing table names itself and how to make it.
     std::fs::remove_file(agg.join("meta.parquet")).unwrap();
     let err = err_of(&["summary", "--aggregates", a]);
-    assert!(err.contains("aggregate table meta is missing") && err.contains("hubwatch sql"), "{err}");
+    assert!(
+        err.contains("aggregate table meta is missing") && err.contains("hubwatch sql"),
+        "{err}"
+    );
 }
 
 #[test]
@@ -444,9 +702,18 @@ fn a_table_may_be_a_folder_of_part_files() {
     let tmp = tempfile::tempdir().unwrap();
     let agg = tmp.path().join("agg");
     let as_of = dates::iso(sample_tables(&agg).as_of);
-    let before = json_of(&["summary", "--json", "--aggregates", agg.to_str().unwrap(), "--as-of", &as_of]);
+    let before = json_of(&[
+        "summary",
+        "--json",
+        "--aggregates",
+        agg.to_str().unwrap(),
+        "--as-of",
+        &as_of,
+    ]);
     // Spark writes a folder per table: part files, a _SUCCESS marker and .crc files.
-    let f = ParquetReader::new(std::fs::File::open(agg.join("pairs.parquet")).unwrap()).finish().unwrap();
+    let f = ParquetReader::new(std::fs::File::open(agg.join("pairs.parquet")).unwrap())
+        .finish()
+        .unwrap();
     std::fs::remove_file(agg.join("pairs.parquet")).unwrap();
     let dir = agg.join("pairs");
     std::fs::create_dir(&dir).unwrap();
@@ -455,14 +722,24 @@ fn a_table_may_be_a_folder_of_part_files() {
     put(&dir, "part-00001", f.slice(half as i64, f.height() - half));
     std::fs::write(dir.join("_SUCCESS"), "").unwrap();
     std::fs::write(dir.join(".part-00000.parquet.crc"), "x").unwrap();
-    let after = json_of(&["summary", "--json", "--aggregates", agg.to_str().unwrap(), "--as-of", &as_of]);
+    let after = json_of(&[
+        "summary",
+        "--json",
+        "--aggregates",
+        agg.to_str().unwrap(),
+        "--as-of",
+        &as_of,
+    ]);
     assert_eq!(before, after);
 }
 
 // ---------------------------------------------------------------------------------------------
 // Degree-table statistics against the same statistics from the network.
 
-fn random_graph(n: usize, pairs: &[(usize, usize)]) -> (Vec<u32>, Vec<u32>, hubwatch::graph::Adjacency) {
+fn random_graph(
+    n: usize,
+    pairs: &[(usize, usize)],
+) -> (Vec<u32>, Vec<u32>, hubwatch::graph::Adjacency) {
     let mut set: Vec<(u32, u32)> = pairs
         .iter()
         .map(|&(x, y)| ((x % n) as u32, (y % n) as u32))

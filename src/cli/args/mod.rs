@@ -448,7 +448,9 @@ impl LoadArgs {
     /// Load options from the flags.
     pub fn options(&self, progress: bool) -> Result<LoadOptions> {
         if self.aggregates.is_some()
-            && !(self.paths.is_empty() && self.people_files.is_empty() && self.exposure_files.is_empty())
+            && !(self.paths.is_empty()
+                && self.people_files.is_empty()
+                && self.exposure_files.is_empty())
         {
             return Err(Error::Usage(
                 "--aggregates reads a folder of aggregate tables on its own: give no export files with it".into(),
