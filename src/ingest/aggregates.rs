@@ -166,6 +166,9 @@ fn ints(df: &DataFrame, dir: &Path, table: &str, col: &str) -> Result<Vec<i64>> 
     let ca = c
         .i64()
         .map_err(|e| bad(dir, table, format!("column {col}: {e}")))?;
+    if ca.null_count() == 0 {
+        return Ok(ca.into_no_null_iter().collect());
+    }
     ca.iter()
         .enumerate()
         .map(|(i, v)| {
@@ -208,11 +211,33 @@ fn floats(df: &DataFrame, dir: &Path, table: &str, col: &str) -> Result<Vec<f64>
 
 /// An ISO date column (NULL -> NO_DATE).
 fn days_of(df: &DataFrame, dir: &Path, table: &str, col: &str) -> Result<Vec<i32>> {
-    texts(df, dir, table, col)?
-        .into_iter()
+    let c = df
+        .column(col)
+        .map_err(|_| bad(dir, table, format!("no column {col}")))?;
+    // A DATE column (days since 1970-01-01), or ISO text.
+    if c.dtype() == &DataType::Date {
+        let epoch = dates::to_days(chrono::NaiveDate::from_ymd_opt(1970, 1, 1).expect("a date"));
+        let days = c
+            .cast(&DataType::Int32)
+            .map_err(|e| bad(dir, table, format!("column {col}: {e}")))?;
+        let ca = days
+            .i32()
+            .map_err(|e| bad(dir, table, format!("column {col}: {e}")))?;
+        return Ok(ca
+            .iter()
+            .map(|d| d.map_or(NO_DATE, |d| d + epoch))
+            .collect());
+    }
+    let c = c
+        .cast(&DataType::String)
+        .map_err(|e| bad(dir, table, format!("column {col}: {e}")))?;
+    let ca = c
+        .str()
+        .map_err(|e| bad(dir, table, format!("column {col}: {e}")))?;
+    ca.iter()
         .map(|v| match v {
             None => Ok(NO_DATE),
-            Some(s) => dates::parse_iso(&s).map_err(|_| {
+            Some(s) => dates::parse_iso(s).map_err(|_| {
                 bad(
                     dir,
                     table,
@@ -279,13 +304,25 @@ pub fn read(dir: &Path) -> Result<AggregateTables> {
         to: day("view_to"),
     };
     let case_sensitive = get("case_sensitive") != "false";
-    let (ids, people_in_table, attrs, node_degree) = read_nodes(dir, case_sensitive)?;
-    let n = ids.len();
+    // The people and the pairs are read at once (the pairs need only the number of people,
+    // which the nodes table's height gives).
     let settings = read_settings(dir)?;
-    let pairs = match read_table(dir, "pairs")? {
-        Some(df) => Some(read_pairs(dir, &df, n, settings.len())?),
-        None => None,
-    };
+    let n = need(dir, "nodes")?.height();
+    let (nodes, pairs) = std::thread::scope(|s| {
+        let pairs = s.spawn(|| match read_table(dir, "pairs")? {
+            Some(df) => Ok(Some(read_pairs(dir, &df, n, settings.len())?)),
+            None => Ok(None),
+        });
+        let nodes = read_nodes(dir, case_sensitive);
+        (
+            nodes,
+            pairs
+                .join()
+                .unwrap_or_else(|p| std::panic::resume_unwind(p)),
+        )
+    });
+    let (ids, people_in_table, attrs, node_degree) = nodes?;
+    let pairs: Option<PairColumns> = pairs?;
     let days = {
         let df = need(dir, "days")?;
         let d = days_of(&df, dir, "days", "day")?;
@@ -453,12 +490,10 @@ fn read_pairs(dir: &Path, df: &DataFrame, n: usize, n_settings: usize) -> Result
     let t = "pairs";
     let a = ints(df, dir, t, "a")?;
     let b = ints(df, dir, t, "b")?;
-    let mut order: Vec<usize> = (0..a.len()).collect();
-    order.sort_unstable_by_key(|&i| (a[i], b[i]));
-    let pick_u32 = |v: Vec<i64>| -> Vec<u32> { order.iter().map(|&i| v[i] as u32).collect() };
-    let mut p = PairColumns::default();
-    for &i in &order {
-        let (x, y) = (node_of(a[i], n, dir, t)?, node_of(b[i], n, dir, t)?);
+    // Engines write pairs in any order: sort them by (a, b) (radix, on one packed key).
+    let mut keys: Vec<u64> = Vec::with_capacity(a.len());
+    for (&x, &y) in a.iter().zip(&b) {
+        let (x, y) = (node_of(x, n, dir, t)?, node_of(y, n, dir, t)?);
         if x >= y {
             return Err(bad(
                 dir,
@@ -466,12 +501,21 @@ fn read_pairs(dir: &Path, df: &DataFrame, n: usize, n_settings: usize) -> Result
                 format!("pair ({x}, {y}) is not written smaller node first"),
             ));
         }
-        if p.a.last() == Some(&x) && p.b.last() == Some(&y) {
+        keys.push(u64::from(x) << 32 | u64::from(y));
+    }
+    let mut order: Vec<u32> = (0..a.len() as u32).collect();
+    crate::sort::radix_sort_by_key(&mut keys, &mut order);
+    let order: Vec<usize> = order.into_iter().map(|i| i as usize).collect();
+    let pick_u32 = |v: Vec<i64>| -> Vec<u32> { order.iter().map(|&i| v[i] as u32).collect() };
+    let mut p = PairColumns::default();
+    for w in keys.windows(2) {
+        if w[0] == w[1] {
+            let (x, y) = (w[0] >> 32, w[0] & 0xffff_ffff);
             return Err(bad(dir, t, format!("pair ({x}, {y}) appears twice")));
         }
-        p.a.push(x);
-        p.b.push(y);
     }
+    p.a = keys.iter().map(|k| (k >> 32) as u32).collect();
+    p.b = keys.iter().map(|k| *k as u32).collect();
     p.rows = pick_u32(ints(df, dir, t, "rows")?);
     p.a_named_b = pick_u32(ints(df, dir, t, "a_named_b")?);
     p.links_ab = pick_u32(ints(df, dir, t, "links_ab")?);
@@ -482,25 +526,14 @@ fn read_pairs(dir: &Path, df: &DataFrame, n: usize, n_settings: usize) -> Result
     p.first = order.iter().map(|&i| first[i]).collect();
     p.last = order.iter().map(|&i| last[i]).collect();
     p.minutes = order.iter().map(|&i| minutes[i]).collect();
-    let keys: Vec<(u32, u32)> = p.a.iter().zip(&p.b).map(|(&a, &b)| (a, b)).collect();
-    let find = |x: i64, y: i64, table: &str| -> Result<u32> {
-        keys.binary_search(&(x as u32, y as u32))
-            .map(|i| i as u32)
-            .map_err(|_| {
-                bad(
-                    dir,
-                    table,
-                    format!("pair ({x}, {y}) is not in the pair table"),
-                )
-            })
-    };
     let ps = need(dir, "pair_settings")?;
     let (sa, sb, sc) = (
         ints(&ps, dir, "pair_settings", "a")?,
         ints(&ps, dir, "pair_settings", "b")?,
         ints(&ps, dir, "pair_settings", "code")?,
     );
-    for ((x, y), c) in sa.into_iter().zip(sb).zip(sc) {
+    for (e, row) in pair_of_rows(&keys, &sa, &sb, dir, "pair_settings")? {
+        let c = sc[row];
         if c < 1 || c as usize > n_settings {
             return Err(bad(
                 dir,
@@ -508,7 +541,7 @@ fn read_pairs(dir: &Path, df: &DataFrame, n: usize, n_settings: usize) -> Result
                 format!("setting code {c} is not in the settings table"),
             ));
         }
-        p.settings.push((find(x, y, "pair_settings")?, c as u16));
+        p.settings.push((e, c as u16));
     }
     p.settings.sort_unstable();
     p.settings.dedup();
@@ -518,11 +551,53 @@ fn read_pairs(dir: &Path, df: &DataFrame, n: usize, n_settings: usize) -> Result
         days_of(&sp, dir, "spans", "span_first")?,
         days_of(&sp, dir, "spans", "span_last")?,
     );
-    for (((x, y), f), l) in xa.into_iter().zip(xb).zip(f).zip(l) {
-        p.spans.push((find(x, y, "spans")?, f, l));
+    for (e, row) in pair_of_rows(&keys, &xa, &xb, dir, "spans")? {
+        p.spans.push((e, f[row], l[row]));
     }
     p.spans.sort_unstable();
     Ok(p)
+}
+
+/// The pair (index into the sorted `keys`) of each row of a table keyed by (a, b), as
+/// (pair, row) in pair order: the rows are radix-sorted and walked beside the pairs (a binary
+/// search per row cost seconds at millions of rows).
+fn pair_of_rows(
+    keys: &[u64],
+    a: &[i64],
+    b: &[i64],
+    dir: &Path,
+    table: &str,
+) -> Result<Vec<(u32, usize)>> {
+    let mut row_keys: Vec<u64> = Vec::with_capacity(a.len());
+    for (&x, &y) in a.iter().zip(b) {
+        if !(0..=i64::from(u32::MAX)).contains(&x) || !(0..=i64::from(u32::MAX)).contains(&y) {
+            return Err(bad(
+                dir,
+                table,
+                format!("pair ({x}, {y}) is not in the pair table"),
+            ));
+        }
+        row_keys.push((x as u64) << 32 | y as u64);
+    }
+    let mut rows: Vec<u32> = (0..a.len() as u32).collect();
+    crate::sort::radix_sort_by_key(&mut row_keys, &mut rows);
+    let mut out = Vec::with_capacity(rows.len());
+    let mut e = 0usize;
+    for (k, r) in row_keys.iter().zip(rows) {
+        while e < keys.len() && keys[e] < *k {
+            e += 1;
+        }
+        if keys.get(e) != Some(k) {
+            let (x, y) = (k >> 32, k & 0xffff_ffff);
+            return Err(bad(
+                dir,
+                table,
+                format!("pair ({x}, {y}) is not in the pair table"),
+            ));
+        }
+        out.push((e as u32, r as usize));
+    }
+    Ok(out)
 }
 
 /// A problem kind from its code.

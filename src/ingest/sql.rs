@@ -854,11 +854,11 @@ fn pairs(w: &W, req: &SqlRequest) -> String {
     s.push_str("-- Contact pairs: unordered, the rows merged.\n");
     s.push_str(&w.create(
         "hw_pairs",
-        "SELECT a, b, count(*) AS rows, sum(CASE WHEN src_is_a THEN 1 ELSE 0 END) AS a_named_b, \
+        "SELECT a, b, count(*) AS rows, CAST(sum(CASE WHEN src_is_a THEN 1 ELSE 0 END) AS BIGINT) AS a_named_b, \
          min(least(coalesce(f_day, l_day), coalesce(l_day, f_day))) AS first_day, max(l_day) AS last_day, \
          sum(minutes) AS minutes, \
-         sum(CASE WHEN link = 1 AND src_is_a THEN 1 ELSE 0 END) AS links_ab, \
-         sum(CASE WHEN link = 1 AND NOT src_is_a THEN 1 ELSE 0 END) AS links_ba\n\
+         CAST(sum(CASE WHEN link = 1 AND src_is_a THEN 1 ELSE 0 END) AS BIGINT) AS links_ab, \
+         CAST(sum(CASE WHEN link = 1 AND NOT src_is_a THEN 1 ELSE 0 END) AS BIGINT) AS links_ba\n\
          FROM hw_rows WHERE in_view GROUP BY a, b",
     ));
     s.push_str(&w.keep("hw_pairs"));
@@ -927,7 +927,7 @@ fn degrees(w: &W, attrs: &[(String, String)]) -> String {
     s.push_str(&w.create(
         "hw_neighbour_sums",
         "SELECT k, total, count(*) AS people FROM (\
-         SELECT e.node, d.k, sum(o.k) AS total FROM (\
+         SELECT e.node, d.k, CAST(sum(o.k) AS BIGINT) AS total FROM (\
          SELECT a AS node, b AS other FROM hw_pairs UNION ALL SELECT b, a FROM hw_pairs) e \
          JOIN hw_node_degree d ON e.node = d.node JOIN hw_node_degree o ON e.other = o.node \
          GROUP BY e.node, d.k) t GROUP BY k, total",
