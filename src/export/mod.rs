@@ -279,6 +279,21 @@ pub fn pseudonym_key(key_file: Option<&Path>) -> Result<Vec<u8>> {
 
 /// SHA-256 of a file, hex.
 pub fn file_sha256(path: &Path) -> Result<String> {
+    if path.is_dir() {
+        // A folder of part files (a table as Spark writes it): the SHA-256 of its files'
+        // SHA-256s, in name order.
+        let mut parts: Vec<std::path::PathBuf> = std::fs::read_dir(path)
+            .map_err(|e| Error::io(path, e))?
+            .filter_map(|e| e.ok().map(|e| e.path()))
+            .filter(|p| p.is_file())
+            .collect();
+        parts.sort();
+        let mut h = Sha256::new();
+        for p in parts {
+            h.update(file_sha256(&p)?.as_bytes());
+        }
+        return Ok(h.finalize().iter().map(|b| format!("{b:02x}")).collect());
+    }
     let mut f = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
     let mut h = Sha256::new();
     let mut buf = vec![0u8; 1 << 20];

@@ -530,6 +530,12 @@ impl LoadArgs {
     /// place that decides it).
     pub fn workspace(&self, given: Option<&Path>) -> PathBuf {
         given.map(Path::to_path_buf).unwrap_or_else(|| {
+            // Beside a folder of aggregate tables, not in it: each day's folder is new, the
+            // follow-up state is not.
+            if let Some(dir) = &self.aggregates {
+                let parent = dir.parent().filter(|p| !p.as_os_str().is_empty());
+                return Workspace::default_path(Some(parent.unwrap_or(Path::new("."))));
+            }
             let first = self
                 .paths
                 .first()
