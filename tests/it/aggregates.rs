@@ -821,3 +821,36 @@ proptest! {
         }
     }
 }
+
+#[test]
+fn figures_and_the_outlook_work_on_aggregate_tables() {
+    let tmp = tempfile::tempdir().unwrap();
+    let agg = tmp.path().join("agg");
+    let as_of = dates::iso(sample_tables(&agg).as_of);
+    let out = tmp.path().join("figs");
+    let (code, _, err) = hubwatch(&[
+        "figures",
+        "--aggregates",
+        agg.to_str().unwrap(),
+        "--as-of",
+        &as_of,
+        "--out",
+        out.to_str().unwrap(),
+        "--format",
+        "svg",
+        "--null-replicates",
+        "0",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let svgs = std::fs::read_dir(&out)
+        .unwrap()
+        .filter(|e| {
+            e.as_ref()
+                .unwrap()
+                .path()
+                .extension()
+                .is_some_and(|x| x == "svg")
+        })
+        .count();
+    assert!(svgs >= 5, "{svgs} figures");
+}
