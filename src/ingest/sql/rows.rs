@@ -55,7 +55,7 @@ pub(super) fn exposure_rows(w: &W, r: &Rules, req: &SqlRequest, ex: &Mapped) -> 
     // Field values of usable rows (codes -> NULL), then their states.
     let v = |c: &str| r.value(w, c);
     s.push_str("-- Usable rows: dates, minutes, settings and links checked.\n");
-    s.push_str(&w.create(
+    s.push_str(&w.view(
         "hw_x2",
         &format!(
             "SELECT ord, s, t, s_id, t_id, {sk} AS s_key, {tk} AS t_key, lv, fv, sv, mv, xv, \

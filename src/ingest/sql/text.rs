@@ -34,21 +34,32 @@ impl W {
     }
 
     /// The value trimmed like `str::trim`; NULL when blank.
-    /// Both engines trim a set of characters natively (a regular expression per value cost
-    /// several times more).
+    /// Both engines trim a set of characters natively; the trim runs only on values that start
+    /// or end with one of them (trimming every value cost six times more in DuckDB).
     pub(super) fn trimmed(&self, expr: &str) -> String {
-        let cast = format!("CAST({expr} AS {})", self.text());
-        match self.d {
+        let v = format!("CAST({expr} AS {})", self.text());
+        let set = match self.d {
             Dialect::DuckDb => {
-                let set: Vec<String> = WHITE_SPACE.iter().map(|c| format!("chr({c})")).collect();
-                format!("NULLIF(trim({cast}, {}), '')", set.join(" || "))
+                let chars: Vec<String> = WHITE_SPACE.iter().map(|c| format!("chr({c})")).collect();
+                format!("({})", chars.join(" || "))
             }
+            // Spark's string literals read \uXXXX escapes.
             Dialect::Spark => {
-                // Spark's string literals read \uXXXX escapes.
-                let set: String = WHITE_SPACE.iter().map(|c| format!("\\u{c:04X}")).collect();
-                format!("NULLIF(trim(BOTH '{set}' FROM {cast}), '')")
+                let chars: String = WHITE_SPACE.iter().map(|c| format!("\\u{c:04X}")).collect();
+                format!("'{chars}'")
             }
-        }
+        };
+        let (edge, trim) = match self.d {
+            Dialect::DuckDb => (
+                format!("contains({set}, left({v}, 1)) OR contains({set}, right({v}, 1))"),
+                format!("trim({v}, {set})"),
+            ),
+            Dialect::Spark => (
+                format!("instr({set}, left({v}, 1)) > 0 OR instr({set}, right({v}, 1)) > 0"),
+                format!("trim(BOTH {set} FROM {v})"),
+            ),
+        };
+        format!("NULLIF(CASE WHEN {edge} THEN {trim} ELSE {v} END, '')")
     }
 
     /// Unicode NFC of a value.
