@@ -10,7 +10,7 @@ use crate::ingest::dates;
 use crate::ingest::reconcile::NO_DATE;
 
 pub(super) fn bad(dir: &Path, table: &str, msg: impl std::fmt::Display) -> Error {
-    Error::format(&dir.join(table), format!("aggregate table {table}: {msg}"))
+    Error::format(dir.join(table), format!("aggregate table {table}: {msg}"))
 }
 
 /// The files of one table: `name.parquet`, or the `.parquet` part files of the folder `name`.
@@ -69,7 +69,7 @@ pub(super) fn read_table(dir: &Path, name: &str) -> Result<Option<DataFrame>> {
 pub(super) fn need(dir: &Path, name: &str) -> Result<DataFrame> {
     read_table(dir, name)?.ok_or_else(|| {
         Error::format(
-            &dir.join(name),
+            dir.join(name),
             format!(
                 "aggregate table {name} is missing ({name}.parquet or a folder {name}/ of part files): \
                  run the SQL of `hubwatch sql` with --parquet pointing here"

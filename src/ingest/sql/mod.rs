@@ -239,12 +239,12 @@ fn meta(w: &W, req: &SqlRequest, r: &Rules, ex: &Mapped, people: Option<&Mapped>
             req.view.to.map(super::dates::iso).unwrap_or_default(),
         ),
     ];
-    for (f, _) in &ex.mapping.fields {
+    for f in ex.mapping.fields.keys() {
         rows.push((format!("exposures:{f}"), ex.header(f).unwrap_or_default()));
     }
     if let (Some(p), Some(pm)) = (&req.people, people) {
         rows.push(("people_table".into(), p.name.clone()));
-        for (f, _) in &pm.mapping.fields {
+        for f in pm.mapping.fields.keys() {
             rows.push((format!("people:{f}"), pm.header(f).unwrap_or_default()));
         }
     }

@@ -97,7 +97,7 @@ pub(super) fn exposure_rows(w: &W, r: &Rules, req: &SqlRequest, ex: &Mapped) -> 
     s.push_str("-- Field problems of the exposure rows (the row was still used).\n");
     let t = w.text();
     let none = format!("CAST(NULL AS {t}), CAST(NULL AS {t}), CAST(NULL AS BIGINT)");
-    let mut parts = vec![
+    let mut parts = [
         format!(
             "SELECT 'exposures' AS role, ord, {} AS column_name, lv AS value, l_state AS kind, \
              CAST(NULL AS {t}) AS detail, CAST(NULL AS {t}) AS person, CAST(NULL AS BIGINT) AS first_ord \
