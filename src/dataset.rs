@@ -80,7 +80,7 @@ impl Dataset {
 pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dataset> {
     if let [Input::Aggregates(dir)] = inputs {
         aggregates_take_no_view(&opts.view)?;
-        return from_aggregates(ingest::aggregates::read(dir)?);
+        return from_aggregates(ingest::aggregates::read(dir)?, opts.as_of);
     }
     build(ingest::read(inputs, config, opts)?, &opts.view)
 }
@@ -99,7 +99,12 @@ pub fn aggregates_take_no_view(view: &View) -> Result<()> {
 
 /// The network from aggregate tables a database engine made (`hubwatch sql`): the pairs come
 /// merged, the ledger counted; the adjacency and the load's warnings are made here as for files.
-pub fn from_aggregates(t: ingest::aggregates::AggregateTables) -> Result<Dataset> {
+/// `asked_as_of` is the as-of date of the command (today unless given): the tables' own date
+/// wins, and a warning says so when the two differ.
+pub fn from_aggregates(
+    t: ingest::aggregates::AggregateTables,
+    asked_as_of: i32,
+) -> Result<Dataset> {
     let ingest::aggregates::AggregateTables {
         dir,
         ids,
@@ -167,6 +172,18 @@ pub fn from_aggregates(t: ingest::aggregates::AggregateTables) -> Result<Dataset
     ledger
         .warnings
         .extend(ingest::warnings::id_collisions(&ids));
+    if asked_as_of != as_of {
+        ledger.warnings.push(ingest::ledger::Warning {
+            code: "aggregates_as_of",
+            message: format!(
+                "the aggregate tables were made as of {}: dates are judged as of that day, not {} \
+                 (give --as-of to `hubwatch sql` to make them for another day)",
+                ingest::dates::iso(as_of),
+                ingest::dates::iso(asked_as_of)
+            ),
+            count: 1,
+        });
+    }
     let rows_in_view: u64 = edges.rows.iter().map(|&r| u64::from(r)).sum();
     let graph = graph::adjacency(ids.len(), &edges);
     ledger.warnings.extend(code_like_hubs(&ids, &graph));

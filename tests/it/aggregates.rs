@@ -862,3 +862,38 @@ fn figures_and_the_outlook_work_on_aggregate_tables() {
         .count();
     assert!(svgs >= 5, "{svgs} figures");
 }
+
+#[test]
+fn the_tables_as_of_date_wins_and_a_different_one_is_said() {
+    let tmp = tempfile::tempdir().unwrap();
+    let agg = tmp.path().join("agg");
+    let made = dates::iso(sample_tables(&agg).as_of);
+    let a = agg.to_str().unwrap();
+    let same = json_of(&["check", "--json", "--aggregates", a, "--as-of", &made]);
+    let other = json_of(&[
+        "check",
+        "--json",
+        "--aggregates",
+        a,
+        "--as-of",
+        "2020-01-01",
+    ]);
+    let codes = |v: &serde_json::Value| -> Vec<String> {
+        v["warnings"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|w| w["code"].as_str().unwrap().to_string())
+            .collect()
+    };
+    assert!(!codes(&same).contains(&"aggregates_as_of".to_string()));
+    assert!(
+        codes(&other).contains(&"aggregates_as_of".to_string()),
+        "{other}"
+    );
+    let text = other["warnings"].to_string();
+    assert!(
+        text.contains(&format!("made as of {made}")) && text.contains("not 2020-01-01"),
+        "{text}"
+    );
+}

@@ -14,12 +14,13 @@ pub fn run(load: &LoadArgs, stats: &StatsArgs, as_json: bool) -> Result<()> {
     let t = std::time::Instant::now();
     let d = match &load.aggregates {
         Some(dir) => {
-            crate::dataset::aggregates_take_no_view(&load.options(false)?.view)?;
+            let opts = load.options(false)?;
+            crate::dataset::aggregates_take_no_view(&opts.view)?;
             let tables = crate::ingest::aggregates::read(dir)?;
             if tables.pairs.is_none() {
                 return degree_tables_only(&tables, as_json);
             }
-            crate::dataset::from_aggregates(tables)?
+            crate::dataset::from_aggregates(tables, opts.as_of)?
         }
         None => load.load()?,
     };
