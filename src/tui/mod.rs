@@ -131,9 +131,15 @@ fn watch_signals() -> Result<Arc<AtomicUsize>> {
     }
     watchdog::start(Arc::clone(&stop), restore_terminal);
     // Panics: restore before the message is printed (the guard also runs while unwinding).
+    // Only a panic of the thread that draws restores the terminal: a worker's panic must not
+    // touch it (the terminal belongs to the loop, which may hold what restoring needs), and
+    // its worker reports the failure in the pane instead.
+    let ui = std::thread::current().id();
     let previous = std::panic::take_hook();
     std::panic::set_hook(Box::new(move |info| {
-        restore_terminal();
+        if std::thread::current().id() == ui {
+            restore_terminal();
+        }
         previous(info);
     }));
     Ok(stop)
@@ -174,6 +180,7 @@ pub fn run(start: Start) -> Result<()> {
     app.act(&model, keys::Action::Resize(size.width, size.height));
     let mut dirty = true;
     let mut null_shown = model.null.get().is_some();
+    let mut day_shown = model.day.get().is_some();
     while !app.quit && stop.load(Ordering::Relaxed) == 0 {
         if dirty {
             terminal
@@ -195,9 +202,15 @@ pub fn run(start: Start) -> Result<()> {
             Err(_) => break,
         };
         if !ready {
-            // Redraw once when the background null model arrives.
+            // Redraw once when the background null model arrives, and once when the day's
+            // work does (it comes after the null model: without its own redraw it could wait
+            // for a key).
             if !null_shown && model.null.get().is_some() {
                 null_shown = true;
+                dirty = true;
+            }
+            if !day_shown && model.day.get().is_some() {
+                day_shown = true;
                 dirty = true;
             }
             continue;

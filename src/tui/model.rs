@@ -290,7 +290,19 @@ impl Model {
                     keep,
                     record: true,
                 };
-                let _ = day_cell.set(day_work_from(&dd, input, &req).map_err(|e| e.to_string()));
+                // A failure of the day's work is said in its pane, never left as "computing".
+                let work = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+                    day_work_from(&dd, input, &req).map_err(|e| e.to_string())
+                }))
+                .unwrap_or_else(|p| {
+                    let why = p
+                        .downcast_ref::<&str>()
+                        .map(|s| s.to_string())
+                        .or_else(|| p.downcast_ref::<String>().cloned())
+                        .unwrap_or_default();
+                    Err(format!("the day's work failed: {why}"))
+                });
+                let _ = day_cell.set(work);
             });
         }
         Ok(Model {
