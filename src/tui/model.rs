@@ -4,7 +4,7 @@
 use std::path::PathBuf;
 use std::sync::{Arc, OnceLock};
 
-use crate::analysis::daywork::{day_work_from, DayInput, DayRequest, DayWork, Since};
+use crate::analysis::daywork::DayInput;
 use crate::analysis::filters::FilterIndex;
 use crate::analysis::planning::{Plan, PlanOptions, Strategy};
 use crate::analysis::priority::{cap, scale_by, Preset, Ranked, COMPONENTS};
@@ -20,6 +20,9 @@ use crate::metrics::Stat;
 use crate::report::{Parts, Report};
 use crate::workspace::PersonState;
 use rayon::prelude::*;
+
+pub mod background;
+use background::{background_null_model, background_plan};
 
 /// Degree figures of the whole network or of one cluster (what the Degrees and Neighbours panes
 /// show).
@@ -146,25 +149,15 @@ pub struct Model {
     pub null: Arc<OnceLock<NullModel>>,
     /// The input files' checksums for figure captions, read on a worker; empty until done
     /// (an error reading a file is kept as its message).
-    pub input_hashes: Arc<OnceLock<std::result::Result<Vec<Option<String>>, String>>>,
+    pub input_hashes: Arc<OnceLock<background::InputHashes>>,
     /// Who is a case and each person's onset (else report) date, read the first time the
     /// Person pane shows chains.
     pub chain_people: OnceLock<crate::analysis::chains::People>,
     /// The day's work (this load recorded, compared with the previous one; what is due
     /// today), computed on a worker after the first frame; empty until done.
-    pub day: Arc<OnceLock<std::result::Result<DayWork, String>>>,
+    pub day: Arc<OnceLock<background::DayResult>>,
     /// What today's counts read of the list (to count again after follow-up changes).
     pub dues: Arc<Vec<crate::analysis::daywork::Due>>,
-}
-
-/// Give the calling thread a lower scheduling priority (nice 10; Linux keeps the nice value
-/// per thread). Elsewhere a no-op.
-fn lower_priority() {
-    #[cfg(target_os = "linux")]
-    // SAFETY: setpriority only reads its arguments; `who` 0 is the calling thread on Linux.
-    unsafe {
-        libc::setpriority(libc::PRIO_PROCESS, 0, 10);
-    }
 }
 
 impl Model {
@@ -248,63 +241,10 @@ impl Model {
         let null = background_null_model(&d, &stats.degrees);
         let plan_reach = plan_options.max_reach;
         let plan_cell = background_plan(&d, &list, &stats, plan_options, &id_rank);
-        let input_hashes = Arc::new(OnceLock::new());
-        let day = Arc::new(OnceLock::new());
-        let dues;
-        {
-            // The inputs' checksums, then the day's work (it records this load's snapshot in
-            // the workspace and compares it with the previous one).
-            let (cell, paths) = (
-                Arc::clone(&input_hashes),
-                crate::report::meta::input_paths(&d),
-            );
-            let input = DayInput::of(&d, &stats, &list.ranked);
-            dues = Arc::new(input.dues.clone());
-            let (day_cell, dd, ws) = (Arc::clone(&day), Arc::clone(&d), workspace_path.clone());
-            let (keep, top) = (work.keep_snapshots, work.changes_top);
-            let (plan_done, null_done) = (Arc::clone(&plan_cell), Arc::clone(&null));
-            std::thread::spawn(move || {
-                let hashes = crate::report::meta::input_hashes(&paths).map_err(|e| e.to_string());
-                let inputs = match (&hashes, paths.is_empty()) {
-                    (_, true) => "built-in sample".to_string(),
-                    (Ok(h), false) => h
-                        .iter()
-                        .map(|x| x.clone().unwrap_or_default())
-                        .collect::<Vec<_>>()
-                        .join(","),
-                    (Err(e), false) => format!("unreadable: {e}"),
-                };
-                let _ = cell.set(hashes);
-                // The day's work after the outlook and the null model, and below the key
-                // handler: the Overview's lower half can wait a few seconds, a key cannot (a
-                // third worker on two cores made filter keys at 10M rows take up to 28 ms).
-                while plan_done.get().is_none() || null_done.get().is_none() {
-                    std::thread::sleep(std::time::Duration::from_millis(50));
-                }
-                lower_priority();
-                let req = DayRequest {
-                    workspace: &ws,
-                    inputs,
-                    since: Since::Loads(1),
-                    top,
-                    keep,
-                    record: true,
-                };
-                // A failure of the day's work is said in its pane, never left as "computing".
-                let work = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
-                    day_work_from(&dd, input, &req).map_err(|e| e.to_string())
-                }))
-                .unwrap_or_else(|p| {
-                    let why = p
-                        .downcast_ref::<&str>()
-                        .map(|s| s.to_string())
-                        .or_else(|| p.downcast_ref::<String>().cloned())
-                        .unwrap_or_default();
-                    Err(format!("the day's work failed: {why}"))
-                });
-                let _ = day_cell.set(work);
-            });
-        }
+        let input = DayInput::of(&d, &stats, &list.ranked);
+        let dues = Arc::new(input.dues.clone());
+        let (input_hashes, day) =
+            background::day_work(&d, input, (&plan_cell, &null), workspace_path.clone(), work);
         Ok(Model {
             quarantine_lines,
             index,
@@ -454,51 +394,6 @@ fn quarantine_lines(l: &crate::ingest::ledger::Ledger) -> Vec<(String, bool)> {
         (text, true)
     });
     rows.chain(problems).collect()
-}
-
-/// The null model of r, computed on a background thread; the cell is empty until it is done.
-fn background_null_model(d: &Dataset, degrees: &[u32]) -> Arc<OnceLock<NullModel>> {
-    let null = Arc::new(OnceLock::new());
-    let cell = Arc::clone(&null);
-    let (a, b, deg) = (d.edges.a.clone(), d.edges.b.clone(), degrees.to_vec());
-    let o = MetricOptions::default();
-    std::thread::spawn(move || {
-        let r = crate::metrics::mixing::null_model(
-            &a,
-            &b,
-            &deg,
-            o.null_replicates,
-            o.null_swaps_per_edge,
-            o.seed,
-        );
-        let _ = cell.set(r);
-    });
-    null
-}
-
-/// The outlook (reach curves, the S(T) curve), computed on a worker thread so that the first
-/// frame does not wait for it; the cell is empty until it is done. The priority strategy
-/// follows the list's order.
-fn background_plan(
-    d: &Arc<Dataset>,
-    list: &RankedList,
-    stats: &NetworkStats,
-    opts: PlanOptions,
-    id_rank: &Arc<Vec<u32>>,
-) -> Arc<OnceLock<Plan>> {
-    let cell = Arc::new(OnceLock::new());
-    let out = Arc::clone(&cell);
-    let (d, id_rank) = (Arc::clone(d), Arc::clone(id_rank));
-    let order = opts
-        .strategies
-        .contains(&Strategy::Priority)
-        .then(|| list.ranked.iter().map(|r| r.node).collect());
-    let t = crate::analysis::planning::transmissibility_from(opts.transmissibility, &stats.cases);
-    std::thread::spawn(move || {
-        let plan = crate::analysis::planning::plan_with(&d, order, &opts, &id_rank, t);
-        let _ = out.set(plan);
-    });
-    cell
 }
 
 /// Indices into the ranked list in ID order (`id_rank`: each person's place in ID order).
