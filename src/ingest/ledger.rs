@@ -169,6 +169,25 @@ impl ProblemKind {
             ProblemKind::ConflictingValue => "conflicting_value",
         }
     }
+
+    /// The kind of a short code ([`ProblemKind::code`]), as tables written elsewhere give it.
+    pub fn from_code(code: &str) -> Option<ProblemKind> {
+        use ProblemKind::*;
+        [
+            UnreadableDate,
+            ImpossibleDate,
+            FutureDate,
+            ImplausibleDate,
+            DateOrder,
+            UnreadableNumber,
+            NegativeNumber,
+            ImplausibleNumber,
+            ConflictingValue,
+            UnreadableFlag,
+        ]
+        .into_iter()
+        .find(|k| k.code() == code)
+    }
 }
 
 /// What a field problem's sentence needs to say (one wording for files and aggregate tables).

@@ -93,6 +93,46 @@ pub fn neighbours_of(g: &Adjacency, deg: &[u32], people: impl Iterator<Item = u3
         .filter(|&k| knn_count[k] > 0)
         .map(|k| (k as u32, knn_sum[k] / knn_count[k] as f64))
         .collect();
+    finish(Totals {
+        sums,
+        count: count as u64,
+        active,
+        s1,
+        s2,
+        m_total,
+        shares: [more, fewer, equal],
+        knn,
+        contact_excess,
+    })
+}
+
+/// What both ways of counting add up, before the shares and means are taken.
+struct Totals {
+    sums: Vec<u64>,
+    count: u64,
+    active: u64,
+    s1: u128,
+    s2: u128,
+    m_total: f64,
+    /// People whose contacts have more, fewer, as many contacts.
+    shares: [u64; 3],
+    knn: Vec<(u32, f64)>,
+    contact_excess: Vec<f64>,
+}
+
+/// The figures from the totals (undefined without people or without contacts).
+fn finish(t: Totals) -> Neighbours {
+    let Totals {
+        sums,
+        count,
+        active,
+        s1,
+        s2,
+        m_total,
+        shares: [more, fewer, equal],
+        knn,
+        mut contact_excess,
+    } = t;
     if active == 0 {
         let u = Err("no contacts (every person has degree 0)");
         let u0 = if count == 0 { Err("no people") } else { u };
@@ -169,36 +209,15 @@ pub fn from_tables(
         .filter(|&k| knn_count[k] > 0)
         .map(|k| (k as u32, knn_sum[k] / knn_count[k] as f64))
         .collect();
-    if active == 0 {
-        let u = Err("no contacts (every person has degree 0)");
-        let u0 = if count == 0 { Err("no people") } else { u };
-        return Neighbours {
-            neighbour_degree_sum: Vec::new(),
-            n_active: 0,
-            edge_end_mean: u0,
-            contact_mean: u0,
-            mean_active: u0,
-            share_more: u0,
-            share_fewer: u0,
-            share_equal: u0,
-            knn,
-            contact_excess: Vec::new(),
-        };
-    }
-    let a = active as f64;
-    for v in contact_excess.iter_mut() {
-        *v /= a;
-    }
-    Neighbours {
-        neighbour_degree_sum: Vec::new(),
-        n_active: active as usize,
-        edge_end_mean: Ok(s2 as f64 / s1 as f64),
-        contact_mean: Ok(m_total / a),
-        mean_active: Ok(s1 as f64 / a),
-        share_more: Ok(more as f64 / a),
-        share_fewer: Ok(fewer as f64 / a),
-        share_equal: Ok(equal as f64 / a),
+    finish(Totals {
+        sums: Vec::new(),
+        count,
+        active,
+        s1,
+        s2,
+        m_total,
+        shares: [more, fewer, equal],
         knn,
         contact_excess,
-    }
+    })
 }

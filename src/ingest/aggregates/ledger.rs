@@ -13,24 +13,8 @@ use crate::ingest::ledger::{
 };
 use crate::ingest::reconcile::NO_DATE;
 
-fn problem_kind(code: &str) -> Option<ProblemKind> {
-    use ProblemKind::*;
-    [
-        UnreadableDate,
-        ImpossibleDate,
-        FutureDate,
-        ImplausibleDate,
-        DateOrder,
-        UnreadableNumber,
-        NegativeNumber,
-        ImplausibleNumber,
-        ConflictingValue,
-        UnreadableFlag,
-    ]
-    .into_iter()
-    .find(|k| k.code() == code)
-}
-
+/// The ledger tables -> the ledger: counts per table, and the rows and problems listed,
+/// each checked against the counts.
 pub(super) fn read_ledger(dir: &Path, meta: &BTreeMap<String, String>) -> Result<Ledger> {
     let df = need(dir, "ledger")?;
     let role = texts(&df, dir, "ledger", "role")?;
@@ -175,7 +159,7 @@ pub(super) fn read_ledger(dir: &Path, meta: &BTreeMap<String, String>) -> Result
         let role = prole[i].clone().unwrap_or_default();
         let file = file_of(&role).ok_or_else(|| bad(dir, "problems", format!("role {role:?}")))?;
         let code = pkind[i].clone().unwrap_or_default();
-        let kind = problem_kind(&code)
+        let kind = ProblemKind::from_code(&code)
             .ok_or_else(|| bad(dir, "problems", format!("unknown kind {code:?}")))?;
         let value = pval[i].clone().unwrap_or_default();
         let detail = pdetail[i].as_deref().unwrap_or("");

@@ -133,13 +133,14 @@ pub fn read(dir: &Path) -> Result<AggregateTables> {
     // The people and the pairs are read at once (the pairs need only the number of people,
     // which the nodes table's height gives).
     let settings = read_settings(dir)?;
-    let n = need(dir, "nodes")?.height();
+    let nodes_df = need(dir, "nodes")?;
+    let n = nodes_df.height();
     let (nodes, pairs) = std::thread::scope(|s| {
         let pairs = s.spawn(|| match read_table(dir, "pairs")? {
             Some(df) => Ok(Some(pairs::read_pairs(dir, &df, n, settings.len())?)),
             None => Ok(None),
         });
-        let nodes = read_nodes(dir, case_sensitive);
+        let nodes = read_nodes(dir, &nodes_df, case_sensitive);
         (
             nodes,
             pairs
@@ -235,13 +236,12 @@ pub fn read(dir: &Path) -> Result<AggregateTables> {
 
 type Nodes = (IdMap, u32, Attributes, Vec<u32>);
 
-fn read_nodes(dir: &Path, case_sensitive: bool) -> Result<Nodes> {
+fn read_nodes(dir: &Path, df: &polars::prelude::DataFrame, case_sensitive: bool) -> Result<Nodes> {
     let t = "nodes";
-    let df = need(dir, t)?;
-    let node = ints(&df, dir, t, "node")?;
-    let id = texts(&df, dir, t, "id")?;
-    let listed = ints(&df, dir, t, "listed")?;
-    let k = ints(&df, dir, t, "k")?;
+    let node = ints(df, dir, t, "node")?;
+    let id = texts(df, dir, t, "id")?;
+    let listed = ints(df, dir, t, "listed")?;
+    let k = ints(df, dir, t, "k")?;
     let n = node.len();
     let mut order: Vec<usize> = (0..n).collect();
     order.sort_unstable_by_key(|&i| node[i]);
@@ -279,7 +279,7 @@ fn read_nodes(dir: &Path, case_sensitive: bool) -> Result<Nodes> {
         .filter_map(|c| c.as_str().strip_prefix("attr:").map(str::to_string))
         .collect();
     for name in names {
-        let vals = texts(&df, dir, t, &format!("attr:{name}"))?;
+        let vals = texts(df, dir, t, &format!("attr:{name}"))?;
         let c = attrs.ensure_column(&name, n);
         for (&i, slot) in order.iter().zip(attrs.values[c].iter_mut()) {
             *slot = vals[i].as_deref().map(Into::into);
