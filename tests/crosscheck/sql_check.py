@@ -97,6 +97,7 @@ class Spark:
             .config("spark.ui.enabled", "false")
             .config("spark.ui.showConsoleProgress", "false")
             .config("spark.sql.shuffle.partitions", "4")
+            .config("spark.driver.memory", "6g")
             .config("spark.sql.warehouse.dir", os.path.join(work, "warehouse"))
             .config("spark.driver.extraJavaOptions", f"-Djava.io.tmpdir={work}")
             .getOrCreate()
