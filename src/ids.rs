@@ -1,23 +1,32 @@
 //! Person IDs <-> dense node indices, in one pass.
 //!
-//! Names are stored once in an arena; a `hashbrown::HashTable` of slots finds them. Each slot
+//! Names are stored once in an arena; an open-addressing table of slots finds them. Each slot
 //! holds the ID's first eight bytes and its length beside the node index, so the usual short
 //! IDs are compared inside the table without a second, cache-missing trip to the arena (the
-//! difference is large at millions of people). Node indices are handed out in order of first
+//! difference is large at millions of people). The table is one array probed linearly, so a
+//! lookup usually costs a single cache line, and a caller that knows the hashes ahead can ask
+//! for that line early ([`IdMap::prefetch`]). Node indices are handed out in order of first
 //! sight (people table first, then exposures), so the map is stable for a given input and the
 //! reverse lookup is a slice.
 
 use std::hash::BuildHasher;
 
-use hashbrown::HashTable;
-
-/// One entry of the hash table: node index, key length and the key's first eight bytes.
+/// One entry of the table: node index (`EMPTY` for a free slot), key length and the key's
+/// first eight bytes.
 #[derive(Debug, Clone, Copy)]
 struct Slot {
     head: u64,
     len: u32,
     idx: u32,
 }
+
+/// Marks a free slot.
+const EMPTY: u32 = u32::MAX;
+const FREE: Slot = Slot {
+    head: 0,
+    len: 0,
+    idx: EMPTY,
+};
 
 /// The first (up to) eight bytes of a key as an integer, zero-padded.
 fn head(key: &[u8]) -> u64 {
@@ -36,7 +45,8 @@ pub struct IdMap {
     ends: Vec<usize>,
     /// Display spelling for case-insensitive maps (first spelling seen); empty otherwise.
     display: Vec<Box<str>>,
-    table: HashTable<Slot>,
+    /// Open addressing with linear probing; a power of two long, at most half full.
+    slots: Vec<Slot>,
     hasher: foldhash::fast::FixedState,
     case_sensitive: bool,
 }
@@ -59,6 +69,39 @@ impl IdMap {
     /// True when no ID has been added.
     pub fn is_empty(&self) -> bool {
         self.ends.is_empty()
+    }
+
+    /// Room for `more` IDs beyond those held, without growing the table on the way.
+    pub fn reserve(&mut self, more: usize) {
+        let want = (self.len() + more)
+            .saturating_mul(2)
+            .next_power_of_two()
+            .max(16);
+        if want > self.slots.len() {
+            self.rebuild(want);
+        }
+        self.ends.reserve(more);
+    }
+
+    /// Lay the table out anew with `size` slots.
+    fn rebuild(&mut self, size: usize) {
+        let mut slots = vec![FREE; size];
+        let mask = size - 1;
+        let mut start = 0;
+        for (i, &end) in self.ends.iter().enumerate() {
+            let key = &self.arena[start..end];
+            let mut p = self.hasher.hash_one(key) as usize & mask;
+            while slots[p].idx != EMPTY {
+                p = (p + 1) & mask;
+            }
+            slots[p] = Slot {
+                head: head(key.as_bytes()),
+                len: key.len() as u32,
+                idx: i as u32,
+            };
+            start = end;
+        }
+        self.slots = slots;
     }
 
     fn key_of(&self, i: u32) -> &str {
@@ -122,39 +165,59 @@ impl IdMap {
         self.hasher.hash_one(key)
     }
 
+    /// Ask the processor for the table line where a key hashed to `h` is looked up first, so
+    /// that a lookup issued a few IDs later finds it in cache.
+    #[inline]
+    pub fn prefetch(&self, h: u64) {
+        if !self.slots.is_empty() {
+            crate::prefetch::prefetch(&self.slots, h as usize & (self.slots.len() - 1));
+        }
+    }
+
+    /// The slot where a key hashed to `h` is, or the free slot where it would go.
+    #[inline]
+    fn probe(&self, key: &[u8], h: u64) -> (usize, Option<u32>) {
+        let mask = self.slots.len() - 1;
+        let kh = head(key);
+        let mut p = h as usize & mask;
+        loop {
+            let s = &self.slots[p];
+            if s.idx == EMPTY {
+                return (p, None);
+            }
+            if self.matches(s, key, kh) {
+                return (p, Some(s.idx));
+            }
+            p = (p + 1) & mask;
+        }
+    }
+
     /// Node index of a key whose hash is `h`, if known.
     pub fn find_hashed(&self, key: &str, h: u64) -> Option<u32> {
-        let kh = head(key.as_bytes());
-        self.table
-            .find(h, |s| self.matches(s, key.as_bytes(), kh))
-            .map(|s| s.idx)
+        if self.slots.is_empty() {
+            return None;
+        }
+        self.probe(key.as_bytes(), h).1
     }
 
     /// [`IdMap::intern`] of a key already folded and hashed; `id` is the spelling shown.
     pub fn intern_hashed(&mut self, key: &str, h: u64, id: &str) -> (u32, bool) {
-        if let Some(i) = self.find_hashed(key, h) {
+        if (self.len() + 1) * 2 > self.slots.len() {
+            self.rebuild((self.slots.len() * 2).max(16));
+        }
+        let (p, found) = self.probe(key.as_bytes(), h);
+        if let Some(i) = found {
             return (i, false);
         }
         let i = self.ends.len() as u32;
+        assert!(i != EMPTY, "too many IDs");
         self.arena.push_str(key);
         self.ends.push(self.arena.len());
-        let slot = Slot {
+        self.slots[p] = Slot {
             head: head(key.as_bytes()),
             len: key.len() as u32,
             idx: i,
         };
-        let IdMap {
-            arena,
-            ends,
-            table,
-            hasher,
-            ..
-        } = self;
-        table.insert_unique(h, slot, |s| {
-            let j = s.idx as usize;
-            let start = if j == 0 { 0 } else { ends[j - 1] };
-            hasher.hash_one(&arena[start..ends[j]])
-        });
         if !self.case_sensitive {
             self.display.push(id.into());
         }

@@ -10,8 +10,8 @@
 //!       --> cli (commands) and tui (the dashboard)
 //! ```
 //!
-//! `error`, `sort`, `ids`, `config`, `export` (the one writer) and `workspace` sit below all
-//! of it.
+//! `error`, `prefetch`, `sort`, `ids`, `config`, `export` (the one writer) and `workspace` sit
+//! below all of it.
 
 pub mod analysis;
 pub mod cli;
@@ -24,6 +24,7 @@ pub mod ids;
 pub mod ingest;
 pub mod metrics;
 pub mod plot;
+pub mod prefetch;
 pub mod report;
 pub mod sample;
 pub mod sort;

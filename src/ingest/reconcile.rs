@@ -390,6 +390,8 @@ impl PeopleBuilder {
         let cols: Vec<&StringChunked> = (0..meta.columns.len())
             .map(|c| text_column(frame, Some(c), &meta.path).map(|o| o.expect("some")))
             .collect::<Result<_>>()?;
+        // Room for every row's ID being new (the usual case): the table never grows row by row.
+        self.ids.reserve(frame.height());
         for row in 0..frame.height() {
             let line = chunk.lines.line(row);
             ctx.counts.read += 1;

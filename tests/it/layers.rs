@@ -8,7 +8,15 @@ use std::path::{Path, PathBuf};
 
 /// The layers, lowest first; a module may import its own layer and the ones before it.
 const LAYERS: &[&[&str]] = &[
-    &["error", "sort", "ids", "config", "export", "workspace"],
+    &[
+        "error",
+        "prefetch",
+        "sort",
+        "ids",
+        "config",
+        "export",
+        "workspace",
+    ],
     &["ingest", "sample", "synth"],
     &["graph"],
     &["dataset"],
