@@ -102,27 +102,58 @@ impl NewIds {
     }
 }
 
+/// How many IDs ahead of the lookup the table line is asked for: enough to cover a memory
+/// access with the work of the IDs in between.
+const AHEAD: usize = 16;
+
 /// One worker's half: for each ID position whose hash bit is `w`, the node index (from `ids`)
-/// or `NEW | local index`; `NOT_MINE` elsewhere.
+/// or `NEW | local index`; `NOT_MINE` elsewhere. Each ID's table line is prefetched
+/// [`AHEAD`] IDs before it is looked up, so the cache misses of successive lookups overlap.
 fn look_up(
     ids: &IdMap,
     shard: &mut IdMap,
     w: u64,
     pairs: &[(Cow<'_, str>, Cow<'_, str>)],
 ) -> Vec<u32> {
-    let mut out = Vec::with_capacity(pairs.len() * 2);
-    for (s, t) in pairs {
-        for id in [s, t] {
-            let key = ids.key(id);
-            let h = ids.hash_key(&key);
-            if (h >> 40) & 1 != w {
-                out.push(NOT_MINE);
-            } else if let Some(i) = ids.find_hashed(&key, h) {
-                out.push(i);
-            } else {
-                let (l, _) = shard.intern_hashed(&key, h, id);
-                out.push(NEW | l);
-            }
+    let id_at = |p: usize| -> &str {
+        let (s, t) = &pairs[p / 2];
+        if p.is_multiple_of(2) {
+            s
+        } else {
+            t
+        }
+    };
+    let n = pairs.len() * 2;
+    let mut out = Vec::with_capacity(n);
+    // (key, hash) of the next AHEAD positions; a position the other worker owns is `None`.
+    let mut ring: std::collections::VecDeque<Option<(Cow<'_, str>, u64)>> =
+        std::collections::VecDeque::with_capacity(AHEAD + 1);
+    let ahead = |p: usize| -> Option<(Cow<'_, str>, u64)> {
+        let id = id_at(p);
+        let key = ids.key(id);
+        let h = ids.hash_key(&key);
+        if (h >> 40) & 1 != w {
+            return None;
+        }
+        ids.prefetch(h);
+        Some((key, h))
+    };
+    for p in 0..n.min(AHEAD) {
+        ring.push_back(ahead(p));
+    }
+    for p in 0..n {
+        if p + AHEAD < n {
+            ring.push_back(ahead(p + AHEAD));
+        }
+        match ring.pop_front().flatten() {
+            None => out.push(NOT_MINE),
+            Some((key, h)) => match ids.find_hashed(&key, h) {
+                Some(i) => out.push(i),
+                None => {
+                    let (l, _) = shard.intern_hashed(&key, h, id_at(p));
+                    out.push(NEW | l);
+                }
+            },
         }
     }
     out
