@@ -289,6 +289,10 @@ pub fn aggregate(rows: &ExposureRows, mut keys: Vec<u64>, want_row_edges: bool) 
     }
 }
 
+/// How many rows ahead of the fold their attributes are asked for (rows come in pair order,
+/// so each row's attributes are a cache miss; asked for early, the misses overlap).
+const AHEAD: usize = 12;
+
 /// Fold sorted rows into pairs.
 fn fold_pairs(
     rows: &ExposureRows,
@@ -322,6 +326,9 @@ fn fold_pairs(
         let mut j = i;
         let mut pair = Pair::new(&mut codes, &mut spans);
         while j < keys.len() && keys[j] == key {
+            if let Some(&ahead) = order.get(j + AHEAD) {
+                rows.prefetch(ahead as usize);
+            }
             pair.add(rows, order[j] as usize);
             j += 1;
         }
