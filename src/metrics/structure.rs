@@ -22,25 +22,8 @@ pub struct Clustering {
 
 /// Count triangles by merging sorted neighbour lists (each triangle u < v < w found once).
 pub fn clustering(g: &Adjacency, deg: &[u32]) -> Clustering {
-    use rayon::prelude::*;
     let n = deg.len();
-    // People are split into blocks walked on all cores; each block's counts go into an array of
-    // its worker's own, summed at the end (integers, so the result is the same however split).
-    let t = (0..n as u32)
-        .into_par_iter()
-        .with_min_len(1 << 14)
-        .fold(
-            || vec![0u64; n],
-            |mut t, u| {
-                triangles_at(g, u, &mut t);
-                t
-            },
-        )
-        .reduce_with(|mut x, y| {
-            x.iter_mut().zip(&y).for_each(|(x, y)| *x += y);
-            x
-        })
-        .unwrap_or_default();
+    let t = triangle_counts(g, n);
     let triples: u128 = deg
         .iter()
         .map(|&k| u128::from(k) * u128::from(k.saturating_sub(1)) / 2)
@@ -67,9 +50,67 @@ pub fn clustering(g: &Adjacency, deg: &[u32]) -> Clustering {
     }
 }
 
+/// People per block of the triangle walk.
+const BLOCK: usize = 1 << 14;
+
+/// Triangles through each person. Blocks of people go to as many tasks as there are worker
+/// threads, each with one count array of its own (so at most that many arrays of n counts
+/// exist at once, however the work is split), summed at the end: integers, so the result is the
+/// same however the blocks fall.
+fn triangle_counts(g: &Adjacency, n: usize) -> Vec<u64> {
+    use std::sync::atomic::{AtomicUsize, Ordering};
+    use std::sync::Mutex;
+    let next = AtomicUsize::new(0);
+    let parts: Mutex<Vec<Vec<u64>>> = Mutex::new(Vec::new());
+    rayon::scope(|s| {
+        for _ in 0..rayon::current_num_threads().max(1) {
+            s.spawn(|_| {
+                // The array is made only once this task gets a block (a task that starts after
+                // the others took every block costs nothing).
+                let mut t: Vec<u64> = Vec::new();
+                loop {
+                    let start = next.fetch_add(BLOCK, Ordering::Relaxed);
+                    if start >= n {
+                        break;
+                    }
+                    if t.is_empty() {
+                        t = vec![0u64; n];
+                    }
+                    for u in start..(start + BLOCK).min(n) {
+                        triangles_at(g, u as u32, &mut t);
+                    }
+                }
+                if !t.is_empty() {
+                    parts.lock().unwrap_or_else(|e| e.into_inner()).push(t);
+                }
+            });
+        }
+    });
+    let mut parts = parts.into_inner().unwrap_or_else(|e| e.into_inner());
+    let mut t = parts.pop().unwrap_or_else(|| vec![0u64; n]);
+    for p in parts {
+        t.iter_mut().zip(&p).for_each(|(x, y)| *x += y);
+    }
+    t
+}
+
+/// How many people ahead of the walk the neighbour lists of their contacts are asked for.
+const AHEAD: u32 = 4;
+
 /// The triangles (u, v, w), u < v < w, that `u` closes, added to each corner's count.
+///
+/// The lists of u's larger neighbours sit anywhere in memory; those of person `u + AHEAD` are
+/// asked for now, so that they have arrived by the time the walk gets there.
 #[inline]
 fn triangles_at(g: &Adjacency, u: u32, t: &mut [u64]) {
+    use crate::prefetch::prefetch;
+    let ahead = u + AHEAD;
+    if (ahead as usize) < g.node_count() {
+        for &v in g.neighbors_slice(ahead).iter().filter(|&&v| v > ahead) {
+            prefetch(g.neighbors_slice(v), 0);
+            prefetch(t, v as usize);
+        }
+    }
     let nu = g.neighbors_slice(u);
     for &v in nu.iter().filter(|&&v| v > u) {
         let nv = g.neighbors_slice(v);
