@@ -180,22 +180,24 @@ fn attribute_mixing(d: &Dataset) -> Vec<(String, mixing::AttributeMixing)> {
             let col = d.attrs.column(name)?;
             let values = &d.attrs.values[col];
             // Distinct values through a small map (a handful of groups, millions of people).
-            let mut index: hashbrown::HashMap<&str, usize> = hashbrown::HashMap::new();
-            let mut raw_group: Vec<Option<usize>> = Vec::with_capacity(d.people());
+            let mut index: hashbrown::HashMap<&str, u32> = hashbrown::HashMap::new();
+            let mut group: Vec<Option<u32>> = Vec::with_capacity(d.people());
             for i in 0..d.people() {
-                raw_group.push(values.get(i).and_then(|v| v.as_deref()).map(|v| {
-                    let next = index.len();
+                group.push(values.get(i).and_then(|v| v.as_deref()).map(|v| {
+                    let next = index.len() as u32;
                     *index.entry(v).or_insert(next)
                 }));
             }
-            // Relabel so that groups are in sorted order.
-            let mut labels: Vec<(&str, usize)> = index.into_iter().collect();
+            // Relabel in place so that groups are in sorted order.
+            let mut labels: Vec<(&str, u32)> = index.into_iter().collect();
             labels.sort_unstable();
-            let mut rank = vec![0usize; labels.len()];
+            let mut rank = vec![0u32; labels.len()];
             for (r, (_, old)) in labels.iter().enumerate() {
-                rank[*old] = r;
+                rank[*old as usize] = r as u32;
             }
-            let group: Vec<Option<usize>> = raw_group.iter().map(|g| g.map(|g| rank[g])).collect();
+            for g in group.iter_mut().flatten() {
+                *g = rank[*g as usize];
+            }
             let names = labels.into_iter().map(|(l, _)| l.to_string()).collect();
             Some((
                 name.to_string(),
@@ -213,11 +215,10 @@ fn r_by_setting(d: &Dataset) -> Vec<(String, Stat)> {
         .enumerate()
         .map(|(i, label)| {
             let code = (i + 1) as u16;
-            let sel: Vec<usize> = (0..d.edges.len())
+            let (sa, sb): (Vec<u32>, Vec<u32>) = (0..d.edges.len())
                 .filter(|&e| d.edges.settings(e).contains(&code))
-                .collect();
-            let sa: Vec<u32> = sel.iter().map(|&e| a[e]).collect();
-            let sb: Vec<u32> = sel.iter().map(|&e| b[e]).collect();
+                .map(|e| (a[e], b[e]))
+                .unzip();
             // Degrees within the setting's own sub-network.
             let mut sd = vec![0u32; d.people()];
             for (&x, &y) in sa.iter().zip(&sb) {

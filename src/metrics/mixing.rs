@@ -267,7 +267,7 @@ pub struct AttributeMixing {
 pub fn attribute_mixing(
     a: &[u32],
     b: &[u32],
-    group: &[Option<usize>],
+    group: &[Option<u32>],
     labels: Vec<String>,
 ) -> AttributeMixing {
     let g = labels.len();
@@ -277,6 +277,7 @@ pub fn attribute_mixing(
     for (&x, &y) in a.iter().zip(b) {
         match (group[x as usize], group[y as usize]) {
             (Some(p), Some(q)) => {
+                let (p, q) = (p as usize, q as usize);
                 pairs[p][q] += 1;
                 if p != q {
                     pairs[q][p] += 1;
