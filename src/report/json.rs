@@ -45,6 +45,31 @@ pub fn stats_members(st: &NetworkStats, d: &Dataset) -> Map<String, Value> {
     out
 }
 
+/// The `top` people with the most contacts, ties by ID.
+fn most_contacts(degrees: &[u32], ids: &IdMap, top: usize) -> Vec<u32> {
+    let bar = {
+        let mut d = degrees.to_vec();
+        match top.checked_sub(1).filter(|&k| k < d.len()) {
+            Some(k) => *d.select_nth_unstable_by(k, |x, y| y.cmp(x)).1,
+            None => 0,
+        }
+    };
+    let mut order: Vec<u32> = (0..degrees.len() as u32)
+        .filter(|&v| degrees[v as usize] >= bar)
+        .collect();
+    let by = |x: &u32, y: &u32| {
+        degrees[*y as usize]
+            .cmp(&degrees[*x as usize])
+            .then_with(|| ids.name(*x).cmp(ids.name(*y)))
+    };
+    if order.len() > top && top > 0 {
+        order.select_nth_unstable_by(top - 1, by);
+    }
+    order.truncate(top);
+    order.sort_unstable_by(by);
+    order
+}
+
 /// The member `degree`: moments, the people with the most contacts, the histogram.
 pub fn degree(s: &degree::DegreeStats, degrees: &[u32], ids: &IdMap) -> Value {
     let mut deg = Map::new();
@@ -52,13 +77,10 @@ pub fn degree(s: &degree::DegreeStats, degrees: &[u32], ids: &IdMap) -> Value {
     put(&mut deg, "mean_sq", s.mean_sq);
     put(&mut deg, "variance", s.variance);
     deg.insert("max".into(), json!(s.max));
-    // The people with the most contacts (ties by ID, so the list is stable).
-    let mut order: Vec<u32> = (0..degrees.len() as u32).collect();
-    order.sort_unstable_by(|&x, &y| {
-        degrees[y as usize]
-            .cmp(&degrees[x as usize])
-            .then_with(|| ids.name(x).cmp(ids.name(y)))
-    });
+    // The people with the most contacts (ties by ID, so the list is stable). Only people with
+    // at least the TOP-th largest degree can be in it: they are picked in one pass, and only
+    // they are ordered (comparing IDs costs a trip to each name).
+    let order = most_contacts(degrees, ids, TOP);
     deg.insert(
         "top".into(),
         Value::Array(
@@ -331,4 +353,36 @@ fn offspring(off: &Offspring) -> Value {
     put(&mut o, "share80_continuous", off.share80_continuous);
     put(&mut o, "share80_discrete", off.share80_discrete);
     Value::Object(o)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Picking the top people gives the head of the whole sorted order, ties by ID included.
+    #[test]
+    fn most_contacts_is_the_head_of_the_full_order() {
+        let mut ids = IdMap::new(true);
+        let mut degrees = Vec::new();
+        let mut x: u64 = 12345;
+        for i in 0..2000 {
+            // Few distinct degrees, so that ties at the bar are many.
+            x = x
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            degrees.push(((x >> 33) % 7) as u32);
+            ids.intern(&format!("Q{:05}", (i * 7919) % 2003));
+        }
+        let mut all: Vec<u32> = (0..degrees.len() as u32).collect();
+        all.sort_by(|&a, &b| {
+            degrees[b as usize]
+                .cmp(&degrees[a as usize])
+                .then_with(|| ids.name(a).cmp(ids.name(b)))
+        });
+        for top in [0, 1, 5, 20, 400, 1999, 2000, 5000] {
+            let want: Vec<u32> = all.iter().copied().take(top).collect();
+            assert_eq!(most_contacts(&degrees, &ids, top), want, "top {top}");
+        }
+        assert!(most_contacts(&[], &ids, 20).is_empty());
+    }
 }
