@@ -153,13 +153,35 @@ pub fn id_ranks(ids: &IdMap) -> Vec<u32> {
         .collect();
     match &numeric {
         Some(num) => by_id.sort_unstable_by_key(|&v| num[v as usize]),
-        None => by_id.sort_unstable_by(|&a, &b| ids.name(a).cmp(ids.name(b))),
+        None => {
+            // By each ID's first eight bytes first (big-endian, zero-padded: their order is
+            // the texts' order wherever they differ), in a radix sort that never looks at the
+            // names; then runs with equal heads by the whole text.
+            let mut heads: Vec<u64> = (0..n as u32).map(|v| text_head(ids.name(v))).collect();
+            crate::sort::radix_sort_by_key(&mut heads, &mut by_id);
+            let mut start = 0;
+            while start < n {
+                let end = start + heads[start..].partition_point(|&h| h == heads[start]);
+                if end - start > 1 {
+                    by_id[start..end].sort_unstable_by(|&a, &b| ids.name(a).cmp(ids.name(b)));
+                }
+                start = end;
+            }
+        }
     }
     let mut id_rank = vec![0u32; n];
     for (r, &v) in by_id.iter().enumerate() {
         id_rank[v as usize] = r as u32;
     }
     id_rank
+}
+
+/// The first eight bytes of a text as a big-endian number, zero-padded.
+fn text_head(s: &str) -> u64 {
+    let mut b = [0u8; 8];
+    let k = s.len().min(8);
+    b[..k].copy_from_slice(&s.as_bytes()[..k]);
+    u64::from_be_bytes(b)
 }
 
 /// Highest degree first, ties by `id_rank` (see [`id_ranks`]).
@@ -363,4 +385,41 @@ pub fn random_removal_exact(kappa: f64, n: usize, m: usize) -> Stat {
         return Err("too few people left");
     }
     Ok(kappa * (n - m - 2) as f64 / (n - 2) as f64)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The ranks by text are those of sorting the names outright: shared eight-byte heads,
+    /// prefixes of one another, a zero byte and letters beyond ASCII included.
+    #[test]
+    fn text_ranks_are_the_plain_sort() {
+        let names = [
+            "P0000010",
+            "P000001",
+            "P00000100",
+            "P0000010\u{0}",
+            "P0000010A",
+            "é1",
+            "e1",
+            "",
+            "P0000009",
+            "ABCDEFGHIJ",
+            "ABCDEFGHI",
+            "ABCDEFGH",
+            "Z",
+            "P00000100x",
+        ];
+        let mut ids = IdMap::new(true);
+        for s in names {
+            ids.intern(s);
+        }
+        let mut want: Vec<u32> = (0..ids.len() as u32).collect();
+        want.sort_by(|&a, &b| ids.name(a).cmp(ids.name(b)));
+        let rank = id_ranks(&ids);
+        let mut got: Vec<u32> = (0..ids.len() as u32).collect();
+        got.sort_by_key(|&v| rank[v as usize]);
+        assert_eq!(got, want);
+    }
 }
