@@ -455,7 +455,8 @@ fn read_text(
     } else {
         CHUNK_BYTES
     };
-    let mut rows_done = 0usize;
+    // Cut at a line end after every `chunk_bytes`.
+    let mut cuts = Vec::new();
     let mut pos = 0usize;
     while pos < data.len() {
         let end = if scan.quoted || data.len() - pos <= chunk_bytes {
@@ -464,30 +465,54 @@ fn read_text(
             memchr::memchr(b'\n', &data[pos + chunk_bytes..])
                 .map_or(data.len(), |i| pos + chunk_bytes + i + 1)
         };
-        let piece = &data[pos..end];
-        let frame = parse_piece(meta, piece, &schema, body.sep)?;
-        let n = frame.height();
-        let lines = match &scan.lines {
-            None => LineMap::Contiguous {
-                first: body.data_line + rows_done as u64,
-            },
-            Some(v) => {
-                let slice = v.get(rows_done..rows_done + n).ok_or_else(|| {
-                    Error::format(
-                        &meta.path,
-                        "internal error: row count differs from the line scan; please report",
-                    )
-                })?;
-                LineMap::Explicit(slice.to_vec())
-            }
-        };
-        rows_done += n;
-        sink(Chunk { frame, lines })?;
+        cuts.push((pos, end));
         pos = end;
-        if scan.clean.is_none() {
-            // The chunk is consumed: its mapped pages need not stay resident.
-            body.bytes.release_before(body.data_start + pos);
-        }
     }
+    // The next piece is parsed on a thread of its own while the sink checks this one (at most
+    // one parsed piece waits), so parsing and checking overlap on two cores. Pieces arrive in
+    // order; an error on either side stops both.
+    let (tx, rx) = std::sync::mpsc::sync_channel::<Result<DataFrame>>(1);
+    let (cut_list, schema_ref, sep) = (&cuts, &schema, body.sep);
+    // Owns the sender: when it is done (or the sink has gone), the receiving loop ends.
+    let parse_all = move || {
+        for &(start, end) in cut_list {
+            let parsed = parse_piece(meta, &data[start..end], schema_ref, sep);
+            let failed = parsed.is_err();
+            if tx.send(parsed).is_err() || failed {
+                break;
+            }
+        }
+    };
+    std::thread::scope(|s| -> Result<()> {
+        // Moved in, so that an early return drops it and a parser waiting to send stops.
+        let rx = rx;
+        s.spawn(parse_all);
+        let mut rows_done = 0usize;
+        for (parsed, &(_, end)) in rx.iter().zip(&cuts) {
+            let frame = parsed?;
+            let n = frame.height();
+            let lines = match &scan.lines {
+                None => LineMap::Contiguous {
+                    first: body.data_line + rows_done as u64,
+                },
+                Some(v) => {
+                    let slice = v.get(rows_done..rows_done + n).ok_or_else(|| {
+                        Error::format(
+                            &meta.path,
+                            "internal error: row count differs from the line scan; please report",
+                        )
+                    })?;
+                    LineMap::Explicit(slice.to_vec())
+                }
+            };
+            rows_done += n;
+            sink(Chunk { frame, lines })?;
+            if scan.clean.is_none() {
+                // The chunk is consumed: its mapped pages need not stay resident.
+                body.bytes.release_before(body.data_start + end);
+            }
+        }
+        Ok(())
+    })?;
     Ok(scan.rejected)
 }
