@@ -7,6 +7,7 @@
 
 use super::Stat;
 use crate::graph::Adjacency;
+use crate::prefetch::prefetch;
 
 /// Clustering figures.
 #[derive(Debug, Clone, PartialEq)]
@@ -103,7 +104,6 @@ const AHEAD: u32 = 4;
 /// asked for now, so that they have arrived by the time the walk gets there.
 #[inline]
 fn triangles_at(g: &Adjacency, u: u32, t: &mut [u64]) {
-    use crate::prefetch::prefetch;
     let ahead = u + AHEAD;
     if (ahead as usize) < g.node_count() {
         for &v in g.neighbors_slice(ahead).iter().filter(|&&v| v > ahead) {
@@ -135,6 +135,9 @@ fn triangles_at(g: &Adjacency, u: u32, t: &mut [u64]) {
     }
 }
 
+/// How many people ahead of the k-core walk their lists are asked for.
+const CORE_AHEAD: usize = 8;
+
 /// k-core number of every person (Batagelj & Zaversnik 2003, O(M)).
 pub fn core_numbers(g: &Adjacency, deg: &[u32]) -> Vec<u32> {
     let n = deg.len();
@@ -158,6 +161,18 @@ pub fn core_numbers(g: &Adjacency, deg: &[u32]) -> Vec<u32> {
         next[k] += 1;
     }
     for i in 0..n {
+        // People come in degree order, so their lists sit anywhere: ask for the list of the
+        // person CORE_AHEAD places on, and for the degrees and places of the contacts of the
+        // one half as far on (a hint only: the order ahead may still change).
+        if let Some(&x) = vert.get(i + CORE_AHEAD) {
+            prefetch(g.neighbors_slice(x), 0);
+        }
+        if let Some(&x) = vert.get(i + CORE_AHEAD / 2) {
+            for &u in g.neighbors_slice(x) {
+                prefetch(&d, u as usize);
+                prefetch(&pos, u as usize);
+            }
+        }
         let v = vert[i] as usize;
         for &u in g.neighbors_slice(v as u32) {
             let u = u as usize;
@@ -214,6 +229,10 @@ pub fn articulation_points(g: &Adjacency) -> Vec<u32> {
                     time += 1;
                     if v == root {
                         root_children += 1;
+                    }
+                    // w's contacts are looked at next: ask for their discovery times now.
+                    for &x in g.neighbors_slice(w) {
+                        prefetch(&disc, x as usize);
                     }
                     stack.push((w, v, 0));
                 } else {
