@@ -167,9 +167,7 @@ impl People {
         let n = d.people();
         let date = |field: &str| d.attrs.column(field);
         let (onset, report, role) = (date("onset_date"), date("report_date"), date("role"));
-        let value = |c: Option<usize>, i: usize| {
-            c.and_then(|c| d.attrs.values[c].get(i).and_then(|v| v.as_deref()))
-        };
+        let value = |c: Option<usize>, i: usize| c.and_then(|c| d.attrs.values[c].get(i));
         let day = |c: Option<usize>, i: usize| value(c, i).and_then(|v| dates::parse_iso(v).ok());
         People {
             is_case: (0..n)

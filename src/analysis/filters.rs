@@ -119,7 +119,7 @@ fn raw_codes(d: &Dataset, c: usize) -> (Vec<u32>, Vec<&str>) {
     let mut raws: Vec<&str> = Vec::new();
     let codes = d.attrs.values[c]
         .iter()
-        .map(|v| match v.as_deref().map(str::trim) {
+        .map(|v| match v.map(str::trim) {
             Some(v) if !v.is_empty() => *seen.entry(v).or_insert_with(|| {
                 raws.push(v);
                 raws.len() as u32 - 1

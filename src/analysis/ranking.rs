@@ -252,7 +252,6 @@ fn edge_info(d: &Dataset, setting_weight: &[f64]) -> Vec<EdgeInfo> {
 fn attr_is(d: &Dataset, c: usize, i: usize, words: &[&str]) -> bool {
     d.attrs.values[c]
         .get(i)
-        .and_then(|v| v.as_deref())
         .is_some_and(|v| words.iter().any(|w| v.trim().eq_ignore_ascii_case(w)))
 }
 

@@ -183,7 +183,7 @@ fn attribute_mixing(d: &Dataset) -> Vec<(String, mixing::AttributeMixing)> {
             let mut index: hashbrown::HashMap<&str, u32> = hashbrown::HashMap::new();
             let mut group: Vec<Option<u32>> = Vec::with_capacity(d.people());
             for i in 0..d.people() {
-                group.push(values.get(i).and_then(|v| v.as_deref()).map(|v| {
+                group.push(values.get(i).map(|v| {
                     let next = index.len() as u32;
                     *index.entry(v).or_insert(next)
                 }));

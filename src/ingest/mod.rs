@@ -187,7 +187,7 @@ pub fn read(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Loa
     let mut attrs = people.attrs;
     let n = people.ids.len();
     for v in attrs.values.iter_mut() {
-        v.resize(n, None);
+        v.resize(n);
     }
     let read_secs = t0.elapsed().as_secs_f64();
     Ok(Loaded {

@@ -25,8 +25,8 @@ pub const NO_DATE: i32 = i32::MIN;
 pub struct Attributes {
     /// Column names: canonical field names where mapped, the file's header otherwise.
     pub names: Vec<String>,
-    /// `values[c][node]`.
-    pub values: Vec<Vec<Option<Box<str>>>>,
+    /// `values[c]`: column `c`, read by node with [`AttrColumn::get`].
+    pub values: Vec<AttrColumn>,
 }
 
 impl Attributes {
@@ -38,18 +38,84 @@ impl Attributes {
     /// Value of a column for a node.
     pub fn get(&self, name: &str, node: u32) -> Option<&str> {
         let c = self.column(name)?;
-        self.values[c].get(node as usize)?.as_deref()
+        self.values[c].get(node as usize)
     }
 
-    pub(super) fn ensure_column(&mut self, name: &str, nodes: usize) -> usize {
+    pub(crate) fn ensure_column(&mut self, name: &str, nodes: usize) -> usize {
         match self.column(name) {
             Some(c) => c,
             None => {
                 self.names.push(name.to_string());
-                self.values.push(vec![None; nodes]);
+                let mut col = AttrColumn::default();
+                col.resize(nodes);
+                self.values.push(col);
                 self.names.len() - 1
             }
         }
+    }
+}
+
+/// One attribute column: each distinct value stored once, and a code per node. Attributes
+/// are mostly categories (role, status, area, age group, dates), so millions of people share
+/// a handful of values; one text per person cost an allocation and about 40 bytes each.
+#[derive(Debug, Clone)]
+pub struct AttrColumn {
+    /// The distinct values (exact text), in order of first appearance.
+    distinct: IdMap,
+    /// Index into `distinct` per node, [`AttrColumn::NONE`] where there is no value.
+    codes: Vec<u32>,
+}
+
+impl Default for AttrColumn {
+    fn default() -> AttrColumn {
+        AttrColumn {
+            distinct: IdMap::new(true),
+            codes: Vec::new(),
+        }
+    }
+}
+
+impl AttrColumn {
+    const NONE: u32 = u32::MAX;
+
+    /// The value of node `i`, if any.
+    pub fn get(&self, i: usize) -> Option<&str> {
+        match self.codes.get(i) {
+            Some(&c) if c != Self::NONE => Some(self.distinct.name(c)),
+            _ => None,
+        }
+    }
+
+    /// Set the value of node `i` (which must exist).
+    pub fn set(&mut self, i: usize, value: &str) {
+        let (c, _) = self.distinct.intern(value);
+        self.codes[i] = c;
+    }
+
+    /// Append a node with `value`.
+    pub fn push(&mut self, value: Option<&str>) {
+        let c = value.map_or(Self::NONE, |v| self.distinct.intern(v).0);
+        self.codes.push(c);
+    }
+
+    /// Grow (with empty values) or shrink to `n` nodes.
+    pub fn resize(&mut self, n: usize) {
+        self.codes.resize(n, Self::NONE);
+    }
+
+    /// Number of nodes.
+    pub fn len(&self) -> usize {
+        self.codes.len()
+    }
+
+    /// True when the column has no nodes.
+    pub fn is_empty(&self) -> bool {
+        self.codes.is_empty()
+    }
+
+    /// The values in node order.
+    pub fn iter(&self) -> impl Iterator<Item = Option<&str>> + '_ {
+        (0..self.codes.len()).map(|i| self.get(i))
     }
 }
 
@@ -307,17 +373,17 @@ impl PeopleBuilder {
                 continue;
             }
             let raw = checker.rules.value(col.get(row));
-            let value: Option<String> = if pc.date_cols.contains(&Some(c)) {
+            let value: Option<std::borrow::Cow<str>> = if pc.date_cols.contains(&Some(c)) {
                 let d = checker.date(ctx, line, Some(c), raw);
-                (d != NO_DATE).then(|| dates::iso(d))
+                (d != NO_DATE).then(|| dates::iso(d).into())
             } else {
-                raw.map(str::to_string)
+                raw.map(Into::into)
             };
             let Some(value) = value else { continue };
-            let slot = &mut self.attrs.values[pc.attr_of[c]][node as usize];
-            match slot {
-                None => *slot = Some(value.into()),
-                Some(old) if **old != *value => {
+            let column = &mut self.attrs.values[pc.attr_of[c]];
+            match column.get(node as usize) {
+                None => column.set(node as usize, &value),
+                Some(old) if *old != *value => {
                     let (f, l) = self.first_line[node as usize];
                     let at = if f == ctx.file {
                         format!("line {l}")
@@ -440,3 +506,36 @@ struct PeopleColumns<'a> {
 
 /// An optional column's values, row by row.
 pub(super) type Values<'a> = Box<dyn Iterator<Item = Option<&'a str>> + Send + 'a>;
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Values come back as stored, exact text (case and spaces kept), empty where unset.
+    #[test]
+    fn attribute_column_round_trip() {
+        let mut col = AttrColumn::default();
+        col.push(Some("Area 1"));
+        col.push(None);
+        col.push(Some("area 1"));
+        col.resize(5);
+        col.set(3, "Area 1");
+        col.set(1, " x ");
+        assert_eq!(col.len(), 5);
+        let got: Vec<Option<&str>> = col.iter().collect();
+        assert_eq!(
+            got,
+            [
+                Some("Area 1"),
+                Some(" x "),
+                Some("area 1"),
+                Some("Area 1"),
+                None
+            ]
+        );
+        assert_eq!(col.get(99), None);
+        col.resize(2);
+        assert_eq!(col.iter().count(), 2);
+        assert!(!col.is_empty());
+    }
+}

@@ -167,17 +167,17 @@ fn keep_extra_columns(
             .into_iter()
             .flat_map(|s| s.iter());
         let values = &mut extras.values[k];
-        values.resize(before, None);
+        values.resize(before);
         let mut next = usable.iter().peekable();
         for (row, v) in col.enumerate() {
             if next.peek().is_some_and(|&&u| u as usize == row) {
                 next.next();
-                values.push(rules.value(v).map(Into::into));
+                values.push(rules.value(v));
             }
         }
     }
     for v in extras.values.iter_mut() {
-        v.resize(rows_after, None);
+        v.resize(rows_after);
     }
     Ok(())
 }

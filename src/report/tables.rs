@@ -106,13 +106,11 @@ pub fn priority_table(
             text(st.and_then(|s| s.note.as_deref())),
         ];
         row.extend(r.parts(preset).iter().map(|p| Cell::Num(p.contribution)));
-        row.extend(attrs.iter().map(|&c| {
-            text(
-                d.attrs.values[c]
-                    .get(r.node as usize)
-                    .and_then(|v| v.as_deref()),
-            )
-        }));
+        row.extend(
+            attrs
+                .iter()
+                .map(|&c| text(d.attrs.values[c].get(r.node as usize))),
+        );
         rows.push(row);
     }
     ExportTable {
@@ -188,7 +186,6 @@ pub fn sentinel_table(
             row.extend(attrs.iter().map(|&c| {
                 d.attrs.values[c]
                     .get(p.node as usize)
-                    .and_then(|v| v.as_deref())
                     .map_or(Cell::Empty, |v| Cell::Text(v.to_string()))
             }));
             row

@@ -228,9 +228,7 @@ fn write_tables(d: &Dataset, dir: &Path) {
         ),
     ];
     for (name, values) in d.attrs.names.iter().zip(&d.attrs.values) {
-        let v: Vec<Option<String>> = (0..n)
-            .map(|i| values.get(i).cloned().flatten().map(String::from))
-            .collect();
+        let v: Vec<Option<String>> = (0..n).map(|i| values.get(i).map(String::from)).collect();
         cols.push(Column::new(format!("attr:{name}").into(), v));
     }
     put(dir, "nodes", frame(cols));

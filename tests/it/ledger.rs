@@ -248,12 +248,12 @@ fn unmapped_exposure_columns_are_kept_per_row_with_their_pair() {
     assert_eq!(x.names, ["venue", "interviewer"]);
     // Four usable rows (the self-exposure C,C is quarantined and keeps nothing).
     assert_eq!(d.edge_of_row.len(), 4);
-    let venue: Vec<Option<&str>> = x.values[0].iter().map(|v| v.as_deref()).collect();
+    let venue: Vec<Option<&str>> = x.values[0].iter().collect();
     assert_eq!(
         venue,
         [Some("Mill Street hall"), Some("Quay cafe"), None, None]
     );
-    let interviewer: Vec<Option<&str>> = x.values[1].iter().map(|v| v.as_deref()).collect();
+    let interviewer: Vec<Option<&str>> = x.values[1].iter().collect();
     assert_eq!(interviewer, [None, None, None, Some("team 2")]);
     // Rows 0 and 1 went into the same pair A-B.
     assert_eq!(d.edge_of_row[0], d.edge_of_row[1]);

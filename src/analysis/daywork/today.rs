@@ -145,7 +145,6 @@ fn state_of<'a>(
     ws.or_else(|| {
         column
             .and_then(|c| d.attrs.values[c].get(v as usize))
-            .and_then(|x| x.as_deref())
             .map(str::trim)
     })
 }
@@ -251,7 +250,7 @@ pub fn today(
         .collect();
     let area = d.attrs.column("area");
     let group_area = |v: u32| -> &str {
-        area.and_then(|c| d.attrs.values[c].get(v as usize).and_then(|x| x.as_deref()))
+        area.and_then(|c| d.attrs.values[c].get(v as usize))
             .map_or("(none)", |x| x.trim())
     };
     // Each person's settings as a bit mask, in one pass over the pairs (codes past 64 are

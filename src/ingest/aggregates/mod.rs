@@ -281,8 +281,10 @@ fn read_nodes(dir: &Path, df: &polars::prelude::DataFrame, case_sensitive: bool)
     for name in names {
         let vals = texts(df, dir, t, &format!("attr:{name}"))?;
         let c = attrs.ensure_column(&name, n);
-        for (&i, slot) in order.iter().zip(attrs.values[c].iter_mut()) {
-            *slot = vals[i].as_deref().map(Into::into);
+        for (node, &i) in order.iter().enumerate() {
+            if let Some(v) = vals[i].as_deref() {
+                attrs.values[c].set(node, v);
+            }
         }
     }
     let node_degree = order.iter().map(|&i| k[i] as u32).collect();

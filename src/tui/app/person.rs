@@ -162,7 +162,6 @@ impl App {
             .filter_map(|(c, name)| {
                 d.attrs.values[c]
                     .get(node as usize)
-                    .and_then(|v| v.as_deref())
                     .map(|v| (name.clone(), v.to_string()))
             })
             .collect();
