@@ -114,9 +114,11 @@ pub fn compute(d: &Dataset, opts: &MetricOptions) -> NetworkStats {
     rayon::scope(|s| {
         let (c, k, b, p) = (&mut clustering, &mut cores, &mut bridges, &mut components);
         s.spawn(move |_| *c = Some(structure::clustering(g, deg)));
-        s.spawn(move |_| *b = Some(structure::articulation_points(g)));
+        s.spawn(move |_| {
+            let (cut, parts) = structure::cut_points_and_components(g);
+            (*b, *p) = (Some(cut), Some(parts));
+        });
         s.spawn(move |_| *k = Some(structure::core_numbers(g, deg)));
-        s.spawn(move |_| *p = Some(graph::components(g)));
         let (m, rs, nm, re) = (&mut mixing, &mut r_set, &mut null, &mut rest);
         s.spawn(move |_| *m = Some(attribute_mixing(d)));
         s.spawn(move |_| *rs = Some(r_by_setting(d)));

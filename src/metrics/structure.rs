@@ -1,5 +1,6 @@
 //! Structure: clustering (triangles), k-core numbers and articulation points ("bridges": people
-//! whose removal splits their cluster). Components are in [`crate::graph::components`].
+//! whose removal splits their cluster). Components are in [`crate::graph::components`], and come
+//! with the articulation points from their one search ([`cut_points_and_components`]).
 //!
 //! Household cliques make clustering high in tracing networks; the configuration-model
 //! indicators assume a locally tree-like network, so a high transitivity is a warning sign for
@@ -198,7 +199,17 @@ pub fn core_numbers(g: &Adjacency, deg: &[u32]) -> Vec<u32> {
 /// People whose removal disconnects their cluster (articulation points), by an iterative
 /// depth-first search with low-link values (Hopcroft & Tarjan 1973), sorted by node index.
 pub fn articulation_points(g: &Adjacency) -> Vec<u32> {
+    cut_points_and_components(g).0
+}
+
+/// [`articulation_points`] and the connected components (labels and sizes exactly as
+/// [`crate::graph::components`] gives them) from the one depth-first search: each search
+/// starts at the lowest node not yet seen, so a cluster's label is the order of its first
+/// node.
+pub fn cut_points_and_components(g: &Adjacency) -> (Vec<u32>, (Vec<u32>, Vec<u32>)) {
     let n = g.node_count();
+    let mut label = vec![0u32; n];
+    let mut sizes: Vec<u32> = Vec::new();
     const UNSEEN: u32 = u32::MAX;
     let mut disc = vec![UNSEEN; n];
     let mut low = vec![0u32; n];
@@ -211,6 +222,9 @@ pub fn articulation_points(g: &Adjacency) -> Vec<u32> {
             continue;
         }
         let mut root_children = 0;
+        let c = sizes.len() as u32;
+        let mut size = 1u32;
+        label[root as usize] = c;
         disc[root as usize] = time;
         low[root as usize] = time;
         time += 1;
@@ -224,6 +238,8 @@ pub fn articulation_points(g: &Adjacency) -> Vec<u32> {
                     continue;
                 }
                 if disc[w as usize] == UNSEEN {
+                    label[w as usize] = c;
+                    size += 1;
                     disc[w as usize] = time;
                     low[w as usize] = time;
                     time += 1;
@@ -251,6 +267,8 @@ pub fn articulation_points(g: &Adjacency) -> Vec<u32> {
         if root_children >= 2 {
             is_cut[root as usize] = true;
         }
+        sizes.push(size);
     }
-    (0..n as u32).filter(|&v| is_cut[v as usize]).collect()
+    let cut = (0..n as u32).filter(|&v| is_cut[v as usize]).collect();
+    (cut, (label, sizes))
 }

@@ -362,3 +362,38 @@ fn articulation_points_on_small_shapes() {
         assert_eq!(cut, want, "{file}");
     }
 }
+
+/// The components that come with the articulation points are those of the plain search, on
+/// small shapes (a real network: `real_data::transmission_pairs_line_list`).
+#[test]
+fn components_from_the_cut_point_search_match_the_plain_search() {
+    use hubwatch::metrics::structure;
+    for edges in [
+        vec![(0u32, 1u32), (1, 2), (3, 4), (5, 5)],
+        vec![(0, 1), (1, 2), (2, 0), (2, 3), (6, 7), (7, 8)],
+        vec![],
+    ] {
+        let n = 10;
+        let mut list: Vec<(u32, u32, ())> = Vec::new();
+        for &(a, b) in &edges {
+            if a != b {
+                list.push((a, b, ()));
+                list.push((b, a, ()));
+            }
+        }
+        list.sort_unstable_by_key(|e| (e.0, e.1));
+        let mut g: hubwatch::graph::Adjacency = petgraph::csr::Csr::from_sorted_edges(
+            &list
+                .iter()
+                .map(|&(a, b, _)| (a, b, 0u32))
+                .collect::<Vec<_>>(),
+        )
+        .unwrap();
+        while g.node_count() < n {
+            g.add_node(());
+        }
+        let (cut, parts) = structure::cut_points_and_components(&g);
+        assert_eq!(parts, hubwatch::graph::components(&g));
+        assert_eq!(cut, structure::articulation_points(&g));
+    }
+}

@@ -172,6 +172,10 @@ fn transmission_pairs_line_list() {
     assert_eq!(d.people(), 2050);
     assert_eq!(d.edges.len(), 1407);
     assert_eq!(hubwatch::graph::components(&d.graph).1.len(), 643);
+    // The statistics take their components from the search for articulation points.
+    let (_, (_, sizes)) = hubwatch::metrics::structure::cut_points_and_components(&d.graph);
+    assert_eq!(sizes.len(), 643);
+    assert_eq!(sizes.iter().max(), Some(&24));
 }
 
 #[test]
