@@ -36,9 +36,16 @@ pub fn from_days(days: i32) -> Option<NaiveDate> {
 
 /// Format a day number as ISO 8601.
 pub fn iso(days: i32) -> String {
-    from_days(days)
-        .map(|d| d.format("%Y-%m-%d").to_string())
-        .unwrap_or_default()
+    use chrono::Datelike;
+    match from_days(days) {
+        // Four-digit years written directly (the formatter's general path cost more than the
+        // date checks of a people table); other years as the formatter writes them.
+        Some(d) if (0..=9999).contains(&d.year()) => {
+            format!("{:04}-{:02}-{:02}", d.year(), d.month(), d.day())
+        }
+        Some(d) => d.format("%Y-%m-%d").to_string(),
+        None => String::new(),
+    }
 }
 
 impl DateParser {
@@ -200,6 +207,20 @@ mod tests {
         assert_eq!(parse_iso("2023-02-29"), Err(DateProblem::Impossible));
         assert_eq!(parse_iso("01/03/2024"), Err(DateProblem::Unreadable));
         assert_eq!(parse_iso("yesterday"), Err(DateProblem::Unreadable));
+    }
+
+    /// The direct writing of four-digit years agrees with chrono's `%Y-%m-%d` on every day
+    /// from year -5 to 10005 (chrono is the reference formatter).
+    #[test]
+    fn iso_matches_the_general_formatter() {
+        let from = to_days(NaiveDate::from_ymd_opt(-5, 1, 1).unwrap());
+        let to = to_days(NaiveDate::from_ymd_opt(10005, 12, 31).unwrap());
+        for days in (from..=to).step_by(7).chain([from, to, i32::MIN, i32::MAX]) {
+            let want = from_days(days)
+                .map(|d| d.format("%Y-%m-%d").to_string())
+                .unwrap_or_default();
+            assert_eq!(iso(days), want, "day {days}");
+        }
     }
 
     #[test]

@@ -327,6 +327,12 @@ pub struct PeopleBuilder {
     pub quarantined: Vec<QuarantinedRow>,
 }
 
+/// An ID as the map compares it, with its hash.
+type HashedKey<'a> = (std::borrow::Cow<'a, str>, u64);
+
+/// How many people rows ahead of the interning their ID's table line is asked for.
+const PEOPLE_AHEAD: usize = 16;
+
 /// Fields of the people table whose values are dates.
 const PEOPLE_DATE_FIELDS: [&str; 2] = ["onset_date", "report_date"];
 
@@ -372,7 +378,7 @@ impl PeopleBuilder {
             if c == pc.id_col {
                 continue;
             }
-            let raw = checker.rules.value(col.get(row));
+            let raw = checker.rules.value(col[row]);
             let value: Option<std::borrow::Cow<str>> = if pc.date_cols.contains(&Some(c)) {
                 let d = checker.date(ctx, line, Some(c), raw);
                 (d != NO_DATE).then(|| dates::iso(d).into())
@@ -453,27 +459,55 @@ impl PeopleBuilder {
             checker.check_ambiguity(meta, frame, &date_cols)?;
         }
         let attr_of = self.attribute_columns(ctx, id_col);
-        let cols: Vec<&StringChunked> = (0..meta.columns.len())
-            .map(|c| text_column(frame, Some(c), &meta.path).map(|o| o.expect("some")))
+        // Each column read once, in order (a lookup by row number per value cost more than
+        // the checks themselves).
+        let cols: Vec<Vec<Option<&str>>> = (0..meta.columns.len())
+            .map(|c| {
+                text_column(frame, Some(c), &meta.path).map(|o| o.expect("some").iter().collect())
+            })
             .collect::<Result<_>>()?;
         // Room for every row's ID being new (the usual case): the table never grows row by row.
         self.ids.reserve(frame.height());
-        for row in 0..frame.height() {
+        // The IDs, folded and hashed up front, so that each one's table line can be asked for
+        // a few rows before it is interned (the lookups are cache misses at millions of people).
+        let keyed: Vec<(IdValue, Option<HashedKey>)> = cols[id_col]
+            .iter()
+            .map(|&v| {
+                let value = checker.rules.id(v);
+                // The key borrows the column's text where the ID is that text.
+                let key = match &value {
+                    IdValue::Id(std::borrow::Cow::Borrowed(id), _) => Some(self.ids.key(id)),
+                    IdValue::Id(std::borrow::Cow::Owned(id), _) => {
+                        Some(self.ids.key(id).into_owned().into())
+                    }
+                    _ => None,
+                };
+                let key = key.map(|k| {
+                    let h = self.ids.hash_key(&k);
+                    (k, h)
+                });
+                (value, key)
+            })
+            .collect();
+        for (row, (value, key)) in keyed.iter().enumerate() {
+            if let Some((_, Some((_, h)))) = keyed.get(row + PEOPLE_AHEAD) {
+                self.ids.prefetch(*h);
+            }
             let line = chunk.lines.line(row);
             ctx.counts.read += 1;
-            let id = match checker.rules.id(cols[id_col].get(row)) {
-                IdValue::Id(id, changed) => {
-                    ctx.counts.ids_normalised += u64::from(changed);
-                    id
+            let (id, (key, h)) = match (value, key) {
+                (IdValue::Id(id, changed), Some(key)) => {
+                    ctx.counts.ids_normalised += u64::from(*changed);
+                    (id, key)
                 }
-                missing => {
+                (missing, _) => {
                     let reason = missing.missing("person_id").expect("not an ID");
                     self.quarantine_missing_id(ctx, line, raw_row(frame, row), reason);
                     continue;
                 }
             };
             let id = id.as_ref();
-            let (node, new) = self.ids.intern(id);
+            let (node, new) = self.ids.intern_hashed(key, *h, id);
             if new {
                 ctx.counts.used += 1;
                 self.first_line.push((ctx.file, line));
@@ -498,7 +532,7 @@ impl PeopleBuilder {
 /// The columns of one people chunk: text columns, which holds the ID, which are dates, and the
 /// attribute each one fills.
 struct PeopleColumns<'a> {
-    cols: &'a [&'a StringChunked],
+    cols: &'a [Vec<Option<&'a str>>],
     id_col: usize,
     date_cols: &'a [Option<usize>],
     attr_of: &'a [usize],
