@@ -22,10 +22,10 @@ pub struct Clustering {
     pub mean_local: Stat,
 }
 
-/// Count triangles by merging sorted neighbour lists (each triangle u < v < w found once).
+/// Count triangles by merging sorted lists of higher-ranked contacts (each triangle found once).
 pub fn clustering(g: &Adjacency, deg: &[u32]) -> Clustering {
     let n = deg.len();
-    let t = triangle_counts(g, n);
+    let t = triangle_counts(g, deg);
     let triples: u128 = deg
         .iter()
         .map(|&k| u128::from(k) * u128::from(k.saturating_sub(1)) / 2)
@@ -55,13 +55,45 @@ pub fn clustering(g: &Adjacency, deg: &[u32]) -> Clustering {
 /// People per block of the triangle walk.
 const BLOCK: usize = 1 << 14;
 
+/// Each person's contacts of higher rank, ranks ordered by (degree, node index): a triangle's
+/// lowest-ranked corner finds it, once, by merging its list with its middle corner's. Lists of
+/// higher rank stay short even at hubs (at most about the square root of twice the number of
+/// pairs), which bounds the merging work (Schank & Wagner 2005, "forward" ordering).
+struct Forward {
+    start: Vec<usize>,
+    list: Vec<u32>,
+}
+
+impl Forward {
+    fn new(g: &Adjacency, deg: &[u32]) -> Forward {
+        let n = deg.len();
+        let above = |u: u32, v: u32| (deg[v as usize], v) > (deg[u as usize], u);
+        let mut start = Vec::with_capacity(n + 1);
+        start.push(0usize);
+        let mut list = Vec::new();
+        for u in 0..n as u32 {
+            // Neighbour lists are sorted by node index, and so stay the filtered ones.
+            list.extend(g.neighbors_slice(u).iter().filter(|&&v| above(u, v)));
+            start.push(list.len());
+        }
+        Forward { start, list }
+    }
+
+    #[inline]
+    fn of(&self, u: u32) -> &[u32] {
+        &self.list[self.start[u as usize]..self.start[u as usize + 1]]
+    }
+}
+
 /// Triangles through each person. Blocks of people go to as many tasks as there are worker
 /// threads, each with one count array of its own (so at most that many arrays of n counts
 /// exist at once, however the work is split), summed at the end: integers, so the result is the
 /// same however the blocks fall.
-fn triangle_counts(g: &Adjacency, n: usize) -> Vec<u64> {
+fn triangle_counts(g: &Adjacency, deg: &[u32]) -> Vec<u64> {
     use std::sync::atomic::{AtomicUsize, Ordering};
     use std::sync::Mutex;
+    let n = deg.len();
+    let fwd = Forward::new(g, deg);
     let next = AtomicUsize::new(0);
     let parts: Mutex<Vec<Vec<u64>>> = Mutex::new(Vec::new());
     rayon::scope(|s| {
@@ -79,7 +111,7 @@ fn triangle_counts(g: &Adjacency, n: usize) -> Vec<u64> {
                         t = vec![0u64; n];
                     }
                     for u in start..(start + BLOCK).min(n) {
-                        triangles_at(g, u as u32, &mut t);
+                        triangles_at(&fwd, u as u32, &mut t);
                     }
                 }
                 if !t.is_empty() {
@@ -96,30 +128,27 @@ fn triangle_counts(g: &Adjacency, n: usize) -> Vec<u64> {
     t
 }
 
-/// How many people ahead of the walk the neighbour lists of their contacts are asked for.
+/// How many people ahead of the walk the lists of their contacts are asked for.
 const AHEAD: u32 = 4;
 
-/// The triangles (u, v, w), u < v < w, that `u` closes, added to each corner's count.
+/// The triangles whose lowest-ranked corner is `u`, added to each corner's count.
 ///
-/// The lists of u's larger neighbours sit anywhere in memory; those of person `u + AHEAD` are
-/// asked for now, so that they have arrived by the time the walk gets there.
+/// The lists of u's contacts sit anywhere in memory; those of person `u + AHEAD`'s contacts
+/// are asked for now, so that they have arrived by the time the walk gets there.
 #[inline]
-fn triangles_at(g: &Adjacency, u: u32, t: &mut [u64]) {
+fn triangles_at(fwd: &Forward, u: u32, t: &mut [u64]) {
     let ahead = u + AHEAD;
-    if (ahead as usize) < g.node_count() {
-        for &v in g.neighbors_slice(ahead).iter().filter(|&&v| v > ahead) {
-            prefetch(g.neighbors_slice(v), 0);
+    if (ahead as usize) + 1 < fwd.start.len() {
+        for &v in fwd.of(ahead) {
+            prefetch(fwd.of(v), 0);
             prefetch(t, v as usize);
         }
     }
-    let nu = g.neighbors_slice(u);
-    for &v in nu.iter().filter(|&&v| v > u) {
-        let nv = g.neighbors_slice(v);
-        // Common neighbours w > v.
-        let (mut i, mut j) = (
-            nu.partition_point(|&w| w <= v),
-            nv.partition_point(|&w| w <= v),
-        );
+    let nu = fwd.of(u);
+    for &v in nu {
+        let nv = fwd.of(v);
+        // Common contacts of higher rank than both (both lists sorted by node index).
+        let (mut i, mut j) = (0, 0);
         while i < nu.len() && j < nv.len() {
             match nu[i].cmp(&nv[j]) {
                 std::cmp::Ordering::Less => i += 1,
