@@ -241,7 +241,7 @@ impl Model {
         let null = background_null_model(&d, &stats.degrees);
         let plan_reach = plan_options.max_reach;
         let plan_cell = background_plan(&d, &list, &stats, plan_options, &id_rank);
-        let input = DayInput::of(&d, &stats, &list.ranked);
+        let input = DayInput::without_names(&stats, &list.ranked);
         let dues = Arc::new(input.dues.clone());
         let (input_hashes, day) =
             background::day_work(&d, input, (&plan_cell, &null), workspace_path.clone(), work);

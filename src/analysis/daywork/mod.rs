@@ -21,22 +21,38 @@ use crate::workspace::snapshot::{Snapshot, SnapshotInfo, BRIDGE, HIGH_DEGREE};
 
 /// The snapshot of a loaded export: `ranked` must hold everyone (the whole list).
 pub fn snapshot_of(d: &Dataset, stats: &NetworkStats, ranked: &[Ranked]) -> Snapshot {
-    let n = d.people();
+    let mut s = snapshot_without_names(stats, ranked);
+    add_names_and_pairs(&mut s, d);
+    s
+}
+
+/// The IDs' text and the pairs of a snapshot made by [`snapshot_without_names`] (most of its
+/// time: a text per person), from the dataset alone.
+pub fn add_names_and_pairs(s: &mut Snapshot, d: &Dataset) {
+    s.ids = (0..d.people() as u32)
+        .map(|v| d.ids.name(v).to_string())
+        .collect();
+    s.pairs = d
+        .edges
+        .a
+        .iter()
+        .copied()
+        .zip(d.edges.b.iter().copied())
+        .collect();
+}
+
+/// A snapshot without the IDs' text and the pairs (see [`add_names_and_pairs`]).
+pub fn snapshot_without_names(stats: &NetworkStats, ranked: &[Ranked]) -> Snapshot {
+    let n = stats.degrees.len();
     let mut s = Snapshot {
-        ids: (0..n as u32).map(|v| d.ids.name(v).to_string()).collect(),
+        ids: Vec::new(),
         degree: stats.degrees.clone(),
         rank: vec![0; n],
         score: vec![0.0; n],
         component: stats.components.0.clone(),
         window_end: vec![i32::MIN; n],
         marks: vec![0; n],
-        pairs: d
-            .edges
-            .a
-            .iter()
-            .copied()
-            .zip(d.edges.b.iter().copied())
-            .collect(),
+        pairs: Vec::new(),
     };
     for (i, r) in ranked.iter().enumerate() {
         let v = r.node as usize;
@@ -140,7 +156,8 @@ pub struct DayRequest<'a> {
 /// What the day's work reads of a loaded and ranked export, taken before the work starts
 /// (cheap; the rest can run on a worker with the dataset alone).
 pub struct DayInput {
-    /// This load's snapshot.
+    /// This load's snapshot (without the IDs' text and the pairs until
+    /// [`DayInput::add_names_and_pairs`]).
     pub snap: Snapshot,
     /// The list, lightly.
     pub dues: Vec<Due>,
@@ -149,10 +166,23 @@ pub struct DayInput {
 impl DayInput {
     /// Take it from the statistics and the whole list.
     pub fn of(d: &Dataset, stats: &NetworkStats, ranked: &[Ranked]) -> DayInput {
+        let mut input = DayInput::without_names(stats, ranked);
+        input.add_names_and_pairs(d);
+        input
+    }
+
+    /// The same without the IDs' text and the pairs, for a worker to finish with
+    /// [`DayInput::add_names_and_pairs`] (the dashboard's first frame does not wait for them).
+    pub fn without_names(stats: &NetworkStats, ranked: &[Ranked]) -> DayInput {
         DayInput {
-            snap: snapshot_of(d, stats, ranked),
+            snap: snapshot_without_names(stats, ranked),
             dues: dues(ranked),
         }
+    }
+
+    /// Complete the snapshot from the dataset.
+    pub fn add_names_and_pairs(&mut self, d: &Dataset) {
+        add_names_and_pairs(&mut self.snap, d);
     }
 }
 

@@ -120,6 +120,8 @@ pub(super) fn day_work(
         };
         // A failure of the day's work is said in its pane, never left as "computing".
         let work = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+            let mut input = input;
+            input.add_names_and_pairs(&dd);
             day_work_from(&dd, input, &req).map_err(|e| e.to_string())
         }))
         .unwrap_or_else(|p| {
