@@ -85,7 +85,11 @@ impl IdMap {
 
     /// Lay the table out anew with `size` slots.
     fn rebuild(&mut self, size: usize) {
-        let mut slots = vec![FREE; size];
+        // Probes land anywhere in the table: at tens of millions of people it is a gigabyte,
+        // and on ordinary pages nearly every probe also misses the address-translation cache.
+        let mut slots = Vec::with_capacity(size);
+        crate::prefetch::advise_huge_pages(&slots);
+        slots.resize(size, FREE);
         let mask = size - 1;
         let mut start = 0;
         for (i, &end) in self.ends.iter().enumerate() {
