@@ -11,12 +11,12 @@
 
 use std::hash::BuildHasher;
 
-/// One entry of the table: node index (`EMPTY` for a free slot), key length and the key's
-/// first eight bytes.
+/// One entry of the table: node index (`EMPTY` for a free slot), the key's first eight bytes,
+/// and its next three bytes with its length (see [`tail`]).
 #[derive(Debug, Clone, Copy)]
 struct Slot {
     head: u64,
-    len: u32,
+    tail: u32,
     idx: u32,
 }
 
@@ -24,9 +24,25 @@ struct Slot {
 const EMPTY: u32 = u32::MAX;
 const FREE: Slot = Slot {
     head: 0,
-    len: 0,
+    tail: 0,
     idx: EMPTY,
 };
+
+/// Keys up to this long are compared inside the table alone.
+const IN_SLOT: usize = 11;
+
+/// Bytes 8 to 10 of a key (zero-padded) and its length (255 for 255 and more) as an integer.
+/// With [`head`], it determines a key of up to [`IN_SLOT`] bytes exactly: the length tells
+/// padding from zero bytes.
+fn tail(key: &[u8]) -> u32 {
+    let mut b = [0u8; 4];
+    if key.len() > 8 {
+        let n = (key.len() - 8).min(3);
+        b[..n].copy_from_slice(&key[8..8 + n]);
+    }
+    b[3] = key.len().min(255) as u8;
+    u32::from_le_bytes(b)
+}
 
 /// The first (up to) eight bytes of a key as an integer, zero-padded.
 fn head(key: &[u8]) -> u64 {
@@ -100,7 +116,7 @@ impl IdMap {
             }
             slots[p] = Slot {
                 head: head(key.as_bytes()),
-                len: key.len() as u32,
+                tail: tail(key.as_bytes()),
                 idx: i as u32,
             };
             start = end;
@@ -138,10 +154,10 @@ impl IdMap {
         self.find_hashed(&key, self.hash_key(&key))
     }
 
-    fn matches(&self, slot: &Slot, key: &[u8], key_head: u64) -> bool {
+    fn matches(&self, slot: &Slot, key: &[u8], (key_head, key_tail): (u64, u32)) -> bool {
         slot.head == key_head
-            && slot.len as usize == key.len()
-            && (key.len() <= 8 || self.key_of(slot.idx).as_bytes()[8..] == key[8..])
+            && slot.tail == key_tail
+            && (key.len() <= IN_SLOT || self.key_of(slot.idx).as_bytes() == key)
     }
 
     /// Node index of an ID, adding it if new; the flag says whether it was new.
@@ -182,7 +198,7 @@ impl IdMap {
     #[inline]
     fn probe(&self, key: &[u8], h: u64) -> (usize, Option<u32>) {
         let mask = self.slots.len() - 1;
-        let kh = head(key);
+        let kh = (head(key), tail(key));
         let mut p = h as usize & mask;
         loop {
             let s = &self.slots[p];
@@ -219,7 +235,7 @@ impl IdMap {
         self.ends.push(self.arena.len());
         self.slots[p] = Slot {
             head: head(key.as_bytes()),
-            len: key.len() as u32,
+            tail: tail(key.as_bytes()),
             idx: i,
         };
         if !self.case_sensitive {
@@ -254,6 +270,45 @@ mod tests {
         assert_eq!(m.get("ABCDEFGH-2"), Some(b));
         assert_eq!(m.get("ABCDEFGH"), None);
         assert_eq!(m.get("ABCDEFGH-"), None);
+    }
+
+    /// Keys compared in the slot alone (up to eleven bytes) and beyond it: every one of a set
+    /// that shares heads and tails, differs by trailing zero bytes or by length, finds itself
+    /// and nothing else.
+    #[test]
+    fn keys_around_the_in_slot_length() {
+        let keys = [
+            "",
+            "\0",
+            "\0\0",
+            "P0000000",
+            "P0000000\0",
+            "P00000000",
+            "P00000001",
+            "P000000001",
+            "P0000000010",
+            "P0000000011",
+            "P00000000110",
+            "P00000000111",
+            "P000000001\0",
+            "P000000001\0\0",
+            "P0000000010\0",
+            "ABCDEFGHIJKLMNOP",
+            "ABCDEFGHIJKLMNOQ",
+        ];
+        let mut m = IdMap::new(true);
+        for (i, k) in keys.iter().enumerate() {
+            assert_eq!(m.intern(k), (i as u32, true), "{k:?}");
+        }
+        for (i, k) in keys.iter().enumerate() {
+            assert_eq!(m.get(k), Some(i as u32), "{k:?}");
+            assert_eq!(m.name(i as u32), *k);
+        }
+        let long = "X".repeat(300);
+        let (a, _) = m.intern(&long);
+        let (b, new) = m.intern(&format!("{long}Y"));
+        assert!(new && a != b);
+        assert_eq!(m.get(&long), Some(a));
     }
 
     #[test]
