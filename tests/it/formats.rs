@@ -342,3 +342,37 @@ fn reading_in_many_small_chunks_changes_nothing() {
         .any(|q| q.line == 6 && q.reason.code() == "self_exposure"));
     assert!(whole.ledger.exposures.balanced());
 }
+
+/// A table that stops on its first piece (ambiguous dates) while later pieces are being parsed
+/// on the reader's own thread: the error comes back and nothing waits for ever.
+#[test]
+fn an_error_in_an_early_piece_stops_the_parser_thread_too() {
+    use hubwatch::config::Config;
+    use hubwatch::dataset::load as load_inputs;
+    use hubwatch::ingest::{dates, table::ReadOptions, Input, LoadOptions};
+    let dir = tempfile::tempdir().unwrap();
+    let mut text = String::from("source_id,target_id,exposure_date\n");
+    for i in 0..2000 {
+        text.push_str(&format!("P{i},Q{i},{:02}/04/2024\n", i % 28 + 1));
+    }
+    let f = write(dir.path(), "dmy.csv", text.as_bytes());
+    for chunk_rows in [1, 3, 0] {
+        let opts = LoadOptions {
+            overrides: Vec::new(),
+            as_of: dates::parse_iso("2030-01-01").unwrap(),
+            read: ReadOptions {
+                sheet: None,
+                chunk_rows,
+            },
+            progress: false,
+            view: Default::default(),
+        };
+        let e = load_inputs(&[Input::Path(f.clone())], &Config::default(), &opts)
+            .err()
+            .unwrap_or_else(|| panic!("chunk_rows {chunk_rows}: the load should stop"));
+        assert!(
+            e.to_string().contains("could be day-first or month-first"),
+            "chunk_rows {chunk_rows}: {e}"
+        );
+    }
+}
