@@ -17,6 +17,7 @@ use crate::analysis::stats::NetworkStats;
 use crate::dataset::Dataset;
 use crate::error::{Error, Result};
 use crate::ingest::reconcile::NO_DATE;
+use crate::sort::by_key_then_name;
 use crate::workspace::PersonState;
 use rayon::prelude::*;
 
@@ -144,7 +145,7 @@ pub fn rank_settled(
             .unzip_into_vecs(&mut keys, &mut late);
         let overdue = late.par_iter().filter(|&&x| x).count();
         let people = keys.len();
-        let order = best_first(keys, req.top, |i| d.ids.name(i));
+        let order = by_key_then_name(keys, req.top, |i| d.ids.name(i));
         let ranked = on_all_cores(order.len(), |i| ctx.rank_one(order[i] as usize));
         (ranked, people, overdue)
     } else {
@@ -166,7 +167,7 @@ pub fn rank_settled(
                 k.iter().filter(|&&i| out[i as usize].overdue).count(),
             ),
         };
-        let order = best_first(keys, req.top, |i| d.ids.name(i));
+        let order = by_key_then_name(keys, req.top, |i| d.ids.name(i));
         (gather(&out, &order), people, overdue)
     };
     Ok(RankedList {
@@ -359,7 +360,7 @@ pub fn rank(
     let chain = chain_values(d, config, preset, &config.pathogen)?;
     let ctx = Context::new(d, stats, config, preset, window_days, followup, chain);
     let out = on_all_cores(d.people(), |i| ctx.rank_one(i));
-    let order = best_first(out.par_iter().map(key).collect(), None, |i| d.ids.name(i));
+    let order = by_key_then_name(out.par_iter().map(key).collect(), None, |i| d.ids.name(i));
     Ok(gather(&out, &order))
 }
 
@@ -427,40 +428,6 @@ fn gather(out: &[Ranked], order: &[u32]) -> Vec<Ranked> {
     v
 }
 
-/// The order of the list (see [`key`]): higher score first, then more contacts, then ID; only
-/// the first `top` when asked. The integer keys are sorted first, IDs compared only within runs
-/// of equal keys; for `top`, the entries that can be among the first `top` are selected in
-/// linear time and only they are sorted.
-fn best_first<'a>(
-    mut keys: Vec<(u64, u32, u32)>,
-    top: Option<usize>,
-    name: impl Fn(u32) -> &'a str + Sync,
-) -> Vec<u32> {
-    let int = |k: &(u64, u32, u32)| (k.0, k.1);
-    let top = top.filter(|&t| t > 0);
-    if let Some(top) = top.filter(|&t| t < keys.len()) {
-        // Everything before the pivot has a key no greater, everything after no smaller; the
-        // entries after it with the pivot's key are tied with it and may belong in the top.
-        let pivot = int(keys.select_nth_unstable_by_key(top - 1, int).1);
-        let mut end = top;
-        for j in top..keys.len() {
-            if int(&keys[j]) == pivot {
-                keys.swap(end, j);
-                end += 1;
-            }
-        }
-        keys.truncate(end);
-    }
-    keys.par_sort_unstable_by_key(int);
-    keys.par_chunk_by_mut(|x, y| int(x) == int(y))
-        .for_each(|run| run.sort_unstable_by(|a, b| name(a.2).cmp(name(b.2))));
-    let mut order: Vec<u32> = keys.into_iter().map(|k| k.2).collect();
-    if let Some(top) = top {
-        order.truncate(top);
-    }
-    order
-}
-
 /// `f(0..n)` on all cores, in order (people are independent), written in place.
 fn on_all_cores<T: Send>(n: usize, f: impl Fn(usize) -> T + Sync + Send) -> Vec<T> {
     let mut v = Vec::new();
@@ -508,7 +475,7 @@ mod tests {
                     .then_with(|| y.degree.cmp(&x.degree))
                     .then_with(|| name(a).cmp(name(b)))
             });
-            prop_assert_eq!(best_first(out.iter().map(key).collect(), None, name), want);
+            prop_assert_eq!(by_key_then_name(out.iter().map(key).collect(), None, name), want);
         }
 
         /// Selecting the first `top` gives the first `top` of the whole order, ties at the cut
@@ -525,8 +492,8 @@ mod tests {
                 .collect();
             let names: Vec<String> = (0..out.len()).map(|i| format!("P{}-{i}", (i * 31) % 97)).collect();
             let name = |i: u32| names[i as usize].as_str();
-            let whole = best_first(out.iter().map(key).collect(), None, name);
-            let head = best_first(out.iter().map(key).collect(), Some(top), name);
+            let whole = by_key_then_name(out.iter().map(key).collect(), None, name);
+            let head = by_key_then_name(out.iter().map(key).collect(), Some(top), name);
             prop_assert_eq!(&head[..], &whole[..top.min(whole.len())]);
         }
     }

@@ -155,18 +155,11 @@ pub fn id_ranks(ids: &IdMap) -> Vec<u32> {
         Some(num) => by_id.sort_unstable_by_key(|&v| num[v as usize]),
         None => {
             // By each ID's first eight bytes first (big-endian, zero-padded: their order is
-            // the texts' order wherever they differ), in a radix sort that never looks at the
-            // names; then runs with equal heads by the whole text.
-            let mut heads: Vec<u64> = (0..n as u32).map(|v| text_head(ids.name(v))).collect();
-            crate::sort::radix_sort_by_key(&mut heads, &mut by_id);
-            let mut start = 0;
-            while start < n {
-                let end = start + heads[start..].partition_point(|&h| h == heads[start]);
-                if end - start > 1 {
-                    by_id[start..end].sort_unstable_by(|&a, &b| ids.name(a).cmp(ids.name(b)));
-                }
-                start = end;
-            }
+            // the texts' order wherever they differ), the whole text only where they tie.
+            let heads = (0..n as u32)
+                .map(|v| (text_head(ids.name(v)), 0, v))
+                .collect();
+            by_id = crate::sort::by_key_then_name(heads, None, |v| ids.name(v));
         }
     }
     let mut id_rank = vec![0u32; n];

@@ -47,27 +47,14 @@ pub fn stats_members(st: &NetworkStats, d: &Dataset) -> Map<String, Value> {
 
 /// The `top` people with the most contacts, ties by ID.
 fn most_contacts(degrees: &[u32], ids: &IdMap, top: usize) -> Vec<u32> {
-    let bar = {
-        let mut d = degrees.to_vec();
-        match top.checked_sub(1).filter(|&k| k < d.len()) {
-            Some(k) => *d.select_nth_unstable_by(k, |x, y| y.cmp(x)).1,
-            None => 0,
-        }
-    };
-    let mut order: Vec<u32> = (0..degrees.len() as u32)
-        .filter(|&v| degrees[v as usize] >= bar)
-        .collect();
-    let by = |x: &u32, y: &u32| {
-        degrees[*y as usize]
-            .cmp(&degrees[*x as usize])
-            .then_with(|| ids.name(*x).cmp(ids.name(*y)))
-    };
-    if order.len() > top && top > 0 {
-        order.select_nth_unstable_by(top - 1, by);
+    // (The shared order reads a top of 0 as "no limit", as `priority --top 0` does.)
+    if top == 0 {
+        return Vec::new();
     }
-    order.truncate(top);
-    order.sort_unstable_by(by);
-    order
+    let keys = (0..degrees.len() as u32)
+        .map(|v| (0, u32::MAX - degrees[v as usize], v))
+        .collect();
+    crate::sort::by_key_then_name(keys, Some(top), |v| ids.name(v))
 }
 
 /// The member `degree`: moments, the people with the most contacts, the histogram.
@@ -77,9 +64,8 @@ pub fn degree(s: &degree::DegreeStats, degrees: &[u32], ids: &IdMap) -> Value {
     put(&mut deg, "mean_sq", s.mean_sq);
     put(&mut deg, "variance", s.variance);
     deg.insert("max".into(), json!(s.max));
-    // The people with the most contacts (ties by ID, so the list is stable). Only people with
-    // at least the TOP-th largest degree can be in it: they are picked in one pass, and only
-    // they are ordered (comparing IDs costs a trip to each name).
+    // The people with the most contacts (ties by ID, so the list is stable), picked without
+    // ordering everyone (comparing IDs costs a trip to each name).
     let order = most_contacts(degrees, ids, TOP);
     deg.insert(
         "top".into(),
