@@ -19,13 +19,6 @@ use crate::dataset::Dataset;
 use crate::ingest::dates;
 use crate::workspace::snapshot::{Snapshot, SnapshotInfo, BRIDGE, HIGH_DEGREE};
 
-/// The snapshot of a loaded export: `ranked` must hold everyone (the whole list).
-pub fn snapshot_of(d: &Dataset, stats: &NetworkStats, ranked: &[Ranked]) -> Snapshot {
-    let mut s = snapshot_without_names(stats, ranked);
-    add_names_and_pairs(&mut s, d);
-    s
-}
-
 /// The IDs' text and the pairs of a snapshot made by [`snapshot_without_names`] (most of its
 /// time: a text per person), from the dataset alone.
 pub fn add_names_and_pairs(s: &mut Snapshot, d: &Dataset) {
@@ -41,7 +34,8 @@ pub fn add_names_and_pairs(s: &mut Snapshot, d: &Dataset) {
         .collect();
 }
 
-/// A snapshot without the IDs' text and the pairs (see [`add_names_and_pairs`]).
+/// The snapshot of a loaded export without the IDs' text and the pairs (see
+/// [`add_names_and_pairs`]): `ranked` must hold everyone (the whole list).
 pub fn snapshot_without_names(stats: &NetworkStats, ranked: &[Ranked]) -> Snapshot {
     let n = stats.degrees.len();
     let mut s = Snapshot {
