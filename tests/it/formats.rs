@@ -283,7 +283,7 @@ fn reading_in_many_small_chunks_changes_nothing() {
     // line numbers, ledger and graph must not depend on the chunk size.
     use hubwatch::config::Config;
     use hubwatch::dataset::load as load_inputs;
-    use hubwatch::ingest::{dates, table::ReadOptions, Input, LoadOptions};
+    use hubwatch::ingest::Input;
     let dir = tempfile::tempdir().unwrap();
     let mut text = String::from("# a comment\nsource_id,target_id,exposure_date,duration_min\n");
     // Over 4 KB, so that the pages of consumed chunks are also given back as the read goes.
@@ -304,16 +304,7 @@ fn reading_in_many_small_chunks_changes_nothing() {
     }
     let f = write(dir.path(), "many.csv", text.as_bytes());
     let run = |chunk_rows: usize| {
-        let opts = LoadOptions {
-            overrides: Vec::new(),
-            as_of: dates::parse_iso("2030-01-01").unwrap(),
-            read: ReadOptions {
-                sheet: None,
-                chunk_rows,
-            },
-            progress: false,
-            view: Default::default(),
-        };
+        let opts = chunked(chunk_rows);
         load_inputs(&[Input::Path(f.clone())], &Config::default(), &opts).unwrap()
     };
     let whole = run(0);
@@ -349,7 +340,7 @@ fn reading_in_many_small_chunks_changes_nothing() {
 fn an_error_in_an_early_piece_stops_the_parser_thread_too() {
     use hubwatch::config::Config;
     use hubwatch::dataset::load as load_inputs;
-    use hubwatch::ingest::{dates, table::ReadOptions, Input, LoadOptions};
+    use hubwatch::ingest::Input;
     let dir = tempfile::tempdir().unwrap();
     let mut text = String::from("source_id,target_id,exposure_date\n");
     for i in 0..2000 {
@@ -357,16 +348,7 @@ fn an_error_in_an_early_piece_stops_the_parser_thread_too() {
     }
     let f = write(dir.path(), "dmy.csv", text.as_bytes());
     for chunk_rows in [1, 3, 0] {
-        let opts = LoadOptions {
-            overrides: Vec::new(),
-            as_of: dates::parse_iso("2030-01-01").unwrap(),
-            read: ReadOptions {
-                sheet: None,
-                chunk_rows,
-            },
-            progress: false,
-            view: Default::default(),
-        };
+        let opts = chunked(chunk_rows);
         let e = load_inputs(&[Input::Path(f.clone())], &Config::default(), &opts)
             .err()
             .unwrap_or_else(|| panic!("chunk_rows {chunk_rows}: the load should stop"));
@@ -374,5 +356,21 @@ fn an_error_in_an_early_piece_stops_the_parser_thread_too() {
             e.to_string().contains("could be day-first or month-first"),
             "chunk_rows {chunk_rows}: {e}"
         );
+    }
+}
+
+/// Load options reading delimited text in pieces of about `chunk_rows` rows (0: whole), dates
+/// up to 2030.
+fn chunked(chunk_rows: usize) -> hubwatch::ingest::LoadOptions {
+    use hubwatch::ingest::{dates, table::ReadOptions, LoadOptions};
+    LoadOptions {
+        overrides: Vec::new(),
+        as_of: dates::parse_iso("2030-01-01").unwrap(),
+        read: ReadOptions {
+            sheet: None,
+            chunk_rows,
+        },
+        progress: false,
+        view: Default::default(),
     }
 }
