@@ -6,6 +6,7 @@
 //! the ledger that accounts for every row.
 
 pub mod aggregates;
+pub mod cells;
 pub mod dates;
 pub mod decode;
 pub mod formats;
@@ -203,14 +204,17 @@ pub fn read(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Loa
     })
 }
 
-/// Append the joined (composite) columns to a chunk, after the file's own columns.
+/// Append the joined (composite) columns to a chunk, after the file's own columns (named
+/// `names`).
 fn join_columns(
-    frame: &mut polars::prelude::DataFrame,
+    chunk: &mut table::Chunk<'_>,
     joined: &[(String, Vec<usize>)],
-    base: usize,
+    names: &[String],
     path: &Path,
 ) -> Result<()> {
     use polars::prelude::*;
+    let cells = std::mem::replace(&mut chunk.cells, cells::Cells::Frame(DataFrame::empty()));
+    let mut frame = cells.into_frame(names, path)?;
     let polars_err = |e| Error::Polars {
         path: path.to_path_buf(),
         source: e,
@@ -226,11 +230,11 @@ fn join_columns(
                 mapping::join_parts(&p)
             })
             .collect();
-        debug_assert!(frame.width() >= base);
         frame
             .with_column(Column::new(name.as_str().into(), values))
             .map_err(polars_err)?;
     }
+    chunk.cells = cells::Cells::Frame(frame);
     Ok(())
 }
 
@@ -287,7 +291,8 @@ impl Reading {
         let rejected = table.read(&opts.read, |mut chunk| {
             let t = std::time::Instant::now();
             if !mapping.joined.is_empty() {
-                join_columns(&mut chunk.frame, &mapping.joined, base_columns, &meta.path)?;
+                let names = &meta.columns[..base_columns];
+                join_columns(&mut chunk, &mapping.joined, names, &meta.path)?;
             }
             match role {
                 Role::People => self.people.add_chunk(&mut ctx, &chunk, &mut checker)?,

@@ -5,7 +5,7 @@
 //! rows are checked for usable IDs *before* their IDs are interned, so a quarantined row adds
 //! neither its pair nor its people.
 
-use polars::prelude::*;
+use super::cells::{CellColumn, Cells};
 
 use super::dates::{self, DateParser, DateProblem};
 use super::ledger::{
@@ -131,25 +131,8 @@ pub struct FileCtx<'a> {
     pub counts: Counts,
 }
 
-pub(super) fn text_column<'a>(
-    frame: &'a DataFrame,
-    idx: Option<usize>,
-    path: &std::path::Path,
-) -> Result<Option<&'a StringChunked>> {
-    match idx {
-        None => Ok(None),
-        Some(i) => frame.columns()[i]
-            .str()
-            .map(Some)
-            .map_err(|e| Error::Polars {
-                path: path.to_path_buf(),
-                source: e,
-            }),
-    }
-}
-
 /// Values of an optional column as an iterator of `Option<&str>` (all `None` if unmapped).
-pub(super) fn values<'a>(col: Option<&'a StringChunked>, n: usize) -> Values<'a> {
+pub(super) fn values<'a>(col: Option<CellColumn<'a, '_>>, n: usize) -> Values<'a> {
     match col {
         Some(c) => Box::new(c.iter()),
         None => Box::new(std::iter::repeat_n(None, n)),
@@ -158,22 +141,6 @@ pub(super) fn values<'a>(col: Option<&'a StringChunked>, n: usize) -> Values<'a>
 
 pub(super) fn trimmed(v: Option<&str>) -> Option<&str> {
     v.map(str::trim).filter(|s| !s.is_empty())
-}
-
-/// The row's values comma-joined, for the quarantine report.
-pub(super) fn raw_row(frame: &DataFrame, row: usize) -> String {
-    frame
-        .columns()
-        .iter()
-        .map(|c| {
-            c.str()
-                .ok()
-                .and_then(|s| s.get(row))
-                .unwrap_or("")
-                .to_string()
-        })
-        .collect::<Vec<_>>()
-        .join(",")
 }
 
 /// Checks dates, durations and records field problems.
@@ -292,14 +259,15 @@ impl FieldChecker {
     pub fn check_ambiguity(
         &self,
         meta: &TableMeta,
-        frame: &DataFrame,
+        cells: &Cells,
         columns: &[Option<usize>],
     ) -> Result<()> {
         if !self.parser.layout().starts_with("YYYY") {
             return Ok(());
         }
         for &c in columns.iter().flatten() {
-            let col = text_column(frame, Some(c), &meta.path)?
+            let col = cells
+                .column(Some(c), &meta.path)?
                 .into_iter()
                 .flat_map(|s| s.iter().take(2000));
             let sample: Vec<&str> = col.flatten().collect();
@@ -445,7 +413,7 @@ impl PeopleBuilder {
         chunk: &Chunk,
         checker: &mut FieldChecker,
     ) -> Result<()> {
-        let frame = &chunk.frame;
+        let cells = &chunk.cells;
         let meta = ctx.meta;
         let id_col = ctx
             .mapping
@@ -456,18 +424,20 @@ impl PeopleBuilder {
             .map(|f| ctx.mapping.get(f))
             .collect();
         if ctx.counts.read == 0 {
-            checker.check_ambiguity(meta, frame, &date_cols)?;
+            checker.check_ambiguity(meta, cells, &date_cols)?;
         }
         let attr_of = self.attribute_columns(ctx, id_col);
         // Each column read once, in order (a lookup by row number per value cost more than
         // the checks themselves).
         let cols: Vec<Vec<Option<&str>>> = (0..meta.columns.len())
             .map(|c| {
-                text_column(frame, Some(c), &meta.path).map(|o| o.expect("some").iter().collect())
+                cells
+                    .column(Some(c), &meta.path)
+                    .map(|o| o.expect("some").iter().collect())
             })
             .collect::<Result<_>>()?;
         // Room for every row's ID being new (the usual case): the table never grows row by row.
-        self.ids.reserve(frame.height());
+        self.ids.reserve(cells.height());
         // The IDs, folded and hashed up front, so that each one's table line can be asked for
         // a few rows before it is interned (the lookups are cache misses at millions of people).
         let keyed: Vec<(IdValue, Option<HashedKey>)> = cols[id_col]
@@ -502,7 +472,7 @@ impl PeopleBuilder {
                 }
                 (missing, _) => {
                     let reason = missing.missing("person_id").expect("not an ID");
-                    self.quarantine_missing_id(ctx, line, raw_row(frame, row), reason);
+                    self.quarantine_missing_id(ctx, line, cells.raw_row(row), reason);
                     continue;
                 }
             };

@@ -4,14 +4,12 @@
 
 use std::borrow::Cow;
 
-use polars::prelude::*;
-
+use super::cells::{CellColumn, Cells};
 use super::intern::NewIds;
 use super::ledger::{Counts, ProblemKind, QuarantineReason, QuarantinedRow};
 use super::mapping::Mapping;
 use super::reconcile::{
-    raw_row, text_column, values, Attributes, FieldChecker, FileCtx, IdValue, Rules, Values,
-    NO_DATE,
+    values, Attributes, FieldChecker, FileCtx, IdValue, Rules, Values, NO_DATE,
 };
 use super::table::{Chunk, LineMap, TableMeta};
 use crate::error::{Error, Result};
@@ -155,7 +153,7 @@ impl ExposureFields {
 /// are padded with empty values first.
 fn keep_extra_columns(
     extras: &mut Attributes,
-    (frame, meta, mapping): (&DataFrame, &TableMeta, &Mapping),
+    (cells, meta, mapping): (&Cells, &TableMeta, &Mapping),
     rules: &Rules,
     usable: &[u32],
     rows_after: usize,
@@ -163,7 +161,8 @@ fn keep_extra_columns(
     let before = rows_after - usable.len();
     for c in (0..meta.columns.len()).filter(|c| !mapping.fields.values().any(|i| i == c)) {
         let k = extras.ensure_column(&meta.columns[c], before);
-        let col = text_column(frame, Some(c), &meta.path)?
+        let col = cells
+            .column(Some(c), &meta.path)?
             .into_iter()
             .flat_map(|s| s.iter());
         let values = &mut extras.values[k];
@@ -224,7 +223,7 @@ impl ExposureRows {
         ids: &mut IdMap,
         checker: &mut FieldChecker,
     ) -> Result<()> {
-        let frame = &chunk.frame;
+        let cells = &chunk.cells;
         let meta = ctx.meta;
         let m = ctx.mapping;
         let (src_c, tgt_c) = (m.get("source_id"), m.get("target_id"));
@@ -235,10 +234,10 @@ impl ExposureRows {
             m.get("duration_min"),
         );
         if ctx.counts.read == 0 {
-            checker.check_ambiguity(meta, frame, &[last_c, first_c])?;
+            checker.check_ambiguity(meta, cells, &[last_c, first_c])?;
         }
-        let src = text_column(frame, src_c, &meta.path)?;
-        let tgt = text_column(frame, tgt_c, &meta.path)?;
+        let src = cells.column(src_c, &meta.path)?;
+        let tgt = cells.column(tgt_c, &meta.path)?;
         let (Some(src), Some(tgt)) = (src, tgt) else {
             return Err(Error::format(
                 &meta.path,
@@ -252,10 +251,10 @@ impl ExposureRows {
         let (usable, pairs) = self.usable_rows(ctx, chunk, (src, tgt), ids, &checker.rules);
         let cols = [last_c, first_c, set_c, min_c];
         self.fields_and_ids(ctx, chunk, (ids, checker), cols, (&usable, &pairs))?;
-        let (frame, meta, m) = (&chunk.frame, ctx.meta, ctx.mapping);
+        let (meta, m) = (ctx.meta, ctx.mapping);
         keep_extra_columns(
             &mut self.extras,
-            (frame, meta, m),
+            (cells, meta, m),
             &checker.rules,
             &usable,
             self.keys.len(),
@@ -278,7 +277,7 @@ impl ExposureRows {
         [last_c, first_c, set_c, min_c]: [Option<usize>; 4],
         (usable, pairs): (&[u32], &[IdPair]),
     ) -> Result<()> {
-        let (frame, meta, m, n) = (&chunk.frame, ctx.meta, ctx.mapping, chunk.frame.height());
+        let (cells, meta, m, n) = (&chunk.cells, ctx.meta, ctx.mapping, chunk.cells.height());
         // Stages B (field checks) and C (numbering IDs) touch disjoint data, so they run at
         // once; B's problems are counted in its own context and added back.
         let mut fctx = FileCtx {
@@ -289,10 +288,10 @@ impl ExposureRows {
         };
         let (keys, forward, field_stage) = (&mut self.keys, &mut self.forward, &mut self.fields);
         let cols = OptionalColumns {
-            last: (last_c, values(text_column(frame, last_c, &meta.path)?, n)),
-            first: (first_c, values(text_column(frame, first_c, &meta.path)?, n)),
-            setting: (set_c, values(text_column(frame, set_c, &meta.path)?, n)),
-            minutes: (min_c, values(text_column(frame, min_c, &meta.path)?, n)),
+            last: (last_c, values(cells.column(last_c, &meta.path)?, n)),
+            first: (first_c, values(cells.column(first_c, &meta.path)?, n)),
+            setting: (set_c, values(cells.column(set_c, &meta.path)?, n)),
+            minutes: (min_c, values(cells.column(min_c, &meta.path)?, n)),
         };
         let new_ids = self
             .new_ids
@@ -326,7 +325,9 @@ impl ExposureRows {
     ) -> Result<()> {
         let before = self.keys.len() - usable.len();
         self.links.resize(before, 0);
-        let col = text_column(&chunk.frame, Some(c), &ctx.meta.path)?
+        let col = chunk
+            .cells
+            .column(Some(c), &ctx.meta.path)?
             .into_iter()
             .flat_map(|s| s.iter());
         let mut next = usable.iter().peekable();
@@ -373,11 +374,11 @@ impl ExposureRows {
         &mut self,
         ctx: &mut FileCtx,
         chunk: &Chunk,
-        (src, tgt): (&'a StringChunked, &'a StringChunked),
+        (src, tgt): (CellColumn<'a, '_>, CellColumn<'a, '_>),
         ids: &IdMap,
         rules: &Rules,
     ) -> (Vec<u32>, Vec<IdPair<'a>>) {
-        let (frame, n) = (&chunk.frame, src.len());
+        let n = chunk.cells.height();
         let mut usable: Vec<u32> = Vec::with_capacity(n);
         let mut pairs: Vec<IdPair> = Vec::with_capacity(n);
         for (row, (s, t)) in src.iter().zip(tgt.iter()).enumerate() {
@@ -402,7 +403,7 @@ impl ExposureRows {
                 file: ctx.file,
                 line: chunk.lines.line(row),
                 reason,
-                raw: raw_row(frame, row),
+                raw: chunk.cells.raw_row(row),
             });
         }
         (usable, pairs)

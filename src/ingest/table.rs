@@ -1,5 +1,5 @@
-//! One input file opened as a table: its columns, and its rows delivered as polars frames of
-//! text columns in bounded chunks, each row tied to its 1-based source line (or record).
+//! One input file opened as a table: its columns, and its rows delivered as text cells in
+//! bounded chunks (see [`super::cells`]), each row tied to its 1-based source line (or record).
 //!
 //! Rows that cannot be split into the table's columns (wrong number of fields) never reach a
 //! frame: they are returned as [`Rejected`] with their line, so that nothing is lost.
@@ -8,6 +8,7 @@ use std::path::{Path, PathBuf};
 
 use polars::prelude::*;
 
+use super::cells::{Cells, TextCells};
 use super::decode::{self, Bytes, EncodingSetting, EncodingUsed, Limits};
 use super::scan::scan_lines;
 use super::sniff::{self, Separator};
@@ -100,9 +101,9 @@ pub struct Rejected {
 }
 
 /// A batch of rows, all columns as text.
-pub struct Chunk {
-    /// Columns named as in [`TableMeta::columns`], all of dtype String.
-    pub frame: DataFrame,
+pub struct Chunk<'a> {
+    /// Columns in the order of [`TableMeta::columns`], all as text.
+    pub cells: Cells<'a>,
     /// Source line of each row.
     pub lines: LineMap,
 }
@@ -229,11 +230,14 @@ impl Table {
     pub fn read(
         self,
         opts: &ReadOptions,
-        mut sink: impl FnMut(Chunk) -> Result<()>,
+        mut sink: impl FnMut(Chunk<'_>) -> Result<()>,
     ) -> Result<Vec<Rejected>> {
         match self.body {
             Body::Frame(frame, lines, rejected) => {
-                sink(Chunk { frame, lines })?;
+                sink(Chunk {
+                    cells: Cells::Frame(frame),
+                    lines,
+                })?;
                 Ok(rejected)
             }
             Body::Text(body) => read_text(&self.meta, body, opts, &mut sink),
@@ -392,7 +396,7 @@ pub(super) fn check_unique_columns(path: &Path, columns: &[String]) -> Result<()
 }
 
 /// Parse one piece of clean delimited text with polars, every column as text.
-fn parse_piece(
+pub(super) fn parse_piece(
     meta: &TableMeta,
     piece: &[u8],
     schema: &SchemaRef,
@@ -424,11 +428,31 @@ fn parse_piece(
         })
 }
 
+/// The cells of one piece of clean delimited text: tokenised in place when it holds no quote
+/// (`plain`), else (or if that fails) parsed by polars.
+fn parse_cells<'a>(
+    meta: &TableMeta,
+    piece: &'a [u8],
+    schema: &SchemaRef,
+    (sep, plain): (Separator, bool),
+) -> Result<Cells<'a>> {
+    let sep_byte = match sep {
+        Separator::Byte(b) => b,
+        Separator::Whitespace => b'\t',
+    };
+    if plain {
+        if let Some(t) = TextCells::tokenise(piece, sep_byte, meta.columns.len()) {
+            return Ok(Cells::Text(t));
+        }
+    }
+    parse_piece(meta, piece, schema, sep).map(Cells::Frame)
+}
+
 fn read_text(
     meta: &TableMeta,
     body: TextBody,
     opts: &ReadOptions,
-    sink: &mut dyn FnMut(Chunk) -> Result<()>,
+    sink: &mut dyn FnMut(Chunk<'_>) -> Result<()>,
 ) -> Result<Vec<Rejected>> {
     let region = &body.bytes[body.data_start.min(body.bytes.len())..];
     let ncols = meta.columns.len();
@@ -471,12 +495,12 @@ fn read_text(
     // The next piece is parsed on a thread of its own while the sink checks this one (at most
     // one parsed piece waits), so parsing and checking overlap on two cores. Pieces arrive in
     // order; an error on either side stops both.
-    let (tx, rx) = std::sync::mpsc::sync_channel::<Result<DataFrame>>(1);
-    let (cut_list, schema_ref, sep) = (&cuts, &schema, body.sep);
+    let (tx, rx) = std::sync::mpsc::sync_channel::<Result<Cells>>(1);
+    let (cut_list, schema_ref, sep, plain) = (&cuts, &schema, body.sep, !scan.quoted);
     // Owns the sender: when it is done (or the sink has gone), the receiving loop ends.
     let parse_all = move || {
         for &(start, end) in cut_list {
-            let parsed = parse_piece(meta, &data[start..end], schema_ref, sep);
+            let parsed = parse_cells(meta, &data[start..end], schema_ref, (sep, plain));
             let failed = parsed.is_err();
             if tx.send(parsed).is_err() || failed {
                 break;
@@ -489,8 +513,8 @@ fn read_text(
         s.spawn(parse_all);
         let mut rows_done = 0usize;
         for (parsed, &(_, end)) in rx.iter().zip(&cuts) {
-            let frame = parsed?;
-            let n = frame.height();
+            let cells = parsed?;
+            let n = cells.height();
             let lines = match &scan.lines {
                 None => LineMap::Contiguous {
                     first: body.data_line + rows_done as u64,
@@ -506,7 +530,7 @@ fn read_text(
                 }
             };
             rows_done += n;
-            sink(Chunk { frame, lines })?;
+            sink(Chunk { cells, lines })?;
             if scan.clean.is_none() {
                 // The chunk is consumed: its mapped pages need not stay resident.
                 body.bytes.release_before(body.data_start + end);
