@@ -1,5 +1,6 @@
-//! Frames -> people and their attributes, with the field checks every table shares, filling
-//! the ledger (exposure rows: `rows`).
+//! What every table's rows share: people's attributes (one code per node per column), the
+//! context of the file being read, and the field checks that record problems in the ledger
+//! (people rows: `people`; exposure rows: `rows`).
 //!
 //! People rows are interned first, so the people table fixes the first node indices; exposure
 //! rows are checked for usable IDs *before* their IDs are interned, so a quarantined row adds
@@ -8,12 +9,10 @@
 use super::cells::{CellColumn, Cells};
 
 use super::dates::{self, DateParser, DateProblem};
-use super::ledger::{
-    Counts, FieldProblem, ProblemKind, QuarantineReason, QuarantinedRow, ReasonFacts,
-};
+use super::ledger::{Counts, FieldProblem, ProblemKind, ReasonFacts};
 use super::mapping::Mapping;
 pub use super::rules::{IdValue, Rules};
-use super::table::{Chunk, TableMeta};
+use super::table::TableMeta;
 use crate::error::{Error, Result};
 use crate::ids::IdMap;
 
@@ -76,7 +75,8 @@ impl Default for AttrColumn {
 }
 
 impl AttrColumn {
-    const NONE: u32 = u32::MAX;
+    /// The code of no value.
+    pub(super) const NONE: u32 = u32::MAX;
 
     /// The value of node `i`, if any.
     pub fn get(&self, i: usize) -> Option<&str> {
@@ -96,6 +96,26 @@ impl AttrColumn {
     pub fn push(&mut self, value: Option<&str>) {
         let c = value.map_or(Self::NONE, |v| self.distinct.intern(v).0);
         self.codes.push(c);
+    }
+
+    /// The code of a value (its index among the distinct values), added if new.
+    pub(super) fn code_of(&mut self, value: &str) -> u32 {
+        self.distinct.intern(value).0
+    }
+
+    /// The code of node `i`'s value, [`AttrColumn::NONE`] if it has none.
+    pub(super) fn code(&self, i: usize) -> u32 {
+        self.codes.get(i).copied().unwrap_or(Self::NONE)
+    }
+
+    /// Set node `i`'s value by its code.
+    pub(super) fn set_code(&mut self, i: usize, code: u32) {
+        self.codes[i] = code;
+    }
+
+    /// The text of a code.
+    pub(super) fn text(&self, code: u32) -> &str {
+        self.distinct.name(code)
     }
 
     /// Grow (with empty values) or shrink to `n` nodes.
@@ -195,18 +215,21 @@ impl FieldChecker {
         let (Some(c), Some(v)) = (column, self.rules.value(v)) else {
             return NO_DATE;
         };
-        match self.parser.parse(v) {
-            Ok(d) if d > self.as_of => self.bad(ctx, (line, c, v), ProblemKind::FutureDate),
-            Ok(d) if d < self.rules.oldest_day => {
-                self.bad(ctx, (line, c, v), ProblemKind::ImplausibleDate)
-            }
+        match self.classify_date(v) {
             Ok(d) => d,
-            Err(DateProblem::Impossible) => {
-                self.bad(ctx, (line, c, v), ProblemKind::ImpossibleDate)
-            }
-            Err(DateProblem::Unreadable) => {
-                self.bad(ctx, (line, c, v), ProblemKind::UnreadableDate)
-            }
+            Err(kind) => self.bad(ctx, (line, c, v), kind),
+        }
+    }
+
+    /// A (trimmed, present) date value's day number, or the kind of problem it has; nothing
+    /// is recorded.
+    pub fn classify_date(&self, v: &str) -> std::result::Result<i32, ProblemKind> {
+        match self.parser.parse(v) {
+            Ok(d) if d > self.as_of => Err(ProblemKind::FutureDate),
+            Ok(d) if d < self.rules.oldest_day => Err(ProblemKind::ImplausibleDate),
+            Ok(d) => Ok(d),
+            Err(DateProblem::Impossible) => Err(ProblemKind::ImpossibleDate),
+            Err(DateProblem::Unreadable) => Err(ProblemKind::UnreadableDate),
         }
     }
 
@@ -223,7 +246,7 @@ impl FieldChecker {
     }
 
     /// Record a problem of `kind` in the wording of [`ProblemKind::reason`]; the date is empty.
-    fn bad(
+    pub(super) fn bad(
         &mut self,
         ctx: &mut FileCtx,
         (line, c, v): (u64, usize, &str),
@@ -281,231 +304,6 @@ impl FieldChecker {
         }
         Ok(())
     }
-}
-
-/// Builds people and their attributes from people-table chunks.
-pub struct PeopleBuilder {
-    /// Node of each person.
-    pub ids: IdMap,
-    /// Attributes per node.
-    pub attrs: Attributes,
-    /// Source line of the row that created each node from the people table.
-    pub first_line: Vec<(usize, u64)>,
-    /// Rows quarantined.
-    pub quarantined: Vec<QuarantinedRow>,
-}
-
-/// An ID as the map compares it, with its hash.
-type HashedKey<'a> = (std::borrow::Cow<'a, str>, u64);
-
-/// How many people rows ahead of the interning their ID's table line is asked for.
-const PEOPLE_AHEAD: usize = 16;
-
-/// Fields of the people table whose values are dates.
-const PEOPLE_DATE_FIELDS: [&str; 2] = ["onset_date", "report_date"];
-
-impl PeopleBuilder {
-    /// Start with an empty ID map.
-    pub fn new(case_sensitive: bool) -> PeopleBuilder {
-        PeopleBuilder {
-            ids: IdMap::new(case_sensitive),
-            attrs: Attributes::default(),
-            first_line: Vec::new(),
-            quarantined: Vec::new(),
-        }
-    }
-
-    /// A people row without an ID (blank, or a missing-value code) is quarantined.
-    fn quarantine_missing_id(
-        &mut self,
-        ctx: &mut FileCtx,
-        line: u64,
-        raw: String,
-        reason: QuarantineReason,
-    ) {
-        ctx.counts.quarantined += 1;
-        self.quarantined.push(QuarantinedRow {
-            file: ctx.file,
-            line,
-            reason,
-            raw,
-        });
-    }
-
-    /// Keep one people row's attribute values; a value that differs from the one kept for the
-    /// same person is a field problem (the first is kept).
-    fn set_attributes(
-        &mut self,
-        ctx: &mut FileCtx,
-        checker: &mut FieldChecker,
-        pc: &PeopleColumns,
-        (row, line): (usize, u64),
-        (node, id): (u32, &str),
-    ) {
-        for (c, col) in pc.cols.iter().enumerate() {
-            if c == pc.id_col {
-                continue;
-            }
-            let raw = checker.rules.value(col[row]);
-            let value: Option<std::borrow::Cow<str>> = if pc.date_cols.contains(&Some(c)) {
-                let d = checker.date(ctx, line, Some(c), raw);
-                (d != NO_DATE).then(|| dates::iso(d).into())
-            } else {
-                raw.map(Into::into)
-            };
-            let Some(value) = value else { continue };
-            let column = &mut self.attrs.values[pc.attr_of[c]];
-            match column.get(node as usize) {
-                None => column.set(node as usize, &value),
-                Some(old) if *old != *value => {
-                    let (f, l) = self.first_line[node as usize];
-                    let at = if f == ctx.file {
-                        format!("line {l}")
-                    } else {
-                        format!("file {} line {l}", f + 1)
-                    };
-                    let msg = ProblemKind::ConflictingValue.reason(&ReasonFacts {
-                        person: id,
-                        kept: old,
-                        at: &at,
-                        ..ReasonFacts::default()
-                    });
-                    checker.problem(ctx, line, c, &value, ProblemKind::ConflictingValue, msg);
-                }
-                Some(_) => {}
-            }
-        }
-    }
-
-    /// The attribute column each file column fills (canonical name where mapped); the ID
-    /// column is the key, not an attribute, and is marked `usize::MAX`.
-    fn attribute_columns(&mut self, ctx: &FileCtx, id_col: usize) -> Vec<usize> {
-        // Attribute column of each file column (canonical name where mapped).
-        let names: Vec<String> = (0..ctx.meta.columns.len())
-            .map(|c| {
-                ctx.mapping
-                    .fields
-                    .iter()
-                    .find(|(_, &i)| i == c)
-                    .map(|(f, _)| f.clone())
-                    .unwrap_or_else(|| ctx.meta.columns[c].clone())
-            })
-            .collect();
-        let nodes = self.ids.len();
-        // The ID column is the key, not an attribute (usize::MAX marks it; it is skipped below).
-        names
-            .iter()
-            .enumerate()
-            .map(|(c, n)| {
-                if c == id_col {
-                    usize::MAX
-                } else {
-                    self.attrs.ensure_column(n, nodes)
-                }
-            })
-            .collect()
-    }
-
-    /// Process one chunk of a people file.
-    pub fn add_chunk(
-        &mut self,
-        ctx: &mut FileCtx,
-        chunk: &Chunk,
-        checker: &mut FieldChecker,
-    ) -> Result<()> {
-        let cells = &chunk.cells;
-        let meta = ctx.meta;
-        let id_col = ctx
-            .mapping
-            .get("person_id")
-            .ok_or_else(|| Error::format(&meta.path, "person_id is not mapped"))?;
-        let date_cols: Vec<Option<usize>> = PEOPLE_DATE_FIELDS
-            .iter()
-            .map(|f| ctx.mapping.get(f))
-            .collect();
-        if ctx.counts.read == 0 {
-            checker.check_ambiguity(meta, cells, &date_cols)?;
-        }
-        let attr_of = self.attribute_columns(ctx, id_col);
-        // Each column read once, in order (a lookup by row number per value cost more than
-        // the checks themselves).
-        let cols: Vec<Vec<Option<&str>>> = (0..meta.columns.len())
-            .map(|c| {
-                cells
-                    .column(Some(c), &meta.path)
-                    .map(|o| o.expect("some").iter().collect())
-            })
-            .collect::<Result<_>>()?;
-        // Room for every row's ID being new (the usual case): the table never grows row by row.
-        self.ids.reserve(cells.height());
-        // The IDs, folded and hashed up front, so that each one's table line can be asked for
-        // a few rows before it is interned (the lookups are cache misses at millions of people).
-        let keyed: Vec<(IdValue, Option<HashedKey>)> = cols[id_col]
-            .iter()
-            .map(|&v| {
-                let value = checker.rules.id(v);
-                // The key borrows the column's text where the ID is that text.
-                let key = match &value {
-                    IdValue::Id(std::borrow::Cow::Borrowed(id), _) => Some(self.ids.key(id)),
-                    IdValue::Id(std::borrow::Cow::Owned(id), _) => {
-                        Some(self.ids.key(id).into_owned().into())
-                    }
-                    _ => None,
-                };
-                let key = key.map(|k| {
-                    let h = self.ids.hash_key(&k);
-                    (k, h)
-                });
-                (value, key)
-            })
-            .collect();
-        for (row, (value, key)) in keyed.iter().enumerate() {
-            if let Some((_, Some((_, h)))) = keyed.get(row + PEOPLE_AHEAD) {
-                self.ids.prefetch(*h);
-            }
-            let line = chunk.lines.line(row);
-            ctx.counts.read += 1;
-            let (id, (key, h)) = match (value, key) {
-                (IdValue::Id(id, changed), Some(key)) => {
-                    ctx.counts.ids_normalised += u64::from(*changed);
-                    (id, key)
-                }
-                (missing, _) => {
-                    let reason = missing.missing("person_id").expect("not an ID");
-                    self.quarantine_missing_id(ctx, line, cells.raw_row(row), reason);
-                    continue;
-                }
-            };
-            let id = id.as_ref();
-            let (node, new) = self.ids.intern_hashed(key, *h, id);
-            if new {
-                ctx.counts.used += 1;
-                self.first_line.push((ctx.file, line));
-                for v in self.attrs.values.iter_mut() {
-                    v.push(None);
-                }
-            } else {
-                ctx.counts.merged += 1;
-            }
-            let pc = PeopleColumns {
-                cols: &cols,
-                id_col,
-                date_cols: &date_cols,
-                attr_of: &attr_of,
-            };
-            self.set_attributes(ctx, checker, &pc, (row, line), (node, id));
-        }
-        Ok(())
-    }
-}
-
-/// The columns of one people chunk: text columns, which holds the ID, which are dates, and the
-/// attribute each one fills.
-struct PeopleColumns<'a> {
-    cols: &'a [Vec<Option<&'a str>>],
-    id_col: usize,
-    date_cols: &'a [Option<usize>],
-    attr_of: &'a [usize],
 }
 
 /// An optional column's values, row by row.

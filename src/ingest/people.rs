@@ -1,0 +1,321 @@
+//! People-table chunks -> people (IDs interned in row order, so the people table fixes the
+//! first node indices) and their attributes, each distinct value stored once.
+//!
+//! A large chunk is worked on two cores: one interns the IDs, the other turns every attribute
+//! column into value codes (dates checked and written as ISO 8601). A last pass in row order
+//! then keeps each person's first value and records the problems, in the order reading the
+//! rows one by one would record them.
+
+use super::cells::CellColumn;
+use super::dates;
+use super::ledger::{ProblemKind, QuarantinedRow, ReasonFacts};
+use super::reconcile::{AttrColumn, Attributes, FieldChecker, FileCtx, IdValue, Rules};
+use super::table::Chunk;
+use crate::error::{Error, Result};
+use crate::ids::IdMap;
+
+/// Builds people and their attributes from people-table chunks.
+pub struct PeopleBuilder {
+    /// Node of each person.
+    pub ids: IdMap,
+    /// Attributes per node.
+    pub attrs: Attributes,
+    /// Source line of the row that created each node from the people table.
+    pub first_line: Vec<(usize, u64)>,
+    /// Rows quarantined.
+    pub quarantined: Vec<QuarantinedRow>,
+}
+
+/// An ID as the map compares it, with its hash.
+type HashedKey<'a> = (std::borrow::Cow<'a, str>, u64);
+
+/// How many people rows ahead of the interning their ID's table line is asked for.
+const PEOPLE_AHEAD: usize = 16;
+
+/// Below this many rows, a second thread costs more than it saves.
+const PARALLEL_ROWS: usize = 50_000;
+
+/// Fields of the people table whose values are dates.
+const PEOPLE_DATE_FIELDS: [&str; 2] = ["onset_date", "report_date"];
+
+/// Each row's node and whether the row created it; `None` for a row set aside.
+type RowNodes = Vec<Option<(u32, bool)>>;
+
+/// One attribute column of a chunk, coded: each row's value code (`AttrColumn::NONE` for no
+/// value) and the rows whose date could not be kept, with the value and the problem.
+struct Coded<'a> {
+    codes: Vec<u32>,
+    problems: Vec<(u32, &'a str, ProblemKind)>,
+}
+
+/// A file column that fills an attribute: (file column, attribute column, holds dates).
+type AttrWork = (usize, usize, bool);
+
+impl PeopleBuilder {
+    /// Start with an empty ID map.
+    pub fn new(case_sensitive: bool) -> PeopleBuilder {
+        PeopleBuilder {
+            ids: IdMap::new(case_sensitive),
+            attrs: Attributes::default(),
+            first_line: Vec::new(),
+            quarantined: Vec::new(),
+        }
+    }
+
+    /// The attribute column each file column fills (canonical name where mapped), for every
+    /// column but the ID column (the key, not an attribute).
+    fn attribute_columns(
+        &mut self,
+        ctx: &FileCtx,
+        id_col: usize,
+        dates: &[usize],
+    ) -> Vec<AttrWork> {
+        let nodes = self.ids.len();
+        (0..ctx.meta.columns.len())
+            .filter(|&c| c != id_col)
+            .map(|c| {
+                let name = ctx
+                    .mapping
+                    .fields
+                    .iter()
+                    .find(|(_, &i)| i == c)
+                    .map(|(f, _)| f.clone())
+                    .unwrap_or_else(|| ctx.meta.columns[c].clone());
+                (
+                    c,
+                    self.attrs.ensure_column(&name, nodes),
+                    dates.contains(&c),
+                )
+            })
+            .collect()
+    }
+
+    /// Process one chunk of a people file.
+    pub fn add_chunk(
+        &mut self,
+        ctx: &mut FileCtx,
+        chunk: &Chunk,
+        checker: &mut FieldChecker,
+    ) -> Result<()> {
+        let cells = &chunk.cells;
+        let meta = ctx.meta;
+        let id_col = ctx
+            .mapping
+            .get("person_id")
+            .ok_or_else(|| Error::format(&meta.path, "person_id is not mapped"))?;
+        let date_cols: Vec<Option<usize>> = PEOPLE_DATE_FIELDS
+            .iter()
+            .map(|f| ctx.mapping.get(f))
+            .collect();
+        if ctx.counts.read == 0 {
+            checker.check_ambiguity(meta, cells, &date_cols)?;
+        }
+        let dates: Vec<usize> = date_cols.iter().flatten().copied().collect();
+        let work = self.attribute_columns(ctx, id_col, &dates);
+        let columns: Vec<CellColumn> = (0..meta.columns.len())
+            .map(|c| cells.column(Some(c), &meta.path).map(|o| o.expect("some")))
+            .collect::<Result<_>>()?;
+        let n = cells.height();
+        // Room for every row's ID being new (the usual case): the table never grows row by row.
+        self.ids.reserve(n);
+        let Self {
+            ids,
+            attrs,
+            first_line,
+            quarantined,
+        } = self;
+        let checker_ref = &*checker;
+        let code_all = |values: &mut [AttrColumn]| -> Vec<Coded> {
+            work.iter()
+                .map(|&(c, a, is_date)| {
+                    code_column(columns[c], &mut values[a], is_date, checker_ref)
+                })
+                .collect()
+        };
+        let mut interned = Interning {
+            ids,
+            first_line,
+            quarantined,
+            ctx: &mut *ctx,
+            rules: &checker.rules,
+        };
+        let (nodes, coded) = if n >= PARALLEL_ROWS {
+            std::thread::scope(|sc| {
+                let values = &mut attrs.values;
+                let side = sc.spawn(move || code_all(values));
+                let nodes = interned.rows(columns[id_col], chunk);
+                let coded = side.join().unwrap_or_else(|p| std::panic::resume_unwind(p));
+                (nodes, coded)
+            })
+        } else {
+            let nodes = interned.rows(columns[id_col], chunk);
+            (nodes, code_all(&mut attrs.values))
+        };
+        self.keep_values(ctx, checker, (chunk, &work), (&nodes, &coded));
+        Ok(())
+    }
+
+    /// The last pass, in row order: a new person's values are kept, a value that differs
+    /// from the one kept for the same person is a field problem (the first is kept), and a
+    /// date that could not be kept is one too.
+    fn keep_values(
+        &mut self,
+        ctx: &mut FileCtx,
+        checker: &mut FieldChecker,
+        (chunk, work): (&Chunk, &[AttrWork]),
+        (nodes, coded): (&RowNodes, &[Coded]),
+    ) {
+        let mut problems: Vec<_> = coded.iter().map(|c| c.problems.iter().peekable()).collect();
+        for (row, at) in nodes.iter().enumerate() {
+            let Some((node, new)) = *at else {
+                // A row set aside records no problem of its values.
+                for p in problems.iter_mut() {
+                    while p.next_if(|(r, _, _)| *r as usize == row).is_some() {}
+                }
+                continue;
+            };
+            let line = chunk.lines.line(row);
+            if new {
+                for v in self.attrs.values.iter_mut() {
+                    v.push(None);
+                }
+            }
+            for (k, &(c, a, _)) in work.iter().enumerate() {
+                if let Some((_, v, kind)) = problems[k].next_if(|(r, _, _)| *r as usize == row) {
+                    checker.bad(ctx, (line, c, v), *kind);
+                }
+                let code = coded[k].codes[row];
+                if code == AttrColumn::NONE {
+                    continue;
+                }
+                let column = &mut self.attrs.values[a];
+                let old = column.code(node as usize);
+                if old == AttrColumn::NONE {
+                    column.set_code(node as usize, code);
+                } else if old != code {
+                    let (f, l) = self.first_line[node as usize];
+                    let at = if f == ctx.file {
+                        format!("line {l}")
+                    } else {
+                        format!("file {} line {l}", f + 1)
+                    };
+                    let (kept, value) = (column.text(old), column.text(code));
+                    let msg = ProblemKind::ConflictingValue.reason(&ReasonFacts {
+                        person: self.ids.name(node),
+                        kept,
+                        at: &at,
+                        ..ReasonFacts::default()
+                    });
+                    checker.problem(ctx, line, c, value, ProblemKind::ConflictingValue, msg);
+                }
+            }
+        }
+    }
+}
+
+/// The ID side of a people chunk: what interning needs, borrowed apart from the attributes.
+struct Interning<'b, 'm> {
+    ids: &'b mut IdMap,
+    first_line: &'b mut Vec<(usize, u64)>,
+    quarantined: &'b mut Vec<QuarantinedRow>,
+    ctx: &'b mut FileCtx<'m>,
+    rules: &'b Rules,
+}
+
+impl Interning<'_, '_> {
+    /// Intern each row's ID in order; a row without one (blank, or a missing-value code) is
+    /// quarantined.
+    fn rows(&mut self, id_column: CellColumn, chunk: &Chunk) -> RowNodes {
+        let ids = &mut *self.ids;
+        // The IDs, folded and hashed up front, so that each one's table line can be asked for
+        // a few rows before it is interned (the lookups are cache misses at millions of people).
+        let keyed: Vec<(IdValue, Option<HashedKey>)> = id_column
+            .iter()
+            .map(|v| {
+                let value = self.rules.id(v);
+                // The key borrows the column's text where the ID is that text.
+                let key = match &value {
+                    IdValue::Id(std::borrow::Cow::Borrowed(id), _) => Some(ids.key(id)),
+                    IdValue::Id(std::borrow::Cow::Owned(id), _) => {
+                        Some(ids.key(id).into_owned().into())
+                    }
+                    _ => None,
+                };
+                let key = key.map(|k| {
+                    let h = ids.hash_key(&k);
+                    (k, h)
+                });
+                (value, key)
+            })
+            .collect();
+        let ctx = &mut *self.ctx;
+        let mut out = Vec::with_capacity(keyed.len());
+        for (row, (value, key)) in keyed.iter().enumerate() {
+            if let Some((_, Some((_, h)))) = keyed.get(row + PEOPLE_AHEAD) {
+                ids.prefetch(*h);
+            }
+            ctx.counts.read += 1;
+            let (id, (key, h)) = match (value, key) {
+                (IdValue::Id(id, changed), Some(key)) => {
+                    ctx.counts.ids_normalised += u64::from(*changed);
+                    (id, key)
+                }
+                (missing, _) => {
+                    let reason = missing.missing("person_id").expect("not an ID");
+                    ctx.counts.quarantined += 1;
+                    self.quarantined.push(QuarantinedRow {
+                        file: ctx.file,
+                        line: chunk.lines.line(row),
+                        reason,
+                        raw: chunk.cells.raw_row(row),
+                    });
+                    out.push(None);
+                    continue;
+                }
+            };
+            let (node, new) = ids.intern_hashed(key, *h, id.as_ref());
+            if new {
+                ctx.counts.used += 1;
+                self.first_line.push((ctx.file, chunk.lines.line(row)));
+            } else {
+                ctx.counts.merged += 1;
+            }
+            out.push(Some((node, new)));
+        }
+        out
+    }
+}
+
+/// One attribute column's values as codes in `column`'s distinct values; a date is kept as
+/// its ISO 8601 text, and one that cannot be kept is noted with its problem (recorded later,
+/// in row order, if its row is used).
+fn code_column<'c>(
+    values: CellColumn<'c, '_>,
+    column: &mut AttrColumn,
+    is_date: bool,
+    checker: &FieldChecker,
+) -> Coded<'c> {
+    let mut coded = Coded {
+        codes: Vec::new(),
+        problems: Vec::new(),
+    };
+    // Day number -> code: a handful of days among millions of rows.
+    let mut day_codes: hashbrown::HashMap<i32, u32> = hashbrown::HashMap::new();
+    for (row, v) in values.iter().enumerate() {
+        let code = match checker.rules.value(v) {
+            None => AttrColumn::NONE,
+            Some(v) if is_date => match checker.classify_date(v) {
+                Ok(d) => *day_codes
+                    .entry(d)
+                    .or_insert_with(|| column.code_of(&dates::iso(d))),
+                Err(kind) => {
+                    coded.problems.push((row as u32, v, kind));
+                    AttrColumn::NONE
+                }
+            },
+            Some(v) => column.code_of(v),
+        };
+        coded.codes.push(code);
+    }
+    coded
+}
