@@ -309,7 +309,7 @@ pub fn build(loaded: Loaded, view: &View) -> Result<Dataset> {
 
 /// Rows per (date, setting) over the rows `keep` names (None: all), sorted. Counted in a dense
 /// array over the dates' range when it is not absurdly wide (a hash map otherwise).
-fn rows_by_day(f: &ingest::rows::ExposureFields, keep: Option<&[bool]>) -> Vec<(i32, u16, u64)> {
+fn rows_by_day(f: &ingest::fields::ExposureFields, keep: Option<&[bool]>) -> Vec<(i32, u16, u64)> {
     use ingest::reconcile::NO_DATE;
     let n = f.last.len().max(f.first.len());
     let day_of = |r: usize| {

@@ -38,36 +38,32 @@ impl NewIds {
         }
     }
 
-    /// Node indices of the (source, target) pairs, in order, two per pair. `beside` runs on a
-    /// core of its own while the IDs are looked up when `parallel` is set.
-    pub fn number<R: Send>(
+    /// Node indices of the (source, target) pairs, in order, two per pair; the two halves of
+    /// the lookups run on two cores when `parallel` is set.
+    pub fn number(
         &mut self,
         ids: &IdMap,
         pairs: &[(Cow<'_, str>, Cow<'_, str>)],
         parallel: bool,
-        beside: impl FnOnce() -> R + Send,
-    ) -> (Vec<u32>, R) {
+    ) -> Vec<u32> {
         assert!(
             ids.len() + self.order.len() < NEW as usize,
             "too many people"
         );
         let [s0, s1] = &mut self.shards;
-        let (h0, h1, r) = if parallel {
+        let (h0, h1) = if parallel {
             std::thread::scope(|sc| {
-                let side = sc.spawn(beside);
                 let other = sc.spawn(|| look_up(ids, s1, 1, pairs));
                 let h0 = look_up(ids, s0, 0, pairs);
                 let h1 = other
                     .join()
                     .unwrap_or_else(|p| std::panic::resume_unwind(p));
-                let r = side.join().unwrap_or_else(|p| std::panic::resume_unwind(p));
-                (h0, h1, r)
+                (h0, h1)
             })
         } else {
-            let r = beside();
-            (look_up(ids, s0, 0, pairs), look_up(ids, s1, 1, pairs), r)
+            (look_up(ids, s0, 0, pairs), look_up(ids, s1, 1, pairs))
         };
-        (self.merge(ids.len(), &h0, &h1), r)
+        self.merge(ids.len(), &h0, &h1)
     }
 
     /// One pass in row order: numbered IDs as they are, new ones numbered on first sight.
@@ -183,8 +179,8 @@ mod tests {
                 .flat_map(|(s, t)| [plain.intern(s).0, plain.intern(t).0])
                 .collect();
             let mut new = NewIds::new(case_sensitive);
-            let (half1, _) = new.number(&people, &pairs[..100], true, || ());
-            let (half2, _) = new.number(&people, &pairs[100..], false, || ());
+            let half1 = new.number(&people, &pairs[..100], true);
+            let half2 = new.number(&people, &pairs[100..], false);
             new.finish(&mut people);
             let got: Vec<u32> = half1.into_iter().chain(half2).collect();
             assert_eq!(got, want);

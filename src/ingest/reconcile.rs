@@ -204,6 +204,17 @@ impl FieldChecker {
         });
     }
 
+    /// A checker with the same settings and no problems yet (for checks made on the side,
+    /// whose problems are kept or dropped afterwards).
+    pub(super) fn scratch(&self) -> FieldChecker {
+        FieldChecker {
+            parser: self.parser.clone(),
+            as_of: self.as_of,
+            rules: self.rules.clone(),
+            problems: Vec::new(),
+        }
+    }
+
     /// A date value: the day number, or `NO_DATE` with a field problem recorded.
     pub fn date(
         &mut self,

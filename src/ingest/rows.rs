@@ -1,17 +1,16 @@
-//! Frames -> the usable exposure rows, checked and in input order: IDs interned only for rows
-//! that can form an exposure, dates, minutes and settings checked on a second thread beside the
-//! interning, unmapped columns kept per row.
+//! Chunks -> the usable exposure rows, checked and in input order: IDs interned only for rows
+//! that can form an exposure, dates, minutes and settings checked on a core of their own beside
+//! (see `fields`), unmapped columns kept per row.
 
 use std::borrow::Cow;
 
 use super::cells::{CellColumn, Cells};
+use super::fields::{check_rows, ExposureFields, OptionalColumns};
 use super::intern::NewIds;
 use super::ledger::{Counts, ProblemKind, QuarantineReason, QuarantinedRow};
 use super::mapping::Mapping;
-use super::reconcile::{
-    values, Attributes, FieldChecker, FileCtx, IdValue, Rules, Values, NO_DATE,
-};
-use super::table::{Chunk, LineMap, TableMeta};
+use super::reconcile::{values, Attributes, FieldChecker, FileCtx, IdValue, Rules};
+use super::table::{Chunk, TableMeta};
 use crate::error::{Error, Result};
 use crate::ids::IdMap;
 
@@ -20,133 +19,6 @@ type IdPair<'a> = (Cow<'a, str>, Cow<'a, str>);
 
 /// Below this many usable rows in a chunk, a second thread costs more than it saves.
 const PARALLEL_ROWS: usize = 50_000;
-
-/// The optional exposure columns of one chunk: (column index, values).
-struct OptionalColumns<'a> {
-    last: (Option<usize>, Values<'a>),
-    first: (Option<usize>, Values<'a>),
-    setting: (Option<usize>, Values<'a>),
-    minutes: (Option<usize>, Values<'a>),
-}
-
-/// The optional fields of the usable exposure rows (what the field checks write, beside the
-/// interning of IDs). A field no file maps stays empty.
-#[derive(Debug, Default)]
-pub struct ExposureFields {
-    /// Last exposure date (day number or NO_DATE), if the field is mapped anywhere.
-    pub last: Vec<i32>,
-    /// First exposure date.
-    pub first: Vec<i32>,
-    /// Minutes (NaN when missing).
-    pub minutes: Vec<f32>,
-    /// Setting code (0 = none; `settings.name(code - 1)` otherwise).
-    pub setting: Vec<u16>,
-    /// Distinct setting labels.
-    pub settings: IdMap,
-    /// Each spelling seen -> its setting code (saves folding case on every row).
-    setting_spellings: hashbrown::HashMap<Box<str>, u16>,
-}
-
-impl ExposureFields {
-    /// Pad to `n` rows the fields that are mapped (`mapped`: last, first, minutes, setting).
-    fn pad(&mut self, n: usize, mapped: [bool; 4]) {
-        if mapped[0] && self.last.len() < n {
-            self.last.resize(n, NO_DATE);
-        }
-        if mapped[1] && self.first.len() < n {
-            self.first.resize(n, NO_DATE);
-        }
-        if mapped[2] && self.minutes.len() < n {
-            self.minutes.resize(n, f32::NAN);
-        }
-        if mapped[3] && self.setting.len() < n {
-            self.setting.resize(n, 0);
-        }
-    }
-
-    /// The fields mapped so far (non-empty arrays).
-    fn mapped(&self) -> [bool; 4] {
-        [
-            !self.last.is_empty(),
-            !self.first.is_empty(),
-            !self.minutes.is_empty(),
-            !self.setting.is_empty(),
-        ]
-    }
-
-    /// Check dates, durations and settings of the usable rows, in row order.
-    fn run(
-        &mut self,
-        cols: OptionalColumns,
-        usable: &[u32],
-        lines: &LineMap,
-        ctx: &mut FileCtx,
-        checker: &mut FieldChecker,
-    ) {
-        let OptionalColumns {
-            last,
-            first,
-            setting,
-            minutes,
-        } = cols;
-        let (last_c, first_c, set_c, min_c) = (last.0, first.0, setting.0, minutes.0);
-        let rows = last
-            .1
-            .zip(first.1)
-            .zip(setting.1.zip(minutes.1))
-            .enumerate();
-        let mut next = usable.iter().peekable();
-        for (row, ((l, f), (st, mi))) in rows {
-            if next.peek().is_none_or(|&&u| u as usize != row) {
-                continue;
-            }
-            next.next();
-            let line = lines.line(row);
-            let ld = checker.date(ctx, line, last_c, l);
-            let mut fd = checker.date(ctx, line, first_c, f);
-            if ld != NO_DATE && fd != NO_DATE && fd > ld {
-                let v = f.unwrap_or("").trim().to_string();
-                let msg = ProblemKind::DateOrder.reason(&super::ledger::ReasonFacts {
-                    last: ld,
-                    ..checker.facts(&v)
-                });
-                checker.problem(
-                    ctx,
-                    line,
-                    first_c.unwrap_or(0),
-                    &v,
-                    ProblemKind::DateOrder,
-                    msg,
-                );
-                fd = NO_DATE;
-            }
-            if last_c.is_some() {
-                self.last.push(ld);
-            }
-            if first_c.is_some() {
-                self.first.push(fd);
-            }
-            if min_c.is_some() {
-                self.minutes.push(checker.minutes(ctx, line, min_c, mi));
-            }
-            if set_c.is_some() {
-                let code = match checker.rules.value(st) {
-                    None => 0,
-                    Some(label) => match self.setting_spellings.get(label) {
-                        Some(&c) => c,
-                        None => {
-                            let (i, _) = self.settings.intern(label);
-                            let c = u16::try_from(i + 1).unwrap_or(u16::MAX);
-                            self.setting_spellings.insert(label.into(), c);
-                            c
-                        }
-                    },
-                };
-                self.setting.push(code);
-            }
-        }
-    }
-}
 
 /// Append the values of unmapped columns for the usable rows of a chunk. `rows_after` is the
 /// number of usable rows stored once this chunk is counted; columns that earlier files lacked
@@ -179,6 +51,47 @@ fn keep_extra_columns(
         v.resize(rows_after);
     }
     Ok(())
+}
+
+/// Stage A: which rows can form an exposure (both IDs present, not the same person). A
+/// quarantined row adds nothing, so this decision comes before any ID is interned.
+fn usable_rows<'a>(
+    quarantined: &mut Vec<QuarantinedRow>,
+    ctx: &mut FileCtx,
+    chunk: &Chunk,
+    (src, tgt): (CellColumn<'a, '_>, CellColumn<'a, '_>),
+    ids: &IdMap,
+    rules: &Rules,
+) -> (Vec<u32>, Vec<IdPair<'a>>) {
+    let n = chunk.cells.height();
+    let mut usable: Vec<u32> = Vec::with_capacity(n);
+    let mut pairs: Vec<IdPair> = Vec::with_capacity(n);
+    for (row, (s, t)) in src.iter().zip(tgt.iter()).enumerate() {
+        ctx.counts.read += 1;
+        let reason = match (rules.id(s), rules.id(t)) {
+            (IdValue::Id(a, _), IdValue::Id(b, _)) if ids.same(&a, &b) => {
+                QuarantineReason::SelfExposure
+            }
+            (IdValue::Id(a, ca), IdValue::Id(b, cb)) => {
+                ctx.counts.ids_normalised += u64::from(ca) + u64::from(cb);
+                usable.push(row as u32);
+                pairs.push((a, b));
+                continue;
+            }
+            (s, t) => s
+                .missing("source_id")
+                .or_else(|| t.missing("target_id"))
+                .expect("one of the two IDs is blank or a code"),
+        };
+        ctx.counts.quarantined += 1;
+        quarantined.push(QuarantinedRow {
+            file: ctx.file,
+            line: chunk.lines.line(row),
+            reason,
+            raw: chunk.cells.raw_row(row),
+        });
+    }
+    (usable, pairs)
 }
 
 /// Exposure rows kept for aggregation, in input order.
@@ -248,9 +161,52 @@ impl ExposureRows {
             self.per_file.push((ctx.file, 0));
         }
         self.pad_new_fields([last_c, first_c, min_c, set_c]);
-        let (usable, pairs) = self.usable_rows(ctx, chunk, (src, tgt), ids, &checker.rules);
-        let cols = [last_c, first_c, set_c, min_c];
-        self.fields_and_ids(ctx, chunk, (ids, checker), cols, (&usable, &pairs))?;
+        let n = cells.height();
+        let cols = OptionalColumns {
+            last: (last_c, values(cells.column(last_c, &meta.path)?, n)),
+            first: (first_c, values(cells.column(first_c, &meta.path)?, n)),
+            setting: (set_c, values(cells.column(set_c, &meta.path)?, n)),
+            minutes: (min_c, values(cells.column(min_c, &meta.path)?, n)),
+        };
+        let mapped = cols.mapped();
+        // Stages B (field checks of every row) and A+C (which rows are usable, numbering
+        // their IDs) touch disjoint data, so B runs on a core of its own from the start; its
+        // problems are kept afterwards for the usable rows only.
+        let mut fctx = FileCtx {
+            counts: Counts::default(),
+            ..*ctx
+        };
+        let scratch = checker.scratch();
+        let lines = &chunk.lines;
+        let mut side = Some(move || check_rows(cols, lines, &mut fctx, scratch));
+        let parallel = n >= PARALLEL_ROWS;
+        let new_ids = self
+            .new_ids
+            .get_or_insert_with(|| NewIds::new(ids.case_sensitive()));
+        let (usable, nodes, fields) = std::thread::scope(|sc| {
+            let handle = parallel.then(|| sc.spawn(side.take().expect("not taken")));
+            let quarantined = &mut self.quarantined;
+            let (usable, pairs) =
+                usable_rows(quarantined, ctx, chunk, (src, tgt), ids, &checker.rules);
+            let nodes = new_ids.number(ids, &pairs, parallel);
+            let fields = match (handle, side.take()) {
+                (Some(h), _) => h.join().unwrap_or_else(|p| std::panic::resume_unwind(p)),
+                (None, Some(f)) => f(),
+                (None, None) => unreachable!("the field checks run once"),
+            };
+            (usable, nodes, fields)
+        });
+        self.keys.reserve(nodes.len() / 2);
+        self.forward.reserve(nodes.len() / 2);
+        for st in nodes.chunks_exact(2) {
+            let (a, b) = (st[0], st[1]);
+            let (lo, hi) = if a < b { (a, b) } else { (b, a) };
+            self.keys.push(u64::from(lo) << 32 | u64::from(hi));
+            self.forward.push(a < b);
+        }
+        let sink = (&mut *ctx, &mut checker.problems);
+        self.fields
+            .keep_usable(fields, (&usable, n, lines), mapped, sink);
         let (meta, m) = (ctx.meta, ctx.mapping);
         keep_extra_columns(
             &mut self.extras,
@@ -265,51 +221,6 @@ impl ExposureRows {
         if let Some(last) = self.per_file.last_mut() {
             last.1 += usable.len();
         }
-        Ok(())
-    }
-
-    /// Stages B (field checks) and C (interning IDs) of the usable rows.
-    fn fields_and_ids(
-        &mut self,
-        ctx: &mut FileCtx,
-        chunk: &Chunk,
-        (ids, checker): (&IdMap, &mut FieldChecker),
-        [last_c, first_c, set_c, min_c]: [Option<usize>; 4],
-        (usable, pairs): (&[u32], &[IdPair]),
-    ) -> Result<()> {
-        let (cells, meta, m, n) = (&chunk.cells, ctx.meta, ctx.mapping, chunk.cells.height());
-        // Stages B (field checks) and C (numbering IDs) touch disjoint data, so they run at
-        // once; B's problems are counted in its own context and added back.
-        let mut fctx = FileCtx {
-            file: ctx.file,
-            meta,
-            mapping: m,
-            counts: Counts::default(),
-        };
-        let (keys, forward, field_stage) = (&mut self.keys, &mut self.forward, &mut self.fields);
-        let cols = OptionalColumns {
-            last: (last_c, values(cells.column(last_c, &meta.path)?, n)),
-            first: (first_c, values(cells.column(first_c, &meta.path)?, n)),
-            setting: (set_c, values(cells.column(set_c, &meta.path)?, n)),
-            minutes: (min_c, values(cells.column(min_c, &meta.path)?, n)),
-        };
-        let new_ids = self
-            .new_ids
-            .get_or_insert_with(|| NewIds::new(ids.case_sensitive()));
-        // The field checks run beside the two halves of the ID lookups.
-        let parallel = usable.len() >= PARALLEL_ROWS;
-        let (nodes, ()) = new_ids.number(ids, pairs, parallel, || {
-            field_stage.run(cols, usable, &chunk.lines, &mut fctx, checker)
-        });
-        keys.reserve(pairs.len());
-        forward.reserve(pairs.len());
-        for st in nodes.chunks_exact(2) {
-            let (a, b) = (st[0], st[1]);
-            let (lo, hi) = if a < b { (a, b) } else { (b, a) };
-            keys.push(u64::from(lo) << 32 | u64::from(hi));
-            forward.push(a < b);
-        }
-        ctx.counts.field_problems += fctx.counts.field_problems;
         Ok(())
     }
 
@@ -366,47 +277,6 @@ impl ExposureRows {
     fn pad_new_fields(&mut self, columns: [Option<usize>; 4]) {
         self.fields
             .pad(self.keys.len(), columns.map(|c| c.is_some()));
-    }
-
-    /// Stage A: which rows can form an exposure (both IDs present, not the same person). A
-    /// quarantined row adds nothing, so this decision comes before any ID is interned.
-    fn usable_rows<'a>(
-        &mut self,
-        ctx: &mut FileCtx,
-        chunk: &Chunk,
-        (src, tgt): (CellColumn<'a, '_>, CellColumn<'a, '_>),
-        ids: &IdMap,
-        rules: &Rules,
-    ) -> (Vec<u32>, Vec<IdPair<'a>>) {
-        let n = chunk.cells.height();
-        let mut usable: Vec<u32> = Vec::with_capacity(n);
-        let mut pairs: Vec<IdPair> = Vec::with_capacity(n);
-        for (row, (s, t)) in src.iter().zip(tgt.iter()).enumerate() {
-            ctx.counts.read += 1;
-            let reason = match (rules.id(s), rules.id(t)) {
-                (IdValue::Id(a, _), IdValue::Id(b, _)) if ids.same(&a, &b) => {
-                    QuarantineReason::SelfExposure
-                }
-                (IdValue::Id(a, ca), IdValue::Id(b, cb)) => {
-                    ctx.counts.ids_normalised += u64::from(ca) + u64::from(cb);
-                    usable.push(row as u32);
-                    pairs.push((a, b));
-                    continue;
-                }
-                (s, t) => s
-                    .missing("source_id")
-                    .or_else(|| t.missing("target_id"))
-                    .expect("one of the two IDs is blank or a code"),
-            };
-            ctx.counts.quarantined += 1;
-            self.quarantined.push(QuarantinedRow {
-                file: ctx.file,
-                line: chunk.lines.line(row),
-                reason,
-                raw: chunk.cells.raw_row(row),
-            });
-        }
-        (usable, pairs)
     }
 
     /// At the end of an exposures table: add the IDs it introduced to `ids`, numbered as the

@@ -425,6 +425,59 @@ fn people_read_on_two_cores_as_on_one() {
     assert_eq!(whole, pieces);
 }
 
+/// Exposure fields are checked for every row on a core of their own and kept for the usable
+/// rows only: a quarantined row (same person twice, or no source) reports no field problem
+/// and brings no setting label, read whole (two cores) or in small pieces. (The reader's
+/// rule that a quarantined row adds nothing: this project's own, no external source.)
+#[test]
+fn quarantined_exposure_rows_add_no_field_problem_and_no_setting() {
+    use hubwatch::config::Config;
+    use hubwatch::dataset::load as load_inputs;
+    use hubwatch::ingest::Input;
+    let dir = tempfile::tempdir().unwrap();
+    let mut text = String::from("source_id,target_id,exposure_date,setting,duration_min\n");
+    for i in 0..60_000u32 {
+        let (a, b) = (format!("P{}", i % 5000), format!("P{}", (i * 7 + 1) % 5000));
+        let row = match i % 53 {
+            // Quarantined, with a bad date, a bad duration and a label of its own.
+            0 => format!("{a},{a},2024-02-30,Boat,-5"),
+            1 => format!(",{b},2031-01-01,Boat,abc"),
+            // Usable, with the same problems and a common label.
+            2 => format!("{a},{b},2024-02-30,work,-5"),
+            _ => format!(
+                "{a},{b},2024-03-{:02},{},{}",
+                i % 28 + 1,
+                ["work", "Home"][i as usize % 2],
+                i % 300
+            ),
+        };
+        text.push_str(&row);
+        text.push('\n');
+    }
+    let f = write(dir.path(), "exposures.csv", text.as_bytes());
+    for chunk_rows in [0, 1000] {
+        let d = load_inputs(
+            &[Input::Path(f.clone())],
+            &Config::default(),
+            &chunked(chunk_rows),
+        )
+        .unwrap();
+        let aside: std::collections::BTreeSet<u64> =
+            d.ledger.quarantined.iter().map(|q| q.line).collect();
+        assert_eq!(
+            aside.len(),
+            2 * 1133,
+            "rows i % 53 in 0 and 1, chunk_rows {chunk_rows}"
+        );
+        assert!(d.ledger.problems.iter().all(|p| !aside.contains(&p.line)));
+        // Each usable row i % 53 == 2 has a bad date and a negative duration.
+        assert_eq!(d.ledger.problems.len(), 2 * 1133, "chunk_rows {chunk_rows}");
+        let mut settings = d.settings.clone();
+        settings.sort();
+        assert_eq!(settings, ["Home", "work"], "chunk_rows {chunk_rows}");
+    }
+}
+
 /// A table that stops on its first piece (ambiguous dates) while later pieces are being parsed
 /// on the reader's own thread: the error comes back and nothing waits for ever.
 #[test]
