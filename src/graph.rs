@@ -395,12 +395,34 @@ pub fn adjacency(nodes: usize, edges: &Edges) -> Adjacency {
         offset[i + 1] += offset[i];
     }
     let mut list = vec![(0u32, 0u32, 0u32); offset[nodes]];
-    let mut next = offset;
-    for (e, (&a, &b)) in edges.a.iter().zip(&edges.b).enumerate() {
-        list[next[a as usize]] = (a, b, e as u32);
-        next[a as usize] += 1;
-        list[next[b as usize]] = (b, a, e as u32);
-        next[b as usize] += 1;
+    // Two workers, each writing the lists of its own half of the nodes (about half of the
+    // entries each) while reading every pair in order, so each list keeps pair order.
+    let total = offset[nodes];
+    let mid = offset.partition_point(|&o| o < total / 2).min(nodes);
+    let (list_lo, list_hi) = list.split_at_mut(offset[mid]);
+    let (next_lo, next_hi) = offset.split_at_mut(mid);
+    let fill = |list: &mut [(u32, u32, u32)], next: &mut [usize], (first, base): (usize, usize)| {
+        let end = first + next.len();
+        for (e, (&a, &b)) in edges.a.iter().zip(&edges.b).enumerate() {
+            for (v, w) in [(a, b), (b, a)] {
+                let v = v as usize;
+                if (first..end).contains(&v) {
+                    let slot = &mut next[v - first];
+                    list[*slot - base] = (v as u32, w, e as u32);
+                    *slot += 1;
+                }
+            }
+        }
+    };
+    let hi_base = next_hi.first().copied().unwrap_or(total);
+    if edges.a.len() >= 100_000 {
+        std::thread::scope(|sc| {
+            sc.spawn(|| fill(list_hi, next_hi, (mid, hi_base)));
+            fill(list_lo, next_lo, (0, 0));
+        });
+    } else {
+        fill(list_hi, next_hi, (mid, hi_base));
+        fill(list_lo, next_lo, (0, 0));
     }
     // Sorted and unique by construction, so this cannot fail; a failure would leave an empty
     // graph, which the tests on every loader path would catch.

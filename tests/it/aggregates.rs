@@ -763,6 +763,42 @@ fn random_graph(
     (edges.a, edges.b, g)
 }
 
+/// The adjacency of a graph large enough to be filled on two cores (each writing its half of
+/// the nodes' lists) holds, for every person, exactly the neighbours and pair indices of the
+/// pairs, in increasing order. (The definition of an adjacency list; no external source.)
+#[test]
+fn adjacency_filled_on_two_cores_lists_every_pair() {
+    use rand::{Rng, SeedableRng};
+    let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(7);
+    let n = 30_000;
+    // Skewed ends, so that the two halves of the nodes hold very different numbers of pairs.
+    let pairs: Vec<(usize, usize)> = (0..200_000)
+        .map(|_| (rng.random_range(0..n) / 7, rng.random_range(0..n)))
+        .collect();
+    let (a, b, g) = random_graph(n, &pairs);
+    assert!(
+        a.len() > 100_000,
+        "large enough for two workers: {}",
+        a.len()
+    );
+    let mut want: Vec<Vec<(u32, u32)>> = vec![Vec::new(); n];
+    for (e, (&x, &y)) in a.iter().zip(&b).enumerate() {
+        want[x as usize].push((y, e as u32));
+        want[y as usize].push((x, e as u32));
+    }
+    assert_eq!(g.node_count(), n);
+    for (v, w) in want.iter_mut().enumerate() {
+        w.sort_unstable();
+        let got: Vec<(u32, u32)> = g
+            .neighbors_slice(v as u32)
+            .iter()
+            .copied()
+            .zip(g.edges_slice(v as u32).iter().copied())
+            .collect();
+        assert_eq!(&got, w, "person {v}");
+    }
+}
+
 proptest! {
     #![proptest_config(ProptestConfig::with_cases(64))]
 
