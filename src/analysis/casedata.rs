@@ -45,10 +45,17 @@ pub struct CaseStats {
     pub serial: SerialInterval,
 }
 
-fn lower(d: &Dataset, field: &str, i: usize) -> Option<String> {
-    d.attrs
-        .get(field, i as u32)
-        .map(|v| v.trim().to_ascii_lowercase())
+/// `f` of each person's value of `field`, trimmed and lower-cased (`f(None)` where they have
+/// none), evaluated once per distinct value.
+fn per_person<T: Clone>(d: &Dataset, field: &str, f: impl Fn(Option<&str>) -> T) -> Vec<T> {
+    let n = d.people();
+    let mut v = match d.attrs.column(field) {
+        Some(c) => d.attrs.values[c]
+            .map_values(f(None), |v| f(Some(v.trim().to_ascii_lowercase().as_str()))),
+        None => Vec::new(),
+    };
+    v.resize(n, f(None));
+    v
 }
 
 /// The offspring distribution of the linked cases: the sample, its fits and the 80 % shares.
@@ -92,27 +99,19 @@ impl Offspring {
 /// Compute the case statistics of a dataset.
 pub fn case_stats(d: &Dataset) -> CaseStats {
     let n = d.people();
-    let is_case: Vec<bool> = (0..n)
-        .map(|i| lower(d, "role", i).as_deref() == Some("case"))
-        .collect();
-    let onset: Vec<Option<i32>> = (0..n)
-        .map(|i| {
-            d.attrs
-                .get("onset_date", i as u32)
-                .and_then(|v| dates::parse_iso(v).ok())
-        })
-        .collect();
-    let lost: Vec<bool> = (0..n)
-        .map(|i| {
-            matches!(
-                lower(d, "followup_status", i).as_deref(),
-                Some("unreachable" | "lost" | "lost to follow-up" | "lost_to_follow_up")
-            )
-        })
-        .collect();
-    let immune: Vec<bool> = (0..n)
-        .map(|i| lower(d, "status", i).as_deref() == Some("immune"))
-        .collect();
+    let is_case = per_person(d, "role", |v| v == Some("case"));
+    let mut onset: Vec<Option<i32>> = match d.attrs.column("onset_date") {
+        Some(c) => d.attrs.values[c].map_values(None, |v| dates::parse_iso(v).ok()),
+        None => Vec::new(),
+    };
+    onset.resize(n, None);
+    let lost = per_person(d, "followup_status", |v| {
+        matches!(
+            v,
+            Some("unreachable" | "lost" | "lost to follow-up" | "lost_to_follow_up")
+        )
+    });
+    let immune = per_person(d, "status", |v| v == Some("immune"));
     let cases_n = is_case.iter().filter(|&&c| c).count();
     let nset = d.settings.len();
     let (at_risk, secondary, co_primary_pairs) = exposed(d, &is_case, &onset);

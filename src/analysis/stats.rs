@@ -3,6 +3,7 @@
 
 use crate::dataset::Dataset;
 use crate::graph;
+use crate::ingest::reconcile::AttrColumn;
 use crate::metrics::{degree, fits, mixing, neighbours, structure, Stat};
 
 /// Settings of the statistics that have a cost or a random part.
@@ -184,25 +185,27 @@ fn attribute_mixing(d: &Dataset) -> Vec<(String, mixing::AttributeMixing)> {
         .filter_map(|name| {
             let col = d.attrs.column(name)?;
             let values = &d.attrs.values[col];
-            // Distinct values through a small map (a handful of groups, millions of people).
-            let mut index: hashbrown::HashMap<&str, u32> = hashbrown::HashMap::new();
-            let mut group: Vec<Option<u32>> = Vec::with_capacity(d.people());
-            for i in 0..d.people() {
-                group.push(values.get(i).map(|v| {
-                    let next = index.len() as u32;
-                    *index.entry(v).or_insert(next)
-                }));
+            // The value codes the people hold (a handful of groups, millions of people),
+            // relabelled so that groups are in sorted order of their text.
+            let codes = &values.codes()[..d.people().min(values.len())];
+            let mut held = vec![false; values.distinct_len()];
+            for &c in codes.iter().filter(|&&c| c != AttrColumn::NONE) {
+                held[c as usize] = true;
             }
-            // Relabel in place so that groups are in sorted order.
-            let mut labels: Vec<(&str, u32)> = index.into_iter().collect();
+            let mut labels: Vec<(&str, u32)> = (0..held.len() as u32)
+                .filter(|&c| held[c as usize])
+                .map(|c| (values.text(c), c))
+                .collect();
             labels.sort_unstable();
-            let mut rank = vec![0u32; labels.len()];
+            let mut rank = vec![0u32; held.len()];
             for (r, (_, old)) in labels.iter().enumerate() {
                 rank[*old as usize] = r as u32;
             }
-            for g in group.iter_mut().flatten() {
-                *g = rank[*g as usize];
-            }
+            let mut group: Vec<Option<u32>> = codes
+                .iter()
+                .map(|&c| (c != AttrColumn::NONE).then(|| rank[c as usize]))
+                .collect();
+            group.resize(d.people(), None);
             let names = labels.into_iter().map(|(l, _)| l.to_string()).collect();
             Some((
                 name.to_string(),

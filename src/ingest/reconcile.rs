@@ -76,7 +76,7 @@ impl Default for AttrColumn {
 
 impl AttrColumn {
     /// The code of no value.
-    pub(super) const NONE: u32 = u32::MAX;
+    pub const NONE: u32 = u32::MAX;
 
     /// The value of node `i`, if any.
     pub fn get(&self, i: usize) -> Option<&str> {
@@ -113,8 +113,18 @@ impl AttrColumn {
         self.codes[i] = code;
     }
 
+    /// Each node's value code ([`AttrColumn::NONE`] where it has none).
+    pub fn codes(&self) -> &[u32] {
+        &self.codes
+    }
+
+    /// Number of value codes (some may be held by no node).
+    pub fn distinct_len(&self) -> usize {
+        self.distinct.len()
+    }
+
     /// The text of a code.
-    pub(super) fn text(&self, code: u32) -> &str {
+    pub fn text(&self, code: u32) -> &str {
         self.distinct.name(code)
     }
 
@@ -131,6 +141,24 @@ impl AttrColumn {
     /// True when the column has no nodes.
     pub fn is_empty(&self) -> bool {
         self.codes.is_empty()
+    }
+
+    /// `f` of each node's value (`none` where it has none), `f` evaluated once per distinct
+    /// value rather than once per node.
+    pub fn map_values<T: Clone>(&self, none: T, mut f: impl FnMut(&str) -> T) -> Vec<T> {
+        let per_value: Vec<T> = (0..self.distinct.len() as u32)
+            .map(|c| f(self.distinct.name(c)))
+            .collect();
+        self.codes
+            .iter()
+            .map(|&c| {
+                if c == Self::NONE {
+                    none.clone()
+                } else {
+                    per_value[c as usize].clone()
+                }
+            })
+            .collect()
     }
 
     /// The values in node order.

@@ -104,15 +104,43 @@ pub fn jackknife_from_joint(joint: &[((u32, u32), u64)]) -> Stat {
 
 /// How many pairs join end degrees (j, k), j <= k, in increasing (j, k).
 pub fn joint_degree_counts(a: &[u32], b: &[u32], deg: &[u32]) -> Vec<((u32, u32), u64)> {
-    let mut counts: hashbrown::HashMap<(u32, u32), u64> = hashbrown::HashMap::new();
+    // Pairs whose larger end degree is at most `small` are counted in a dense table (a few
+    // hundred degrees at most, in practice: it stays in cache); the rest in a map.
+    let max = a
+        .iter()
+        .chain(b)
+        .map(|&x| deg[x as usize])
+        .max()
+        .unwrap_or(0);
+    let small = max.min(DENSE_DEGREES) as usize;
+    let mut dense = vec![0u64; (small + 1) * (small + 1)];
+    let mut sparse: hashbrown::HashMap<(u32, u32), u64> = hashbrown::HashMap::new();
     for (&x, &y) in a.iter().zip(b) {
         let (j, k) = (deg[x as usize], deg[y as usize]);
-        *counts.entry((j.min(k), j.max(k))).or_insert(0) += 1;
+        let (j, k) = (j.min(k), j.max(k));
+        if k as usize <= small {
+            dense[j as usize * (small + 1) + k as usize] += 1;
+        } else {
+            *sparse.entry((j, k)).or_insert(0) += 1;
+        }
     }
-    let mut v: Vec<_> = counts.into_iter().collect();
+    let mut v: Vec<_> = sparse.into_iter().collect();
+    v.extend(
+        dense
+            .iter()
+            .enumerate()
+            .filter(|(_, &c)| c > 0)
+            .map(|(i, &c)| {
+                let (j, k) = (i / (small + 1), i % (small + 1));
+                ((j as u32, k as u32), c)
+            }),
+    );
     v.sort_unstable();
     v
 }
+
+/// Degrees up to this are counted in [`joint_degree_counts`]'s dense table (4 MiB at most).
+const DENSE_DEGREES: u32 = 723;
 
 /// r of degree-preserving randomisations of the network (the configuration model with the
 /// observed degrees): mean and standard deviation over `replicates`.

@@ -397,3 +397,48 @@ fn components_from_the_cut_point_search_match_the_plain_search() {
         assert_eq!(cut, structure::articulation_points(&g));
     }
 }
+
+/// The pairs counted by their end degrees, with degrees on both sides of the dense table's
+/// limit (a star of 900 leaves, a hub of 730 and small ones), against a plain count. (The
+/// definition of the joint degree count; no external source.)
+#[test]
+fn joint_degree_counts_across_the_dense_limit() {
+    let (mut a, mut b) = (Vec::new(), Vec::new());
+    // Node 0: a star with 900 leaves (1..=900); node 1000: 730 leaves (1001..=1730); a path
+    // 2000-2001-2002 and a pair between the two hubs.
+    for leaf in 1..=900u32 {
+        a.push(0);
+        b.push(leaf);
+    }
+    for leaf in 1001..=1730u32 {
+        a.push(1000);
+        b.push(leaf);
+    }
+    a.extend([2000, 2001, 0]);
+    b.extend([2001, 2002, 1000]);
+    let mut deg = vec![0u32; 2003];
+    for (&x, &y) in a.iter().zip(&b) {
+        deg[x as usize] += 1;
+        deg[y as usize] += 1;
+    }
+    let mut want: std::collections::BTreeMap<(u32, u32), u64> = Default::default();
+    for (&x, &y) in a.iter().zip(&b) {
+        let (j, k) = (deg[x as usize], deg[y as usize]);
+        *want.entry((j.min(k), j.max(k))).or_default() += 1;
+    }
+    let want: Vec<((u32, u32), u64)> = want.into_iter().collect();
+    assert_eq!(
+        want,
+        [
+            ((1, 2), 2),
+            ((1, 731), 730),
+            ((1, 901), 900),
+            ((2, 2), 0),
+            ((731, 901), 1)
+        ]
+        .into_iter()
+        .filter(|p| p.1 > 0)
+        .collect::<Vec<_>>()
+    );
+    assert_eq!(mixing::joint_degree_counts(&a, &b, &deg), want);
+}
