@@ -174,20 +174,20 @@ pub fn core_numbers(g: &Adjacency, deg: &[u32]) -> Vec<u32> {
     let max = deg.iter().copied().max().unwrap_or(0) as usize;
     let mut d: Vec<u32> = deg.to_vec();
     // Bucket people by degree; pos/vert give the order and each person's place in it.
-    let mut bin = vec![0usize; max + 2];
+    let mut bin = vec![0u32; max + 2];
     for &k in &d {
         bin[k as usize + 1] += 1;
     }
     for k in 1..bin.len() {
         bin[k] += bin[k - 1];
     }
-    let mut pos = vec![0usize; n];
+    let mut pos = vec![0u32; n];
     let mut vert = vec![0u32; n];
     let mut next = bin.clone();
     for v in 0..n {
         let k = d[v] as usize;
         pos[v] = next[k];
-        vert[next[k]] = v as u32;
+        vert[next[k] as usize] = v as u32;
         next[k] += 1;
     }
     for i in 0..n {
@@ -211,9 +211,9 @@ pub fn core_numbers(g: &Adjacency, deg: &[u32]) -> Vec<u32> {
                 let du = d[u] as usize;
                 let pu = pos[u];
                 let pw = bin[du];
-                let w = vert[pw] as usize;
+                let w = vert[pw as usize] as usize;
                 if u != w {
-                    vert.swap(pu, pw);
+                    vert.swap(pu as usize, pw as usize);
                     pos[u] = pw;
                     pos[w] = pu;
                 }
