@@ -96,7 +96,12 @@ impl<'c, 'a: 'c> CellColumn<'c, 'a> {
     pub fn iter(self) -> CellIter<'c, 'a> {
         match self {
             CellColumn::Frame(s) => CellIter::Frame(Box::new(s.iter())),
-            CellColumn::Text(t, c) => CellIter::Text { cells: t, c, r: 0 },
+            CellColumn::Text(t, c) => CellIter::Text {
+                cells: t,
+                c,
+                r: 0,
+                end: t.height(),
+            },
         }
     }
 }
@@ -113,6 +118,13 @@ pub enum CellIter<'c, 'a> {
         c: usize,
         /// Next row.
         r: usize,
+        /// Row after the last.
+        end: usize,
+    },
+    /// A column the table does not have: `None` for each of `left` rows.
+    Missing {
+        /// Rows still to give.
+        left: usize,
     },
 }
 
@@ -123,13 +135,20 @@ impl<'c, 'a: 'c> Iterator for CellIter<'c, 'a> {
     fn next(&mut self) -> Option<Option<&'c str>> {
         match self {
             CellIter::Frame(it) => it.next(),
-            CellIter::Text { cells, c, r } => {
-                if *r >= cells.height() {
+            CellIter::Text { cells, c, r, end } => {
+                if *r >= *end {
                     return None;
                 }
                 let v = cells.get(*r, *c);
                 *r += 1;
                 Some(v)
+            }
+            CellIter::Missing { left } => {
+                if *left == 0 {
+                    return None;
+                }
+                *left -= 1;
+                Some(None)
             }
         }
     }
@@ -137,10 +156,11 @@ impl<'c, 'a: 'c> Iterator for CellIter<'c, 'a> {
     fn size_hint(&self) -> (usize, Option<usize>) {
         match self {
             CellIter::Frame(it) => it.size_hint(),
-            CellIter::Text { cells, r, .. } => {
-                let n = cells.height().saturating_sub(*r);
+            CellIter::Text { r, end, .. } => {
+                let n = end.saturating_sub(*r);
                 (n, Some(n))
             }
+            CellIter::Missing { left } => (*left, Some(*left)),
         }
     }
 }

@@ -126,9 +126,32 @@ pub fn parse_iso(v: &str) -> Result<i32, DateProblem> {
     else {
         return Err(DateProblem::Unreadable);
     };
-    NaiveDate::from_ymd_opt(y as i32, m, d)
-        .map(to_days)
-        .ok_or(DateProblem::Impossible)
+    civil_days(y as i32, m, d).ok_or(DateProblem::Impossible)
+}
+
+/// The day number ([`to_days`]) of year `y`, month `m`, day `d` of the proleptic Gregorian
+/// calendar, or `None` for a date that does not exist. Arithmetic only (days from the civil
+/// date as in H. Hinnant, "chrono-Compatible Low-Level Date Algorithms"), checked against
+/// chrono for every day of years 0 to 9999 in the tests.
+fn civil_days(y: i32, m: u32, d: u32) -> Option<i32> {
+    let leap = y % 4 == 0 && (y % 100 != 0 || y % 400 == 0);
+    let month_days = match m {
+        1 | 3 | 5 | 7 | 8 | 10 | 12 => 31,
+        4 | 6 | 9 | 11 => 30,
+        2 if leap => 29,
+        2 => 28,
+        _ => return None,
+    };
+    if d == 0 || d > month_days {
+        return None;
+    }
+    let y = if m <= 2 { y - 1 } else { y };
+    let era = y.div_euclid(400);
+    let year_of_era = y - era * 400;
+    let day_of_year = (153 * ((m as i32 + 9) % 12) + 2) / 5 + d as i32 - 1;
+    let day_of_era = year_of_era * 365 + year_of_era / 4 - year_of_era / 100 + day_of_year;
+    // Days from 1970-01-01, moved to days from the common era (0001-01-01 is day 1).
+    Some(era * 146_097 + day_of_era - 719_468 + 719_163)
 }
 
 /// True for values shaped like `a/b/yyyy`, `a.b.yyyy` or `a-b-yyyy` (day and month in some order).
@@ -220,6 +243,21 @@ mod tests {
                 .map(|d| d.format("%Y-%m-%d").to_string())
                 .unwrap_or_default();
             assert_eq!(iso(days), want, "day {days}");
+        }
+    }
+
+    /// The arithmetic day numbers agree with chrono's (the reference calendar) for every
+    /// year 0 to 9999, month 0 to 13 and day 0 to 32: the same day, or both say the date does
+    /// not exist.
+    #[test]
+    fn civil_days_match_chrono() {
+        for y in 0..=9999 {
+            for m in 0..=13 {
+                for d in 0..=32 {
+                    let want = NaiveDate::from_ymd_opt(y, m, d).map(to_days);
+                    assert_eq!(civil_days(y, m, d), want, "{y}-{m}-{d}");
+                }
+            }
         }
     }
 

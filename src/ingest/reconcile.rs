@@ -6,7 +6,7 @@
 //! rows are checked for usable IDs *before* their IDs are interned, so a quarantined row adds
 //! neither its pair nor its people.
 
-use super::cells::{CellColumn, Cells};
+use super::cells::{CellColumn, CellIter, Cells};
 
 use super::dates::{self, DateParser, DateProblem};
 use super::ledger::{Counts, FieldProblem, ProblemKind, ReasonFacts};
@@ -180,10 +180,10 @@ pub struct FileCtx<'a> {
 }
 
 /// Values of an optional column as an iterator of `Option<&str>` (all `None` if unmapped).
-pub(super) fn values<'a>(col: Option<CellColumn<'a, '_>>, n: usize) -> Values<'a> {
+pub(super) fn values<'a>(col: Option<CellColumn<'a, 'a>>, n: usize) -> Values<'a> {
     match col {
-        Some(c) => Box::new(c.iter()),
-        None => Box::new(std::iter::repeat_n(None, n)),
+        Some(c) => c.iter(),
+        None => CellIter::Missing { left: n },
     }
 }
 
@@ -307,6 +307,14 @@ impl FieldChecker {
         let (Some(c), Some(v)) = (column, self.rules.value(v)) else {
             return f32::NAN;
         };
+        // Whole minutes (the usual value) without the general number parser: the same
+        // value, as an integer of up to 15 digits is exact in an f64.
+        if v.len() <= 15 && v.bytes().all(|b| b.is_ascii_digit()) {
+            let x = v.bytes().fold(0u64, |a, b| a * 10 + u64::from(b - b'0')) as f64;
+            if x <= self.rules.max_minutes {
+                return x as f32;
+            }
+        }
         let kind = match v.parse::<f64>() {
             Ok(x) if x > self.rules.max_minutes && x.is_finite() => ProblemKind::ImplausibleNumber,
             Ok(x) if x.is_finite() && x >= 0.0 => return x as f32,
@@ -346,7 +354,7 @@ impl FieldChecker {
 }
 
 /// An optional column's values, row by row.
-pub(super) type Values<'a> = Box<dyn Iterator<Item = Option<&'a str>> + Send + 'a>;
+pub(super) type Values<'a> = CellIter<'a, 'a>;
 
 #[cfg(test)]
 mod tests {

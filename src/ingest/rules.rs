@@ -39,6 +39,9 @@ pub struct Rules {
     missing: Vec<String>,
     /// Longest code, in bytes (longer values are never codes).
     longest: usize,
+    /// Bit `n` set when some ASCII code is `n` bytes long (an ASCII value of another length
+    /// is no code).
+    ascii_lengths: u64,
     /// Day number of the oldest plausible date.
     pub oldest_day: i32,
     /// Largest plausible duration, minutes.
@@ -55,6 +58,10 @@ impl Rules {
             .collect();
         Rules {
             longest: missing.iter().map(String::len).max().unwrap_or(0),
+            ascii_lengths: missing
+                .iter()
+                .filter(|c| c.is_ascii() && c.len() < 64)
+                .fold(0, |m, c| m | 1 << c.len()),
             missing,
             oldest_day,
             max_minutes,
@@ -67,7 +74,8 @@ impl Rules {
             return false;
         }
         if v.is_ascii() {
-            return self.missing.iter().any(|c| v.eq_ignore_ascii_case(c));
+            return (v.len() >= 64 || self.ascii_lengths & (1 << v.len()) != 0)
+                && self.missing.iter().any(|c| v.eq_ignore_ascii_case(c));
         }
         let lower = v.to_lowercase();
         self.missing.contains(&lower)
@@ -103,5 +111,41 @@ impl Rules {
 impl Default for Rules {
     fn default() -> Self {
         Rules::new(&[], i32::MIN, f64::INFINITY)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Codes match whatever their case and length, ASCII or not, long or short; a value of a
+    /// length no code has is never one. (The reader's own rule: no external source.)
+    #[test]
+    fn codes_of_every_length() {
+        let long = "x".repeat(70);
+        let codes = ["NA", "Unknown", "non renseigné", long.as_str()].map(String::from);
+        let r = Rules::new(&codes, 0, 1.0);
+        for v in [
+            "na",
+            "NA",
+            "unknown",
+            "UNKNOWN",
+            "Non Renseigné",
+            long.as_str(),
+        ] {
+            assert!(r.is_code(v), "{v}");
+        }
+        let longer = "x".repeat(71);
+        for v in [
+            "n",
+            "nan",
+            "unknow",
+            "non renseigne",
+            longer.as_str(),
+            &long[1..],
+        ] {
+            assert!(!r.is_code(v), "{v}");
+        }
+        assert!(!Rules::new(&[], 0, 1.0).is_code(""));
     }
 }
