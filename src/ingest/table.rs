@@ -164,8 +164,10 @@ struct TextBody {
     max_line: usize,
 }
 
-/// Default number of bytes of text handed to polars at once (bounds peak memory).
+/// Most bytes of text read as one piece (bounds peak memory).
 const CHUNK_BYTES: usize = 48 << 20;
+/// Fewest bytes of text read as one piece, unless the file is smaller.
+const MIN_CHUNK_BYTES: usize = 4 << 20;
 
 impl Table {
     /// Open a file and read its header (cheap: the body is parsed by [`Table::read`]).
@@ -477,7 +479,9 @@ fn read_text(
     let chunk_bytes = if opts.chunk_rows > 0 {
         opts.chunk_rows * 40
     } else {
-        CHUNK_BYTES
+        // At least eight pieces where the file allows, so that reading the next piece
+        // overlaps checking this one in smaller exports too.
+        (data.len() / 8).clamp(MIN_CHUNK_BYTES, CHUNK_BYTES)
     };
     // Cut at a line end after every `chunk_bytes`.
     let mut cuts = Vec::new();
