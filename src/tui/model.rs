@@ -236,13 +236,16 @@ impl Model {
         lap("main_reason");
         let quarantine_lines = quarantine_lines(&d.ledger);
         lap("quarantine");
+        // The day's work's input too, before the workers start: with them running it took
+        // twice as long.
+        let input = DayInput::without_names(&stats, &list.ranked);
+        let dues = Arc::new(input.dues.clone());
+        lap("day's work input");
         // The workers start after the first frame's parts, so as not to share the cores with
         // them.
         let null = background_null_model(&d, &stats.degrees);
         let plan_reach = plan_options.max_reach;
         let plan_cell = background_plan(&d, &list, &stats, plan_options, &id_rank);
-        let input = DayInput::without_names(&stats, &list.ranked);
-        let dues = Arc::new(input.dues.clone());
         let (input_hashes, day) =
             background::day_work(&d, input, (&plan_cell, &null), workspace_path.clone(), work);
         Ok(Model {
