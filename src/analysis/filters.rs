@@ -15,6 +15,7 @@ use crate::analysis::priority::Ranked;
 use crate::analysis::stats::NetworkStats;
 use crate::dataset::Dataset;
 use crate::error::Result;
+use crate::ingest::reconcile::AttrColumn;
 use crate::ingest::view::setting_code;
 use crate::workspace::FOLLOWUP_STATES;
 
@@ -112,21 +113,38 @@ pub struct FilterIndex {
 }
 
 /// Each person's value of an attribute column as an index into the column's distinct trimmed
-/// values (in order of first appearance; u32::MAX: none or blank), and those values. Hashing
-/// borrowed strings, no text is copied per person.
+/// values (in order of first appearance; u32::MAX: none or blank), and those values. Each
+/// stored value is trimmed and looked up once; a person costs one array lookup.
 fn raw_codes(d: &Dataset, c: usize) -> (Vec<u32>, Vec<&str>) {
+    const UNSET: u32 = u32::MAX - 1;
+    let col = &d.attrs.values[c];
     let mut seen: HashMap<&str, u32> = HashMap::new();
     let mut raws: Vec<&str> = Vec::new();
-    let codes = d.attrs.values[c]
+    // Stored value code -> index into `raws`, given when a person first holds it.
+    let mut of_code = vec![UNSET; col.distinct_len()];
+    let mut codes: Vec<u32> = col
+        .codes()
         .iter()
-        .map(|v| match v.map(str::trim) {
-            Some(v) if !v.is_empty() => *seen.entry(v).or_insert_with(|| {
-                raws.push(v);
-                raws.len() as u32 - 1
-            }),
-            _ => u32::MAX,
+        .map(|&k| {
+            if k == AttrColumn::NONE {
+                return u32::MAX;
+            }
+            let slot = &mut of_code[k as usize];
+            if *slot == UNSET {
+                let v = col.text(k).trim();
+                *slot = if v.is_empty() {
+                    u32::MAX
+                } else {
+                    *seen.entry(v).or_insert_with(|| {
+                        raws.push(v);
+                        raws.len() as u32 - 1
+                    })
+                };
+            }
+            *slot
         })
         .collect();
+    codes.resize(d.people(), u32::MAX);
     (codes, raws)
 }
 
@@ -156,19 +174,26 @@ fn coded(d: &Dataset, field: &str) -> (Vec<String>, Vec<u32>) {
     (set.into_values().map(str::to_string).collect(), codes)
 }
 
-/// The setting bits of every person (codes 1..=64).
+/// The setting bits of every person (codes 1..=64): the pairs in two halves on two cores,
+/// their bits joined.
 fn setting_bits(d: &Dataset) -> Vec<u64> {
-    let mut bits = vec![0u64; d.people()];
-    for e in 0..d.edges.len() {
-        let b = d
-            .edges
-            .settings(e)
-            .iter()
-            .filter(|c| (1..=64).contains(*c))
-            .fold(0u64, |acc, &c| acc | 1 << (c - 1));
-        bits[d.edges.a[e] as usize] |= b;
-        bits[d.edges.b[e] as usize] |= b;
-    }
+    let half = |pairs: std::ops::Range<usize>| {
+        let mut bits = vec![0u64; d.people()];
+        for e in pairs {
+            let b = d
+                .edges
+                .settings(e)
+                .iter()
+                .filter(|c| (1..=64).contains(*c))
+                .fold(0u64, |acc, &c| acc | 1 << (c - 1));
+            bits[d.edges.a[e] as usize] |= b;
+            bits[d.edges.b[e] as usize] |= b;
+        }
+        bits
+    };
+    let (n, mid) = (d.edges.len(), d.edges.len() / 2);
+    let (mut bits, other) = rayon::join(|| half(0..mid), || half(mid..n));
+    bits.par_iter_mut().zip(other).for_each(|(b, o)| *b |= o);
     bits
 }
 
@@ -197,8 +222,11 @@ impl FilterIndex {
         ranked: &[Ranked],
         followup: &HashMap<String, String>,
     ) -> FilterIndex {
-        let coded: Vec<(Vec<String>, Vec<u32>)> = FIELDS.par_iter().map(|f| coded(d, f)).collect();
-        let bits = setting_bits(d);
+        // The setting bits walk every pair: beside the attribute codes, not after them.
+        let (coded, bits): (Vec<(Vec<String>, Vec<u32>)>, _) = rayon::join(
+            || FIELDS.par_iter().map(|f| coded(d, f)).collect(),
+            || setting_bits(d),
+        );
         let per =
             |f: &(dyn Fn(&Ranked) -> u32 + Sync)| ranked.par_iter().map(f).collect::<Vec<u32>>();
         // The export's follow-up column, coded once per distinct value.
