@@ -123,6 +123,15 @@ fn lsd_sort(keys: &mut [u64], rows: &mut [u32], bits: u32) {
     }
 }
 
+/// The first eight bytes of `s` as a big-endian integer (zeros after a shorter text): where two
+/// texts' values differ, they order as the texts do.
+fn head8(s: &str) -> u64 {
+    let mut b = [0u8; 8];
+    let n = s.len().min(8);
+    b[..n].copy_from_slice(&s.as_bytes()[..n]);
+    u64::from_be_bytes(b)
+}
+
 /// The people `keys.2` in order of `(keys.0, keys.1)` ascending, ties by `name`; only the
 /// first `top` when asked. The integer keys are sorted first, names compared only within runs
 /// of equal keys; for `top`, the entries that can be among the first `top` are selected in
@@ -148,8 +157,17 @@ pub fn by_key_then_name<'a>(
         keys.truncate(end);
     }
     keys.par_sort_unstable_by_key(int);
+    // Within a run of equal keys, by name: each name's first eight bytes are read once as an
+    // integer (the same order where they differ), whole names compared only where they agree.
     keys.par_chunk_by_mut(|x, y| int(x) == int(y))
-        .for_each(|run| run.sort_unstable_by(|a, b| name(a.2).cmp(name(b.2))));
+        .filter(|run| run.len() > 1)
+        .for_each(|run| {
+            let mut named: Vec<(u64, u32)> = run.iter().map(|k| (head8(name(k.2)), k.2)).collect();
+            named.sort_unstable_by(|a, b| a.0.cmp(&b.0).then_with(|| name(a.1).cmp(name(b.1))));
+            for (k, (_, node)) in run.iter_mut().zip(named) {
+                k.2 = node;
+            }
+        });
     let mut order: Vec<u32> = keys.into_iter().map(|k| k.2).collect();
     if let Some(top) = top {
         order.truncate(top);
@@ -171,6 +189,35 @@ mod tests {
             b.sort_by_key(|p| p.0);
             let a: Vec<(u64, u32)> = keys.into_iter().zip(rows).collect();
             prop_assert_eq!(a, b);
+        }
+
+        /// Integer keys first, then names (some sharing their first eight bytes, some shorter,
+        /// one with a NUL byte), against a plain comparison sort; whole and top 3.
+        #[test]
+        fn key_then_name_is_the_plain_sort(
+            keys in proptest::collection::vec((0u64..3, 0u32..2), 1..60),
+            tails in proptest::collection::vec("[a-c\u{0}]{0,3}", 60),
+        ) {
+            let names: Vec<String> = tails
+                .iter()
+                .enumerate()
+                .map(|(i, t)| match i % 3 {
+                    0 => format!("ABCDEFGH{t}{i}"),
+                    1 => format!("AB{t}{i}"),
+                    _ => format!("{t}{i}"),
+                })
+                .collect();
+            let entries: Vec<(u64, u32, u32)> =
+                keys.iter().enumerate().map(|(i, &(a, b))| (a, b, i as u32)).collect();
+            let mut want: Vec<u32> = (0..entries.len() as u32).collect();
+            want.sort_by(|&x, &y| {
+                let (a, b) = (entries[x as usize], entries[y as usize]);
+                (a.0, a.1, names[x as usize].as_str()).cmp(&(b.0, b.1, names[y as usize].as_str()))
+            });
+            let got = by_key_then_name(entries.clone(), None, |i| names[i as usize].as_str());
+            prop_assert_eq!(&got, &want);
+            let top = by_key_then_name(entries, Some(3), |i| names[i as usize].as_str());
+            prop_assert_eq!(&top[..], &want[..want.len().min(3)]);
         }
 
         /// Many equal keys and runs of every size (one highest digit shared by most rows).
