@@ -24,13 +24,7 @@ pub fn radix_sort_by_key(keys: &mut Vec<u64>, rows: &mut Vec<u32>) {
     let max = keys.iter().copied().max().unwrap_or(0);
     let bits = 64 - max.leading_zeros();
     if keys.len() < 256 {
-        let mut pairs: Vec<(u64, u32)> = keys.iter().copied().zip(rows.iter().copied()).collect();
-        pairs.sort_by_key(|p| p.0);
-        for (i, (k, r)) in pairs.into_iter().enumerate() {
-            keys[i] = k;
-            rows[i] = r;
-        }
-        return;
+        return small_sort(keys, rows);
     }
     let width = bits.min(DIGIT);
     let shift = bits - width;
@@ -90,16 +84,22 @@ fn scatter(
     starts
 }
 
+/// A comparison sort (stable) of a few keys with their payloads, where counting passes cost
+/// more than they save.
+fn small_sort(keys: &mut [u64], rows: &mut [u32]) {
+    let mut pairs: Vec<(u64, u32)> = keys.iter().copied().zip(rows.iter().copied()).collect();
+    pairs.sort_by_key(|p| p.0);
+    for (i, (k, r)) in pairs.into_iter().enumerate() {
+        keys[i] = k;
+        rows[i] = r;
+    }
+}
+
 /// Sort a run on its lowest `bits` bits, least significant digit first (stable).
 fn lsd_sort(keys: &mut [u64], rows: &mut [u32], bits: u32) {
     if keys.len() < 64 {
-        let mut pairs: Vec<(u64, u32)> = keys.iter().copied().zip(rows.iter().copied()).collect();
-        pairs.sort_by_key(|p| p.0);
-        for (i, (k, r)) in pairs.into_iter().enumerate() {
-            keys[i] = k;
-            rows[i] = r;
-        }
-        return;
+        // The run shares its higher bits: sorting on the whole key is sorting on these.
+        return small_sort(keys, rows);
     }
     let passes = bits.div_ceil(DIGIT).max(1);
     let width = bits.div_ceil(passes);
