@@ -103,6 +103,14 @@ impl Mapping {
         self.fields.get(field).copied()
     }
 
+    /// The field mapped to column `i`, if any.
+    pub fn field_of(&self, i: usize) -> Option<&str> {
+        self.fields
+            .iter()
+            .find(|(_, &c)| c == i)
+            .map(|(f, _)| f.as_str())
+    }
+
     /// The name of column `i`: the file's header, or a joined column's `a+b`.
     pub fn column_name<'a>(&'a self, columns: &'a [String], i: usize) -> &'a str {
         match columns.get(i) {

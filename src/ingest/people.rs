@@ -74,18 +74,8 @@ impl PeopleBuilder {
         (0..ctx.meta.columns.len())
             .filter(|&c| c != id_col)
             .map(|c| {
-                let name = ctx
-                    .mapping
-                    .fields
-                    .iter()
-                    .find(|(_, &i)| i == c)
-                    .map(|(f, _)| f.clone())
-                    .unwrap_or_else(|| ctx.meta.columns[c].clone());
-                (
-                    c,
-                    self.attrs.ensure_column(&name, nodes),
-                    dates.contains(&c),
-                )
+                let name = ctx.mapping.field_of(c).unwrap_or(&ctx.meta.columns[c]);
+                (c, self.attrs.ensure_column(name, nodes), dates.contains(&c))
             })
             .collect()
     }

@@ -139,12 +139,7 @@ pub(super) fn people_rows(
     let n = pm.columns.len() + pm.mapping.joined.len();
     let mut attrs: Vec<(String, String, String, bool)> = Vec::new(); // (name, alias, header, date)
     for c in (0..n).filter(|&c| c != id_col) {
-        let field = pm
-            .mapping
-            .fields
-            .iter()
-            .find(|(_, &i)| i == c)
-            .map(|(f, _)| f.clone());
+        let field = pm.mapping.field_of(c).map(str::to_string);
         let header = pm.mapping.column_name(&pm.columns, c).to_string();
         let name = field.clone().unwrap_or_else(|| header.clone());
         let date = matches!(field.as_deref(), Some("onset_date" | "report_date"));
@@ -153,16 +148,7 @@ pub(super) fn people_rows(
     let expr = |c: usize| -> String {
         match pm.columns.get(c) {
             Some(col) => w.trimmed(&w.ident(col)),
-            None => {
-                let field = pm
-                    .mapping
-                    .fields
-                    .iter()
-                    .find(|(_, &i)| i == c)
-                    .map(|(f, _)| f.clone())
-                    .unwrap_or_default();
-                pm.field(w, &field)
-            }
+            None => pm.field(w, pm.mapping.field_of(c).unwrap_or_default()),
         }
     };
     let cols: Vec<String> = (0..n)
