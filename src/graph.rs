@@ -249,20 +249,8 @@ pub fn aggregate(rows: &ExposureRows, mut keys: Vec<u64>, want_row_edges: bool) 
     let fold =
         |part: (&[u64], &[u32]), cap: usize| fold_pairs(rows, part, &unpack, has_settings, cap);
     let (all, half) = (keys.len(), right.0.len());
-    let (mut e, e2) = if keys.len() < 100_000 {
-        (fold(left, all), fold(right, half))
-    } else {
-        std::thread::scope(|sc| {
-            let other = sc.spawn(|| fold(right, half));
-            let mine = fold(left, all);
-            (
-                mine,
-                other
-                    .join()
-                    .unwrap_or_else(|p| std::panic::resume_unwind(p)),
-            )
-        })
-    };
+    let parallel = keys.len() >= 100_000;
+    let (mut e, e2) = crate::par::beside(parallel, || fold(right, half), || fold(left, all));
     e.append(e2);
     // The sorted rows run through the pairs in order: the first row of each pair (in input
     // order, as the sort is stable) is the one used; a new key starts the next pair.
@@ -415,15 +403,11 @@ pub fn adjacency(nodes: usize, edges: &Edges) -> Adjacency {
         }
     };
     let hi_base = next_hi.first().copied().unwrap_or(total);
-    if edges.a.len() >= 100_000 {
-        std::thread::scope(|sc| {
-            sc.spawn(|| fill(list_hi, next_hi, (mid, hi_base)));
-            fill(list_lo, next_lo, (0, 0));
-        });
-    } else {
-        fill(list_hi, next_hi, (mid, hi_base));
-        fill(list_lo, next_lo, (0, 0));
-    }
+    crate::par::beside(
+        edges.a.len() >= 100_000,
+        || fill(list_hi, next_hi, (mid, hi_base)),
+        || fill(list_lo, next_lo, (0, 0)),
+    );
     // Sorted and unique by construction, so this cannot fail; a failure would leave an empty
     // graph, which the tests on every loader path would catch.
     let mut g: Adjacency = Csr::from_sorted_edges(&list).unwrap_or_else(|_| Csr::new());

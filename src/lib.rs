@@ -23,6 +23,7 @@ pub mod graph;
 pub mod ids;
 pub mod ingest;
 pub mod metrics;
+pub mod par;
 pub mod plot;
 pub mod prefetch;
 pub mod report;

@@ -51,18 +51,11 @@ impl NewIds {
             "too many people"
         );
         let [s0, s1] = &mut self.shards;
-        let (h0, h1) = if parallel {
-            std::thread::scope(|sc| {
-                let other = sc.spawn(|| look_up(ids, s1, 1, pairs));
-                let h0 = look_up(ids, s0, 0, pairs);
-                let h1 = other
-                    .join()
-                    .unwrap_or_else(|p| std::panic::resume_unwind(p));
-                (h0, h1)
-            })
-        } else {
-            (look_up(ids, s0, 0, pairs), look_up(ids, s1, 1, pairs))
-        };
+        let (h0, h1) = crate::par::beside(
+            parallel,
+            || look_up(ids, s1, 1, pairs),
+            || look_up(ids, s0, 0, pairs),
+        );
         self.merge(ids.len(), &h0, &h1)
     }
 

@@ -129,18 +129,12 @@ impl PeopleBuilder {
             ctx: &mut *ctx,
             rules: &checker.rules,
         };
-        let (nodes, coded) = if n >= PARALLEL_ROWS {
-            std::thread::scope(|sc| {
-                let values = &mut attrs.values;
-                let side = sc.spawn(move || code_all(values));
-                let nodes = interned.rows(columns[id_col], chunk);
-                let coded = side.join().unwrap_or_else(|p| std::panic::resume_unwind(p));
-                (nodes, coded)
-            })
-        } else {
-            let nodes = interned.rows(columns[id_col], chunk);
-            (nodes, code_all(&mut attrs.values))
-        };
+        let values = &mut attrs.values;
+        let (nodes, coded) = crate::par::beside(
+            n >= PARALLEL_ROWS,
+            move || code_all(values),
+            || interned.rows(columns[id_col], chunk),
+        );
         self.keep_values(ctx, checker, (chunk, &work), (&nodes, &coded));
         Ok(())
     }

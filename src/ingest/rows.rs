@@ -178,24 +178,21 @@ impl ExposureRows {
         };
         let scratch = checker.scratch();
         let lines = &chunk.lines;
-        let mut side = Some(move || check_rows(cols, lines, &mut fctx, scratch));
         let parallel = n >= PARALLEL_ROWS;
         let new_ids = self
             .new_ids
             .get_or_insert_with(|| NewIds::new(ids.case_sensitive()));
-        let (usable, nodes, fields) = std::thread::scope(|sc| {
-            let handle = parallel.then(|| sc.spawn(side.take().expect("not taken")));
-            let quarantined = &mut self.quarantined;
-            let (usable, pairs) =
-                usable_rows(quarantined, ctx, chunk, (src, tgt), ids, &checker.rules);
-            let nodes = new_ids.number(ids, &pairs, parallel);
-            let fields = match (handle, side.take()) {
-                (Some(h), _) => h.join().unwrap_or_else(|p| std::panic::resume_unwind(p)),
-                (None, Some(f)) => f(),
-                (None, None) => unreachable!("the field checks run once"),
-            };
-            (usable, nodes, fields)
-        });
+        let quarantined = &mut self.quarantined;
+        let ((usable, nodes), fields) = crate::par::beside(
+            parallel,
+            move || check_rows(cols, lines, &mut fctx, scratch),
+            || {
+                let (usable, pairs) =
+                    usable_rows(quarantined, ctx, chunk, (src, tgt), ids, &checker.rules);
+                let nodes = new_ids.number(ids, &pairs, parallel);
+                (usable, nodes)
+            },
+        );
         self.keys.reserve(nodes.len() / 2);
         self.forward.reserve(nodes.len() / 2);
         for st in nodes.chunks_exact(2) {

@@ -10,6 +10,7 @@ use std::path::{Path, PathBuf};
 const LAYERS: &[&[&str]] = &[
     &[
         "error",
+        "par",
         "prefetch",
         "sort",
         "ids",
