@@ -45,17 +45,20 @@ pub struct CaseStats {
     pub serial: SerialInterval,
 }
 
-/// `f` of each person's value of `field`, trimmed and lower-cased (`f(None)` where they have
-/// none), evaluated once per distinct value.
-fn per_person<T: Clone>(d: &Dataset, field: &str, f: impl Fn(Option<&str>) -> T) -> Vec<T> {
-    let n = d.people();
+/// `f` of each person's value of `field` (`none` where they have none or the column is
+/// absent), evaluated once per distinct value.
+fn per_person<T: Clone>(d: &Dataset, field: &str, none: T, f: impl FnMut(&str) -> T) -> Vec<T> {
     let mut v = match d.attrs.column(field) {
-        Some(c) => d.attrs.values[c]
-            .map_values(f(None), |v| f(Some(v.trim().to_ascii_lowercase().as_str()))),
+        Some(c) => d.attrs.values[c].map_values(none.clone(), f),
         None => Vec::new(),
     };
-    v.resize(n, f(None));
+    v.resize(d.people(), none);
     v
+}
+
+/// A value trimmed and lower-cased, as the case statistics compare it.
+fn lower(v: &str) -> String {
+    v.trim().to_ascii_lowercase()
 }
 
 /// The offspring distribution of the linked cases: the sample, its fits and the 80 % shares.
@@ -99,19 +102,15 @@ impl Offspring {
 /// Compute the case statistics of a dataset.
 pub fn case_stats(d: &Dataset) -> CaseStats {
     let n = d.people();
-    let is_case = per_person(d, "role", |v| v == Some("case"));
-    let mut onset: Vec<Option<i32>> = match d.attrs.column("onset_date") {
-        Some(c) => d.attrs.values[c].map_values(None, |v| dates::parse_iso(v).ok()),
-        None => Vec::new(),
-    };
-    onset.resize(n, None);
-    let lost = per_person(d, "followup_status", |v| {
+    let is_case = per_person(d, "role", false, |v| lower(v) == "case");
+    let onset = per_person(d, "onset_date", None, |v| dates::parse_iso(v).ok());
+    let lost = per_person(d, "followup_status", false, |v| {
         matches!(
-            v,
-            Some("unreachable" | "lost" | "lost to follow-up" | "lost_to_follow_up")
+            lower(v).as_str(),
+            "unreachable" | "lost" | "lost to follow-up" | "lost_to_follow_up"
         )
     });
-    let immune = per_person(d, "status", |v| v == Some("immune"));
+    let immune = per_person(d, "status", false, |v| lower(v) == "immune");
     let cases_n = is_case.iter().filter(|&&c| c).count();
     let nset = d.settings.len();
     let (at_risk, secondary, co_primary_pairs) = exposed(d, &is_case, &onset);
