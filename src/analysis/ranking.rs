@@ -70,8 +70,12 @@ pub struct RankedList {
     pub config: PriorityConfig,
 }
 
+/// The settings a request names: the priority configuration, the preset (name, weights) and
+/// the monitoring window.
+pub type Settings = (PriorityConfig, (String, Preset), Window);
+
 /// The preset and the window a request names, checked (an unknown name lists the known ones).
-pub fn settings(req: &RankRequest) -> Result<(PriorityConfig, (String, Preset), Window)> {
+pub fn settings(req: &RankRequest) -> Result<Settings> {
     let config = PriorityConfig::load(req.priority_config.as_deref())?;
     let preset_name = req.preset.clone().unwrap_or_else(|| config.preset.clone());
     let preset = config.preset(&preset_name)?.clone();
@@ -119,16 +123,12 @@ pub fn rank_settled(
     stats: &NetworkStats,
     req: &RankRequest,
     states: &[PersonState],
-    (config, preset, window): (PriorityConfig, (String, Preset), Window),
+    (config, preset, window): Settings,
 ) -> Result<RankedList> {
     let followup = followup_map(states);
     let mut filters = req.filters.clone();
     if let Some(id) = &req.cluster_of {
-        let node = d
-            .ids
-            .get(id.trim())
-            .ok_or_else(|| Error::Usage(format!("no person with ID \"{id}\"")))?;
-        filters.cluster = Some(stats.components.0[node as usize]);
+        filters.cluster = Some(stats.components.0[cluster_person(d, id)? as usize]);
     }
     let chain = chain_values(d, &config, &preset.1, &window.pathogen)?;
     let ctx = Context::new(d, stats, &config, &preset.1, window.days, &followup, chain);
@@ -181,6 +181,39 @@ pub fn rank_settled(
     })
 }
 
+/// What can stop [`rank_settled`] besides the settings, checked without ranking anyone (the
+/// dashboard checks it before its first frame and ranks on a worker): the person named for
+/// the cluster, and the chains' windows when the preset weighs chains.
+pub fn check(d: &Dataset, req: &RankRequest, (config, preset, window): &Settings) -> Result<()> {
+    if let Some(id) = &req.cluster_of {
+        cluster_person(d, id)?;
+    }
+    chain_windows(config, &preset.1, &window.pathogen).map(|_| ())
+}
+
+/// The person whose cluster a request names.
+fn cluster_person(d: &Dataset, id: &str) -> Result<u32> {
+    d.ids
+        .get(id.trim())
+        .ok_or_else(|| Error::Usage(format!("no person with ID \"{id}\"")))
+}
+
+/// The chains' windows, when the preset weighs chains.
+fn chain_windows(
+    config: &PriorityConfig,
+    preset: &Preset,
+    pathogen: &str,
+) -> Result<Option<Windows>> {
+    if preset.weights.get("chain").copied().unwrap_or(0.0) <= 0.0 {
+        return Ok(None);
+    }
+    let req = ChainRequest {
+        pathogen: Some(pathogen.to_string()),
+        ..ChainRequest::default()
+    };
+    Windows::settle(config, &req).map(Some)
+}
+
 /// The "chain" component of everyone (1 when a chain of dated exposures leads to them from a
 /// case), computed only when the preset weighs it.
 fn chain_values(
@@ -189,15 +222,7 @@ fn chain_values(
     preset: &Preset,
     pathogen: &str,
 ) -> Result<Option<Vec<f64>>> {
-    if preset.weights.get("chain").copied().unwrap_or(0.0) <= 0.0 {
-        return Ok(None);
-    }
-    let req = ChainRequest {
-        pathogen: Some(pathogen.to_string()),
-        ..ChainRequest::default()
-    };
-    let w = Windows::settle(config, &req)?;
-    Ok(Some(chains::chain_component(d, &w)))
+    Ok(chain_windows(config, preset, pathogen)?.map(|w| chains::chain_component(d, &w)))
 }
 
 /// Per-person inputs of the score that do not depend on the person's own contacts.

@@ -3,6 +3,7 @@
 //! draw code then only reads. `update` turns actions and typed text into changes, `person`
 //! builds a person's view, `jobs` runs the large filtered figures on a worker thread.
 
+mod export;
 mod jobs;
 mod person;
 mod update;
@@ -15,7 +16,7 @@ use crate::analysis::filters::{cycle, FIELDS};
 use crate::analysis::planning::TSource;
 use crate::metrics::outlook;
 use crate::tui::keys::Pane;
-use crate::tui::model::{Model, ScopeStats};
+use crate::tui::model::{Listing, Model, ScopeStats};
 use crate::tui::panes::degrees::{self, DegreesView};
 use crate::tui::panes::neighbours::{self, NeighboursView};
 use crate::tui::panes::outlook::{self as outlook_pane, OutlookView};
@@ -105,6 +106,11 @@ pub struct App {
     pub workspace_path: PathBuf,
     /// The outlook computed by the model's worker has been taken up (see [`App::catch_up`]).
     outlook_ready: bool,
+    /// The list ranked by the model's worker has been taken up: until then the keys that
+    /// work on it wait in `queued` (see [`App::catch_up`]).
+    pub listed: bool,
+    /// Keys pressed before the list arrived that wait for it, in order.
+    pub queued: Vec<crate::tui::keys::Action>,
 }
 
 impl App {
@@ -153,8 +159,9 @@ impl App {
             views: Views::default(),
             reach_all: false,
             outlook_ready: false,
+            listed: false,
+            queued: Vec::new(),
         };
-        app.refilter(m);
         app.set_t(m, None);
         app.update_cluster_bridges(m);
         app.refresh_views(m);
@@ -162,16 +169,31 @@ impl App {
         app
     }
 
-    /// Take up work the model's workers have finished since the last call (the outlook);
-    /// true when something arrived (redraw).
+    /// Take up work the model's workers have finished since the last call (the list, the
+    /// outlook); true when something arrived (redraw).
     pub fn catch_up(&mut self, m: &Model) -> bool {
-        if self.outlook_ready || m.plan().is_none() {
-            return false;
+        let mut arrived = false;
+        if !self.listed && m.listing.get().is_some() {
+            self.listed = true;
+            self.refilter(m);
+            for action in std::mem::take(&mut self.queued) {
+                self.act(m, action);
+            }
+            arrived = true;
         }
-        self.outlook_ready = true;
-        self.set_t(m, None);
-        self.views.outlook = outlook_pane::view(m, self);
-        true
+        if !self.outlook_ready && m.plan().is_some() {
+            self.outlook_ready = true;
+            self.set_t(m, None);
+            self.views.outlook = outlook_pane::view(m, self);
+            arrived = true;
+        }
+        arrived
+    }
+
+    /// Wait for the list and take it up (tests and benchmarks; the dashboard never waits).
+    pub fn wait_listed(&mut self, m: &Model) {
+        let _ = m.listing.wait();
+        self.catch_up(m);
     }
 
     /// Recompute the panes' view models from the state.
@@ -213,19 +235,19 @@ impl App {
     /// most contacts / cases first, fewest days left first). The fixed columns come from the
     /// model; follow-up and flags depend on the workspace, are bucketed in one pass (ties in
     /// rank order), kept, and dropped whenever the workspace changes.
-    fn order(&mut self, m: &Model, col: SortCol) -> std::rc::Rc<Vec<u32>> {
+    fn order(&mut self, m: &Model, l: &Listing, col: SortCol) -> std::rc::Rc<Vec<u32>> {
         if let Some(p) = self.perms.get(&col) {
             return std::rc::Rc::clone(p);
         }
-        let n = m.list.ranked.len();
+        let n = l.list.ranked.len();
         let v: Vec<u32> = match col {
             SortCol::Rank => (0..n as u32).collect(),
-            SortCol::Id => m.by_id.clone(),
-            SortCol::Degree => m.orders[0].clone(),
-            SortCol::Cases => m.orders[1].clone(),
-            SortCol::DaysLeft => m.orders[2].clone(),
+            SortCol::Id => l.by_id.clone(),
+            SortCol::Degree => l.orders[0].clone(),
+            SortCol::Cases => l.orders[1].clone(),
+            SortCol::DaysLeft => l.orders[2].clone(),
             SortCol::Followup => {
-                let mut key = m.index.followup.clone();
+                let mut key = l.index.followup.clone();
                 for (id, st) in &self.states {
                     if let (Some(p), Some(f)) = (rank_of(m, id), st.followup.as_deref()) {
                         if let Some(k) = FOLLOWUP_STATES.iter().position(|&x| x == f) {
@@ -280,27 +302,29 @@ impl App {
 
     /// The next value of a people attribute filter (field `c` of [`FIELDS`]).
     fn cycle_field(&mut self, m: &Model, c: usize) {
-        let next = cycle(self.filters.equals[c].as_deref(), &m.index.values[c]);
+        let Some(l) = m.listed() else { return };
+        let next = cycle(self.filters.equals[c].as_deref(), &l.index.values[c]);
         self.filters.set(FIELDS[c], next);
         self.refilter(m);
     }
 
     /// Rebuild the priority rows after a filter or sort change, keeping the selected person.
     pub fn refilter(&mut self, m: &Model) {
+        let Some(l) = m.listed() else { return };
         let keep_node = self
             .rows
             .get(self.prio.selected)
-            .map(|&i| m.list.ranked[i as usize].node);
+            .map(|&i| l.list.ranked[i as usize].node);
         let (col, desc) = self.sort;
-        let order = self.order(m, col);
-        let ranked = &m.list.ranked;
+        let order = self.order(m, l, col);
+        let ranked = &l.list.ranked;
         let filtered = self.filters != Filters::default();
         if filtered && self.mask_for.as_ref() != Some(&self.filters) {
             // One pass in rank order, then the sorted order only reads the mask. Sequential on
             // purpose: the shared worker pool may be busy with the background statistics, and a
             // key must not wait for it.
-            let mask: Vec<bool> = match m.index.matcher(&self.filters, &m.d) {
-                Ok(k) => (0..ranked.len()).map(|i| m.index.keeps(&k, i)).collect(),
+            let mask: Vec<bool> = match l.index.matcher(&self.filters, &m.d) {
+                Ok(k) => (0..ranked.len()).map(|i| l.index.keeps(&k, i)).collect(),
                 Err(_) => vec![true; ranked.len()],
             };
             self.mask = mask;
@@ -321,7 +345,7 @@ impl App {
         // Positions are rebuilt when a search needs them, not on every filter key.
         self.row_of.clear();
         self.prio.selected = keep_node
-            .and_then(|n| m.rank_pos.get(n as usize).copied())
+            .and_then(|n| l.rank_pos.get(n as usize).copied())
             .and_then(|i| self.rows.iter().position(|&r| r == i))
             .unwrap_or(0);
         let page = page_rows(self.size, 0);
@@ -426,10 +450,12 @@ impl App {
     pub fn target(&self, m: &Model) -> Option<u32> {
         match self.pane {
             Pane::Person => self.person.as_ref().map(|p| p.node),
-            _ => self
-                .rows
-                .get(self.prio.selected)
-                .map(|&i| m.list.ranked[i as usize].node),
+            _ => {
+                let l = m.listed()?;
+                self.rows
+                    .get(self.prio.selected)
+                    .map(|&i| l.list.ranked[i as usize].node)
+            }
         }
     }
 
@@ -483,8 +509,9 @@ impl App {
 
 /// Position on the ranked list of the person with this ID, if in the export.
 pub(crate) fn rank_of(m: &Model, id: &str) -> Option<u32> {
+    let l = m.listed()?;
     m.d.ids
         .get(id)
-        .and_then(|node| m.rank_pos.get(node as usize).copied())
+        .and_then(|node| l.rank_pos.get(node as usize).copied())
         .filter(|&p| p != u32::MAX)
 }

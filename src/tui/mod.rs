@@ -1,6 +1,7 @@
 //! The terminal dashboard: `hubwatch [PATH...]` on a terminal.
 //!
-//! Data flow: the export is loaded and every figure computed once ([`model`]); terminal events
+//! Data flow: the export is loaded and every figure computed once ([`model`]: what the first
+//! frame shows before it, the list, the outlook and the null model on workers); terminal events
 //! become actions ([`event`], keys through the one key table [`keys`]) that change the state
 //! ([`app`]); [`ui`] draws the state and
 //! computes nothing. The terminal is restored on quit, on error, on panic and on SIGTERM, SIGHUP
@@ -72,7 +73,7 @@ pub fn prepare(start: &Start) -> Result<(Model, App)> {
     let d = crate::dataset::load(&start.inputs, &start.config, &start.load)?;
     if std::io::stderr().is_terminal() {
         eprintln!(
-            "hubwatch: {} people, {} contacts loaded; computing statistics, ranking and outlook …",
+            "hubwatch: {} people, {} contacts loaded; computing statistics …",
             d.people(),
             d.edges.len()
         );
@@ -195,7 +196,12 @@ pub fn run(start: Start) -> Result<()> {
         if app.poll_jobs(&model) || app.catch_up(&model) {
             dirty = true;
         }
-        let wait = if app.scope_pending.is_some() { 30 } else { 200 };
+        // Shorter waits while work the panes show is on its way.
+        let wait = if app.scope_pending.is_some() || !app.listed {
+            30
+        } else {
+            200
+        };
         let ready = match crossterm::event::poll(Duration::from_millis(wait)) {
             Ok(r) => r,
             // A read error is the terminal going away: stop (the guard restores what it can).

@@ -131,7 +131,7 @@ pub fn draw(frame: &mut Frame, m: &Model, app: &App, th: &Theme) {
     }
     let a = areas(area);
     frame.render_widget(Paragraph::new(tab_line(app, th)), a.tabs);
-    let (pathogen, days) = (&m.list.window.pathogen, m.list.window.days);
+    let (pathogen, days) = (&m.window.pathogen, m.window.days);
     let context = format!(
         "as of {} · view: {} · window: {pathogen} {days} days · filters: {}",
         dates::iso(m.d.as_of),

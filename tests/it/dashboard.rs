@@ -84,7 +84,7 @@ fn every_pane_renders_with_its_figures() {
     app.act(&m, Action::Go(Pane::Priority));
     app.act(&m, Action::Open);
     let s = text(&m, &app, dir.path());
-    let top = m.d.ids.name(m.list.ranked[0].node);
+    let top = m.d.ids.name(m.listed().unwrap().list.ranked[0].node);
     assert!(s.contains(&format!("6 Person — {top}")), "{s}");
     assert!(s.contains("rank 1 ·"), "{s}");
     insta::assert_snapshot!("person", s);
@@ -99,7 +99,10 @@ fn figures_match_the_command_line_reports() {
     let (m, mut app) = setup(dir.path());
     // Priority: the first row is the top of `hubwatch priority` (same ranking code and preset).
     app.act(&m, Action::Go(Pane::Priority));
-    let top = m.d.ids.name(m.list.ranked[0].node).to_string();
+    let top =
+        m.d.ids
+            .name(m.listed().unwrap().list.ranked[0].node)
+            .to_string();
     let s = text(&m, &app, dir.path());
     let first_row = s.lines().find(|l| l.starts_with("│1 ")).unwrap();
     assert!(first_row.contains(&top), "{first_row}");
@@ -166,6 +169,111 @@ fn the_outlook_arrives_from_its_worker_after_the_first_frame() {
 }
 
 #[test]
+fn the_list_arrives_from_its_worker_after_the_first_frame() {
+    // The first frame does not wait for the ranking either (issue: first frame at 10M rows).
+    // Until the list is there the Priority pane says it is ranking; a key that works on the
+    // list is answered at once with a message and waits, with every key after it, until the
+    // list arrives; the other panes and keys work meanwhile. The list is taken up without a
+    // key, and the waiting keys then take effect in order, as if pressed after it.
+    let dir = tempfile::tempdir().unwrap();
+    let (mut m, mut done_app) = setup(dir.path());
+    let done = std::mem::replace(
+        &mut m.listing,
+        std::sync::Arc::new(std::sync::OnceLock::new()),
+    );
+    let mut app = App::new(&m, Vec::new());
+    app.size = (120, 40);
+    assert!(!app.listed && app.rows.is_empty());
+    // The first frame (Overview) shows the settings the list will use.
+    let s = text(&m, &app, dir.path());
+    assert!(s.contains("ranking preset: balanced"), "{s}");
+    // Panes that do not need the list work meanwhile.
+    for pane in [Pane::Degrees, Pane::Neighbours, Pane::Clusters] {
+        app.act(&m, Action::Go(pane));
+        assert_eq!(app.pane, pane);
+        assert!(!text(&m, &app, dir.path()).contains("Still ranking"));
+    }
+    app.act(&m, Action::Go(Pane::Priority));
+    let s = text(&m, &app, dir.path());
+    assert!(
+        s.contains("Still ranking: the priority list of 262 people"),
+        "{s}"
+    );
+    let keys = [
+        Action::SortNext,
+        Action::SortNext,
+        Action::Go(Pane::Overview),
+        Action::FilterWindow,
+        Action::Go(Pane::Priority),
+        Action::Down,
+        Action::Down,
+    ];
+    for key in keys {
+        app.act(&m, key);
+        let said = app
+            .message
+            .as_ref()
+            .map(|x| x.text.clone())
+            .unwrap_or_default();
+        assert!(said.contains("still being ranked"), "{key:?}: {said}");
+    }
+    assert_eq!(app.queued.len(), keys.len());
+    assert_eq!(app.filters, hubwatch::tui::app::Filters::default());
+    assert_eq!(
+        app.pane,
+        Pane::Priority,
+        "keys after a waiting one wait too"
+    );
+    assert!(!app.catch_up(&m), "nothing to take up yet");
+    m.listing = done;
+    assert!(app.catch_up(&m), "the list is taken up once");
+    assert!(!app.catch_up(&m));
+    assert!(app.queued.is_empty());
+    done_app.act(&m, Action::Go(Pane::Priority));
+    for key in keys {
+        done_app.act(&m, key);
+    }
+    assert_eq!(app.rows, done_app.rows);
+    assert_eq!(
+        (app.sort, app.prio.selected),
+        (done_app.sort, done_app.prio.selected)
+    );
+    assert!(app.filters.still_in_window);
+    assert_eq!(text(&m, &app, dir.path()), text(&m, &done_app, dir.path()));
+    // Quit never waits.
+    let mut m2 = m;
+    m2.listing = std::sync::Arc::new(std::sync::OnceLock::new());
+    let mut app = App::new(&m2, Vec::new());
+    app.act(&m2, Action::Open);
+    app.act(&m2, Action::Quit);
+    assert!(app.quit);
+}
+
+#[test]
+fn a_list_that_cannot_be_ranked_is_said_in_its_pane() {
+    let dir = tempfile::tempdir().unwrap();
+    let (mut m, _) = setup(dir.path());
+    m.listing = std::sync::Arc::new(std::sync::OnceLock::from(Err("no such preset".to_string())));
+    let mut app = App::new(&m, Vec::new());
+    app.size = (120, 40);
+    assert!(app.listed);
+    for key in [
+        Action::Go(Pane::Priority),
+        Action::Down,
+        Action::Open,
+        Action::SortNext,
+        Action::FilterArea,
+    ] {
+        app.act(&m, key);
+    }
+    let s = text(&m, &app, dir.path());
+    assert!(
+        s.contains("The list could not be ranked: no such preset"),
+        "{s}"
+    );
+}
+
+#[test]
 fn key_table_is_complete_and_unambiguous() {
     // Every action has a key.
     for a in keys::all_actions() {
@@ -207,11 +315,14 @@ fn drill_down_walk_and_back() {
     app.act(&m, Action::Open);
     assert_eq!(app.pane, Pane::Person);
     let first = app.person.as_ref().unwrap().id.clone();
-    assert_eq!(first, m.d.ids.name(m.list.ranked[0].node));
+    assert_eq!(first, m.d.ids.name(m.listed().unwrap().list.ranked[0].node));
     // Contacts carry their degree; the first is the most connected (default sort).
     let p = app.person.as_ref().unwrap();
     assert!(p.contacts.windows(2).all(|w| w[0].degree >= w[1].degree));
-    assert_eq!(p.contacts.len(), m.list.ranked[0].degree as usize);
+    assert_eq!(
+        p.contacts.len(),
+        m.listed().unwrap().list.ranked[0].degree as usize
+    );
     let contact = p.contacts[2].id.clone();
     app.act(&m, Action::Down);
     app.act(&m, Action::Down);
@@ -242,10 +353,10 @@ fn filters_flags_notes_follow_up_and_export() {
     let all = app.rows.len();
     // Role filter: everyone shown has that role; it is visible in the context line.
     app.act(&m, Action::FilterRole);
-    let role = m.index.values[0][0].clone();
+    let role = m.listed().unwrap().index.values[0][0].clone();
     assert!(app.rows.len() < all);
     for &i in &app.rows {
-        let node = m.list.ranked[i as usize].node;
+        let node = m.listed().unwrap().list.ranked[i as usize].node;
         assert!(m
             .d
             .attrs
@@ -267,17 +378,22 @@ fn filters_flags_notes_follow_up_and_export() {
     let ids: Vec<&str> = app
         .rows
         .iter()
-        .map(|&i| m.d.ids.name(m.list.ranked[i as usize].node))
+        .map(|&i| {
+            m.d.ids
+                .name(m.listed().unwrap().list.ranked[i as usize].node)
+        })
         .collect();
     assert!(ids.windows(2).all(|w| w[0] <= w[1]));
     app.act(&m, Action::SortReverse);
-    let first = m.d.ids.name(m.list.ranked[app.rows[0] as usize].node);
+    let first =
+        m.d.ids
+            .name(m.listed().unwrap().list.ranked[app.rows[0] as usize].node);
     assert_eq!(first, *ids.last().unwrap());
     app.act(&m, Action::SortNext);
     let degrees: Vec<u32> = app
         .rows
         .iter()
-        .map(|&i| m.list.ranked[i as usize].degree)
+        .map(|&i| m.listed().unwrap().list.ranked[i as usize].degree)
         .collect();
     assert!(degrees.windows(2).all(|w| w[0] >= w[1]));
     while app.sort.0 != hubwatch::tui::app::SortCol::Rank {
@@ -291,13 +407,19 @@ fn filters_flags_notes_follow_up_and_export() {
     }
     assert!(m.d.ids.name(app.target(&m).unwrap()).starts_with("P00000"));
     app.act(&m, Action::Cancel);
-    let target = m.d.ids.name(m.list.ranked[10].node).to_string();
+    let target =
+        m.d.ids
+            .name(m.listed().unwrap().list.ranked[10].node)
+            .to_string();
     app.act(&m, Action::Search);
     for c in target.chars() {
         app.act(&m, Action::Type(c));
     }
     app.act(&m, Action::Submit);
-    assert_eq!(app.target(&m), Some(m.list.ranked[10].node));
+    assert_eq!(
+        app.target(&m),
+        Some(m.listed().unwrap().list.ranked[10].node)
+    );
     // Flag (default name), follow-up, note: written to the workspace at once.
     app.act(&m, Action::Flag);
     assert_eq!(app.input.as_ref().unwrap().purpose, Purpose::Flag);
@@ -321,7 +443,8 @@ fn filters_flags_notes_follow_up_and_export() {
         app.act(&m, Action::SortNext);
     }
     assert_eq!(
-        m.d.ids.name(m.list.ranked[app.rows[0] as usize].node),
+        m.d.ids
+            .name(m.listed().unwrap().list.ranked[app.rows[0] as usize].node),
         target
     );
     app.act(&m, Action::SortNext);
@@ -333,7 +456,7 @@ fn filters_flags_notes_follow_up_and_export() {
     let states: Vec<String> = app
         .rows
         .iter()
-        .map(|&i| app.followup(&m, m.list.ranked[i as usize].node))
+        .map(|&i| app.followup(&m, m.listed().unwrap().list.ranked[i as usize].node))
         .collect();
     let order = |s: &str| {
         hubwatch::workspace::FOLLOWUP_STATES
@@ -419,7 +542,9 @@ fn small_terminals_no_color_and_resizing() {
     let last_rank = *app.rows.last().unwrap() + 1;
     assert!(s.contains(&format!("│{last_rank} ")), "{s}");
     // IDs are never cut at the smallest size (less important columns give way).
-    let last_id = m.d.ids.name(m.list.ranked[last_rank as usize - 1].node);
+    let last_id =
+        m.d.ids
+            .name(m.listed().unwrap().list.ranked[last_rank as usize - 1].node);
     assert!(s.contains(last_id), "{s}");
     // Every pane draws at the smallest allowed size without panicking.
     for p in Pane::ALL {
@@ -729,14 +854,24 @@ fn overview_shows_the_days_work_and_the_changes_since_the_last_load() {
     // not yet reached, marked reached, leaves that count.
     let mut app = app;
     let hub = t.hubs_to_call[0];
-    let pos = m.list.ranked.iter().position(|r| r.node == hub).unwrap();
+    let pos = m
+        .listed()
+        .unwrap()
+        .list
+        .ranked
+        .iter()
+        .position(|r| r.node == hub)
+        .unwrap();
     app.act(&m, Action::Go(Pane::Priority));
     app.act(&m, Action::Search);
     for ch in m.d.ids.name(hub).chars() {
         app.act(&m, Action::Type(ch));
     }
     app.act(&m, Action::Submit);
-    assert_eq!(app.target(&m), Some(m.list.ranked[pos].node));
+    assert_eq!(
+        app.target(&m),
+        Some(m.listed().unwrap().list.ranked[pos].node)
+    );
     for _ in 0..4 {
         if app.followup(&m, hub) == "reached" {
             break;

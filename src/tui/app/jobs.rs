@@ -17,10 +17,13 @@ impl App {
             return;
         }
         let label = format!("{} ({} people)", self.filter_text(m), self.rows.len());
+        // Filters are set only once the list is there (the keys wait for it).
         let nodes_of = |m: &Model, rows: &[u32]| -> Vec<u32> {
-            rows.iter()
-                .map(|&i| m.list.ranked[i as usize].node)
-                .collect()
+            m.listed().map_or_else(Vec::new, |l| {
+                rows.iter()
+                    .map(|&i| l.list.ranked[i as usize].node)
+                    .collect()
+            })
         };
         match &self.shared {
             // Large sets on a worker thread: the key is answered at once, the pane says
@@ -47,18 +50,22 @@ impl App {
     /// Count today's work again with the workspace as it is now (after a follow-up change):
     /// on a worker in the terminal, at once otherwise (tests).
     pub fn recount_today(&mut self, m: &Model) {
+        if m.listed().is_none() {
+            return;
+        }
         let path = self.workspace_path.clone();
         match &self.shared {
             Some(shared) => {
                 let (tx, rx) = std::sync::mpsc::channel();
                 let shared = std::sync::Arc::clone(shared);
                 std::thread::spawn(move || {
-                    let t = today_now(&shared.d, &shared.dues, &path).map_err(|e| e.to_string());
+                    let dues = shared.listed().map_or(&[][..], |l| &l.dues);
+                    let t = today_now(&shared.d, dues, &path).map_err(|e| e.to_string());
                     let _ = tx.send(t);
                 });
                 self.today_pending = Some(rx);
             }
-            None => match today_now(&m.d, &m.dues, &path) {
+            None => match today_now(&m.d, m.listed().map_or(&[][..], |l| &l.dues), &path) {
                 Ok(t) => self.today_now = Some(t),
                 Err(e) => self.say(format!("today's counts: {e}"), true),
             },

@@ -165,14 +165,17 @@ impl App {
                     .map(|v| (name.clone(), v.to_string()))
             })
             .collect();
-        let ranked = m
-            .rank_pos
-            .get(node as usize)
-            .filter(|&&p| p != u32::MAX)
-            .map(|&p| (p as usize + 1, m.list.ranked[p as usize].clone()));
+        let listed = m.listed();
+        let ranked = listed.and_then(|l| {
+            l.rank_pos
+                .get(node as usize)
+                .filter(|&&p| p != u32::MAX)
+                .map(|&p| (p as usize + 1, l.list.ranked[p as usize].clone()))
+        });
         let parts = ranked
             .as_ref()
-            .map(|(_, r)| r.parts(&m.list.preset.1))
+            .zip(listed)
+            .map(|((_, r), l)| r.parts(&l.list.preset.1))
             .unwrap_or_default();
         let history = if self.workspace_path.exists() {
             Workspace::open(&self.workspace_path)

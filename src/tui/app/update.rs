@@ -7,17 +7,31 @@ use super::{
     page_rows, rank_of, App, ContactSort, Input, ListPos, Overlay, Purpose, SortCol, CUTOFFS,
 };
 use crate::analysis::filters::{cycle, Filters};
-use crate::analysis::priority::Ranked;
 use crate::ingest::dates;
-use crate::report::meta::Meta;
 use crate::tui::keys::{Action, Pane};
 use crate::tui::model::Model;
 use crate::tui::state::sort_contacts;
-use crate::workspace::{PersonState, FOLLOWUP_STATES};
+use crate::workspace::FOLLOWUP_STATES;
 
 impl App {
     /// Handle a key's action.
     pub fn act(&mut self, m: &Model, action: Action) {
+        if !self.listed {
+            self.catch_up(m);
+        }
+        // Until the list is ranked, a key that works on it (and every key after it, to keep
+        // their order) waits in a queue and takes effect when the list arrives; the key is
+        // answered at once. Quit and resizes never wait.
+        let now = matches!(action, Action::Quit | Action::Resize(..));
+        if !self.listed && !now && (!self.queued.is_empty() || self.needs_list(action)) {
+            self.queued.push(action);
+            self.say(
+                "the priority list is still being ranked; this key takes effect when it \
+                 appears",
+                false,
+            );
+            return;
+        }
         match action {
             Action::Type(_) | Action::Erase | Action::Submit | Action::Cancel => {
                 self.edit_prompt(m, action)
@@ -34,6 +48,34 @@ impl App {
             self.rescope(m);
         }
         self.refresh_views(m);
+    }
+
+    /// Whether an action works on the priority list (and so waits until it is ranked):
+    /// moving, panes, overlays, charts and T do not.
+    fn needs_list(&self, action: Action) -> bool {
+        if self.overlay != Overlay::None || self.input.is_some() {
+            return false;
+        }
+        match action {
+            Action::Open
+            | Action::Search
+            | Action::SortNext
+            | Action::SortReverse
+            | Action::PersonList
+            | Action::FilterRole
+            | Action::FilterStatus
+            | Action::FilterSetting
+            | Action::FilterArea
+            | Action::FilterWindow
+            | Action::ClearFilters
+            | Action::Flag
+            | Action::Note
+            | Action::Followup => true,
+            Action::Export => {
+                !matches!(self.pane, Pane::Degrees | Pane::Neighbours | Pane::Outlook)
+            }
+            _ => false,
+        }
     }
 
     pub(super) fn act_inner(&mut self, m: &Model, action: Action) {
@@ -351,9 +393,10 @@ impl App {
         if self.pane != Pane::Priority && self.pane != Pane::Person {
             self.pane = Pane::Priority;
         }
-        if self.row_of.len() != m.list.ranked.len() {
+        let Some(l) = m.listed() else { return };
+        if self.row_of.len() != l.list.ranked.len() {
             self.row_of.clear();
-            self.row_of.resize(m.list.ranked.len(), u32::MAX);
+            self.row_of.resize(l.list.ranked.len(), u32::MAX);
             for (p, &i) in self.rows.iter().enumerate() {
                 self.row_of[i as usize] = p as u32;
             }
@@ -363,9 +406,9 @@ impl App {
             None => {
                 // IDs in text order: binary search for the prefix, then the first one shown.
                 let ids = &m.d.ids;
-                let name = |i: u32| ids.name(m.list.ranked[i as usize].node);
-                let start = m.by_id.partition_point(|&i| name(i) < text);
-                let sorted = m
+                let name = |i: u32| ids.name(l.list.ranked[i as usize].node);
+                let start = l.by_id.partition_point(|&i| name(i) < text);
+                let sorted = l
                     .by_id
                     .get(start..)
                     .unwrap_or(&[])
@@ -462,123 +505,5 @@ impl App {
                 }
             }
         }
-    }
-
-    /// The file stem of the pane's figure (for the prompt; the figure is drawn on Enter).
-    fn pane_figure_name(&self, m: &Model) -> &'static str {
-        match self.pane {
-            Pane::Degrees if self.log_scale => "degree-distribution-loglog",
-            Pane::Degrees => "degree-distribution",
-            Pane::Neighbours => "neighbour-degree",
-            Pane::Outlook if m.plan().is_some_and(|p| p.t.is_some()) => "outlook-reach",
-            Pane::Outlook => "outlook-transmissibility",
-            _ => "figure",
-        }
-    }
-
-    /// The figure of the pane shown: the degree distribution (log-log when the pane is), the
-    /// neighbour degrees, or the outlook's reach curves (R0 over T while T is unknown). The
-    /// whole network's, as in `hubwatch figures`.
-    pub fn pane_figure(&self, m: &Model) -> Option<crate::report::figures::Figure> {
-        use crate::report::figures as f;
-        // The checksums are read on a worker at load; a figure asked for before they are
-        // ready waits for them (seconds at most, once).
-        let hashes = loop {
-            match m.input_hashes.get() {
-                Some(Ok(h)) => break h.clone(),
-                Some(Err(_)) => break Vec::new(),
-                None => std::thread::sleep(std::time::Duration::from_millis(20)),
-            }
-        };
-        let caption = f::caption(
-            &m.d,
-            Some((m.list.window.days, m.list.window.pathogen.as_str())),
-            &hashes,
-        );
-        match self.pane {
-            Pane::Degrees => Some(f::degree_distribution(&m.stats, self.log_scale, &caption)),
-            Pane::Neighbours => Some(f::neighbour_degree(&m.stats, &caption)),
-            Pane::Outlook => {
-                let plan = m.plan()?;
-                f::outlook_reach(plan, &caption).or_else(|| Some(f::outlook_t(plan, &caption)))
-            }
-            _ => None,
-        }
-    }
-
-    /// Write the pane's figure as SVG or PNG (by the extension), privately and atomically; not
-    /// over an existing file.
-    pub fn export_figure(&self, m: &Model, path: &std::path::Path) -> crate::error::Result<String> {
-        use crate::error::Error;
-        let fig = self
-            .pane_figure(m)
-            .ok_or_else(|| Error::Usage("this pane has no figure yet".into()))?;
-        if path.exists() {
-            return Err(Error::Usage(format!("{} exists", path.display())));
-        }
-        crate::plot::ensure_font()?;
-        let ext = path
-            .extension()
-            .map(|e| e.to_string_lossy().to_lowercase())
-            .unwrap_or_default();
-        let bytes = match ext.as_str() {
-            "svg" => crate::plot::svg(&fig)?.into_bytes(),
-            "png" => crate::plot::png(&fig)?,
-            _ => {
-                return Err(Error::Usage(
-                    "give a file name ending in .svg or .png".into(),
-                ))
-            }
-        };
-        crate::export::write_private(path, &bytes)?;
-        Ok(fig.name)
-    }
-
-    /// Write the priority list as shown (filters and sort) with the export module.
-    pub fn export_view(&self, m: &Model, path: &std::path::Path) -> crate::error::Result<usize> {
-        let format = crate::export::format_for(path, None)?;
-        let ranked: Vec<Ranked> = self
-            .rows
-            .iter()
-            .map(|&i| m.list.ranked[i as usize].clone())
-            .collect();
-        let states: Vec<PersonState> = self.states.values().cloned().collect();
-        let direct = Vec::new();
-        let ids = crate::report::tables::Ids {
-            d: &m.d,
-            key: None,
-            direct_identifiers: &direct,
-        };
-        let mut table = crate::report::tables::priority_table(
-            &ids,
-            &ranked,
-            &m.list.preset.1,
-            &states,
-            0,
-            false,
-        );
-        // The rank column numbers the rows as shown; keep the list's own rank beside it.
-        if let Some(c) = table.columns.iter().position(|c| c == "rank") {
-            table.columns[c] = "row".into();
-            table.columns.insert(c + 1, "rank".into());
-            if !table.kinds.is_empty() {
-                table.kinds.insert(c + 1, crate::export::Kind::Int);
-            }
-            for (row, &i) in table.rows.iter_mut().zip(&self.rows) {
-                row.insert(c + 1, crate::export::Cell::Int(i as i64 + 1));
-            }
-        }
-        let sort = format!(
-            "{}{}",
-            self.sort.0.name(),
-            if self.sort.1 { " (reversed)" } else { "" }
-        );
-        let meta = Meta::new(&m.d, "dashboard view")
-            .ranking(&m.list)
-            .with("filters", self.filter_text(m))
-            .with("sort", sort)
-            .finish();
-        crate::export::write(&table, &meta, format, path, false)?;
-        Ok(table.rows.len())
     }
 }

@@ -257,9 +257,9 @@ fn render_figures(frame: &mut Frame, area: Rect, m: &Model, th: &Theme) {
         Line::from(format!("  view: {}", d.view.0.describe())),
         Line::from(format!(
             "  window: {} {} days ({})",
-            m.list.window.pathogen, m.list.window.days, m.list.window.source
+            m.window.pathogen, m.window.days, m.window.source
         )),
-        Line::from(format!("  ranking preset: {}", m.list.preset.0)),
+        Line::from(format!("  ranking preset: {}", m.preset)),
         Line::from(format!("  workspace: {}", m.workspace_path.display())),
     ];
     frame.render_widget(

@@ -1,15 +1,15 @@
 //! The Priority pane: the filtered, sorted follow-up list with its marks.
 
 use ratatui::layout::{Constraint, Rect};
-use ratatui::text::Span;
-use ratatui::widgets::{Row, Table};
+use ratatui::text::{Line, Span};
+use ratatui::widgets::{Paragraph, Row, Table, Wrap};
 use ratatui::Frame;
 
 use super::*;
 use crate::analysis::priority::Mark;
 use crate::ingest::dates;
 use crate::tui::app::App;
-use crate::tui::model::Model;
+use crate::tui::model::{Listing, Model};
 use crate::tui::theme::Theme;
 use crate::tui::ui::block;
 
@@ -30,14 +30,14 @@ const COLUMNS: [(&str, u16); 11] = [
 ];
 
 /// The cells of ranked entry `ri` (every column; the caller keeps those shown).
-fn cells(m: &Model, app: &App, ri: u32) -> [String; 11] {
-    let r = &m.list.ranked[ri as usize];
+fn cells(m: &Model, l: &Listing, app: &App, ri: u32) -> [String; 11] {
+    let r = &l.list.ranked[ri as usize];
     let marks: String = r.marks().map(Mark::letter).collect();
     [
         (ri + 1).to_string(),
         m.d.ids.name(r.node).to_string(),
         format!("{:.3}", r.score),
-        m.main_reason[ri as usize].to_string(),
+        l.main_reason[ri as usize].to_string(),
         r.degree.to_string(),
         format!("{}", r.raw[1]),
         r.window_end.map(dates::iso).unwrap_or_else(|| "–".into()),
@@ -48,8 +48,52 @@ fn cells(m: &Model, app: &App, ri: u32) -> [String; 11] {
     ]
 }
 
+/// While the worker ranks the list (or when it could not), say so.
+fn waiting(frame: &mut Frame, area: Rect, m: &Model, th: &Theme) {
+    let (title, text) = match m.listing.get() {
+        Some(Err(e)) => (
+            " 5 Priority · not ranked ",
+            vec![
+                Line::from(""),
+                Line::from(Span::styled(
+                    format!("  The list could not be ranked: {e}"),
+                    th.warn,
+                )),
+            ],
+        ),
+        _ => (
+            " 5 Priority · ranking ",
+            vec![
+                Line::from(""),
+                Line::from(Span::styled(
+                    format!(
+                        "  Still ranking: the priority list of {} people, with its sort orders \
+                         and filters.",
+                        m.to_rank
+                    ),
+                    th.text,
+                )),
+                Line::from(Span::styled(
+                    "  It is worked out in the background and appears here by itself (about \
+                     a second per ten million exposure rows); the Overview, Degrees, \
+                     Neighbours and Clusters panes can be used meanwhile.",
+                    th.dim,
+                )),
+            ],
+        ),
+    };
+    let p = Paragraph::new(text)
+        .wrap(Wrap { trim: false })
+        .block(block(title.to_string(), th));
+    frame.render_widget(p, area);
+}
+
 /// Lay out the pane.
 pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
+    let Some(l) = m.listed().filter(|_| app.listed) else {
+        waiting(frame, area, m, th);
+        return;
+    };
     let page = area.height.saturating_sub(3) as usize;
     let wide = area.width >= 118;
     let shown = |c: usize| wide || !matches!(c, 3 | 5 | 6);
@@ -61,9 +105,9 @@ pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
         .skip(pos.offset)
         .take(page)
         .map(|(i, &ri)| {
-            let r = &m.list.ranked[ri as usize];
+            let r = &l.list.ranked[ri as usize];
             let row = Row::new(
-                cells(m, app, ri)
+                cells(m, l, app, ri)
                     .into_iter()
                     .enumerate()
                     .filter(|(c, _)| shown(*c))
@@ -82,10 +126,10 @@ pub fn render(frame: &mut Frame, area: Rect, m: &Model, app: &App, th: &Theme) {
     let title = format!(
         "5 Priority — {} of {} people · sorted by {}{} · preset {} · row {}",
         app.rows.len(),
-        m.list.ranked.len(),
+        l.list.ranked.len(),
         col.name(),
         if desc { " (reversed)" } else { "" },
-        m.list.preset.0,
+        l.list.preset.0,
         if app.rows.is_empty() {
             0
         } else {
