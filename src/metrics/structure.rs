@@ -236,16 +236,25 @@ pub fn articulation_points(g: &Adjacency) -> Vec<u32> {
 /// starts at the lowest node not yet seen, so a cluster's label is the order of its first
 /// node.
 pub fn cut_points_and_components(g: &Adjacency) -> (Vec<u32>, (Vec<u32>, Vec<u32>)) {
+    /// A node on the search path: its contacts still to look at, its parent, its discovery
+    /// time and its low-link value. The low-link lives here, not in an array: a child hands
+    /// it to the frame below when it is done, so the search touches one array per node
+    /// (discovery times) instead of two.
+    struct Frame<'a> {
+        contacts: std::slice::Iter<'a, u32>,
+        v: u32,
+        parent: u32,
+        disc: u32,
+        low: u32,
+    }
     let n = g.node_count();
     let mut label = vec![0u32; n];
     let mut sizes: Vec<u32> = Vec::new();
     const UNSEEN: u32 = u32::MAX;
     let mut disc = vec![UNSEEN; n];
-    let mut low = vec![0u32; n];
     let mut is_cut = vec![false; n];
     let mut time = 0u32;
-    // Stack of (node, parent, index of next neighbour to visit).
-    let mut stack: Vec<(u32, u32, usize)> = Vec::new();
+    let mut stack: Vec<Frame> = Vec::new();
     for root in 0..n as u32 {
         if disc[root as usize] != UNSEEN {
             continue;
@@ -255,40 +264,50 @@ pub fn cut_points_and_components(g: &Adjacency) -> (Vec<u32>, (Vec<u32>, Vec<u32
         let mut size = 1u32;
         label[root as usize] = c;
         disc[root as usize] = time;
-        low[root as usize] = time;
+        stack.push(Frame {
+            contacts: g.neighbors_slice(root).iter(),
+            v: root,
+            parent: UNSEEN,
+            disc: time,
+            low: time,
+        });
         time += 1;
-        stack.push((root, UNSEEN, 0));
-        while let Some(&mut (v, parent, ref mut next)) = stack.last_mut() {
-            let nb = g.neighbors_slice(v);
-            if *next < nb.len() {
-                let w = nb[*next];
-                *next += 1;
-                if w == parent {
+        while let Some(top) = stack.last_mut() {
+            if let Some(&w) = top.contacts.next() {
+                if w == top.parent {
                     continue;
                 }
-                if disc[w as usize] == UNSEEN {
-                    label[w as usize] = c;
-                    size += 1;
-                    disc[w as usize] = time;
-                    low[w as usize] = time;
-                    time += 1;
-                    if v == root {
-                        root_children += 1;
-                    }
-                    // w's contacts are looked at next: ask for their discovery times now.
-                    for &x in g.neighbors_slice(w) {
-                        prefetch(&disc, x as usize);
-                    }
-                    stack.push((w, v, 0));
-                } else {
-                    low[v as usize] = low[v as usize].min(disc[w as usize]);
+                let seen = disc[w as usize];
+                if seen != UNSEEN {
+                    top.low = top.low.min(seen);
+                    continue;
                 }
+                let v = top.v;
+                label[w as usize] = c;
+                size += 1;
+                disc[w as usize] = time;
+                if v == root {
+                    root_children += 1;
+                }
+                // w's contacts are looked at next: ask for their discovery times now.
+                let contacts = g.neighbors_slice(w);
+                for &x in contacts {
+                    prefetch(&disc, x as usize);
+                }
+                stack.push(Frame {
+                    contacts: contacts.iter(),
+                    v: w,
+                    parent: v,
+                    disc: time,
+                    low: time,
+                });
+                time += 1;
             } else {
-                stack.pop();
-                if parent != UNSEEN {
-                    low[parent as usize] = low[parent as usize].min(low[v as usize]);
-                    if parent != root && low[v as usize] >= disc[parent as usize] {
-                        is_cut[parent as usize] = true;
+                let done = stack.pop().expect("a frame");
+                if let Some(p) = stack.last_mut() {
+                    p.low = p.low.min(done.low);
+                    if p.v != root && done.low >= p.disc {
+                        is_cut[p.v as usize] = true;
                     }
                 }
             }

@@ -442,3 +442,73 @@ fn joint_degree_counts_across_the_dense_limit() {
     );
     assert_eq!(mixing::joint_degree_counts(&a, &b, &deg), want);
 }
+
+/// Articulation points by their definition: a person whose removal leaves their cluster in
+/// more pieces (removing each person in turn and counting clusters with union-find; no
+/// external source needed), on random small networks with several clusters, against the one
+/// depth-first search; its components against the plain search.
+#[test]
+fn cut_points_match_removing_each_person_in_turn() {
+    use hubwatch::metrics::structure;
+    use proptest::prelude::*;
+    fn clusters(n: usize, edges: &[(u32, u32)], without: Option<u32>) -> usize {
+        let mut parent: Vec<usize> = (0..n).collect();
+        fn find(p: &mut [usize], mut x: usize) -> usize {
+            while p[x] != x {
+                p[x] = p[p[x]];
+                x = p[x];
+            }
+            x
+        }
+        for &(a, b) in edges {
+            if Some(a) == without || Some(b) == without {
+                continue;
+            }
+            let (ra, rb) = (find(&mut parent, a as usize), find(&mut parent, b as usize));
+            parent[ra] = rb;
+        }
+        (0..n)
+            .filter(|&v| Some(v as u32) != without && find(&mut parent, v) == v)
+            .count()
+    }
+    let mut runner = proptest::test_runner::TestRunner::new(ProptestConfig::with_cases(300));
+    runner
+        .run(
+            &(
+                2usize..30,
+                proptest::collection::vec((0u32..30, 0u32..30), 0..60),
+            ),
+            |(n, raw)| {
+                let mut edges: Vec<(u32, u32)> = raw
+                    .into_iter()
+                    .map(|(a, b)| (a % n as u32, b % n as u32))
+                    .filter(|(a, b)| a != b)
+                    .map(|(a, b)| (a.min(b), a.max(b)))
+                    .collect();
+                edges.sort_unstable();
+                edges.dedup();
+                let mut list: Vec<(u32, u32, u32)> = edges
+                    .iter()
+                    .flat_map(|&(a, b)| [(a, b, 0), (b, a, 0)])
+                    .collect();
+                list.sort_unstable();
+                let mut g: hubwatch::graph::Adjacency =
+                    petgraph::csr::Csr::from_sorted_edges(&list).unwrap();
+                while g.node_count() < n {
+                    g.add_node(());
+                }
+                let all = clusters(n, &edges, None);
+                let want: Vec<u32> = (0..n as u32)
+                    .filter(|&v| {
+                        let isolated = !edges.iter().any(|&(a, b)| a == v || b == v);
+                        !isolated && clusters(n, &edges, Some(v)) > all
+                    })
+                    .collect();
+                let (cut, parts) = structure::cut_points_and_components(&g);
+                prop_assert_eq!(cut, want);
+                prop_assert_eq!(parts, hubwatch::graph::components(&g));
+                Ok(())
+            },
+        )
+        .unwrap();
+}
