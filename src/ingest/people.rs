@@ -106,8 +106,13 @@ impl PeopleBuilder {
             .map(|c| cells.column(Some(c), &meta.path).map(|o| o.expect("some")))
             .collect::<Result<_>>()?;
         let n = cells.height();
-        // Room for every row's ID being new (the usual case): the table never grows row by row.
-        self.ids.reserve(n);
+        // Room for every row's ID being new (the usual case), this chunk's and, by estimate,
+        // the chunks still to come: the table is laid out once, not grown and rehashed chunk
+        // by chunk (an estimate short by a few rows costs one more layout at the end). The
+        // estimate is held to 16 times the rows read so far, in case the first rows are
+        // much shorter than the rest.
+        let ahead = chunk.rows_ahead.min(16 * (self.ids.len() + n));
+        self.ids.reserve(n + ahead);
         let Self {
             ids,
             attrs,

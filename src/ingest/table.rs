@@ -106,6 +106,10 @@ pub struct Chunk<'a> {
     pub cells: Cells<'a>,
     /// Source line of each row.
     pub lines: LineMap,
+    /// Rows still to come after this chunk, estimated from the bytes left at this chunk's
+    /// rows per byte (0 when this is the last chunk or the reader cannot tell), so that a
+    /// table growing with the rows can take room for all of them at once.
+    pub rows_ahead: usize,
 }
 
 /// What is known about a table before its rows are read.
@@ -239,6 +243,7 @@ impl Table {
                 sink(Chunk {
                     cells: Cells::Frame(frame),
                     lines,
+                    rows_ahead: 0,
                 })?;
                 Ok(rejected)
             }
@@ -516,9 +521,11 @@ fn read_text(
         let rx = rx;
         s.spawn(parse_all);
         let mut rows_done = 0usize;
-        for (parsed, &(_, end)) in rx.iter().zip(&cuts) {
+        for (parsed, &(start, end)) in rx.iter().zip(&cuts) {
             let cells = parsed?;
             let n = cells.height();
+            let rows_ahead =
+                ((data.len() - end) as u128 * n as u128 / (end - start).max(1) as u128) as usize;
             let lines = match &scan.lines {
                 None => LineMap::Contiguous {
                     first: body.data_line + rows_done as u64,
@@ -534,7 +541,11 @@ fn read_text(
                 }
             };
             rows_done += n;
-            sink(Chunk { cells, lines })?;
+            sink(Chunk {
+                cells,
+                lines,
+                rows_ahead,
+            })?;
             if scan.clean.is_none() {
                 // The chunk is consumed: its mapped pages need not stay resident.
                 body.bytes.release_before(body.data_start + end);

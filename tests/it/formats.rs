@@ -518,3 +518,42 @@ fn chunked(chunk_rows: usize) -> hubwatch::ingest::LoadOptions {
         view: Default::default(),
     }
 }
+
+/// Each chunk of delimited text says how many rows are still to come, estimated from the bytes
+/// left at its own rows per byte (so the people table can take room for all of them at once):
+/// with rows of one length the estimate is within a row of the count, and 0 after the last
+/// chunk; the rows delivered are every row. (Counting rule of the reader, no external source.)
+#[test]
+fn chunks_estimate_the_rows_still_to_come() {
+    use hubwatch::config::Config;
+    use hubwatch::ingest::table::{ReadOptions, Table};
+    let dir = tempfile::tempdir().unwrap();
+    let mut text = String::from("person_id,area\n");
+    for i in 0..5000 {
+        text.push_str(&format!("P{i:06},north\n"));
+    }
+    let f = write(dir.path(), "people.csv", text.as_bytes());
+    let opts = ReadOptions {
+        sheet: None,
+        chunk_rows: 300,
+    };
+    let table = Table::open(&f, &Config::default(), &opts).unwrap();
+    let mut seen = Vec::new();
+    table
+        .read(&opts, |chunk| {
+            seen.push((chunk.cells.height(), chunk.rows_ahead));
+            Ok(())
+        })
+        .unwrap();
+    assert!(seen.len() > 5, "{seen:?}");
+    let mut left = 5000usize;
+    for &(n, ahead) in &seen {
+        left -= n;
+        assert!(
+            ahead.abs_diff(left) <= 1,
+            "estimated {ahead}, {left} to come"
+        );
+    }
+    assert_eq!(left, 0);
+    assert_eq!(seen.last().unwrap().1, 0);
+}
