@@ -11,6 +11,9 @@
 
 use std::hash::BuildHasher;
 
+mod dense;
+pub use dense::DenseIds;
+
 /// One entry of the table: node index (`EMPTY` for a free slot), the key's first eight bytes,
 /// and its next three bytes with its length (see [`tail`]).
 #[derive(Debug, Clone, Copy)]

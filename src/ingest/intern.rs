@@ -10,7 +10,7 @@
 
 use std::borrow::Cow;
 
-use crate::ids::IdMap;
+use crate::ids::{DenseIds, IdMap};
 
 /// Marks a worker's answer as an index into its own table of new IDs (not yet numbered).
 const NEW: u32 = 1 << 31;
@@ -26,15 +26,20 @@ pub struct NewIds {
     node: [Vec<u32>; 2],
     /// (worker, local index) of each numbered new ID, in node order.
     order: Vec<(u8, u32)>,
+    /// The direct index of the people map, when its IDs are numbers behind one prefix.
+    dense: Option<DenseIds>,
 }
 
 impl NewIds {
-    /// No new IDs yet; `case_sensitive` as the people map.
-    pub fn new(case_sensitive: bool) -> NewIds {
+    /// No new IDs yet, for lookups in `ids` (the people map; it does not change until
+    /// [`NewIds::finish`]).
+    pub fn new(ids: &IdMap) -> NewIds {
+        let case_sensitive = ids.case_sensitive();
         NewIds {
             shards: [IdMap::new(case_sensitive), IdMap::new(case_sensitive)],
             node: [Vec::new(), Vec::new()],
             order: Vec::new(),
+            dense: DenseIds::build(ids),
         }
     }
 
@@ -51,10 +56,11 @@ impl NewIds {
             "too many people"
         );
         let [s0, s1] = &mut self.shards;
+        let dense = self.dense.as_ref();
         let (h0, h1) = crate::par::beside(
             parallel,
-            || look_up(ids, s1, 1, pairs),
-            || look_up(ids, s0, 0, pairs),
+            || look_up((ids, dense), s1, 1, pairs),
+            || look_up((ids, dense), s0, 0, pairs),
         );
         self.merge(ids.len(), &h0, &h1)
     }
@@ -95,11 +101,23 @@ impl NewIds {
 /// access with the work of the IDs in between.
 const AHEAD: usize = 16;
 
-/// One worker's half: for each ID position whose hash bit is `w`, the node index (from `ids`)
-/// or `NEW | local index`; `NOT_MINE` elsewhere. Each ID's table line is prefetched
-/// [`AHEAD`] IDs before it is looked up, so the cache misses of successive lookups overlap.
+/// An ID position as one worker sees it ahead of its lookup.
+enum Ahead<'a> {
+    /// The other worker's.
+    NotMine,
+    /// An entry of the people map's direct index.
+    Dense(usize),
+    /// A key and its hash, for the hash table.
+    Hashed(Cow<'a, str>, u64),
+}
+
+/// One worker's half: for each ID position the worker owns, the node index (from `ids`) or
+/// `NEW | local index`; `NOT_MINE` elsewhere. An ID the direct index answers for is owned by
+/// the low bit of its entry, any other by a bit of its hash. Each ID's entry or table line is
+/// prefetched [`AHEAD`] IDs before it is looked up, so the cache misses of successive lookups
+/// overlap.
 fn look_up(
-    ids: &IdMap,
+    (ids, dense): (&IdMap, Option<&DenseIds>),
     shard: &mut IdMap,
     w: u64,
     pairs: &[(Cow<'_, str>, Cow<'_, str>)],
@@ -114,18 +132,25 @@ fn look_up(
     };
     let n = pairs.len() * 2;
     let mut out = Vec::with_capacity(n);
-    // (key, hash) of the next AHEAD positions; a position the other worker owns is `None`.
-    let mut ring: std::collections::VecDeque<Option<(Cow<'_, str>, u64)>> =
+    // The next AHEAD positions.
+    let mut ring: std::collections::VecDeque<Ahead<'_>> =
         std::collections::VecDeque::with_capacity(AHEAD + 1);
-    let ahead = |p: usize| -> Option<(Cow<'_, str>, u64)> {
+    let ahead = |p: usize| -> Ahead<'_> {
         let id = id_at(p);
+        if let Some(e) = dense.and_then(|d| d.entry(id)) {
+            if (e as u64) & 1 != w {
+                return Ahead::NotMine;
+            }
+            dense.expect("an index").prefetch(e);
+            return Ahead::Dense(e);
+        }
         let key = ids.key(id);
         let h = ids.hash_key(&key);
         if (h >> 40) & 1 != w {
-            return None;
+            return Ahead::NotMine;
         }
         ids.prefetch(h);
-        Some((key, h))
+        Ahead::Hashed(key, h)
     };
     for p in 0..n.min(AHEAD) {
         ring.push_back(ahead(p));
@@ -134,16 +159,33 @@ fn look_up(
         if p + AHEAD < n {
             ring.push_back(ahead(p + AHEAD));
         }
-        match ring.pop_front().flatten() {
-            None => out.push(NOT_MINE),
-            Some((key, h)) => match ids.find_hashed(&key, h) {
-                Some(i) => out.push(i),
+        let (key, h) = match ring.pop_front().unwrap_or(Ahead::NotMine) {
+            Ahead::NotMine => {
+                out.push(NOT_MINE);
+                continue;
+            }
+            Ahead::Dense(e) => match dense.and_then(|d| d.node(e)) {
+                Some(i) => {
+                    out.push(i);
+                    continue;
+                }
+                // Not a person of the map: new, looked up and kept by its hash.
                 None => {
-                    let (l, _) = shard.intern_hashed(&key, h, id_at(p));
-                    out.push(NEW | l);
+                    let key = ids.key(id_at(p));
+                    let h = ids.hash_key(&key);
+                    (key, h)
                 }
             },
-        }
+            Ahead::Hashed(key, h) => match ids.find_hashed(&key, h) {
+                Some(i) => {
+                    out.push(i);
+                    continue;
+                }
+                None => (key, h),
+            },
+        };
+        let (l, _) = shard.intern_hashed(&key, h, id_at(p));
+        out.push(NEW | l);
     }
     out
 }
@@ -171,7 +213,7 @@ mod tests {
                 .iter()
                 .flat_map(|(s, t)| [plain.intern(s).0, plain.intern(t).0])
                 .collect();
-            let mut new = NewIds::new(case_sensitive);
+            let mut new = NewIds::new(&people);
             let half1 = new.number(&people, &pairs[..100], true);
             let half2 = new.number(&people, &pairs[100..], false);
             new.finish(&mut people);
@@ -181,6 +223,48 @@ mod tests {
                 // "C" and "b" are the people "c" and "B" when case is folded.
                 assert_eq!(&got[got.len() - 2..], &[2, 1]);
             }
+            assert_eq!(people.len(), plain.len());
+            for i in 0..people.len() as u32 {
+                assert_eq!(people.name(i), plain.name(i));
+            }
+        }
+    }
+
+    /// The same with people whose IDs are numbers behind one prefix (the direct index answers
+    /// for IDs of that shape): people found, new IDs of the shape (numbers inside and outside
+    /// the people's range, repeated), IDs of other shapes, in both case rules.
+    #[test]
+    fn same_numbering_with_the_direct_index() {
+        for case_sensitive in [true, false] {
+            let mut people = IdMap::new(case_sensitive);
+            for i in (0..400).filter(|i| i % 7 != 3) {
+                people.intern(&format!("P{:05}", i + 100));
+            }
+            assert!(DenseIds::build(&people).is_some());
+            let mut plain = people.clone();
+            let names: Vec<String> = (0..2000u32)
+                .map(|i| match i % 11 {
+                    0 => format!("p{:05}", (i * 13) % 600),
+                    1 => format!("P{}", (i * 7) % 500),
+                    2 => format!("Q{:05}", i % 50),
+                    3 => format!("P{:05}", 99_000 + i % 37),
+                    _ => format!("P{:05}", (i * 31) % 520),
+                })
+                .collect();
+            let pairs: Vec<(Cow<str>, Cow<str>)> = names
+                .chunks(2)
+                .map(|c| (Cow::from(c[0].as_str()), Cow::from(c[1].as_str())))
+                .collect();
+            let want: Vec<u32> = pairs
+                .iter()
+                .flat_map(|(s, t)| [plain.intern(s).0, plain.intern(t).0])
+                .collect();
+            let mut new = NewIds::new(&people);
+            let half1 = new.number(&people, &pairs[..300], true);
+            let half2 = new.number(&people, &pairs[300..], false);
+            new.finish(&mut people);
+            let got: Vec<u32> = half1.into_iter().chain(half2).collect();
+            assert_eq!(got, want, "case sensitive: {case_sensitive}");
             assert_eq!(people.len(), plain.len());
             for i in 0..people.len() as u32 {
                 assert_eq!(people.name(i), plain.name(i));

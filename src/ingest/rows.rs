@@ -179,9 +179,7 @@ impl ExposureRows {
         let scratch = checker.scratch();
         let lines = &chunk.lines;
         let parallel = n >= PARALLEL_ROWS;
-        let new_ids = self
-            .new_ids
-            .get_or_insert_with(|| NewIds::new(ids.case_sensitive()));
+        let new_ids = self.new_ids.get_or_insert_with(|| NewIds::new(ids));
         let quarantined = &mut self.quarantined;
         let ((usable, nodes), fields) = crate::par::beside(
             parallel,
