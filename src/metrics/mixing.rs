@@ -291,6 +291,31 @@ pub struct AttributeMixing {
     pub r: Stat,
 }
 
+/// Pairs counted by the groups of their ends (row p, column q: a pair between p and q counts
+/// in both cells), the pairs with both groups known, and the others.
+fn count_pairs(
+    a: &[u32],
+    b: &[u32],
+    g: usize,
+    group: impl Fn(u32) -> Option<usize>,
+) -> (Vec<u64>, u64, u64) {
+    let mut pairs = vec![0u64; g * g];
+    let (mut known, mut unknown) = (0u64, 0u64);
+    for (&x, &y) in a.iter().zip(b) {
+        match (group(x), group(y)) {
+            (Some(p), Some(q)) => {
+                pairs[p * g + q] += 1;
+                if p != q {
+                    pairs[q * g + p] += 1;
+                }
+                known += 1;
+            }
+            _ => unknown += 1,
+        }
+    }
+    (pairs, known, unknown)
+}
+
 /// Mixing by `group[i]` (None = unknown) over the pairs.
 pub fn attribute_mixing(
     a: &[u32],
@@ -299,22 +324,22 @@ pub fn attribute_mixing(
     labels: Vec<String>,
 ) -> AttributeMixing {
     let g = labels.len();
-    let mut pairs = vec![vec![0u64; g]; g];
-    let mut unknown = 0;
-    let mut known = 0u64;
-    for (&x, &y) in a.iter().zip(b) {
-        match (group[x as usize], group[y as usize]) {
-            (Some(p), Some(q)) => {
-                let (p, q) = (p as usize, q as usize);
-                pairs[p][q] += 1;
-                if p != q {
-                    pairs[q][p] += 1;
-                }
-                known += 1;
-            }
-            _ => unknown += 1,
-        }
-    }
+    // The groups as 16-bit codes where they fit (a handful of groups, millions of people): the
+    // pass reads two of them per pair at random, and a quarter of the bytes stays in cache.
+    let (flat, known, unknown) = if g < usize::from(u16::MAX) {
+        let small: Vec<u16> = group
+            .iter()
+            .map(|x| x.map_or(u16::MAX, |v| v as u16))
+            .collect();
+        count_pairs(a, b, g, |v| {
+            let c = small[v as usize];
+            (c != u16::MAX).then_some(c as usize)
+        })
+    } else {
+        count_pairs(a, b, g, |v| group[v as usize].map(|c| c as usize))
+    };
+    let pairs: Vec<Vec<u64>> = flat.chunks(g.max(1)).map(<[u64]>::to_vec).collect();
+    let pairs = if g == 0 { Vec::new() } else { pairs };
     let r = if known == 0 {
         Err("no contact with the attribute known at both ends")
     } else {
