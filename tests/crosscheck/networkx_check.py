@@ -6,7 +6,9 @@ For each export folder (people.csv + exposures.csv), runs `hubwatch summary --js
 rebuilds the same network with networkx under the same cleaning rules (IDs trimmed; blank IDs
 and self-exposures dropped; pairs in either order merged; every person of the people table is
 a node). Compares people, pairs, degree moments and histogram, assortativity r, k_nn(k),
-components, transitivity, mean local clustering, core numbers and articulation points.
+components, transitivity, mean local clustering, core numbers, articulation points, and the
+attribute assortativity of area and age group (over the pairs whose two ends both have the
+value, as hubwatch counts them).
 Exits 1 on any difference beyond 1e-9 relative, printing each one.
 """
 import csv
@@ -30,13 +32,22 @@ def close(what, got, want):
         failures.append(f"{what}: hubwatch {got!r}, networkx {want!r}")
 
 
+ATTRIBUTES = ("area", "age_group")
+
+
 def build(folder):
     g = nx.Graph()
     with open(f"{folder}/people.csv", newline="", encoding="utf-8-sig") as f:
         for row in csv.DictReader(f):
             pid = (row.get("person_id") or "").strip()
             if pid:
+                # A person listed again keeps the first value of each attribute (hubwatch
+                # reports the conflict).
                 g.add_node(pid)
+                for a in ATTRIBUTES:
+                    v = (row.get(a) or "").strip()
+                    if v and a not in g.nodes[pid]:
+                        g.nodes[pid][a] = v
     with open(f"{folder}/exposures.csv", newline="", encoding="utf-8-sig") as f:
         for row in csv.DictReader(f):
             a = (row.get("source_id") or "").strip()
@@ -90,6 +101,19 @@ def check(binary, folder):
     aps = sorted(nx.articulation_points(g))
     if sorted(h["bridges"]["people"]) != aps:
         failures.append(f"{tag} articulation points differ: {len(h['bridges']['people'])} vs {len(aps)}")
+    for attr in ATTRIBUTES:
+        got = h.get("mixing", {}).get(attr)
+        known = [(u, v) for u, v in g.edges() if attr in g.nodes[u] and attr in g.nodes[v]]
+        if not known:
+            if got is not None and got.get("r") is not None:
+                failures.append(f"{tag} mixing.{attr}: hubwatch has r, networkx no known pair")
+            continue
+        if got is None:
+            failures.append(f"{tag} mixing.{attr} missing from hubwatch's output")
+            continue
+        close(f"{tag} mixing.{attr}.unknown", got["unknown"], m - len(known))
+        want = nx.attribute_assortativity_coefficient(g.edge_subgraph(known), attr)
+        close(f"{tag} mixing.{attr}.r", got["r"], want)
     print(f"checked {tag}: {n} people, {m} pairs")
 
 
