@@ -167,13 +167,17 @@ fn degree_parts(d: &Dataset, deg: &[u32]) -> DegreeParts {
     let (a, b) = (&d.edges.a, &d.edges.b);
     let degree = degree::degree_stats(deg);
     let fits = fit_degrees(&degree.histogram);
+    // r and its standard error from the pairs counted by their end degrees: one pass over
+    // the pairs (reading two degrees at random each) for both, and the same integer sums as
+    // a pass of its own would give.
+    let joint = mixing::joint_degree_counts(a, b, deg);
     (
         super::casedata::case_stats(d),
         fits,
         degree,
         neighbours::neighbours(&d.graph, deg),
-        mixing::assortativity(a, b, deg),
-        mixing::jackknife_se(a, b, deg),
+        mixing::assortativity_from_joint(&joint),
+        mixing::jackknife_from_joint(&joint),
     )
 }
 

@@ -105,13 +105,10 @@ pub fn jackknife_from_joint(joint: &[((u32, u32), u64)]) -> Stat {
 /// How many pairs join end degrees (j, k), j <= k, in increasing (j, k).
 pub fn joint_degree_counts(a: &[u32], b: &[u32], deg: &[u32]) -> Vec<((u32, u32), u64)> {
     // Pairs whose larger end degree is at most `small` are counted in a dense table (a few
-    // hundred degrees at most, in practice: it stays in cache); the rest in a map.
-    let max = a
-        .iter()
-        .chain(b)
-        .map(|&x| deg[x as usize])
-        .max()
-        .unwrap_or(0);
+    // hundred degrees at most, in practice: it stays in cache); the rest in a map. Which
+    // table counts a pair does not change the result, so the largest degree is read from
+    // `deg` in order rather than from the pairs' ends at random.
+    let max = deg.iter().copied().max().unwrap_or(0);
     let small = max.min(DENSE_DEGREES) as usize;
     let mut dense = vec![0u64; (small + 1) * (small + 1)];
     let mut sparse: hashbrown::HashMap<(u32, u32), u64> = hashbrown::HashMap::new();

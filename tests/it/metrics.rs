@@ -441,6 +441,15 @@ fn joint_degree_counts_across_the_dense_limit() {
         .collect::<Vec<_>>()
     );
     assert_eq!(mixing::joint_degree_counts(&a, &b, &deg), want);
+    // Degrees of people without pairs (here a larger one than any pair's end) change nothing.
+    let mut more = deg.clone();
+    more.push(5000);
+    assert_eq!(mixing::joint_degree_counts(&a, &b, &more), want);
+    // r from the counts is r from the pairs, to the bit (the same integer sums).
+    assert_eq!(
+        mixing::assortativity_from_joint(&want).unwrap().to_bits(),
+        mixing::assortativity(&a, &b, &deg).unwrap().to_bits()
+    );
 }
 
 /// Articulation points by their definition: a person whose removal leaves their cluster in
