@@ -1,5 +1,7 @@
 //! Everything the dashboard shows, computed once when the export is loaded (and, for a selected
-//! cluster, once when it is selected). The draw code only reads from here.
+//! cluster, once when it is selected): what the first frame needs before it, the priority list,
+//! the outlook, the null model and the day's work after it, on workers ([`background`]). The
+//! draw code only reads from here.
 
 use std::path::PathBuf;
 use std::sync::{Arc, OnceLock};
