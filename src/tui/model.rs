@@ -7,7 +7,7 @@ use std::path::PathBuf;
 use std::sync::{Arc, OnceLock};
 
 use crate::analysis::planning::{Plan, PlanOptions, Strategy};
-use crate::analysis::priority::{PriorityConfig, Ranked};
+use crate::analysis::priority::PriorityConfig;
 use crate::analysis::ranking::{check, settings, RankRequest, Window};
 use crate::analysis::stats::{MetricOptions, NetworkStats};
 use crate::analysis::summary::Summary;
@@ -122,8 +122,6 @@ pub struct Model {
     pub listing: Arc<OnceLock<ListingResult>>,
     /// The priority settings in force (for the chains' windows).
     pub priority: PriorityConfig,
-    /// People to rank, for the Priority pane to say while it waits.
-    pub to_rank: usize,
     /// Outlook (reach curves to `reach_limit` people), computed on a worker after the list;
     /// empty until done (see [`Model::plan`]).
     pub plan_cell: Arc<OnceLock<Plan>>,
@@ -239,7 +237,6 @@ impl Model {
             preset,
             priority: settled_config,
             listing: cells.listing,
-            to_rank: d.people(),
             plan_cell: cells.plan,
             plan_reach,
             clusters,
@@ -281,11 +278,6 @@ impl Model {
     /// The outlook, once the worker has computed it.
     pub fn plan(&self) -> Option<&Plan> {
         self.plan_cell.get()
-    }
-
-    /// The ranked entry of a person, if the list is ranked and has them.
-    pub fn ranked(&self, node: u32) -> Option<&Ranked> {
-        self.listed().and_then(|l| l.ranked(node))
     }
 
     /// The strategies of the outlook, in report order (none until it is computed).

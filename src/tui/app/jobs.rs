@@ -50,9 +50,7 @@ impl App {
     /// Count today's work again with the workspace as it is now (after a follow-up change):
     /// on a worker in the terminal, at once otherwise (tests).
     pub fn recount_today(&mut self, m: &Model) {
-        if m.listed().is_none() {
-            return;
-        }
+        let Some(l) = m.listed() else { return };
         let path = self.workspace_path.clone();
         match &self.shared {
             Some(shared) => {
@@ -65,7 +63,7 @@ impl App {
                 });
                 self.today_pending = Some(rx);
             }
-            None => match today_now(&m.d, m.listed().map_or(&[][..], |l| &l.dues), &path) {
+            None => match today_now(&m.d, &l.dues, &path) {
                 Ok(t) => self.today_now = Some(t),
                 Err(e) => self.say(format!("today's counts: {e}"), true),
             },

@@ -72,14 +72,6 @@ impl Listing {
         };
         Ok((listing, input))
     }
-
-    /// The ranked entry of a person, if ranked.
-    pub fn ranked(&self, node: u32) -> Option<&Ranked> {
-        self.rank_pos
-            .get(node as usize)
-            .filter(|&&p| p != u32::MAX)
-            .map(|&p| &self.list.ranked[p as usize])
-    }
 }
 
 /// The list sorted by contacts, cases met and days left (ties in rank order). Each is an

@@ -69,7 +69,7 @@ fn waiting(frame: &mut Frame, area: Rect, m: &Model, th: &Theme) {
                     format!(
                         "  Still ranking: the priority list of {} people, with its sort orders \
                          and filters.",
-                        m.to_rank
+                        m.d.people()
                     ),
                     th.text,
                 )),
