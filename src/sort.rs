@@ -180,15 +180,21 @@ mod tests {
     use super::*;
     use proptest::prelude::*;
 
+    /// The radix sort of (key, row) pairs against the standard library's stable sort.
+    fn same_as_stable_sort(v: Vec<(u64, u32)>) -> Result<(), TestCaseError> {
+        let (mut keys, mut rows): (Vec<u64>, Vec<u32>) = v.iter().copied().unzip();
+        radix_sort_by_key(&mut keys, &mut rows);
+        let mut b = v;
+        b.sort_by_key(|p| p.0);
+        let a: Vec<(u64, u32)> = keys.into_iter().zip(rows).collect();
+        prop_assert_eq!(a, b);
+        Ok(())
+    }
+
     proptest! {
         #[test]
         fn matches_a_stable_comparison_sort(v in proptest::collection::vec((0u64..5_000_000_000u64, any::<u32>()), 0..5000)) {
-            let (mut keys, mut rows): (Vec<u64>, Vec<u32>) = v.iter().copied().unzip();
-            radix_sort_by_key(&mut keys, &mut rows);
-            let mut b = v;
-            b.sort_by_key(|p| p.0);
-            let a: Vec<(u64, u32)> = keys.into_iter().zip(rows).collect();
-            prop_assert_eq!(a, b);
+            same_as_stable_sort(v)?;
         }
 
         /// Integer keys first, then names (some sharing their first eight bytes, some shorter,
@@ -223,12 +229,7 @@ mod tests {
         /// Many equal keys and runs of every size (one highest digit shared by most rows).
         #[test]
         fn stable_with_skewed_keys(v in proptest::collection::vec((prop_oneof![0u64..50, 1u64 << 40..(1u64 << 40) + 3000], any::<u32>()), 0..5000)) {
-            let (mut keys, mut rows): (Vec<u64>, Vec<u32>) = v.iter().copied().unzip();
-            radix_sort_by_key(&mut keys, &mut rows);
-            let mut b = v;
-            b.sort_by_key(|p| p.0);
-            let a: Vec<(u64, u32)> = keys.into_iter().zip(rows).collect();
-            prop_assert_eq!(a, b);
+            same_as_stable_sort(v)?;
         }
     }
 }

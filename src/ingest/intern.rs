@@ -194,6 +194,39 @@ fn look_up(
 mod tests {
     use super::*;
 
+    /// Number `pairs` against `people` in two parts (the first `split` pairs on two cores, the
+    /// rest on one), add the new IDs to `people`, and check against interning row by row: the
+    /// same nodes, the same people in the same order. Returns the nodes.
+    fn numbered_as_one_pass(
+        people: &mut IdMap,
+        pairs: &[(Cow<str>, Cow<str>)],
+        split: usize,
+    ) -> Vec<u32> {
+        let mut plain = people.clone();
+        let want: Vec<u32> = pairs
+            .iter()
+            .flat_map(|(s, t)| [plain.intern(s).0, plain.intern(t).0])
+            .collect();
+        let mut new = NewIds::new(people);
+        let half1 = new.number(people, &pairs[..split], true);
+        let half2 = new.number(people, &pairs[split..], false);
+        new.finish(people);
+        let got: Vec<u32> = half1.into_iter().chain(half2).collect();
+        assert_eq!(got, want, "case sensitive: {}", people.case_sensitive());
+        assert_eq!(people.len(), plain.len());
+        for i in 0..people.len() as u32 {
+            assert_eq!(people.name(i), plain.name(i));
+        }
+        got
+    }
+
+    fn pairs_of(names: &[String]) -> Vec<(Cow<'_, str>, Cow<'_, str>)> {
+        names
+            .chunks(2)
+            .map(|c| (Cow::from(c[0].as_str()), Cow::from(c[1].as_str())))
+            .collect()
+    }
+
     /// The numbering is the one of interning row by row, whatever the split.
     #[test]
     fn same_numbering_as_one_pass() {
@@ -202,30 +235,13 @@ mod tests {
             for p in ["A", "B", "c"] {
                 people.intern(p);
             }
-            let mut plain = people.clone();
             let names: Vec<String> = (0..500).map(|i| format!("X{}", (i * 37) % 211)).collect();
-            let mut pairs: Vec<(Cow<str>, Cow<str>)> = names
-                .chunks(2)
-                .map(|c| (Cow::from(c[0].as_str()), Cow::from(c[1].as_str())))
-                .collect();
+            let mut pairs = pairs_of(&names);
             pairs.push(("C".into(), "b".into()));
-            let want: Vec<u32> = pairs
-                .iter()
-                .flat_map(|(s, t)| [plain.intern(s).0, plain.intern(t).0])
-                .collect();
-            let mut new = NewIds::new(&people);
-            let half1 = new.number(&people, &pairs[..100], true);
-            let half2 = new.number(&people, &pairs[100..], false);
-            new.finish(&mut people);
-            let got: Vec<u32> = half1.into_iter().chain(half2).collect();
-            assert_eq!(got, want);
+            let got = numbered_as_one_pass(&mut people, &pairs, 100);
             if !case_sensitive {
                 // "C" and "b" are the people "c" and "B" when case is folded.
                 assert_eq!(&got[got.len() - 2..], &[2, 1]);
-            }
-            assert_eq!(people.len(), plain.len());
-            for i in 0..people.len() as u32 {
-                assert_eq!(people.name(i), plain.name(i));
             }
         }
     }
@@ -241,7 +257,6 @@ mod tests {
                 people.intern(&format!("P{:05}", i + 100));
             }
             assert!(DenseIds::build(&people).is_some());
-            let mut plain = people.clone();
             let names: Vec<String> = (0..2000u32)
                 .map(|i| match i % 11 {
                     0 => format!("p{:05}", (i * 13) % 600),
@@ -251,24 +266,7 @@ mod tests {
                     _ => format!("P{:05}", (i * 31) % 520),
                 })
                 .collect();
-            let pairs: Vec<(Cow<str>, Cow<str>)> = names
-                .chunks(2)
-                .map(|c| (Cow::from(c[0].as_str()), Cow::from(c[1].as_str())))
-                .collect();
-            let want: Vec<u32> = pairs
-                .iter()
-                .flat_map(|(s, t)| [plain.intern(s).0, plain.intern(t).0])
-                .collect();
-            let mut new = NewIds::new(&people);
-            let half1 = new.number(&people, &pairs[..300], true);
-            let half2 = new.number(&people, &pairs[300..], false);
-            new.finish(&mut people);
-            let got: Vec<u32> = half1.into_iter().chain(half2).collect();
-            assert_eq!(got, want, "case sensitive: {case_sensitive}");
-            assert_eq!(people.len(), plain.len());
-            for i in 0..people.len() as u32 {
-                assert_eq!(people.name(i), plain.name(i));
-            }
+            numbered_as_one_pass(&mut people, &pairs_of(&names), 300);
         }
     }
 }
