@@ -104,6 +104,21 @@ impl<'c, 'a: 'c> CellColumn<'c, 'a> {
             },
         }
     }
+
+    /// The values of rows `rows` in row order.
+    pub fn iter_in(self, rows: std::ops::Range<usize>) -> CellIter<'c, 'a> {
+        match self {
+            CellColumn::Frame(s) => {
+                CellIter::Frame(Box::new(s.iter().skip(rows.start).take(rows.len())))
+            }
+            CellColumn::Text(t, c) => CellIter::Text {
+                cells: t,
+                c,
+                r: rows.start,
+                end: rows.end.min(t.height()),
+            },
+        }
+    }
 }
 
 /// The values of a [`CellColumn`] in row order.

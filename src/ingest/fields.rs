@@ -1,25 +1,47 @@
-//! The optional fields of exposure rows (dates, minutes, setting): checked for every row of a
-//! chunk on a core of its own while the IDs are looked at, then kept for the usable rows only,
-//! so that a quarantined row adds no value, no problem and no setting label.
+//! The optional fields of exposure rows (dates, minutes, setting), checked for the usable
+//! rows only (a quarantined row adds no value, no problem and no setting label) by the core
+//! that reads them, then kept in row order.
 
+use std::ops::Range;
+
+use super::cells::{CellColumn, CellIter};
 use super::ledger::{FieldProblem, ProblemKind, ReasonFacts};
-use super::reconcile::{FieldChecker, FileCtx, Values, NO_DATE};
-use super::table::LineMap;
+use super::reconcile::{FieldChecker, FileCtx, NO_DATE};
 use crate::ids::IdMap;
 
-/// The optional exposure columns of one chunk: (column index, values).
-pub(super) struct OptionalColumns<'a> {
+/// An optional column: its index and its cells (both `None` when the field is not mapped).
+pub(super) type Optional<'c, 'a> = (Option<usize>, Option<CellColumn<'c, 'a>>);
+
+/// The optional exposure columns of one chunk.
+#[derive(Clone, Copy)]
+pub(super) struct OptionalColumns<'c, 'a> {
     /// Last exposure date.
-    pub last: (Option<usize>, Values<'a>),
+    pub last: Optional<'c, 'a>,
     /// First exposure date.
-    pub first: (Option<usize>, Values<'a>),
+    pub first: Optional<'c, 'a>,
     /// Setting.
-    pub setting: (Option<usize>, Values<'a>),
+    pub setting: Optional<'c, 'a>,
     /// Minutes.
-    pub minutes: (Option<usize>, Values<'a>),
+    pub minutes: Optional<'c, 'a>,
 }
 
-impl OptionalColumns<'_> {
+/// The values of one row's optional fields (last, first, setting, minutes).
+pub(super) type FieldValues<'c> = [Option<&'c str>; 4];
+
+/// The values of the optional fields, row by row, over a run of rows.
+pub(super) struct OptionalRows<'c, 'a>([Option<CellIter<'c, 'a>>; 4]);
+
+impl<'c, 'a: 'c> OptionalRows<'c, 'a> {
+    /// The next row's values (`None` for a field not mapped or a missing value).
+    #[inline]
+    pub fn next_row(&mut self) -> FieldValues<'c> {
+        self.0
+            .each_mut()
+            .map(|it| it.as_mut().and_then(|it| it.next().flatten()))
+    }
+}
+
+impl<'c, 'a: 'c> OptionalColumns<'c, 'a> {
     /// Which fields this chunk maps (last, first, minutes, setting).
     pub fn mapped(&self) -> [bool; 4] {
         [
@@ -28,6 +50,14 @@ impl OptionalColumns<'_> {
             self.minutes.0.is_some(),
             self.setting.0.is_some(),
         ]
+    }
+
+    /// The values of rows `rows`.
+    pub fn rows(&self, rows: Range<usize>) -> OptionalRows<'c, 'a> {
+        OptionalRows(
+            [self.last, self.first, self.setting, self.minutes]
+                .map(|(_, col)| col.map(|c| c.iter_in(rows.clone()))),
+        )
     }
 }
 
@@ -48,48 +78,48 @@ pub struct ExposureFields {
     pub(super) setting_spellings: hashbrown::HashMap<Box<str>, u16>,
 }
 
-/// The fields of every row of a chunk, as checked on the side: values, the problems found
-/// (in row order), and each row's setting as an index into the chunk's spellings (0: none).
-pub(super) struct ChunkFields<'a> {
+/// Below this many spellings a run's labels are found by comparing them in turn.
+const FEW_SPELLINGS: usize = 16;
+
+/// The fields of the usable rows of a run of rows, as checked: values, the problems found
+/// (in row order), and each row's setting as an index into the run's spellings (0: none).
+pub(super) struct RunFields<'c> {
     last: Vec<i32>,
     first: Vec<i32>,
     minutes: Vec<f32>,
     spelling: Vec<u32>,
-    spellings: Vec<&'a str>,
-    problems: Vec<FieldProblem>,
+    spellings: Vec<&'c str>,
+    index: hashbrown::HashMap<&'c str, u32>,
+    /// The problems found, in row order.
+    pub problems: Vec<FieldProblem>,
 }
 
-/// Check dates, durations and settings of every row of a chunk, in row order, with a checker
-/// of its own (`checker`: a scratch copy whose problems are kept or dropped afterwards).
-pub(super) fn check_rows<'a>(
-    cols: OptionalColumns<'a>,
-    lines: &LineMap,
-    ctx: &mut FileCtx,
-    mut checker: FieldChecker,
-) -> ChunkFields<'a> {
-    let OptionalColumns {
-        last,
-        first,
-        setting,
-        minutes,
-    } = cols;
-    let (last_c, first_c, set_c, min_c) = (last.0, first.0, setting.0, minutes.0);
-    let rows = last
-        .1
-        .zip(first.1)
-        .zip(setting.1.zip(minutes.1))
-        .enumerate();
-    let mut out = ChunkFields {
-        last: Vec::new(),
-        first: Vec::new(),
-        minutes: Vec::new(),
-        spelling: Vec::new(),
-        spellings: Vec::new(),
-        problems: Vec::new(),
-    };
-    let mut index: hashbrown::HashMap<&str, u32> = hashbrown::HashMap::new();
-    for (row, ((l, f), (st, mi))) in rows {
-        let line = lines.line(row);
+impl<'c> RunFields<'c> {
+    /// Room for `rows` rows of the fields of `cols`.
+    pub fn new(cols: &OptionalColumns, rows: usize) -> RunFields<'c> {
+        let [last, first, minutes, setting] = cols.mapped().map(|m| if m { rows } else { 0 });
+        RunFields {
+            last: Vec::with_capacity(last),
+            first: Vec::with_capacity(first),
+            minutes: Vec::with_capacity(minutes),
+            spelling: Vec::with_capacity(setting),
+            spellings: Vec::new(),
+            index: hashbrown::HashMap::new(),
+            problems: Vec::new(),
+        }
+    }
+
+    /// Check the dates, duration and setting of one usable row (`values`, from line `line`)
+    /// and keep them; problems go to `checker`.
+    pub fn check(
+        &mut self,
+        (checker, ctx): (&mut FieldChecker, &mut FileCtx),
+        line: u64,
+        cols: &OptionalColumns,
+        [l, f, st, mi]: FieldValues<'c>,
+    ) {
+        let (last_c, first_c, set_c, min_c) =
+            (cols.last.0, cols.first.0, cols.setting.0, cols.minutes.0);
         let ld = checker.date(ctx, line, last_c, l);
         let mut fd = checker.date(ctx, line, first_c, f);
         if ld != NO_DATE && fd != NO_DATE && fd > ld {
@@ -103,27 +133,38 @@ pub(super) fn check_rows<'a>(
             fd = NO_DATE;
         }
         if last_c.is_some() {
-            out.last.push(ld);
+            self.last.push(ld);
         }
         if first_c.is_some() {
-            out.first.push(fd);
+            self.first.push(fd);
         }
         if min_c.is_some() {
-            out.minutes.push(checker.minutes(ctx, line, min_c, mi));
+            self.minutes.push(checker.minutes(ctx, line, min_c, mi));
         }
         if set_c.is_some() {
             let s = match checker.rules.value(st) {
                 None => 0,
-                Some(label) => *index.entry(label).or_insert_with(|| {
-                    out.spellings.push(label);
-                    out.spellings.len() as u32
-                }),
+                Some(label) => self.spelling_of(label),
             };
-            out.spelling.push(s);
+            self.spelling.push(s);
         }
     }
-    out.problems = checker.problems;
-    out
+
+    /// The index of a spelling (1-based), added on first sight.
+    #[inline]
+    fn spelling_of(&mut self, label: &'c str) -> u32 {
+        if self.spellings.len() <= FEW_SPELLINGS {
+            if let Some(i) = self.spellings.iter().position(|s| *s == label) {
+                return i as u32 + 1;
+            }
+        } else if let Some(&i) = self.index.get(label) {
+            return i;
+        }
+        self.spellings.push(label);
+        let i = self.spellings.len() as u32;
+        self.index.insert(label, i);
+        i
+    }
 }
 
 impl ExposureFields {
@@ -153,62 +194,29 @@ impl ExposureFields {
         ]
     }
 
-    /// Keep the checked fields of the usable rows (`usable`, sorted) of a chunk of `n` rows,
-    /// with their problems (those of rows set aside are dropped), added to `problems` and
-    /// counted in `ctx`. A setting label is numbered on its first usable row.
-    pub(super) fn keep_usable(
-        &mut self,
-        rows: ChunkFields,
-        (usable, n, lines): (&[u32], usize, &LineMap),
-        mapped: [bool; 4],
-        (ctx, problems): (&mut FileCtx, &mut Vec<FieldProblem>),
-    ) {
-        fn keep<T: Copy>(to: &mut Vec<T>, from: Vec<T>, usable: &[u32], all: bool) {
-            if all {
-                to.extend(from);
-            } else {
-                to.extend(usable.iter().map(|&r| from[r as usize]));
-            }
-        }
-        let all = usable.len() == n;
-        if all {
-            ctx.counts.field_problems += rows.problems.len() as u64;
-            problems.extend(rows.problems);
-        } else {
-            // Lines of the rows set aside, in order (a row's line grows with the row).
-            let mut next = usable.iter().peekable();
-            let aside: Vec<u64> = (0..n)
-                .filter(|&r| next.next_if(|&&u| u as usize == r).is_none())
-                .map(|r| lines.line(r))
-                .collect();
-            let before = problems.len();
-            problems.extend(
-                rows.problems
-                    .into_iter()
-                    .filter(|p| aside.binary_search(&p.line).is_err()),
-            );
-            ctx.counts.field_problems += (problems.len() - before) as u64;
-        }
+    /// Append the checked fields of a run of usable rows (`mapped`: the fields the chunk
+    /// maps); a setting label is numbered on its first usable row. Returns the run's problems.
+    pub(super) fn keep(&mut self, run: RunFields, mapped: [bool; 4]) -> Vec<FieldProblem> {
         if mapped[0] {
-            keep(&mut self.last, rows.last, usable, all);
+            self.last.extend(run.last);
         }
         if mapped[1] {
-            keep(&mut self.first, rows.first, usable, all);
+            self.first.extend(run.first);
         }
         if mapped[2] {
-            keep(&mut self.minutes, rows.minutes, usable, all);
+            self.minutes.extend(run.minutes);
         }
         if mapped[3] {
-            // Chunk spelling -> setting code, filled on first use.
-            let mut code: Vec<Option<u16>> = vec![None; rows.spellings.len() + 1];
+            // Run spelling -> setting code, filled on first use.
+            let mut code: Vec<Option<u16>> = vec![None; run.spellings.len() + 1];
             code[0] = Some(0);
-            self.setting.reserve(usable.len());
-            for &r in usable {
-                let s = rows.spelling[r as usize] as usize;
+            self.setting.reserve(run.spelling.len());
+            for &s in &run.spelling {
+                let s = s as usize;
                 let c = match code[s] {
                     Some(c) => c,
                     None => {
-                        let c = self.setting_code(rows.spellings[s - 1]);
+                        let c = self.setting_code(run.spellings[s - 1]);
                         code[s] = Some(c);
                         c
                     }
@@ -216,6 +224,7 @@ impl ExposureFields {
                 self.setting.push(c);
             }
         }
+        run.problems
     }
 
     /// The code of a setting label as spelled (labels compare without case).

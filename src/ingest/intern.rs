@@ -1,12 +1,16 @@
-//! Exposure IDs -> node indices on two cores, with the numbering of one sequential pass.
+//! Exposure IDs -> node indices, with the numbering of one sequential pass.
 //!
-//! Interning is a hash lookup per ID, each one a cache miss at millions of people, and it was
-//! the load's critical path. The IDs of a chunk are split by a bit of their hash: each half is
-//! looked up by its own worker, first in the (read-only, shared) map of IDs already numbered,
-//! then in that worker's own table of IDs new in this table. A short sequential pass then gives
-//! each new ID its node index in order of first appearance, so the numbering is exactly the one
-//! interning row by row would give; [`NewIds::finish`] appends the new IDs to the map in that
-//! order when the table ends.
+//! Looking an ID up is a cache miss at millions of people, and it was the load's critical
+//! path. The cores that check a chunk's rows each take a run of rows and look their IDs up as
+//! they go, in batches ([`Lookup`]): the whole batch's table lines (or entries of the direct
+//! index, when the people's IDs are numbers behind one prefix) are asked for first, then read,
+//! so the misses of a batch overlap. An ID no person has is set aside ([`Open`]) with where
+//! its node goes. The IDs set aside by all cores, in row order, are then numbered on two cores
+//! ([`NewIds::number`]): split by a bit of their hash, each half is interned into that
+//! worker's own table of IDs new in this table, and a short sequential pass gives each new ID
+//! its node index in order of first appearance, so the numbering is exactly the one interning
+//! row by row would give; [`NewIds::finish`] appends the new IDs to the map in that order when
+//! the table ends.
 
 use std::borrow::Cow;
 
@@ -16,6 +20,101 @@ use crate::ids::{DenseIds, IdMap};
 const NEW: u32 = 1 << 31;
 /// A position the worker does not own.
 const NOT_MINE: u32 = u32::MAX;
+/// The node of an ID set aside in the list of open IDs, until it is numbered.
+pub const OPEN: u32 = u32::MAX;
+
+/// An ID that no person of the people map has: where its node goes in the caller's list of
+/// nodes, the ID as written, and the hash of its key.
+#[derive(Debug)]
+pub struct Open<'a> {
+    /// Position of the node in the caller's list.
+    pub at: usize,
+    /// The ID (trimmed, normalised).
+    pub id: Cow<'a, str>,
+    /// [`IdMap::hash_key`] of the ID's key.
+    hash: u64,
+}
+
+impl Open<'_> {
+    /// The same ID with its node `by` places further on (runs joined into one list).
+    pub fn moved(self, by: usize) -> Self {
+        Open {
+            at: self.at + by,
+            ..self
+        }
+    }
+}
+
+/// An ID between being asked for and being answered.
+enum Look<'a> {
+    /// An entry of the people map's direct index.
+    Dense(usize, Cow<'a, str>),
+    /// A key for the hash table, its hash, and the ID.
+    Hashed(Cow<'a, str>, u64, Cow<'a, str>),
+}
+
+/// Looks IDs up in the people map (read-only) in batches: [`Lookup::ask`] computes where each
+/// ID is and asks for that memory, [`Lookup::answer`] reads the answers in order.
+pub struct Lookup<'i, 'a> {
+    ids: &'i IdMap,
+    dense: Option<&'i DenseIds>,
+    asked: Vec<Look<'a>>,
+}
+
+impl<'i, 'a> Lookup<'i, 'a> {
+    /// How many IDs wait for [`Lookup::answer`].
+    pub fn waiting(&self) -> usize {
+        self.asked.len()
+    }
+
+    /// Ask for an ID (trimmed, normalised): find its entry or hash and ask for the memory the
+    /// answer will read.
+    #[inline]
+    pub fn ask(&mut self, id: Cow<'a, str>) {
+        if let Some(d) = self.dense {
+            if let Some(e) = d.entry(&id) {
+                d.prefetch(e);
+                self.asked.push(Look::Dense(e, id));
+                return;
+            }
+        }
+        let key = match &id {
+            Cow::Borrowed(s) => self.ids.key(s),
+            Cow::Owned(s) => Cow::Owned(self.ids.key(s).into_owned()),
+        };
+        let h = self.ids.hash_key(&key);
+        self.ids.prefetch(h);
+        self.asked.push(Look::Hashed(key, h, id));
+    }
+
+    /// Answer every ID asked for, in order: its node is appended to `nodes`, or, for an ID
+    /// no person has, [`OPEN`], with the ID appended to `open`.
+    pub fn answer(&mut self, nodes: &mut Vec<u32>, open: &mut Vec<Open<'a>>) {
+        for look in self.asked.drain(..) {
+            let (found, id, hash) = match look {
+                Look::Dense(e, id) => match self.dense.and_then(|d| d.node(e)) {
+                    Some(i) => (Some(i), id, 0),
+                    None => {
+                        let h = self.ids.hash_key(&self.ids.key(&id));
+                        (None, id, h)
+                    }
+                },
+                Look::Hashed(key, h, id) => (self.ids.find_hashed(&key, h), id, h),
+            };
+            match found {
+                Some(i) => nodes.push(i),
+                None => {
+                    open.push(Open {
+                        at: nodes.len(),
+                        id,
+                        hash,
+                    });
+                    nodes.push(OPEN);
+                }
+            }
+        }
+    }
+}
 
 /// IDs first seen in the exposures table being read, not yet in the shared map.
 #[derive(Debug)]
@@ -43,29 +142,30 @@ impl NewIds {
         }
     }
 
-    /// Node indices of the (source, target) pairs, in order, two per pair; the two halves of
-    /// the lookups run on two cores when `parallel` is set.
-    pub fn number(
-        &mut self,
-        ids: &IdMap,
-        pairs: &[(Cow<'_, str>, Cow<'_, str>)],
-        parallel: bool,
-    ) -> Vec<u32> {
-        assert!(
-            ids.len() + self.order.len() < NEW as usize,
-            "too many people"
-        );
-        let [s0, s1] = &mut self.shards;
-        let dense = self.dense.as_ref();
-        let (h0, h1) = crate::par::beside(
-            parallel,
-            || look_up((ids, dense), s1, 1, pairs),
-            || look_up((ids, dense), s0, 0, pairs),
-        );
-        self.merge(ids.len(), &h0, &h1)
+    /// A lookup of IDs in `ids` (the map this was made for).
+    pub fn lookup<'i, 'a>(&'i self, ids: &'i IdMap) -> Lookup<'i, 'a> {
+        Lookup {
+            ids,
+            dense: self.dense.as_ref(),
+            asked: Vec::with_capacity(1024),
+        }
     }
 
-    /// One pass in row order: numbered IDs as they are, new ones numbered on first sight.
+    /// Node indices of the open IDs (in row order; `known` people in the map), numbered in
+    /// order of first appearance after every ID numbered before; the two halves are interned
+    /// on two cores when `parallel` is set.
+    pub fn number(&mut self, known: usize, open: &[Open<'_>], parallel: bool) -> Vec<u32> {
+        assert!(known + self.order.len() < NEW as usize, "too many people");
+        let [s0, s1] = &mut self.shards;
+        let (h0, h1) = crate::par::beside(
+            parallel,
+            || intern_mine(s1, 1, open),
+            || intern_mine(s0, 0, open),
+        );
+        self.merge(known, &h0, &h1)
+    }
+
+    /// One pass in row order: new IDs numbered on first sight.
     fn merge(&mut self, known: usize, h0: &[u32], h1: &[u32]) -> Vec<u32> {
         for (w, node) in self.node.iter_mut().enumerate() {
             node.resize(self.shards[w].len(), NOT_MINE);
@@ -73,10 +173,6 @@ impl NewIds {
         let mut out = Vec::with_capacity(h0.len());
         for (&a, &b) in h0.iter().zip(h1) {
             let (w, v) = if a == NOT_MINE { (1, b) } else { (0, a) };
-            if v & NEW == 0 {
-                out.push(v);
-                continue;
-            }
             let local = v & !NEW;
             let slot = &mut self.node[w][local as usize];
             if *slot == NOT_MINE {
@@ -97,105 +193,26 @@ impl NewIds {
     }
 }
 
-/// How many IDs ahead of the lookup the table line is asked for: enough to cover a memory
-/// access with the work of the IDs in between.
-const AHEAD: usize = 16;
-
-/// An ID position as one worker sees it ahead of its lookup.
-enum Ahead<'a> {
-    /// The other worker's.
-    NotMine,
-    /// An entry of the people map's direct index.
-    Dense(usize),
-    /// A key and its hash, for the hash table.
-    Hashed(Cow<'a, str>, u64),
-}
-
-/// One worker's half: for each ID position the worker owns, the node index (from `ids`) or
-/// `NEW | local index`; `NOT_MINE` elsewhere. An ID the direct index answers for is owned by
-/// the low bit of its entry, any other by a bit of its hash. Each ID's entry or table line is
-/// prefetched [`AHEAD`] IDs before it is looked up, so the cache misses of successive lookups
-/// overlap.
-fn look_up(
-    (ids, dense): (&IdMap, Option<&DenseIds>),
-    shard: &mut IdMap,
-    w: u64,
-    pairs: &[(Cow<'_, str>, Cow<'_, str>)],
-) -> Vec<u32> {
-    let id_at = |p: usize| -> &str {
-        let (s, t) = &pairs[p / 2];
-        if p.is_multiple_of(2) {
-            s
-        } else {
-            t
-        }
-    };
-    let n = pairs.len() * 2;
-    let mut out = Vec::with_capacity(n);
-    // The next AHEAD positions.
-    let mut ring: std::collections::VecDeque<Ahead<'_>> =
-        std::collections::VecDeque::with_capacity(AHEAD + 1);
-    let ahead = |p: usize| -> Ahead<'_> {
-        let id = id_at(p);
-        if let Some(e) = dense.and_then(|d| d.entry(id)) {
-            if (e as u64) & 1 != w {
-                return Ahead::NotMine;
+/// One worker's half of the open IDs: those whose hash bit is `w`, interned into its own
+/// table (`NEW | local index`); `NOT_MINE` elsewhere.
+fn intern_mine(shard: &mut IdMap, w: u64, open: &[Open<'_>]) -> Vec<u32> {
+    open.iter()
+        .map(|o| {
+            if (o.hash >> 40) & 1 != w {
+                return NOT_MINE;
             }
-            dense.expect("an index").prefetch(e);
-            return Ahead::Dense(e);
-        }
-        let key = ids.key(id);
-        let h = ids.hash_key(&key);
-        if (h >> 40) & 1 != w {
-            return Ahead::NotMine;
-        }
-        ids.prefetch(h);
-        Ahead::Hashed(key, h)
-    };
-    for p in 0..n.min(AHEAD) {
-        ring.push_back(ahead(p));
-    }
-    for p in 0..n {
-        if p + AHEAD < n {
-            ring.push_back(ahead(p + AHEAD));
-        }
-        let (key, h) = match ring.pop_front().unwrap_or(Ahead::NotMine) {
-            Ahead::NotMine => {
-                out.push(NOT_MINE);
-                continue;
-            }
-            Ahead::Dense(e) => match dense.and_then(|d| d.node(e)) {
-                Some(i) => {
-                    out.push(i);
-                    continue;
-                }
-                // Not a person of the map: new, looked up and kept by its hash.
-                None => {
-                    let key = ids.key(id_at(p));
-                    let h = ids.hash_key(&key);
-                    (key, h)
-                }
-            },
-            Ahead::Hashed(key, h) => match ids.find_hashed(&key, h) {
-                Some(i) => {
-                    out.push(i);
-                    continue;
-                }
-                None => (key, h),
-            },
-        };
-        let (l, _) = shard.intern_hashed(&key, h, id_at(p));
-        out.push(NEW | l);
-    }
-    out
+            let key = shard.key(&o.id);
+            NEW | shard.intern_hashed(&key, o.hash, &o.id).0
+        })
+        .collect()
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
 
-    /// Number `pairs` against `people` in two parts (the first `split` pairs on two cores, the
-    /// rest on one), add the new IDs to `people`, and check against interning row by row: the
+    /// Number `pairs` against `people` in two parts (the new IDs of the first `split` pairs
+    /// numbered on two cores, the rest's on one), add the new IDs to `people`, and check against interning row by row: the
     /// same nodes, the same people in the same order. Returns the nodes.
     fn numbered_as_one_pass(
         people: &mut IdMap,
@@ -208,8 +225,8 @@ mod tests {
             .flat_map(|(s, t)| [plain.intern(s).0, plain.intern(t).0])
             .collect();
         let mut new = NewIds::new(people);
-        let half1 = new.number(people, &pairs[..split], true);
-        let half2 = new.number(people, &pairs[split..], false);
+        let half1 = number_pairs(&mut new, people, &pairs[..split], true);
+        let half2 = number_pairs(&mut new, people, &pairs[split..], false);
         new.finish(people);
         let got: Vec<u32> = half1.into_iter().chain(half2).collect();
         assert_eq!(got, want, "case sensitive: {}", people.case_sensitive());
@@ -218,6 +235,32 @@ mod tests {
             assert_eq!(people.name(i), plain.name(i));
         }
         got
+    }
+
+    /// The nodes of `pairs` as the exposure reader finds them: looked up in batches of
+    /// varying size, the open IDs numbered at the end.
+    fn number_pairs(
+        new: &mut NewIds,
+        people: &IdMap,
+        pairs: &[(Cow<str>, Cow<str>)],
+        parallel: bool,
+    ) -> Vec<u32> {
+        let (mut nodes, mut open) = (Vec::new(), Vec::new());
+        let mut lookup = new.lookup(people);
+        for (k, (s, t)) in pairs.iter().enumerate() {
+            lookup.ask(s.clone());
+            lookup.ask(t.clone());
+            if lookup.waiting() > k % 40 {
+                lookup.answer(&mut nodes, &mut open);
+            }
+        }
+        lookup.answer(&mut nodes, &mut open);
+        drop(lookup);
+        for (o, v) in open.iter().zip(new.number(people.len(), &open, parallel)) {
+            assert_eq!(nodes[o.at], OPEN);
+            nodes[o.at] = v;
+        }
+        nodes
     }
 
     fn pairs_of(names: &[String]) -> Vec<(Cow<'_, str>, Cow<'_, str>)> {

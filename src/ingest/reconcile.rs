@@ -6,7 +6,7 @@
 //! rows are checked for usable IDs *before* their IDs are interned, so a quarantined row adds
 //! neither its pair nor its people.
 
-use super::cells::{CellColumn, CellIter, Cells};
+use super::cells::Cells;
 
 use super::dates::{self, DateParser, DateProblem};
 use super::ledger::{Counts, FieldProblem, ProblemKind, ReasonFacts};
@@ -179,14 +179,6 @@ pub struct FileCtx<'a> {
     pub counts: Counts,
 }
 
-/// Values of an optional column as an iterator of `Option<&str>` (all `None` if unmapped).
-pub(super) fn values<'a>(col: Option<CellColumn<'a, 'a>>, n: usize) -> Values<'a> {
-    match col {
-        Some(c) => c.iter(),
-        None => CellIter::Missing { left: n },
-    }
-}
-
 pub(super) fn trimmed(v: Option<&str>) -> Option<&str> {
     v.map(str::trim).filter(|s| !s.is_empty())
 }
@@ -352,9 +344,6 @@ impl FieldChecker {
         Ok(())
     }
 }
-
-/// An optional column's values, row by row.
-pub(super) type Values<'a> = CellIter<'a, 'a>;
 
 #[cfg(test)]
 mod tests {

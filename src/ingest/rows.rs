@@ -1,24 +1,26 @@
-//! Chunks -> the usable exposure rows, checked and in input order: IDs interned only for rows
-//! that can form an exposure, dates, minutes and settings checked on a core of their own beside
-//! (see `fields`), unmapped columns kept per row.
+//! Chunks -> the usable exposure rows, checked and in input order. Each core takes a run of
+//! a chunk's rows and, row by row, decides whether the row can form an exposure, looks its IDs
+//! up (see `intern`) and checks its dates, minutes and setting (see `fields`); the runs are
+//! then joined in row order, the IDs no person had numbered, and unmapped columns kept per row.
 
-use std::borrow::Cow;
+use std::ops::Range;
 
 use super::cells::{CellColumn, Cells};
-use super::fields::{check_rows, ExposureFields, OptionalColumns};
-use super::intern::NewIds;
-use super::ledger::{Counts, ProblemKind, QuarantineReason, QuarantinedRow};
+use super::fields::{ExposureFields, OptionalColumns, RunFields};
+use super::intern::{NewIds, Open};
+use super::ledger::{Counts, FieldProblem, ProblemKind, QuarantineReason, QuarantinedRow};
 use super::mapping::Mapping;
-use super::reconcile::{values, Attributes, FieldChecker, FileCtx, IdValue, Rules};
+use super::reconcile::{Attributes, FieldChecker, FileCtx, IdValue, Rules};
 use super::table::{Chunk, TableMeta};
 use crate::error::{Error, Result};
 use crate::ids::IdMap;
 
-/// The two IDs of a usable exposure row (borrowed unless normalisation changed them).
-type IdPair<'a> = (Cow<'a, str>, Cow<'a, str>);
-
-/// Below this many usable rows in a chunk, a second thread costs more than it saves.
+/// Below this many rows in a chunk, a second thread costs more than it saves.
 const PARALLEL_ROWS: usize = 50_000;
+
+/// IDs looked up per batch (see `intern::Lookup`): the batch's memory is asked for before any
+/// of it is read.
+const BATCH: usize = 512;
 
 /// Append the values of unmapped columns for the usable rows of a chunk. `rows_after` is the
 /// number of usable rows stored once this chunk is counted; columns that earlier files lacked
@@ -53,29 +55,72 @@ fn keep_extra_columns(
     Ok(())
 }
 
-/// Stage A: which rows can form an exposure (both IDs present, not the same person). A
-/// quarantined row adds nothing, so this decision comes before any ID is interned.
-fn usable_rows<'a>(
-    quarantined: &mut Vec<QuarantinedRow>,
-    ctx: &mut FileCtx,
-    chunk: &Chunk,
-    (src, tgt): (CellColumn<'a, '_>, CellColumn<'a, '_>),
-    ids: &IdMap,
-    rules: &Rules,
-) -> (Vec<u32>, Vec<IdPair<'a>>) {
-    let n = chunk.cells.height();
-    let mut usable: Vec<u32> = Vec::with_capacity(n);
-    let mut pairs: Vec<IdPair> = Vec::with_capacity(n);
-    for (row, (s, t)) in src.iter().zip(tgt.iter()).enumerate() {
+/// What one core found in its run of a chunk's rows.
+struct Run<'c> {
+    /// The usable rows (chunk row numbers), in order.
+    usable: Vec<u32>,
+    /// Source and target node of each usable row (`intern::OPEN` for an ID in `open`).
+    nodes: Vec<u32>,
+    /// The IDs no person of the people map has, in row order.
+    open: Vec<Open<'c>>,
+    /// Rows set aside, in order.
+    quarantined: Vec<QuarantinedRow>,
+    /// Rows read, set aside, IDs normalised, field problems.
+    counts: Counts,
+    /// The optional fields of the usable rows.
+    fields: RunFields<'c>,
+}
+
+/// The columns a run reads.
+#[derive(Clone, Copy)]
+struct RunColumns<'c, 'a> {
+    src: CellColumn<'c, 'a>,
+    tgt: CellColumn<'c, 'a>,
+    optional: OptionalColumns<'c, 'a>,
+}
+
+/// Check the rows `rows` of a chunk, in order: which can form an exposure (both IDs present,
+/// not the same person; decided before any ID is looked up, so a quarantined row adds
+/// nothing), their IDs looked up in `ids` (the people map, read-only), their optional fields
+/// checked (`checker`: a scratch copy, whose problems become the run's).
+fn check_run<'c>(
+    rows: Range<usize>,
+    (chunk, cols): (&'c Chunk<'_>, RunColumns<'c, '_>),
+    (mut ctx, mut checker): (FileCtx, FieldChecker),
+    (new_ids, ids): (&NewIds, &IdMap),
+) -> Run<'c> {
+    let len = rows.len();
+    let mut run = Run {
+        usable: Vec::with_capacity(len),
+        nodes: Vec::with_capacity(2 * len),
+        open: Vec::new(),
+        quarantined: Vec::new(),
+        counts: Counts::default(),
+        fields: RunFields::new(&cols.optional, len),
+    };
+    let mut src = cols.src.iter_in(rows.clone());
+    let mut tgt = cols.tgt.iter_in(rows.clone());
+    let mut optional = cols.optional.rows(rows.clone());
+    let mut lookup = new_ids.lookup(ids);
+    for row in rows {
+        let (s, t) = (src.next().flatten(), tgt.next().flatten());
+        let values = optional.next_row();
         ctx.counts.read += 1;
-        let reason = match (rules.id(s), rules.id(t)) {
+        let reason = match (checker.rules.id(s), checker.rules.id(t)) {
             (IdValue::Id(a, _), IdValue::Id(b, _)) if ids.same(&a, &b) => {
                 QuarantineReason::SelfExposure
             }
             (IdValue::Id(a, ca), IdValue::Id(b, cb)) => {
                 ctx.counts.ids_normalised += u64::from(ca) + u64::from(cb);
-                usable.push(row as u32);
-                pairs.push((a, b));
+                run.usable.push(row as u32);
+                lookup.ask(a);
+                lookup.ask(b);
+                let line = chunk.lines.line(row);
+                run.fields
+                    .check((&mut checker, &mut ctx), line, &cols.optional, values);
+                if lookup.waiting() >= BATCH {
+                    lookup.answer(&mut run.nodes, &mut run.open);
+                }
                 continue;
             }
             (s, t) => s
@@ -84,14 +129,17 @@ fn usable_rows<'a>(
                 .expect("one of the two IDs is blank or a code"),
         };
         ctx.counts.quarantined += 1;
-        quarantined.push(QuarantinedRow {
+        run.quarantined.push(QuarantinedRow {
             file: ctx.file,
             line: chunk.lines.line(row),
             reason,
             raw: chunk.cells.raw_row(row),
         });
     }
-    (usable, pairs)
+    lookup.answer(&mut run.nodes, &mut run.open);
+    run.fields.problems = checker.problems;
+    run.counts = ctx.counts;
+    run
 }
 
 /// Exposure rows kept for aggregation, in input order.
@@ -162,35 +210,38 @@ impl ExposureRows {
         }
         self.pad_new_fields([last_c, first_c, min_c, set_c]);
         let n = cells.height();
-        let cols = OptionalColumns {
-            last: (last_c, values(cells.column(last_c, &meta.path)?, n)),
-            first: (first_c, values(cells.column(first_c, &meta.path)?, n)),
-            setting: (set_c, values(cells.column(set_c, &meta.path)?, n)),
-            minutes: (min_c, values(cells.column(min_c, &meta.path)?, n)),
+        let optional = OptionalColumns {
+            last: (last_c, cells.column(last_c, &meta.path)?),
+            first: (first_c, cells.column(first_c, &meta.path)?),
+            setting: (set_c, cells.column(set_c, &meta.path)?),
+            minutes: (min_c, cells.column(min_c, &meta.path)?),
         };
-        let mapped = cols.mapped();
-        // Stages B (field checks of every row) and A+C (which rows are usable, numbering
-        // their IDs) touch disjoint data, so B runs on a core of its own from the start; its
-        // problems are kept afterwards for the usable rows only.
-        let mut fctx = FileCtx {
-            counts: Counts::default(),
-            ..*ctx
-        };
-        let scratch = checker.scratch();
-        let lines = &chunk.lines;
+        let mapped = optional.mapped();
+        let cols = RunColumns { src, tgt, optional };
+        // Two runs of rows on two cores; each counts and checks on its own, then the runs are
+        // joined in row order.
         let parallel = n >= PARALLEL_ROWS;
+        let cut = if parallel { n / 2 } else { n };
         let new_ids = self.new_ids.get_or_insert_with(|| NewIds::new(ids));
-        let quarantined = &mut self.quarantined;
-        let ((usable, nodes), fields) = crate::par::beside(
-            parallel,
-            move || check_rows(cols, lines, &mut fctx, scratch),
-            || {
-                let (usable, pairs) =
-                    usable_rows(quarantined, ctx, chunk, (src, tgt), ids, &checker.rules);
-                let nodes = new_ids.number(ids, &pairs, parallel);
-                (usable, nodes)
-            },
-        );
+        let run = |rows: Range<usize>| {
+            let run_ctx = FileCtx {
+                counts: Counts::default(),
+                ..*ctx
+            };
+            let shared = (&*new_ids, &*ids);
+            check_run(rows, (chunk, cols), (run_ctx, checker.scratch()), shared)
+        };
+        let (head, tail) = crate::par::beside(parallel, || run(cut..n), || run(0..cut));
+        let offset = head.nodes.len();
+        let mut nodes = head.nodes;
+        nodes.extend_from_slice(&tail.nodes);
+        let mut open = head.open;
+        open.extend(tail.open.into_iter().map(|o| o.moved(offset)));
+        let numbered = new_ids.number(ids.len(), &open, open.len() >= PARALLEL_ROWS);
+        for (o, v) in open.iter().zip(numbered) {
+            nodes[o.at] = v;
+        }
+        drop(open);
         self.keys.reserve(nodes.len() / 2);
         self.forward.reserve(nodes.len() / 2);
         for st in nodes.chunks_exact(2) {
@@ -199,9 +250,21 @@ impl ExposureRows {
             self.keys.push(u64::from(lo) << 32 | u64::from(hi));
             self.forward.push(a < b);
         }
-        let sink = (&mut *ctx, &mut checker.problems);
-        self.fields
-            .keep_usable(fields, (&usable, n, lines), mapped, sink);
+        let mut usable = head.usable;
+        usable.extend_from_slice(&tail.usable);
+        for part in [head.counts, tail.counts] {
+            let c = &mut ctx.counts;
+            c.read += part.read;
+            c.quarantined += part.quarantined;
+            c.ids_normalised += part.ids_normalised;
+            c.field_problems += part.field_problems;
+        }
+        self.quarantined.extend(head.quarantined);
+        self.quarantined.extend(tail.quarantined);
+        for fields in [head.fields, tail.fields] {
+            let problems: Vec<FieldProblem> = self.fields.keep(fields, mapped);
+            checker.problems.extend(problems);
+        }
         let (meta, m) = (ctx.meta, ctx.mapping);
         keep_extra_columns(
             &mut self.extras,
