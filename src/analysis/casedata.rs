@@ -114,27 +114,36 @@ pub fn case_stats(d: &Dataset) -> CaseStats {
     let cases_n = is_case.iter().filter(|&&c| c).count();
     let nset = d.settings.len();
     let (at_risk, secondary, co_primary_pairs) = exposed(d, &is_case, &onset);
-    let count = |slot: usize| {
-        let (mut x, mut m, mut l, mut im) = (0u64, 0u64, 0u64, 0u64);
-        for v in 0..n {
-            if !at_risk[slot][v] {
-                continue;
-            }
-            if lost[v] && !secondary[slot][v] {
-                l += 1;
-            } else if immune[v] && !secondary[slot][v] {
-                im += 1;
-            } else {
-                m += 1;
-                x += u64::from(secondary[slot][v]);
+    // Per slot (0: all settings, s: setting s): secondary cases, contacts counted, lost,
+    // immune; one pass over the people.
+    let mut tally = vec![(0u64, 0u64, 0u64, 0u64); nset + 1];
+    for v in 0..n {
+        let risk = at_risk.of(v);
+        if risk.iter().all(|&w| w == 0) {
+            continue;
+        }
+        for (k, (&r, &sec)) in risk.iter().zip(secondary.of(v)).enumerate() {
+            let mut bits = r;
+            while bits != 0 {
+                let b = bits.trailing_zeros();
+                bits &= bits - 1;
+                let is_secondary = sec >> b & 1 == 1;
+                let t = &mut tally[k * 64 + b as usize];
+                if lost[v] && !is_secondary {
+                    t.2 += 1;
+                } else if immune[v] && !is_secondary {
+                    t.3 += 1;
+                } else {
+                    t.1 += 1;
+                    t.0 += u64::from(is_secondary);
+                }
             }
         }
-        (x, m, l, im)
-    };
-    let (x, m, lost_n, immune_n) = count(0);
+    }
+    let (x, m, lost_n, immune_n) = tally[0];
     let sar_by_setting = (1..=nset)
         .map(|s| {
-            let (x, m, _, _) = count(s);
+            let (x, m, _, _) = tally[s];
             (d.settings[s - 1].clone(), cases::proportion(x, m))
         })
         .collect();
@@ -198,14 +207,10 @@ fn linked(d: &Dataset, is_case: &[bool], onset: &[Option<i32>]) -> (u64, Option<
 /// Per person, overall (slot 0) and per setting code (1..=settings): at risk (a contact of a
 /// case, or the later case of a dated case pair) and secondary (that later case); and the case
 /// pairs without an order (co-primary).
-fn exposed(
-    d: &Dataset,
-    is_case: &[bool],
-    onset: &[Option<i32>],
-) -> (Vec<Vec<bool>>, Vec<Vec<bool>>, u64) {
+fn exposed(d: &Dataset, is_case: &[bool], onset: &[Option<i32>]) -> (SlotBits, SlotBits, u64) {
     let (n, nset) = (d.people(), d.settings.len());
-    let mut at_risk = vec![vec![false; n]; nset + 1];
-    let mut secondary = vec![vec![false; n]; nset + 1];
+    let mut at_risk = SlotBits::new(n, nset + 1);
+    let mut secondary = SlotBits::new(n, nset + 1);
     let mut co_primary_pairs = 0u64;
     for e in 0..d.edges.len() {
         let (a, b) = (d.edges.a[e] as usize, d.edges.b[e] as usize);
@@ -216,8 +221,8 @@ fn exposed(
                     for slot in
                         std::iter::once(0).chain(d.edges.settings(e).iter().map(|&c| c as usize))
                     {
-                        at_risk[slot][later] = true;
-                        secondary[slot][later] = true;
+                        at_risk.set(later, slot);
+                        secondary.set(later, slot);
                     }
                 }
                 _ => co_primary_pairs += 1,
@@ -229,10 +234,39 @@ fn exposed(
                 for slot in
                     std::iter::once(0).chain(d.edges.settings(e).iter().map(|&c| c as usize))
                 {
-                    at_risk[slot][v] = true;
+                    at_risk.set(v, slot);
                 }
             }
         }
     }
     (at_risk, secondary, co_primary_pairs)
+}
+
+/// A set of slots (0: all settings, s: setting s) per person, as bits: a person's slots are
+/// one memory access, where an array per slot would be one each.
+struct SlotBits {
+    words: usize,
+    bits: Vec<u64>,
+}
+
+impl SlotBits {
+    /// No slot set, for `n` people and `slots` slots.
+    fn new(n: usize, slots: usize) -> SlotBits {
+        let words = slots.div_ceil(64);
+        SlotBits {
+            words,
+            bits: vec![0; n * words],
+        }
+    }
+
+    #[inline]
+    fn set(&mut self, v: usize, slot: usize) {
+        self.bits[v * self.words + slot / 64] |= 1 << (slot % 64);
+    }
+
+    /// Person `v`'s words (slot `64 k + b` is bit `b` of word `k`).
+    #[inline]
+    fn of(&self, v: usize) -> &[u64] {
+        &self.bits[v * self.words..(v + 1) * self.words]
+    }
 }

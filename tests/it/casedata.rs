@@ -101,3 +101,44 @@ fn no_roles_means_case_statistics_say_why() {
     );
     assert!(c.sar.p.is_err() && c.offspring.is_none());
 }
+
+/// More settings than fit one 64-bit word per person (the case statistics keep each person's
+/// settings as bits): the attack rate per setting is still each setting's own. Counted by hand
+/// from the definitions of `analysis::casedata` (the secondary attack rate among traced
+/// contacts: common practice, no source).
+#[test]
+fn attack_rate_by_setting_with_many_settings() {
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path().join("people.csv");
+    let e = dir.path().join("exposures.csv");
+    let mut people =
+        String::from("person_id,role,onset_date,followup_status\nC1,case,2024-03-05,\n");
+    people.push_str("C2,case,2024-03-09,\n");
+    let mut exposures = String::from("source_id,target_id,setting\n");
+    for i in 0..70 {
+        let lost = if i == 5 { "unreachable" } else { "" };
+        people.push_str(&format!("K{i},contact,,{lost}\n"));
+        exposures.push_str(&format!("C1,K{i},s{i}\n"));
+    }
+    exposures.push_str("C1,C2,s69\nC2,C1,s64\n");
+    std::fs::write(&p, people).unwrap();
+    std::fs::write(&e, exposures).unwrap();
+    let d = load(&[&p, &e], &[]);
+    let c = case_stats(&d);
+    // At risk overall: K0..K69 but K5 (lost), and C2, C1's secondary case.
+    assert_eq!((c.sar.x, c.sar.n, c.lost), (1, 70, 1));
+    let by: std::collections::HashMap<&str, (u64, u64)> = c
+        .sar_by_setting
+        .iter()
+        .map(|(l, p)| (l.as_str(), (p.x, p.n)))
+        .collect();
+    assert_eq!(by.len(), 70);
+    for i in 0..70 {
+        let want = match i {
+            5 => (0, 0),
+            64 | 69 => (1, 2),
+            _ => (0, 1),
+        };
+        assert_eq!(by[format!("s{i}").as_str()], want, "setting s{i}");
+    }
+}
