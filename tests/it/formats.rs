@@ -487,7 +487,11 @@ fn quarantined_exposure_rows_add_no_field_problem_and_no_setting() {
         assert!(d.ledger.problems.iter().all(|p| !aside.contains(&p.line)));
         // Each usable row i % 53 == 2 has a bad date and a negative duration.
         assert_eq!(d.ledger.problems.len(), 2 * 1133, "chunk_rows {chunk_rows}");
-        assert_eq!(d.settings, ["work", "home", "Ship"], "chunk_rows {chunk_rows}");
+        assert_eq!(
+            d.settings,
+            ["work", "home", "Ship"],
+            "chunk_rows {chunk_rows}"
+        );
         let people: Vec<&str> = (0..d.people() as u32).map(|i| d.ids.name(i)).collect();
         let whole_people: Vec<&str> = (0..whole.people() as u32)
             .map(|i| whole.ids.name(i))
@@ -499,7 +503,14 @@ fn quarantined_exposure_rows_add_no_field_problem_and_no_setting() {
                     let (a, b) = (d.edges.a[e], d.edges.b[e]);
                     let days = (d.edges.first[e], d.edges.last[e]);
                     let minutes = format!("{:?}", d.edges.minutes[e]);
-                    (a, b, d.edges.rows[e], days, minutes, d.edges.settings(e).to_vec())
+                    (
+                        a,
+                        b,
+                        d.edges.rows[e],
+                        days,
+                        minutes,
+                        d.edges.settings(e).to_vec(),
+                    )
                 })
                 .collect::<Vec<_>>()
         };
