@@ -82,6 +82,13 @@ pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dat
         aggregates_take_no_view(&opts.view)?;
         return from_aggregates(ingest::aggregates::read(dir)?, opts.as_of);
     }
+    let paths = inputs.iter().filter_map(|i| match i {
+        Input::Path(p) | Input::Given { path: p, .. } => Some(p.as_path()),
+        _ => None,
+    });
+    if crate::memory::input_bytes(paths) <= crate::memory::KEEP_UP_TO {
+        crate::memory::keep_freed_memory();
+    }
     build(ingest::read(inputs, config, opts)?, &opts.view)
 }
 
@@ -225,7 +232,7 @@ pub fn build(loaded: Loaded, view: &View) -> Result<Dataset> {
         reconcile_secs,
         peak_mib: peak_read,
     } = loaded;
-    give_back_freed_memory();
+    crate::memory::give_back_freed_memory();
     let t1 = std::time::Instant::now();
     // The near-duplicate ID check reads only the IDs: it runs beside the merge.
     let (agg, near_duplicates) = std::thread::scope(|sc| {
@@ -279,7 +286,7 @@ pub fn build(loaded: Loaded, view: &View) -> Result<Dataset> {
         (sub.edges, edge_of_row, in_view)
     };
     drop(rows);
-    give_back_freed_memory();
+    crate::memory::give_back_freed_memory();
     let t2 = std::time::Instant::now();
     let graph = graph::adjacency(ids.len(), &edges);
     ledger.warnings.extend(code_like_hubs(&ids, &graph));
@@ -416,16 +423,5 @@ fn count_used(ledger: &mut Ledger, per_file: &[(usize, usize)], first_of_pair: &
             &mut ledger.exposures
         };
         total.add(&f.counts);
-    }
-}
-
-/// Return the allocator's freed memory to the system between load stages: the reader's chunk
-/// buffers and the merge's sort arrays are freed by then, but glibc keeps freed blocks of the
-/// main heap resident until asked, and they would add to the next stage's peak.
-fn give_back_freed_memory() {
-    #[cfg(all(target_os = "linux", target_env = "gnu"))]
-    // SAFETY: malloc_trim only returns free memory of the allocator to the system.
-    unsafe {
-        libc::malloc_trim(0);
     }
 }

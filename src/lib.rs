@@ -22,6 +22,7 @@ pub mod export;
 pub mod graph;
 pub mod ids;
 pub mod ingest;
+pub mod memory;
 pub mod metrics;
 pub mod par;
 pub mod plot;

@@ -11,6 +11,7 @@ const LAYERS: &[&[&str]] = &[
     &[
         "error",
         "par",
+        "memory",
         "prefetch",
         "sort",
         "ids",
