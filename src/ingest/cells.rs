@@ -105,18 +105,13 @@ impl<'c, 'a: 'c> CellColumn<'c, 'a> {
         }
     }
 
-    /// The values of rows `rows` in row order.
-    pub fn iter_in(self, rows: std::ops::Range<usize>) -> CellIter<'c, 'a> {
-        match self {
-            CellColumn::Frame(s) => {
-                CellIter::Frame(Box::new(s.iter().skip(rows.start).take(rows.len())))
-            }
-            CellColumn::Text(t, c) => CellIter::Text {
-                cells: t,
-                c,
-                r: rows.start,
-                end: rows.end.min(t.height()),
-            },
+    /// The value of row `r` (`None` for a missing value): for text, two reads of the cell
+    /// bounds.
+    #[inline]
+    pub fn get(&self, r: usize) -> Option<&'c str> {
+        match *self {
+            CellColumn::Frame(s) => s.get(r),
+            CellColumn::Text(t, c) => t.get(r, c),
         }
     }
 }

@@ -2,9 +2,7 @@
 //! rows only (a quarantined row adds no value, no problem and no setting label) by the core
 //! that reads them, then kept in row order.
 
-use std::ops::Range;
-
-use super::cells::{CellColumn, CellIter};
+use super::cells::CellColumn;
 use super::ledger::{FieldProblem, ProblemKind, ReasonFacts};
 use super::reconcile::{FieldChecker, FileCtx, NO_DATE};
 use crate::ids::IdMap;
@@ -28,19 +26,6 @@ pub(super) struct OptionalColumns<'c, 'a> {
 /// The values of one row's optional fields (last, first, setting, minutes).
 pub(super) type FieldValues<'c> = [Option<&'c str>; 4];
 
-/// The values of the optional fields, row by row, over a run of rows.
-pub(super) struct OptionalRows<'c, 'a>([Option<CellIter<'c, 'a>>; 4]);
-
-impl<'c, 'a: 'c> OptionalRows<'c, 'a> {
-    /// The next row's values (`None` for a field not mapped or a missing value).
-    #[inline]
-    pub fn next_row(&mut self) -> FieldValues<'c> {
-        self.0
-            .each_mut()
-            .map(|it| it.as_mut().and_then(|it| it.next().flatten()))
-    }
-}
-
 impl<'c, 'a: 'c> OptionalColumns<'c, 'a> {
     /// Which fields this chunk maps (last, first, minutes, setting).
     pub fn mapped(&self) -> [bool; 4] {
@@ -52,12 +37,10 @@ impl<'c, 'a: 'c> OptionalColumns<'c, 'a> {
         ]
     }
 
-    /// The values of rows `rows`.
-    pub fn rows(&self, rows: Range<usize>) -> OptionalRows<'c, 'a> {
-        OptionalRows(
-            [self.last, self.first, self.setting, self.minutes]
-                .map(|(_, col)| col.map(|c| c.iter_in(rows.clone()))),
-        )
+    /// The values of row `r` (`None` for a field not mapped or a missing value).
+    #[inline]
+    pub fn values(&self, r: usize) -> FieldValues<'c> {
+        [self.last, self.first, self.setting, self.minutes].map(|(_, col)| col?.get(r))
     }
 }
 

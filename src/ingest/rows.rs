@@ -98,13 +98,10 @@ fn check_run<'c>(
         counts: Counts::default(),
         fields: RunFields::new(&cols.optional, len),
     };
-    let mut src = cols.src.iter_in(rows.clone());
-    let mut tgt = cols.tgt.iter_in(rows.clone());
-    let mut optional = cols.optional.rows(rows.clone());
     let mut lookup = new_ids.lookup(ids);
     for row in rows {
-        let (s, t) = (src.next().flatten(), tgt.next().flatten());
-        let values = optional.next_row();
+        let (s, t) = (cols.src.get(row), cols.tgt.get(row));
+        let values = cols.optional.values(row);
         ctx.counts.read += 1;
         let reason = match (checker.rules.id(s), checker.rules.id(t)) {
             (IdValue::Id(a, _), IdValue::Id(b, _)) if ids.same(&a, &b) => {

@@ -192,10 +192,12 @@ impl Table {
     /// Build a table from a frame already in memory (used by the other formats).
     pub(super) fn from_frame(
         meta: TableMeta,
-        frame: DataFrame,
+        mut frame: DataFrame,
         lines: LineMap,
         rejected: Vec<Rejected>,
     ) -> Table {
+        // One chunk per column, so that reading a cell by its row is one step.
+        frame.rechunk_mut_par();
         Table {
             meta,
             body: Body::Frame(frame, lines, rejected),
@@ -452,7 +454,10 @@ fn parse_cells<'a>(
             return Ok(Cells::Text(t));
         }
     }
-    parse_piece(meta, piece, schema, sep).map(Cells::Frame)
+    parse_piece(meta, piece, schema, sep).map(|mut f| {
+        f.rechunk_mut_par();
+        Cells::Frame(f)
+    })
 }
 
 fn read_text(
