@@ -179,8 +179,19 @@ pub struct FileCtx<'a> {
     pub counts: Counts,
 }
 
+/// The value without white space at either end; `None` when missing or blank.
+#[inline]
 pub(super) fn trimmed(v: Option<&str>) -> Option<&str> {
-    v.map(str::trim).filter(|s| !s.is_empty())
+    let s = v?;
+    // The usual value starts and ends with a printable ASCII character, which no white space
+    // is (all ASCII white space is at or below the space character; a UTF-8 sequence starts
+    // and ends at or above 0x80): it is returned as it is, without looking at its characters.
+    let b = s.as_bytes();
+    let plain = |x: u8| x > b' ' && x < 0x80;
+    if b.first().is_some_and(|&x| plain(x)) && b.last().is_some_and(|&x| plain(x)) {
+        return Some(s);
+    }
+    Some(s.trim()).filter(|s| !s.is_empty())
 }
 
 /// Checks dates, durations and records field problems.
@@ -348,6 +359,32 @@ impl FieldChecker {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// The shortcut for values that start and end with printable ASCII gives what trimming
+    /// every value gives (the standard library's `str::trim`, Unicode white space).
+    #[test]
+    fn trimmed_is_str_trim() {
+        for v in [
+            "P1",
+            " P1",
+            "P1 ",
+            "\tP1\r",
+            "",
+            " ",
+            "\u{a0}P1",
+            "P1\u{3000}",
+            "é",
+            " é ",
+            "a b",
+            "\u{1c}P1",
+            "~",
+            "\u{85}",
+        ] {
+            let want = Some(v.trim()).filter(|s| !s.is_empty());
+            assert_eq!(trimmed(Some(v)), want, "{v:?}");
+        }
+        assert_eq!(trimmed(None), None);
+    }
 
     /// Values come back as stored, exact text (case and spaces kept), empty where unset.
     #[test]
