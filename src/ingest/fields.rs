@@ -137,7 +137,11 @@ impl<'c> RunFields<'c> {
     #[inline]
     fn spelling_of(&mut self, label: &'c str) -> u32 {
         if self.spellings.len() <= FEW_SPELLINGS {
-            if let Some(i) = self.spellings.iter().position(|s| *s == label) {
+            if let Some(i) = self
+                .spellings
+                .iter()
+                .position(|s| crate::ids::equal(s, label))
+            {
                 return i as u32 + 1;
             }
         } else if let Some(&i) = self.index.get(label) {
