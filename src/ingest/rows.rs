@@ -8,7 +8,7 @@ use std::ops::Range;
 use super::cells::{CellColumn, Cells};
 use super::fields::{ExposureFields, OptionalColumns, RunFields};
 use super::intern::{NewIds, Open};
-use super::ledger::{Counts, FieldProblem, ProblemKind, QuarantineReason, QuarantinedRow};
+use super::ledger::{Counts, ProblemKind, QuarantineReason, QuarantinedRow};
 use super::mapping::Mapping;
 use super::reconcile::{Attributes, FieldChecker, FileCtx, IdValue, Rules};
 use super::table::{Chunk, TableMeta};
@@ -249,18 +249,12 @@ impl ExposureRows {
         }
         let mut usable = head.usable;
         usable.extend_from_slice(&tail.usable);
-        for part in [head.counts, tail.counts] {
-            let c = &mut ctx.counts;
-            c.read += part.read;
-            c.quarantined += part.quarantined;
-            c.ids_normalised += part.ids_normalised;
-            c.field_problems += part.field_problems;
-        }
+        ctx.counts.add(&head.counts);
+        ctx.counts.add(&tail.counts);
         self.quarantined.extend(head.quarantined);
         self.quarantined.extend(tail.quarantined);
         for fields in [head.fields, tail.fields] {
-            let problems: Vec<FieldProblem> = self.fields.keep(fields, mapped);
-            checker.problems.extend(problems);
+            checker.problems.extend(self.fields.keep(fields, mapped));
         }
         let (meta, m) = (ctx.meta, ctx.mapping);
         keep_extra_columns(
