@@ -6,9 +6,10 @@ For each export folder (people.csv + exposures.csv), runs `hubwatch summary --js
 rebuilds the same network with networkx under the same cleaning rules (IDs trimmed; blank IDs
 and self-exposures dropped; pairs in either order merged; every person of the people table is
 a node). Compares people, pairs, degree moments and histogram, assortativity r, k_nn(k),
-components, transitivity, mean local clustering, core numbers, articulation points, and the
+components, transitivity, mean local clustering, core numbers, articulation points, the
 attribute assortativity of area and age group (over the pairs whose two ends both have the
-value, as hubwatch counts them).
+value, as hubwatch counts them), and the degree assortativity within each setting's own
+sub-network (the pairs with a row of that setting; labels compared without case).
 Exits 1 on any difference beyond 1e-9 relative, printing each one.
 """
 import csv
@@ -33,6 +34,29 @@ def close(what, got, want):
 
 
 ATTRIBUTES = ("area", "age_group")
+# The missing-value codes of config/default.toml, lower-cased.
+MISSING = {"na", "n/a", "null"}
+
+
+def setting_subgraphs(folder):
+    """Each setting's own network (label lower-cased -> graph of the pairs with a row of it)."""
+    subs = {}
+    with open(f"{folder}/exposures.csv", newline="", encoding="utf-8-sig") as f:
+        for row in csv.DictReader(f):
+            a = (row.get("source_id") or "").strip()
+            b = (row.get("target_id") or "").strip()
+            s = (row.get("setting") or "").strip()
+            if a and b and a != b and s and s.lower() not in MISSING:
+                subs.setdefault(s.lower(), nx.Graph()).add_edge(a, b)
+    return subs
+
+
+def degree_r(g):
+    """networkx's degree assortativity, NaN where it is undefined (all degrees equal)."""
+    try:
+        return nx.degree_assortativity_coefficient(g)
+    except (ZeroDivisionError, ValueError):
+        return math.nan
 
 
 def build(folder):
@@ -114,7 +138,14 @@ def check(binary, folder):
         close(f"{tag} mixing.{attr}.unknown", got["unknown"], m - len(known))
         want = nx.attribute_assortativity_coefficient(g.edge_subgraph(known), attr)
         close(f"{tag} mixing.{attr}.r", got["r"], want)
-    print(f"checked {tag}: {n} people, {m} pairs")
+    got = h.get("mixing", {}).get("setting", {})
+    subs = setting_subgraphs(folder)
+    if {k.lower() for k in got} != set(subs):
+        failures.append(f"{tag} setting labels differ: {sorted(got)} vs {sorted(subs)}")
+    for label, v in got.items():
+        if label.lower() in subs:
+            close(f"{tag} mixing.setting.{label}.r", v.get("r"), degree_r(subs[label.lower()]))
+    print(f"checked {tag}: {n} people, {m} pairs, {len(subs)} settings")
 
 
 def main():
