@@ -40,13 +40,18 @@ impl<'a> TextCells<'a> {
         let mut bounds: Vec<u32> = Vec::with_capacity(piece.len() / 6 + 2);
         bounds.push(0);
         let mut row_start = 0usize;
-        for at in memchr::memchr2_iter(sep, b'\n', piece) {
-            bounds.push(at as u32 + 1);
-            if piece[at] == b'\n' {
-                row_start += ncols;
-                if bounds.len() != row_start + 1 {
-                    return None;
+        for b in super::delims::blocks(piece, sep) {
+            let mut found = b.sep | b.nl;
+            while found != 0 {
+                let i = found.trailing_zeros();
+                bounds.push((b.base + i as usize) as u32 + 1);
+                if b.nl >> i & 1 == 1 {
+                    row_start += ncols;
+                    if bounds.len() != row_start + 1 {
+                        return None;
+                    }
                 }
+                found &= found - 1;
             }
         }
         if bounds.len() != row_start + 1 {

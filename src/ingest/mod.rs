@@ -9,6 +9,7 @@ pub mod aggregates;
 pub mod cells;
 pub mod dates;
 pub mod decode;
+pub mod delims;
 pub mod fields;
 pub mod formats;
 pub mod intern;

@@ -130,11 +130,12 @@ fn fast_region_is_clean(
         return false;
     };
     let check = |part: &[u8]| -> bool {
-        sniff::lines(part).all(|(_, l)| {
+        super::delims::count_fields_per_line(part, s, |start, end, seps| {
+            let l = sniff::trim_cr(&part[start..end]);
             !l.is_empty()
                 && l.len() <= max_line
                 && !sniff::is_comment(l, comment)
-                && memchr::memchr_iter(s, l).count() + 1 == ncols
+                && seps as usize + 1 == ncols
                 && !sniff::is_blank(l)
         })
     };
