@@ -59,29 +59,46 @@ const BLOCK: usize = 1 << 14;
 /// lowest-ranked corner finds it, once, by merging its list with its middle corner's. Lists of
 /// higher rank stay short even at hubs (at most about the square root of twice the number of
 /// pairs), which bounds the merging work (Schank & Wagner 2005, "forward" ordering).
+///
+/// Every pair is in exactly one list, and pair numbers are `u32` throughout the graph, so the
+/// list starts fit `u32` (half the memory of `usize`, more of them cached in the walk).
 struct Forward {
-    start: Vec<usize>,
+    start: Vec<u32>,
     list: Vec<u32>,
 }
 
 impl Forward {
+    /// Built in two halves of the people, one per core, joined in order.
     fn new(g: &Adjacency, deg: &[u32]) -> Forward {
         let n = deg.len();
-        let above = |u: u32, v: u32| (deg[v as usize], v) > (deg[u as usize], u);
+        let half = |range: std::ops::Range<usize>| {
+            let above = |u: u32, v: u32| (deg[v as usize], v) > (deg[u as usize], u);
+            let mut ends = Vec::with_capacity(range.len());
+            let mut list = Vec::new();
+            for u in range {
+                let u = u as u32;
+                // Neighbour lists are sorted by node index, and so stay the filtered ones.
+                list.extend(g.neighbors_slice(u).iter().filter(|&&v| above(u, v)));
+                ends.push(list.len() as u32);
+            }
+            (ends, list)
+        };
+        let mid = n / 2;
+        let ((mut ends, mut list), (ends_hi, list_hi)) =
+            crate::par::beside(n >= 100_000, || half(mid..n), || half(0..mid));
+        let base = list.len() as u32;
+        list.extend_from_slice(&list_hi);
+        drop(list_hi);
         let mut start = Vec::with_capacity(n + 1);
-        start.push(0usize);
-        let mut list = Vec::new();
-        for u in 0..n as u32 {
-            // Neighbour lists are sorted by node index, and so stay the filtered ones.
-            list.extend(g.neighbors_slice(u).iter().filter(|&&v| above(u, v)));
-            start.push(list.len());
-        }
+        start.push(0u32);
+        start.append(&mut ends);
+        start.extend(ends_hi.iter().map(|&e| e + base));
         Forward { start, list }
     }
 
     #[inline]
     fn of(&self, u: u32) -> &[u32] {
-        &self.list[self.start[u as usize]..self.start[u as usize + 1]]
+        &self.list[self.start[u as usize] as usize..self.start[u as usize + 1] as usize]
     }
 }
 
@@ -128,7 +145,9 @@ fn triangle_counts(g: &Adjacency, deg: &[u32]) -> Vec<u64> {
     t
 }
 
-/// How many people ahead of the walk the lists of their contacts are asked for.
+/// How many people ahead of the walk the lists of their contacts are asked for (the list
+/// starts of the contacts of the person twice as far on are asked for first, so that finding
+/// where a list lies does not itself wait).
 const AHEAD: u32 = 4;
 
 /// The triangles whose lowest-ranked corner is `u`, added to each corner's count.
@@ -137,10 +156,17 @@ const AHEAD: u32 = 4;
 /// are asked for now, so that they have arrived by the time the walk gets there.
 #[inline]
 fn triangles_at(fwd: &Forward, u: u32, t: &mut [u64]) {
-    let ahead = u + AHEAD;
-    if (ahead as usize) + 1 < fwd.start.len() {
-        for &v in fwd.of(ahead) {
-            prefetch(fwd.of(v), 0);
+    let people = fwd.start.len() - 1;
+    let far = (u + 2 * AHEAD) as usize;
+    if far < people {
+        for &v in fwd.of(far as u32) {
+            prefetch(&fwd.start, v as usize);
+        }
+    }
+    let ahead = (u + AHEAD) as usize;
+    if ahead < people {
+        for &v in fwd.of(ahead as u32) {
+            prefetch(&fwd.list, fwd.start[v as usize] as usize);
             prefetch(t, v as usize);
         }
     }
@@ -149,18 +175,17 @@ fn triangles_at(fwd: &Forward, u: u32, t: &mut [u64]) {
         let nv = fwd.of(v);
         // Common contacts of higher rank than both (both lists sorted by node index).
         let (mut i, mut j) = (0, 0);
+        // Without branches on the comparison (which way it goes is a coin toss): a
+        // common contact is rare, so only that test is a branch.
         while i < nu.len() && j < nv.len() {
-            match nu[i].cmp(&nv[j]) {
-                std::cmp::Ordering::Less => i += 1,
-                std::cmp::Ordering::Greater => j += 1,
-                std::cmp::Ordering::Equal => {
-                    t[u as usize] += 1;
-                    t[v as usize] += 1;
-                    t[nu[i] as usize] += 1;
-                    i += 1;
-                    j += 1;
-                }
+            let (a, b) = (nu[i], nv[j]);
+            if a == b {
+                t[u as usize] += 1;
+                t[v as usize] += 1;
+                t[a as usize] += 1;
             }
+            i += usize::from(a <= b);
+            j += usize::from(b <= a);
         }
     }
 }
@@ -169,24 +194,27 @@ fn triangles_at(fwd: &Forward, u: u32, t: &mut [u64]) {
 const CORE_AHEAD: usize = 8;
 
 /// k-core number of every person (Batagelj & Zaversnik 2003, O(M)).
+///
+/// Each person's current degree and place in the order sit side by side (one cache line read
+/// for both when a contact's degree drops).
 pub fn core_numbers(g: &Adjacency, deg: &[u32]) -> Vec<u32> {
     let n = deg.len();
     let max = deg.iter().copied().max().unwrap_or(0) as usize;
-    let mut d: Vec<u32> = deg.to_vec();
-    // Bucket people by degree; pos/vert give the order and each person's place in it.
+    // Bucket people by degree; `at` holds each person's (current degree, place in `vert`),
+    // `vert` the order.
     let mut bin = vec![0u32; max + 2];
-    for &k in &d {
+    for &k in deg {
         bin[k as usize + 1] += 1;
     }
     for k in 1..bin.len() {
         bin[k] += bin[k - 1];
     }
-    let mut pos = vec![0u32; n];
+    let mut at: Vec<(u32, u32)> = Vec::with_capacity(n);
     let mut vert = vec![0u32; n];
     let mut next = bin.clone();
-    for v in 0..n {
-        let k = d[v] as usize;
-        pos[v] = next[k];
+    for (v, &k) in deg.iter().enumerate() {
+        let k = k as usize;
+        at.push((k as u32, next[k]));
         vert[next[k] as usize] = v as u32;
         next[k] += 1;
     }
@@ -199,31 +227,34 @@ pub fn core_numbers(g: &Adjacency, deg: &[u32]) -> Vec<u32> {
         }
         if let Some(&x) = vert.get(i + CORE_AHEAD / 2) {
             for &u in g.neighbors_slice(x) {
-                prefetch(&d, u as usize);
-                prefetch(&pos, u as usize);
+                prefetch(&at, u as usize);
             }
         }
         let v = vert[i] as usize;
+        let dv = at[v].0;
         for &u in g.neighbors_slice(v as u32) {
             let u = u as usize;
-            if d[u] > d[v] {
+            let (du, pu) = at[u];
+            if du > dv {
                 // Move u to the front of its bucket, then shrink its degree by one.
-                let du = d[u] as usize;
-                let pu = pos[u];
-                let pw = bin[du];
+                let pw = bin[du as usize];
                 let w = vert[pw as usize] as usize;
                 if u != w {
                     vert.swap(pu as usize, pw as usize);
-                    pos[u] = pw;
-                    pos[w] = pu;
+                    at[w].1 = pu;
                 }
-                bin[du] += 1;
-                d[u] -= 1;
+                bin[du as usize] += 1;
+                at[u] = (du - 1, pw);
             }
         }
     }
-    d
+    at.into_iter().map(|(d, _)| d).collect()
 }
+
+/// How many frames down the search path the lists of contacts still to look at are asked for,
+/// and their discovery times.
+const UNWIND_FAR: usize = 8;
+const UNWIND_NEAR: usize = 4;
 
 /// People whose removal disconnects their cluster (articulation points), by an iterative
 /// depth-first search with low-link values (Hopcroft & Tarjan 1973), sorted by node index.
@@ -304,6 +335,19 @@ pub fn cut_points_and_components(g: &Adjacency) -> (Vec<u32>, (Vec<u32>, Vec<u32
                 time += 1;
             } else {
                 let done = stack.pop().expect("a frame");
+                // Going back down the path: the frames below are looked at again soon, and
+                // their contacts were asked for long ago (since pushed out of the cache by the
+                // subtree above them). Ask again: the list of the frame UNWIND_FAR down, and
+                // the discovery times of the contacts of the one UNWIND_NEAR down.
+                let len = stack.len();
+                if len > UNWIND_FAR {
+                    prefetch(stack[len - 1 - UNWIND_FAR].contacts.as_slice(), 0);
+                }
+                if len > UNWIND_NEAR {
+                    for &x in stack[len - 1 - UNWIND_NEAR].contacts.as_slice() {
+                        prefetch(&disc, x as usize);
+                    }
+                }
                 if let Some(p) = stack.last_mut() {
                     p.low = p.low.min(done.low);
                     if p.v != root && done.low >= p.disc {
