@@ -290,6 +290,7 @@ pub fn build(loaded: Loaded, view: &View) -> Result<Dataset> {
     let t2 = std::time::Instant::now();
     let graph = graph::adjacency(ids.len(), &edges);
     ledger.warnings.extend(code_like_hubs(&ids, &graph));
+    crate::memory::give_back_after_load();
     let timings = Timings {
         parse: parse_secs,
         reconcile: reconcile_secs,

@@ -7,6 +7,11 @@
 //! process, it is reused without faults, at the price of a higher peak. So a load of an export
 //! up to [`KEEP_UP_TO`] bytes keeps it (the peak at 10.6M rows rises from about 1.08 to
 //! 1.3 GiB), and a larger one gives it back between stages, as the peak then matters more.
+//! Once the load is done, what it freed goes back in either case
+//! ([`give_back_after_load`]): the statistics then allocate their own arrays afresh, fewer
+//! than the load freed, and the kept blocks would otherwise add to their peak (at 10.6M rows,
+//! 9 alternating runs: median peak 1304 MiB against 1362, the highest 1349 against 1441; wall
+//! 0.99x).
 
 use std::sync::atomic::{AtomicBool, Ordering};
 
@@ -65,6 +70,16 @@ pub fn give_back_freed_memory() {
     if KEEP.load(Ordering::Relaxed) {
         return;
     }
+    #[cfg(all(target_os = "linux", target_env = "gnu"))]
+    // SAFETY: malloc_trim only returns free memory of the allocator to the system.
+    unsafe {
+        libc::malloc_trim(0);
+    }
+}
+
+/// Return the allocator's freed memory to the system, kept or not (see the module): for the
+/// end of a load.
+pub fn give_back_after_load() {
     #[cfg(all(target_os = "linux", target_env = "gnu"))]
     // SAFETY: malloc_trim only returns free memory of the allocator to the system.
     unsafe {
