@@ -28,16 +28,17 @@ pub(super) fn scan_lines(
     (sep, max_line): (Separator, usize),
     comment: &[u8],
 ) -> Scan {
-    let quoted = sep != Separator::Whitespace && memchr::memchr(b'"', region).is_some();
     let needs_rewrite = sep == Separator::Whitespace;
-    if !quoted && !needs_rewrite && fast_region_is_clean(region, ncols, (sep, max_line), comment) {
+    // The fast check fails on any quote character, so text that passes it has none.
+    if !needs_rewrite && fast_region_is_clean(region, ncols, (sep, max_line), comment) {
         return Scan {
             clean: None,
             lines: None,
             rejected: Vec::new(),
-            quoted,
+            quoted: false,
         };
     }
+    let quoted = sep != Separator::Whitespace && memchr::memchr(b'"', region).is_some();
     let mut clean = Vec::with_capacity(region.len());
     let mut lines = Vec::new();
     let mut rejected = Vec::new();
@@ -118,8 +119,9 @@ fn record_end(region: &[u8], pos: usize, quoted: bool) -> (usize, u64) {
     (region.len(), spanned)
 }
 
-/// The fast check for the common case (no quotes): every line non-blank, not a comment, with
-/// the right number of separators. Runs on two threads over the two halves of the region.
+/// The fast check for the common case: no quote character anywhere, every line non-blank, not
+/// a comment, with the right number of separators. Runs on two threads over the two halves of
+/// the region.
 fn fast_region_is_clean(
     region: &[u8],
     ncols: usize,
