@@ -136,11 +136,6 @@ pub enum CellIter<'c, 'a> {
         /// Row after the last.
         end: usize,
     },
-    /// A column the table does not have: `None` for each of `left` rows.
-    Missing {
-        /// Rows still to give.
-        left: usize,
-    },
 }
 
 impl<'c, 'a: 'c> Iterator for CellIter<'c, 'a> {
@@ -158,13 +153,6 @@ impl<'c, 'a: 'c> Iterator for CellIter<'c, 'a> {
                 *r += 1;
                 Some(v)
             }
-            CellIter::Missing { left } => {
-                if *left == 0 {
-                    return None;
-                }
-                *left -= 1;
-                Some(None)
-            }
         }
     }
 
@@ -175,7 +163,6 @@ impl<'c, 'a: 'c> Iterator for CellIter<'c, 'a> {
                 let n = end.saturating_sub(*r);
                 (n, Some(n))
             }
-            CellIter::Missing { left } => (*left, Some(*left)),
         }
     }
 }
