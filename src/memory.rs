@@ -67,19 +67,19 @@ pub fn keep_freed_memory() {
 /// freed blocks of the main heap resident until asked, and they would add to the next stage's
 /// peak.
 pub fn give_back_freed_memory() {
-    if KEEP.load(Ordering::Relaxed) {
-        return;
-    }
-    #[cfg(all(target_os = "linux", target_env = "gnu"))]
-    // SAFETY: malloc_trim only returns free memory of the allocator to the system.
-    unsafe {
-        libc::malloc_trim(0);
+    if !KEEP.load(Ordering::Relaxed) {
+        trim();
     }
 }
 
 /// Return the allocator's freed memory to the system, kept or not (see the module): for the
 /// end of a load.
 pub fn give_back_after_load() {
+    trim();
+}
+
+/// Return the allocator's freed memory to the system (glibc; elsewhere a no-op).
+fn trim() {
     #[cfg(all(target_os = "linux", target_env = "gnu"))]
     // SAFETY: malloc_trim only returns free memory of the allocator to the system.
     unsafe {
