@@ -212,8 +212,9 @@ mod tests {
     use super::*;
 
     /// Number `pairs` against `people` in two parts (the new IDs of the first `split` pairs
-    /// numbered on two cores, the rest's on one), add the new IDs to `people`, and check against interning row by row: the
-    /// same nodes, the same people in the same order. Returns the nodes.
+    /// numbered on two cores, the rest's on one), add the new IDs to `people`, and check
+    /// against interning row by row: the same nodes, the same people in the same order.
+    /// Returns the nodes.
     fn numbered_as_one_pass(
         people: &mut IdMap,
         pairs: &[(Cow<str>, Cow<str>)],
