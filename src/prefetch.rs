@@ -21,6 +21,22 @@ pub fn prefetch<T>(v: &[T], i: usize) {
     let _ = (v, i);
 }
 
+/// How many pairs ahead a pass over the pairs asks for the per-person entry of a pair's second
+/// end (read at random; the first ends come in order): far enough for a dozen misses to be in
+/// flight. On 20 million people and 100 million random pairs, one 4-byte read per pair took
+/// 1.62 s with no request ahead, 1.13 s 8 ahead, 0.93 s 16 ahead, 0.87 s 32 ahead and 0.90 s
+/// 64 ahead (one core of the development machine, in a scratch program).
+pub const PAIRS_AHEAD: usize = 32;
+
+/// Ask for `table[b[e + PAIRS_AHEAD] * width]`, the entry of the second end of the pair
+/// `PAIRS_AHEAD` places on (nothing past the last pair).
+#[inline(always)]
+pub fn second_end_ahead<T>(table: &[T], b: &[u32], e: usize, width: usize) {
+    if let Some(&y) = b.get(e + PAIRS_AHEAD) {
+        prefetch(table, y as usize * width);
+    }
+}
+
 /// Tables at least this large are worth large pages.
 const LARGE: usize = 32 << 20;
 const HUGE_PAGE: usize = 2 << 20;

@@ -213,6 +213,7 @@ fn exposed(d: &Dataset, is_case: &[bool], onset: &[Option<i32>]) -> (SlotBits, S
     let mut secondary = SlotBits::new(n, nset + 1);
     let mut co_primary_pairs = 0u64;
     for e in 0..d.edges.len() {
+        crate::prefetch::second_end_ahead(is_case, &d.edges.b, e, 1);
         let (a, b) = (d.edges.a[e] as usize, d.edges.b[e] as usize);
         if is_case[a] && is_case[b] {
             match (onset[a], onset[b]) {

@@ -112,26 +112,48 @@ pub fn compute(d: &Dataset, opts: &MetricOptions) -> NetworkStats {
     let g = &d.graph;
     let (mut clustering, mut cores, mut bridges, mut components) = (None, None, None, None);
     let (mut mixing, mut r_set, mut null, mut rest) = (None, None, None, None);
+    // With HUBWATCH_STAGES set, each task says on stderr when it started and ended.
+    let t0 = std::time::Instant::now();
+    let timed = |what: &'static str, task: &mut dyn FnMut()| {
+        let start = t0.elapsed().as_secs_f64();
+        task();
+        if std::env::var_os("HUBWATCH_STAGES").is_some() {
+            let end = t0.elapsed().as_secs_f64();
+            eprintln!("statistics: {what} {start:.3}-{end:.3} s");
+        }
+    };
     rayon::scope(|s| {
         let (c, k, b, p) = (&mut clustering, &mut cores, &mut bridges, &mut components);
         // The one long sequential task goes first, so that the second core takes it at once
         // (the first core works from the other end: the short tasks); clustering, whose
         // triangle count splits across cores, comes next and fills both cores at the end.
         s.spawn(move |_| {
-            let (cut, parts) = structure::cut_points_and_components(g);
-            (*b, *p) = (Some(cut), Some(parts));
+            timed("cut points", &mut || {
+                let (cut, parts) = structure::cut_points_and_components(g);
+                (*b, *p) = (Some(cut), Some(parts));
+            })
         });
-        s.spawn(move |_| *c = Some(structure::clustering(g, deg)));
-        s.spawn(move |_| *k = Some(structure::core_numbers(g, deg)));
-        let (m, rs, nm, re) = (&mut mixing, &mut r_set, &mut null, &mut rest);
-        s.spawn(move |_| *m = Some(attribute_mixing(d)));
-        s.spawn(move |_| *rs = Some(r_by_setting(d)));
         s.spawn(move |_| {
-            let (a, b) = (&d.edges.a, &d.edges.b);
-            let (r, se) = (opts.null_swaps_per_edge, opts.seed);
-            *nm = Some(mixing::null_model(a, b, deg, opts.null_replicates, r, se));
+            timed("clustering", &mut || {
+                *c = Some(structure::clustering(g, deg))
+            })
         });
-        s.spawn(move |_| *re = Some(degree_parts(d, deg)));
+        s.spawn(move |_| {
+            timed("k-cores", &mut || {
+                *k = Some(structure::core_numbers(g, deg))
+            })
+        });
+        let (m, rs, nm, re) = (&mut mixing, &mut r_set, &mut null, &mut rest);
+        s.spawn(move |_| timed("attribute mixing", &mut || *m = Some(attribute_mixing(d))));
+        s.spawn(move |_| timed("r by setting", &mut || *rs = Some(r_by_setting(d, deg))));
+        s.spawn(move |_| {
+            timed("null model", &mut || {
+                let (a, b) = (&d.edges.a, &d.edges.b);
+                let (r, se) = (opts.null_swaps_per_edge, opts.seed);
+                *nm = Some(mixing::null_model(a, b, deg, opts.null_replicates, r, se));
+            })
+        });
+        s.spawn(move |_| timed("degree figures", &mut || *re = Some(degree_parts(d, deg))));
     });
     let (cases, fits, degree, neighbours, r, r_se) = rest.expect("task ran");
     NetworkStats {
@@ -183,8 +205,7 @@ fn degree_parts(d: &Dataset, deg: &[u32]) -> DegreeParts {
 
 /// Mixing by each people attribute present (area, age group), groups in sorted order.
 fn attribute_mixing(d: &Dataset) -> Vec<(String, mixing::AttributeMixing)> {
-    let (a, b) = (&d.edges.a, &d.edges.b);
-    MIXING_ATTRIBUTES
+    let (names, attrs): (Vec<String>, Vec<mixing::Grouping>) = MIXING_ATTRIBUTES
         .iter()
         .filter_map(|name| {
             let col = d.attrs.column(name)?;
@@ -201,69 +222,78 @@ fn attribute_mixing(d: &Dataset) -> Vec<(String, mixing::AttributeMixing)> {
                 .map(|c| (values.text(c), c))
                 .collect();
             labels.sort_unstable();
-            let mut rank = vec![0u32; held.len()];
+            let mut group = vec![0u32; held.len()];
             for (r, (_, old)) in labels.iter().enumerate() {
-                rank[*old as usize] = r as u32;
+                group[*old as usize] = r as u32;
             }
-            let mut group: Vec<Option<u32>> = codes
-                .iter()
-                .map(|&c| (c != AttrColumn::NONE).then(|| rank[c as usize]))
-                .collect();
-            group.resize(d.people(), None);
-            let names = labels.into_iter().map(|(l, _)| l.to_string()).collect();
-            Some((
-                name.to_string(),
-                mixing::attribute_mixing(a, b, &group, names),
-            ))
+            let labels = labels.into_iter().map(|(l, _)| l.to_string()).collect();
+            let missing = AttrColumn::NONE;
+            let attr = mixing::Grouping {
+                codes,
+                missing,
+                group,
+                labels,
+            };
+            Some((name.to_string(), attr))
         })
-        .collect()
+        .unzip();
+    let (a, b) = (&d.edges.a, &d.edges.b);
+    let mixings = mixing::attribute_mixing((a, b), d.people(), attrs);
+    names.into_iter().zip(mixings).collect()
 }
 
 /// The pairs of every setting are gathered in one pass over the pairs when their lists take at
-/// most this many bytes together (one pass per setting otherwise, holding one setting's at a
-/// time).
+/// most this many bytes together.
 const SETTING_LISTS_BYTES: usize = 128 << 20;
 
+/// Otherwise, the settings' per-person degree counts held at once (two passes over the pairs
+/// for as many settings as fit, for each batch of them).
+const SETTING_DEGREES_BYTES: usize = 256 << 20;
+
 /// Degree assortativity within each setting's own sub-network.
-fn r_by_setting(d: &Dataset) -> Vec<(String, Stat)> {
-    r_by_setting_within(d, SETTING_LISTS_BYTES)
+fn r_by_setting(d: &Dataset, deg: &[u32]) -> Vec<(String, Stat)> {
+    r_by_setting_within(d, deg, (SETTING_LISTS_BYTES, SETTING_DEGREES_BYTES))
 }
 
 /// [`r_by_setting`], gathering every setting's pairs in one pass when their lists take at most
-/// `budget` bytes.
-fn r_by_setting_within(d: &Dataset, budget: usize) -> Vec<(String, Stat)> {
-    let (a, b) = (&d.edges.a, &d.edges.b);
+/// `lists` bytes; else holding at most `degrees` bytes of per-person degree counts at once.
+fn r_by_setting_within(
+    d: &Dataset,
+    deg: &[u32],
+    (lists, degrees): (usize, usize),
+) -> Vec<(String, Stat)> {
+    let e = &d.edges;
+    let (a, b) = (&e.a, &e.b);
     let nset = d.settings.len();
-    // r of one setting from its pairs (in pair order), with degrees within the setting.
+    let entries = e.setting_codes.len();
+    if entries * 8 > lists {
+        let max = deg.iter().copied().max().unwrap_or(0);
+        let rs = mixing::assortativity_within(
+            (a, b),
+            d.people(),
+            (&e.setting_off, &e.setting_codes),
+            (nset, max),
+            degrees,
+        );
+        return d.settings.iter().cloned().zip(rs).collect();
+    }
+    // r of one setting from its pairs (in pair order), with degrees within the setting (in
+    // cache for a few million people: a pass over each setting's own pairs beats the two
+    // passes over all pairs above).
     let r_of = |sa: &[u32], sb: &[u32]| {
         let mut sd = vec![0u32; d.people()];
-        for (&x, &y) in sa.iter().zip(sb) {
+        for (i, (&x, &y)) in sa.iter().zip(sb).enumerate() {
+            crate::prefetch::second_end_ahead(&sd, sb, i, 1);
             sd[x as usize] += 1;
             sd[y as usize] += 1;
         }
         mixing::assortativity(sa, sb, &sd)
     };
-    let entries = d.edges.setting_codes.len();
-    if entries * 8 > budget {
-        return d
-            .settings
-            .iter()
-            .enumerate()
-            .map(|(i, label)| {
-                let code = (i + 1) as u16;
-                let (sa, sb): (Vec<u32>, Vec<u32>) = (0..d.edges.len())
-                    .filter(|&e| d.edges.settings(e).contains(&code))
-                    .map(|e| (a[e], b[e]))
-                    .unzip();
-                (label.clone(), r_of(&sa, &sb))
-            })
-            .collect();
-    }
     // Every setting's pairs in one pass: a counting sort of the pairs' (pair, setting)
     // entries by setting, each setting's pairs in pair order as a pass of its own gives them.
     let of_setting = |c: u16| (1..=nset).contains(&usize::from(c));
     let mut start = vec![0usize; nset + 2];
-    for &c in d.edges.setting_codes.iter().filter(|&&c| of_setting(c)) {
+    for &c in e.setting_codes.iter().filter(|&&c| of_setting(c)) {
         start[usize::from(c) + 1] += 1;
     }
     for c in 1..start.len() {
@@ -271,10 +301,10 @@ fn r_by_setting_within(d: &Dataset, budget: usize) -> Vec<(String, Stat)> {
     }
     let mut next = start.clone();
     let (mut sa, mut sb) = (vec![0u32; entries], vec![0u32; entries]);
-    for e in 0..d.edges.len() {
-        for &c in d.edges.settings(e).iter().filter(|&&c| of_setting(c)) {
+    for p in 0..e.len() {
+        for &c in e.settings(p).iter().filter(|&&c| of_setting(c)) {
             let at = &mut next[usize::from(c)];
-            (sa[*at], sb[*at]) = (a[e], b[e]);
+            (sa[*at], sb[*at]) = (a[p], b[p]);
             *at += 1;
         }
     }
@@ -292,11 +322,13 @@ fn r_by_setting_within(d: &Dataset, budget: usize) -> Vec<(String, Stat)> {
 mod tests {
     use super::*;
 
-    /// Every setting's pairs gathered in one pass give each setting's r exactly as a pass per
-    /// setting does (the same integer sums; networkx checks the values themselves in
-    /// `tests/crosscheck/networkx_check.py`).
+    /// r within each setting, from the settings' pairs gathered in one pass or from their
+    /// degrees held all at once, one setting at a time, two at a time or with 32-bit counts, is
+    /// r over that setting's pairs alone with degrees counted among
+    /// them, as `mixing::assortativity` gives it (the same integer sums; networkx checks the
+    /// values themselves in `tests/crosscheck/networkx_check.py`).
     #[test]
-    fn r_by_setting_in_one_pass_or_one_per_setting() {
+    fn r_by_setting_in_batches_is_r_of_each_setting_alone() {
         use crate::ingest::{dates, table::ReadOptions, LoadOptions};
         let opts = LoadOptions {
             overrides: Vec::new(),
@@ -310,9 +342,29 @@ mod tests {
         };
         let config = crate::config::Config::default();
         let d = crate::dataset::load(&crate::sample::inputs(), &config, &opts).expect("sample");
-        let one_pass = r_by_setting_within(&d, usize::MAX);
-        assert_eq!(one_pass.len(), d.settings.len());
-        assert!(one_pass.iter().all(|(_, r)| r.is_ok()));
-        assert_eq!(one_pass, r_by_setting_within(&d, 0));
+        let e = &d.edges;
+        let alone: Vec<(String, Stat)> = (0..d.settings.len())
+            .map(|i| {
+                let code = (i + 1) as u16;
+                let (sa, sb): (Vec<u32>, Vec<u32>) = (0..e.len())
+                    .filter(|&p| e.settings(p).contains(&code))
+                    .map(|p| (e.a[p], e.b[p]))
+                    .unzip();
+                let mut sd = vec![0u32; d.people()];
+                for (&x, &y) in sa.iter().zip(&sb) {
+                    sd[x as usize] += 1;
+                    sd[y as usize] += 1;
+                }
+                (d.settings[i].clone(), mixing::assortativity(&sa, &sb, &sd))
+            })
+            .collect();
+        assert!(alone.len() >= 3 && alone.iter().all(|(_, r)| r.is_ok()));
+        let deg = graph::degrees(&d.graph);
+        let lists = usize::MAX;
+        assert_eq!(r_by_setting_within(&d, &deg, (lists, 0)), alone);
+        for (degrees, max) in [(usize::MAX, &deg[..]), (0, &deg), (4 * d.people(), &deg)] {
+            assert_eq!(r_by_setting_within(&d, max, (0, degrees)), alone);
+        }
+        assert_eq!(r_by_setting_within(&d, &[u32::MAX], (0, usize::MAX)), alone);
     }
 }

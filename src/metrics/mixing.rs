@@ -11,6 +11,7 @@ use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 
 use super::Stat;
+use crate::prefetch::second_end_ahead;
 
 /// Integer sums over the edges that determine r.
 #[derive(Debug, Clone, Copy, Default)]
@@ -45,7 +46,8 @@ impl Sums {
 
 fn sums(a: &[u32], b: &[u32], deg: &[u32]) -> Sums {
     let mut s = Sums::default();
-    for (&x, &y) in a.iter().zip(b) {
+    for (e, (&x, &y)) in a.iter().zip(b).enumerate() {
+        second_end_ahead(deg, b, e, 1);
         s.add(deg[x as usize], deg[y as usize], 1);
     }
     s
@@ -54,6 +56,104 @@ fn sums(a: &[u32], b: &[u32], deg: &[u32]) -> Sums {
 /// Degree assortativity r over the pairs `(a[e], b[e])` with degrees `deg`.
 pub fn assortativity(a: &[u32], b: &[u32], deg: &[u32]) -> Stat {
     sums(a, b, deg).r()
+}
+
+/// Degree assortativity within each of `groups` sub-networks of the pairs, degrees counted
+/// within each: pair `e` belongs to sub-network `c - 1` for each code `c` in `1..=groups` among
+/// `codes[off[e]..off[e + 1]]` (codes distinct per pair; other codes place it in none). The
+/// same integer sums as [`assortativity`] over each sub-network's own pairs and degrees, in two
+/// passes over the pairs for as many sub-networks as have their per-person degrees fit in
+/// `budget` bytes together (at least one at a time). `max_degree` bounds every person's degree
+/// (16-bit counts below 65536).
+pub fn assortativity_within(
+    (a, b): (&[u32], &[u32]),
+    people: usize,
+    (off, codes): (&[u32], &[u16]),
+    (groups, max_degree): (usize, u32),
+    budget: usize,
+) -> Vec<Stat> {
+    if off.len() != a.len() + 1 {
+        return vec![Sums::default().r(); groups];
+    }
+    let member = (off, codes);
+    if max_degree < u32::from(u16::MAX) {
+        within::<u16>((a, b), people, member, groups, budget)
+    } else {
+        within::<u32>((a, b), people, member, groups, budget)
+    }
+}
+
+/// A per-person degree count.
+trait Tally: Copy + Default + Into<u32> {
+    fn bump(&mut self);
+}
+
+impl Tally for u16 {
+    fn bump(&mut self) {
+        *self += 1;
+    }
+}
+
+impl Tally for u32 {
+    fn bump(&mut self) {
+        *self += 1;
+    }
+}
+
+fn within<T: Tally>(
+    (a, b): (&[u32], &[u32]),
+    people: usize,
+    (off, codes): (&[u32], &[u16]),
+    groups: usize,
+    budget: usize,
+) -> Vec<Stat> {
+    let batch = (budget / (people.max(1) * std::mem::size_of::<T>())).clamp(1, groups.max(1));
+    let mut out = Vec::with_capacity(groups);
+    let mut first = 0;
+    while first < groups {
+        let g = batch.min(groups - first);
+        let batch = first..first + g;
+        let mut deg = vec![T::default(); people * g];
+        each_member(
+            (a, b),
+            (off, codes),
+            (batch.clone(), &mut deg),
+            |deg, x, y, s| {
+                deg[x + s].bump();
+                deg[y + s].bump();
+            },
+        );
+        let mut sums = vec![Sums::default(); g];
+        each_member((a, b), (off, codes), (batch, &mut deg), |deg, x, y, s| {
+            sums[s].add(deg[x + s].into(), deg[y + s].into(), 1)
+        });
+        out.extend(sums.iter().map(Sums::r));
+        first += g;
+    }
+    out
+}
+
+/// Visit each pair's sub-networks among `batch` (codes `batch.start + 1..=batch.end`) with
+/// `table`, the first entries of its two ends' rows of `batch.len()` counts in it and the slot
+/// in them. `a` is sorted, so the first end's counts are read in order; a second end's row
+/// shares one line, asked for ahead.
+#[inline(always)]
+fn each_member<T>(
+    (a, b): (&[u32], &[u32]),
+    (off, codes): (&[u32], &[u16]),
+    (batch, table): (std::ops::Range<usize>, &mut [T]),
+    mut visit: impl FnMut(&mut [T], usize, usize, usize),
+) {
+    let g = batch.len();
+    for (e, (&x, &y)) in a.iter().zip(b).enumerate() {
+        second_end_ahead(table, b, e, g);
+        for &c in &codes[off[e] as usize..off[e + 1] as usize] {
+            let c = usize::from(c);
+            if c > batch.start && c <= batch.end {
+                visit(table, x as usize * g, y as usize * g, c - 1 - batch.start);
+            }
+        }
+    }
 }
 
 /// Jackknife standard error of r, variant A of the methods sheet: each pair left out in turn
@@ -112,7 +212,8 @@ pub fn joint_degree_counts(a: &[u32], b: &[u32], deg: &[u32]) -> Vec<((u32, u32)
     let small = max.min(DENSE_DEGREES) as usize;
     let mut dense = vec![0u64; (small + 1) * (small + 1)];
     let mut sparse: hashbrown::HashMap<(u32, u32), u64> = hashbrown::HashMap::new();
-    for (&x, &y) in a.iter().zip(b) {
+    for (e, (&x, &y)) in a.iter().zip(b).enumerate() {
+        second_end_ahead(deg, b, e, 1);
         let (j, k) = (deg[x as usize], deg[y as usize]);
         let (j, k) = (j.min(k), j.max(k));
         if k as usize <= small {
@@ -288,53 +389,104 @@ pub struct AttributeMixing {
     pub r: Stat,
 }
 
-/// Pairs counted by the groups of their ends (row p, column q: a pair between p and q counts
-/// in both cells), the pairs with both groups known, and the others.
-fn count_pairs(
-    a: &[u32],
-    b: &[u32],
-    g: usize,
-    group: impl Fn(u32) -> Option<usize>,
-) -> (Vec<u64>, u64, u64) {
-    let mut pairs = vec![0u64; g * g];
-    let (mut known, mut unknown) = (0u64, 0u64);
-    for (&x, &y) in a.iter().zip(b) {
-        match (group(x), group(y)) {
-            (Some(p), Some(q)) => {
-                pairs[p * g + q] += 1;
-                if p != q {
-                    pairs[q * g + p] += 1;
-                }
-                known += 1;
-            }
-            _ => unknown += 1,
-        }
-    }
-    (pairs, known, unknown)
+/// One categorical attribute of people, for [`attribute_mixing`].
+pub struct Grouping<'a> {
+    /// Each person's value code; `missing`, or no entry (people past the end), for none.
+    pub codes: &'a [u32],
+    /// The code of a missing value.
+    pub missing: u32,
+    /// The group of each value code (groups numbered as `labels` are listed).
+    pub group: Vec<u32>,
+    /// The groups' labels.
+    pub labels: Vec<String>,
 }
 
-/// Mixing by `group[i]` (None = unknown) over the pairs.
+/// No group (a missing value) in the pass's table of every person's groups (16-bit: at most
+/// [`MAX_GROUPS`] groups, and a smaller table keeps more of itself in cache).
+const NO_GROUP: u16 = u16::MAX;
+
+/// Per attribute: pairs counted by the groups of their ends (row p, column q: a pair between p
+/// and q counts in both cells), the pairs with both groups known, and the others.
+type Counted = (Vec<u64>, u64, u64);
+
+/// Count the pairs by the groups of their ends under every attribute in one pass: each
+/// person's groups side by side in one table (so a pair reads one line per end, not one per
+/// end and attribute; the first ends come in order, since `a` is sorted).
+fn count_pairs((a, b): (&[u32], &[u32]), people: usize, attrs: &[Grouping]) -> Vec<Counted> {
+    let k = attrs.len();
+    let mut table = vec![NO_GROUP; people * k];
+    for (t, at) in attrs.iter().enumerate() {
+        for (row, &c) in table.chunks_exact_mut(k).zip(at.codes) {
+            if c != at.missing {
+                row[t] = at.group[c as usize] as u16;
+            }
+        }
+    }
+    let mut out: Vec<Counted> = attrs
+        .iter()
+        .map(|at| (vec![0u64; at.labels.len().pow(2)], 0, 0))
+        .collect();
+    for (e, (&x, &y)) in a.iter().zip(b).enumerate() {
+        second_end_ahead(&table, b, e, k);
+        let (rx, ry) = (x as usize * k, y as usize * k);
+        for (t, (pairs, known, unknown)) in out.iter_mut().enumerate() {
+            let (p, q) = (table[rx + t], table[ry + t]);
+            if p == NO_GROUP || q == NO_GROUP {
+                *unknown += 1;
+                continue;
+            }
+            let (p, q, g) = (usize::from(p), usize::from(q), attrs[t].labels.len());
+            pairs[p * g + q] += 1;
+            if p != q {
+                pairs[q * g + p] += 1;
+            }
+            *known += 1;
+        }
+    }
+    out
+}
+
+/// Attributes with more groups than this get no mixing table (it would hold the square of
+/// their number: 128 MiB here), and so no r.
+pub const MAX_GROUPS: usize = 4096;
+
+/// Mixing by each of `attrs` over the pairs, counted in one pass (an attribute with more than
+/// [`MAX_GROUPS`] groups gets no table and r says why).
 pub fn attribute_mixing(
-    a: &[u32],
-    b: &[u32],
-    group: &[Option<u32>],
-    labels: Vec<String>,
-) -> AttributeMixing {
-    let g = labels.len();
-    // The groups as 16-bit codes where they fit (a handful of groups, millions of people): the
-    // pass reads two of them per pair at random, and a quarter of the bytes stays in cache.
-    let (flat, known, unknown) = if g < usize::from(u16::MAX) {
-        let small: Vec<u16> = group
-            .iter()
-            .map(|x| x.map_or(u16::MAX, |v| v as u16))
-            .collect();
-        count_pairs(a, b, g, |v| {
-            let c = small[v as usize];
-            (c != u16::MAX).then_some(c as usize)
-        })
-    } else {
-        count_pairs(a, b, g, |v| group[v as usize].map(|c| c as usize))
+    (a, b): (&[u32], &[u32]),
+    people: usize,
+    attrs: Vec<Grouping>,
+) -> Vec<AttributeMixing> {
+    let (counted, too_many): (Vec<_>, Vec<_>) = attrs
+        .into_iter()
+        .enumerate()
+        .partition(|(_, at)| at.labels.len() <= MAX_GROUPS);
+    let (order, counted): (Vec<usize>, Vec<Grouping>) = counted.into_iter().unzip();
+    let counts = match counted.is_empty() {
+        true => Vec::new(),
+        false => count_pairs((a, b), people, &counted),
     };
+    let mut out: Vec<(usize, AttributeMixing)> = order
+        .into_iter()
+        .zip(counted.into_iter().zip(counts))
+        .map(|(i, (at, c))| (i, mixing_of(at.labels, c)))
+        .collect();
+    out.extend(too_many.into_iter().map(|(i, _)| {
+        let m = AttributeMixing {
+            groups: Vec::new(),
+            pairs: Vec::new(),
+            unknown: 0,
+            r: Err("more than 4096 groups: no mixing table"),
+        };
+        (i, m)
+    }));
+    out.sort_by_key(|(i, _)| *i);
+    out.into_iter().map(|(_, m)| m).collect()
+}
+
+/// Mixing and r from the pairs counted by their ends' groups.
+fn mixing_of(labels: Vec<String>, (flat, known, unknown): Counted) -> AttributeMixing {
+    let g = labels.len();
     let pairs: Vec<Vec<u64>> = flat.chunks(g.max(1)).map(<[u64]>::to_vec).collect();
     let pairs = if g == 0 { Vec::new() } else { pairs };
     let r = if known == 0 {

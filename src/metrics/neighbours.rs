@@ -62,7 +62,14 @@ pub fn neighbours_of(g: &Adjacency, deg: &[u32], people: impl Iterator<Item = u3
     let mut contact_excess = vec![0.0f64; max.max(1)];
     let (mut s1, mut s2) = (0u128, 0u128);
     let mut count = 0usize;
-    for i in people.map(|i| i as usize) {
+    let mut people = people.map(|i| i as usize).peekable();
+    while let Some(i) = people.next() {
+        // The contacts' degrees sit anywhere: ask for those of the next person's contacts.
+        if let Some(&next) = people.peek() {
+            for &j in g.neighbors_slice(next as u32) {
+                crate::prefetch::prefetch(deg, j as usize);
+            }
+        }
         count += 1;
         let k = deg[i];
         s1 += u128::from(k);

@@ -521,3 +521,103 @@ fn cut_points_match_removing_each_person_in_turn() {
         )
         .unwrap();
 }
+
+/// Mixing by several attributes counted in one pass is each attribute's plain count (the
+/// definition of the mixing table; networkx checks r itself in
+/// `tests/crosscheck/networkx_check.py`): on random pairs over 300 people, with missing values,
+/// people past the end of a column, value codes that map to one group, a second attribute with
+/// more groups than a mixing table is made for (no table, r says why), and a third.
+#[test]
+fn attribute_mixing_of_several_attributes_in_one_pass() {
+    let mut state = 0x9e37_79b9_7f4a_7c15u64;
+    let mut next = move |m: u64| {
+        state ^= state << 13;
+        state ^= state >> 7;
+        state ^= state << 17;
+        state % m
+    };
+    let n = 300u32;
+    let mut pairs: Vec<(u32, u32)> = (0..2000)
+        .map(|_| (next(n as u64) as u32, next(n as u64) as u32))
+        .filter(|(x, y)| x != y)
+        .map(|(x, y)| (x.min(y), x.max(y)))
+        .collect();
+    pairs.sort_unstable();
+    pairs.dedup();
+    let (a, b): (Vec<u32>, Vec<u32>) = pairs.into_iter().unzip();
+    const MISSING: u32 = u32::MAX;
+    // Attribute 0: 6 value codes in 4 groups, a tenth missing, the last 20 people absent.
+    let small: Vec<u32> = (0..n - 20)
+        .map(|_| {
+            if next(10) == 0 {
+                MISSING
+            } else {
+                next(6) as u32
+            }
+        })
+        .collect();
+    let small_group = vec![2, 0, 3, 1, 0, 2];
+    // Attribute 1: 70,000 groups, of which the people hold a few.
+    let wide: Vec<u32> = (0..n).map(|_| 69_990 + next(10) as u32).collect();
+    let wide_group: Vec<u32> = (0..70_000).collect();
+    let labels = |g: usize| (0..g).map(|i| format!("g{i:05}")).collect::<Vec<_>>();
+    let grouping = |codes, group: &Vec<u32>, g| mixing::Grouping {
+        codes,
+        missing: MISSING,
+        group: group.clone(),
+        labels: labels(g),
+    };
+    let plain = |codes: &[u32], group: &[u32], g: usize| {
+        let of = |v: u32| {
+            let c = *codes.get(v as usize)?;
+            (c != MISSING).then(|| group[c as usize] as usize)
+        };
+        let mut counts = vec![vec![0u64; g]; g];
+        let (mut known, mut unknown) = (0u64, 0u64);
+        for (&x, &y) in a.iter().zip(&b) {
+            match (of(x), of(y)) {
+                (Some(p), Some(q)) => {
+                    counts[p][q] += 1;
+                    if p != q {
+                        counts[q][p] += 1;
+                    }
+                    known += 1;
+                }
+                _ => unknown += 1,
+            }
+        }
+        (counts, known, unknown)
+    };
+    // A third attribute: 3 value codes, 3 groups, nobody missing.
+    let third: Vec<u32> = (0..n).map(|_| next(3) as u32).collect();
+    let third_group = vec![0, 1, 2];
+    let all = mixing::attribute_mixing(
+        (&a, &b),
+        n as usize,
+        vec![
+            grouping(&small, &small_group, 4),
+            grouping(&wide, &wide_group, 70_000),
+            grouping(&third, &third_group, 3),
+        ],
+    );
+    assert_eq!(all.len(), 3);
+    for (i, (codes, group, g)) in [(&small, &small_group, 4), (&third, &third_group, 3)]
+        .into_iter()
+        .enumerate()
+    {
+        let m = &all[2 * i];
+        let alone = mixing::attribute_mixing((&a, &b), n as usize, vec![grouping(codes, group, g)]);
+        assert_eq!(m, &alone[0]);
+        let (counts, known, unknown) = plain(codes, group, g);
+        assert_eq!(m.pairs, counts);
+        assert_eq!(m.unknown, unknown);
+        assert!(known > 0 && unknown + known == a.len() as u64);
+        let r = m.r.expect("defined");
+        assert!((-1.0..=1.0).contains(&r), "r = {r}");
+    }
+    assert!(all[0].unknown > 0 && all[2].unknown == 0);
+    // More groups than a table is made for: no table, and r says why.
+    assert!(all[1].groups.is_empty() && all[1].pairs.is_empty());
+    assert!(all[1].r.is_err());
+    assert!(mixing::attribute_mixing((&a, &b), n as usize, Vec::new()).is_empty());
+}
