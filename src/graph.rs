@@ -12,6 +12,7 @@ use petgraph::Undirected;
 
 use crate::ingest::reconcile::NO_DATE;
 use crate::ingest::rows::ExposureRows;
+use crate::prefetch::{prefetch, PAIRS_AHEAD};
 use crate::sort::radix_sort_by_key;
 
 /// The adjacency: node weights unused, edge weight = index into [`Edges`].
@@ -375,7 +376,8 @@ impl Edges {
 /// (from pairs (v, y), in increasing y). So no second sort is needed.
 pub fn adjacency(nodes: usize, edges: &Edges) -> Adjacency {
     let mut offset = vec![0usize; nodes + 1];
-    for (&a, &b) in edges.a.iter().zip(&edges.b) {
+    for (e, (&a, &b)) in edges.a.iter().zip(&edges.b).enumerate() {
+        crate::prefetch::second_end_ahead(&offset[1..], &edges.b, e, 1);
         offset[a as usize + 1] += 1;
         offset[b as usize + 1] += 1;
     }
@@ -392,6 +394,15 @@ pub fn adjacency(nodes: usize, edges: &Edges) -> Adjacency {
     let fill = |list: &mut [(u32, u32, u32)], next: &mut [usize], (first, base): (usize, usize)| {
         let end = first + next.len();
         for (e, (&a, &b)) in edges.a.iter().zip(&edges.b).enumerate() {
+            // The second ends come at random: ask for their next slots ahead, and for the
+            // list entries those slots point at half as far ahead.
+            let ahead = |d: usize| edges.b.get(e + d).map(|&y| y as usize);
+            if let Some(y) = ahead(PAIRS_AHEAD).filter(|y| (first..end).contains(y)) {
+                prefetch(next, y - first);
+            }
+            if let Some(y) = ahead(PAIRS_AHEAD / 2).filter(|y| (first..end).contains(y)) {
+                prefetch(list, next[y - first].wrapping_sub(base));
+            }
             for (v, w) in [(a, b), (b, a)] {
                 let v = v as usize;
                 if (first..end).contains(&v) {
