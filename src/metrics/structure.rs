@@ -192,65 +192,70 @@ fn triangles_at(fwd: &Forward, u: u32, t: &mut [u64]) {
     }
 }
 
-/// How many people ahead of the k-core walk their lists are asked for.
+/// How many people ahead of the k-core peeling their lists are asked for (and half as far
+/// ahead, their contacts' degrees).
 const CORE_AHEAD: usize = 8;
 
-/// k-core number of every person (Batagelj & Zaversnik 2003, O(M)).
+/// A person already peeled off, in the k-core walk's degree array.
+const PEELED: u32 = u32::MAX;
+
+/// k-core number of every person, by peeling in levels: at level k, everyone whose degree
+/// among the people left is at most k is taken off (their core number is k), with each
+/// contact left losing one degree and, at k or below, following them in the same level.
 ///
-/// Each person's current degree and place in the order sit side by side (one cache line read
-/// for both when a contact's degree drops).
+/// The same numbers as Batagelj & Zaversnik's bucket order (2003), with one random access per
+/// contact (its degree, and whether it is gone, in one word) where the bucket moves took three;
+/// each level scans the people still left in order.
 pub fn core_numbers(g: &Adjacency, deg: &[u32]) -> Vec<u32> {
     let n = deg.len();
-    let max = deg.iter().copied().max().unwrap_or(0) as usize;
-    // Bucket people by degree; `at` holds each person's (current degree, place in `vert`),
-    // `vert` the order.
-    let mut bin = vec![0u32; max + 2];
-    for &k in deg {
-        bin[k as usize + 1] += 1;
-    }
-    for k in 1..bin.len() {
-        bin[k] += bin[k - 1];
-    }
-    let mut at: Vec<(u32, u32)> = Vec::with_capacity(n);
-    let mut vert = vec![0u32; n];
-    let mut next = bin.clone();
-    for (v, &k) in deg.iter().enumerate() {
-        let k = k as usize;
-        at.push((k as u32, next[k]));
-        vert[next[k] as usize] = v as u32;
-        next[k] += 1;
-    }
-    for i in 0..n {
-        // People come in degree order, so their lists sit anywhere: ask for the list of the
-        // person CORE_AHEAD places on, and for the degrees and places of the contacts of the
-        // one half as far on (a hint only: the order ahead may still change).
-        if let Some(&x) = vert.get(i + CORE_AHEAD) {
-            prefetch(g.neighbors_slice(x), 0);
-        }
-        if let Some(&x) = vert.get(i + CORE_AHEAD / 2) {
-            for &u in g.neighbors_slice(x) {
-                prefetch(&at, u as usize);
+    let mut left_deg = deg.to_vec();
+    let mut core = vec![0u32; n];
+    let mut left: Vec<u32> = (0..n as u32).collect();
+    let mut queue: Vec<u32> = Vec::new();
+    let mut k = 0u32;
+    while !left.is_empty() {
+        // Everyone left has a degree above the last level: the next level is the least.
+        k = left
+            .iter()
+            .map(|&v| left_deg[v as usize])
+            .min()
+            .unwrap_or(k)
+            .max(k);
+        queue.clear();
+        for &v in &left {
+            if left_deg[v as usize] <= k {
+                left_deg[v as usize] = PEELED;
+                queue.push(v);
             }
         }
-        let v = vert[i] as usize;
-        let dv = at[v].0;
-        for &u in g.neighbors_slice(v as u32) {
-            let u = u as usize;
-            let (du, pu) = at[u];
-            if du > dv {
-                // Move u to the front of its bucket, then shrink its degree by one.
-                let pw = bin[du as usize];
-                let w = vert[pw as usize] as usize;
-                if u != w {
-                    vert.swap(pu as usize, pw as usize);
-                    at[w].1 = pu;
+        let mut i = 0;
+        while i < queue.len() {
+            if let Some(&x) = queue.get(i + CORE_AHEAD) {
+                prefetch(g.neighbors_slice(x), 0);
+            }
+            if let Some(&x) = queue.get(i + CORE_AHEAD / 2) {
+                for &u in g.neighbors_slice(x) {
+                    prefetch(&left_deg, u as usize);
                 }
-                bin[du as usize] += 1;
-                at[u] = (du - 1, pw);
             }
+            let v = queue[i];
+            core[v as usize] = k;
+            for &u in g.neighbors_slice(v) {
+                let d = &mut left_deg[u as usize];
+                if *d == PEELED {
+                    continue;
+                }
+                *d -= 1;
+                if *d <= k {
+                    *d = PEELED;
+                    queue.push(u);
+                }
+            }
+            i += 1;
         }
+        left.retain(|&v| left_deg[v as usize] != PEELED);
     }
-    at.into_iter().map(|(d, _)| d).collect()
+    core
 }
 
 /// How many frames down the search path the lists of contacts still to look at are asked for,

@@ -621,3 +621,79 @@ fn attribute_mixing_of_several_attributes_in_one_pass() {
     assert!(all[1].r.is_err());
     assert!(mixing::attribute_mixing((&a, &b), n as usize, Vec::new()).is_empty());
 }
+
+/// Core numbers by their definition: the k-core is what is left after taking off, again and
+/// again, everyone with fewer than k contacts among those left, and a person's core number is
+/// the largest k whose k-core holds them (Seidman 1983; no external value needed), on random
+/// small networks including dense ones with deep cores, against the peeling in levels.
+#[test]
+fn core_numbers_match_the_definition() {
+    use hubwatch::metrics::structure;
+    use proptest::prelude::*;
+    let mut runner = proptest::test_runner::TestRunner::new(ProptestConfig::with_cases(300));
+    runner
+        .run(
+            &(
+                1usize..25,
+                proptest::collection::vec((0u32..25, 0u32..25), 0..200),
+            ),
+            |(n, raw)| {
+                let mut edges: Vec<(u32, u32)> = raw
+                    .into_iter()
+                    .map(|(a, b)| (a % n as u32, b % n as u32))
+                    .filter(|(a, b)| a != b)
+                    .map(|(a, b)| (a.min(b), a.max(b)))
+                    .collect();
+                edges.sort_unstable();
+                edges.dedup();
+                let mut list: Vec<(u32, u32, u32)> = edges
+                    .iter()
+                    .flat_map(|&(a, b)| [(a, b, 0), (b, a, 0)])
+                    .collect();
+                list.sort_unstable();
+                let mut g: hubwatch::graph::Adjacency =
+                    petgraph::csr::Csr::from_sorted_edges(&list).unwrap();
+                while g.node_count() < n {
+                    g.add_node(());
+                }
+                let deg = hubwatch::graph::degrees(&g);
+                // Who is in the k-core: take off anyone with fewer than k contacts left until
+                // nobody is.
+                let k_core = |k: u32| {
+                    let mut inside = vec![true; n];
+                    loop {
+                        let left = |v: usize| {
+                            edges
+                                .iter()
+                                .filter(|&&(a, b)| {
+                                    (a as usize == v && inside[b as usize])
+                                        || (b as usize == v && inside[a as usize])
+                                })
+                                .count() as u32
+                        };
+                        let off: Vec<usize> =
+                            (0..n).filter(|&v| inside[v] && left(v) < k).collect();
+                        if off.is_empty() {
+                            return inside;
+                        }
+                        for v in off {
+                            inside[v] = false;
+                        }
+                    }
+                };
+                let max = deg.iter().copied().max().unwrap_or(0);
+                let cores: Vec<Vec<bool>> = (0..=max + 1).map(k_core).collect();
+                let want: Vec<u32> = (0..n)
+                    .map(|v| {
+                        (0..=max)
+                            .filter(|&k| cores[k as usize][v])
+                            .max()
+                            .unwrap_or(0)
+                    })
+                    .collect();
+                prop_assert_eq!(structure::core_numbers(&g, &deg), want);
+                Ok(())
+            },
+        )
+        .unwrap();
+}
