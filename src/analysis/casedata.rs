@@ -128,7 +128,7 @@ pub fn case_stats(d: &Dataset) -> CaseStats {
                 let b = bits.trailing_zeros();
                 bits &= bits - 1;
                 let is_secondary = sec >> b & 1 == 1;
-                let t = &mut tally[k * 64 + b as usize];
+                let t = &mut tally[k * 8 + b as usize];
                 if lost[v] && !is_secondary {
                     t.2 += 1;
                 } else if immune[v] && !is_secondary {
@@ -244,30 +244,31 @@ fn exposed(d: &Dataset, is_case: &[bool], onset: &[Option<i32>]) -> (SlotBits, S
 }
 
 /// A set of slots (0: all settings, s: setting s) per person, as bits: a person's slots are
-/// one memory access, where an array per slot would be one each.
+/// one memory access, where an array per slot would be one each, and a byte per 8 slots keeps
+/// the table small (a handful of settings: one byte per person, most of it in cache).
 struct SlotBits {
-    words: usize,
-    bits: Vec<u64>,
+    bytes: usize,
+    bits: Vec<u8>,
 }
 
 impl SlotBits {
     /// No slot set, for `n` people and `slots` slots.
     fn new(n: usize, slots: usize) -> SlotBits {
-        let words = slots.div_ceil(64);
+        let bytes = slots.div_ceil(8);
         SlotBits {
-            words,
-            bits: vec![0; n * words],
+            bytes,
+            bits: vec![0; n * bytes],
         }
     }
 
     #[inline]
     fn set(&mut self, v: usize, slot: usize) {
-        self.bits[v * self.words + slot / 64] |= 1 << (slot % 64);
+        self.bits[v * self.bytes + slot / 8] |= 1 << (slot % 8);
     }
 
-    /// Person `v`'s words (slot `64 k + b` is bit `b` of word `k`).
+    /// Person `v`'s bytes (slot `8 k + b` is bit `b` of byte `k`).
     #[inline]
-    fn of(&self, v: usize) -> &[u64] {
-        &self.bits[v * self.words..(v + 1) * self.words]
+    fn of(&self, v: usize) -> &[u8] {
+        &self.bits[v * self.bytes..(v + 1) * self.bytes]
     }
 }

@@ -102,8 +102,8 @@ fn no_roles_means_case_statistics_say_why() {
     assert!(c.sar.p.is_err() && c.offspring.is_none());
 }
 
-/// More settings than fit one 64-bit word per person (the case statistics keep each person's
-/// settings as bits): the attack rate per setting is still each setting's own. Counted by hand
+/// More settings than fit one byte, or one 64-bit word, per person (the case statistics keep
+/// each person's settings as bits, a byte per 8): the attack rate per setting is still each setting's own. Counted by hand
 /// from the definitions of `analysis::casedata` (the secondary attack rate among traced
 /// contacts: common practice, no source).
 #[test]
