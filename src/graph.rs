@@ -7,6 +7,8 @@
 //! neighbour slices without pointer chasing (see DEVELOPERS.md for the measurement).
 //! This module opens no files.
 
+use std::mem::MaybeUninit;
+
 use petgraph::csr::Csr;
 use petgraph::Undirected;
 
@@ -189,35 +191,112 @@ impl<'c> Pair<'c> {
         }
     }
 
-    /// Append the folded pair as one edge.
+    /// Write the folded pair as pair `at` of a half.
     #[inline]
-    fn push(self, e: &mut Edges, (a, b): (u32, u32), n: u32, rows: &ExposureRows, settings: bool) {
-        e.a.push(a);
-        e.b.push(b);
-        e.rows.push(n);
-        e.a_named_b.push(self.named);
-        e.first.push(self.first);
-        e.last.push(self.last);
-        e.minutes.push(self.minutes);
-        if !rows.links.is_empty() {
-            e.links_ab.push(self.links.0);
-            e.links_ba.push(self.links.1);
+    fn put(self, half: &mut Half, at: usize, (a, b): (u32, u32), n: u32) {
+        let out = &mut half.slots;
+        out.a[at].write(a);
+        out.b[at].write(b);
+        out.rows[at].write(n);
+        out.a_named_b[at].write(self.named);
+        out.first[at].write(self.first);
+        out.last[at].write(self.last);
+        out.minutes[at].write(self.minutes);
+        if !out.links_ab.is_empty() {
+            out.links_ab[at].write(self.links.0);
+            out.links_ba[at].write(self.links.1);
         }
+        let tail = &mut half.tail;
         if self.spans.len() > 1 {
             self.spans.sort_unstable();
-            if e.span_off.is_empty() {
-                e.span_off.push(0);
+            if tail.span_off.is_empty() {
+                tail.span_off.push(0);
             }
-            e.span_pairs.push(e.a.len() as u32 - 1);
-            e.spans.extend_from_slice(self.spans);
-            e.span_off.push(e.spans.len() as u32);
+            tail.span_pairs.push(half.first_pair + at as u32);
+            tail.spans.extend_from_slice(self.spans);
+            tail.span_off.push(tail.spans.len() as u32);
         }
-        if settings {
+        if !out.setting_end.is_empty() {
             self.codes.sort_unstable();
-            e.setting_codes.extend_from_slice(self.codes);
-            e.setting_off.push(e.setting_codes.len() as u32);
+            tail.setting_codes.extend_from_slice(self.codes);
+            out.setting_end[at].write(tail.setting_codes.len() as u32);
         }
     }
+}
+
+/// The fixed-width arrays of one half's pairs, written in place (links and setting ends empty
+/// when the rows have none).
+struct Slots<'s> {
+    a: &'s mut [MaybeUninit<u32>],
+    b: &'s mut [MaybeUninit<u32>],
+    rows: &'s mut [MaybeUninit<u32>],
+    a_named_b: &'s mut [MaybeUninit<u32>],
+    first: &'s mut [MaybeUninit<i32>],
+    last: &'s mut [MaybeUninit<i32>],
+    minutes: &'s mut [MaybeUninit<f64>],
+    links_ab: &'s mut [MaybeUninit<u32>],
+    links_ba: &'s mut [MaybeUninit<u32>],
+    /// Where each pair's setting codes end, counted from the half's first code.
+    setting_end: &'s mut [MaybeUninit<u32>],
+}
+
+/// What varies in length in one half: setting codes and date spans (`span_pairs` already
+/// counted among all pairs).
+#[derive(Default)]
+struct Tail {
+    setting_codes: Vec<u16>,
+    span_pairs: Vec<u32>,
+    span_off: Vec<u32>,
+    spans: Vec<(i32, i32)>,
+}
+
+/// One half of the pairs being folded.
+struct Half<'s> {
+    slots: Slots<'s>,
+    tail: Tail,
+    /// Index of the half's first pair among all pairs.
+    first_pair: u32,
+}
+
+/// Room for `total` pairs in `e`'s fixed-width arrays (left uninitialised: every slot is
+/// written once by one half), cut after `left` pairs into two halves' slots.
+fn halves(e: &mut Edges, total: usize, left: usize, links: bool, settings: bool) -> [Slots<'_>; 2] {
+    fn room<T>(v: &mut Vec<T>, n: usize, left: usize) -> [&mut [MaybeUninit<T>]; 2] {
+        v.reserve_exact(n);
+        let (l, r) = v.spare_capacity_mut()[..n].split_at_mut(left.min(n));
+        [l, r]
+    }
+    let opt = |on: bool| if on { total } else { 0 };
+    if settings {
+        e.setting_off.push(0);
+    }
+    let [a0, a1] = room(&mut e.a, total, left);
+    let [b0, b1] = room(&mut e.b, total, left);
+    let [r0, r1] = room(&mut e.rows, total, left);
+    let [n0, n1] = room(&mut e.a_named_b, total, left);
+    let [f0, f1] = room(&mut e.first, total, left);
+    let [l0, l1] = room(&mut e.last, total, left);
+    let [m0, m1] = room(&mut e.minutes, total, left);
+    let [x0, x1] = room(&mut e.links_ab, opt(links), left);
+    let [y0, y1] = room(&mut e.links_ba, opt(links), left);
+    let [s0, s1] = room(&mut e.setting_off, opt(settings), left);
+    let slots =
+        |a, b, rows, a_named_b, first, last, minutes, links_ab, links_ba, setting_end| Slots {
+            a,
+            b,
+            rows,
+            a_named_b,
+            first,
+            last,
+            minutes,
+            links_ab,
+            links_ba,
+            setting_end,
+        };
+    [
+        slots(a0, b0, r0, n0, f0, l0, m0, x0, y0, s0),
+        slots(a1, b1, r1, n1, f1, l1, m1, x1, y1, s1),
+    ]
 }
 
 /// Collapse rows into pairs. Rows are sorted by pair with a stable radix sort, so the first
@@ -245,14 +324,41 @@ pub fn aggregate(rows: &ExposureRows, mut keys: Vec<u64>, want_row_edges: bool) 
     }
     let (left, right) = ((&keys[..cut], &order[..cut]), (&keys[cut..], &order[cut..]));
     let has_settings = !rows.fields.setting.is_empty();
-    // The left half reserves room for all pairs, so that appending the right half copies
-    // nothing but the right half.
-    let fold =
-        |part: (&[u64], &[u32]), cap: usize| fold_pairs(rows, part, &unpack, has_settings, cap);
-    let (all, half) = (keys.len(), right.0.len());
+    let links = !rows.links.is_empty();
     let parallel = keys.len() >= 100_000;
-    let (mut e, e2) = crate::par::beside(parallel, || fold(right, half), || fold(left, all));
-    e.append(e2);
+    // Each half writes its pairs straight into their places in the final arrays: the pairs
+    // of each half are counted first (a new key starts a pair), so the right half knows where
+    // it starts and nothing is copied afterwards.
+    let pairs_in =
+        |k: &[u64]| 1 + k.windows(2).filter(|w| w[0] != w[1]).count() - k.is_empty() as usize;
+    let (left_pairs, right_pairs) =
+        crate::par::beside(parallel, || pairs_in(right.0), || pairs_in(left.0));
+    let total = left_pairs + right_pairs;
+    let mut e = Edges::default();
+    let [slots_l, slots_r] = halves(&mut e, total, left_pairs, links, has_settings);
+    let half = |slots, first_pair: usize| Half {
+        slots,
+        tail: Tail::default(),
+        first_pair: first_pair as u32,
+    };
+    let fold = |part: (&[u64], &[u32]), mut h: Half| {
+        let written = fold_pairs(rows, part, &unpack, &mut h);
+        (written, h.tail)
+    };
+    let ((wl, tl), (wr, tr)) = crate::par::beside(
+        parallel,
+        || fold(right, half(slots_r, left_pairs)),
+        || fold(left, half(slots_l, 0)),
+    );
+    assert_eq!(
+        (wl, wr),
+        (left_pairs, right_pairs),
+        "pairs counted and folded"
+    );
+    // SAFETY: the halves wrote every slot of the `total` reserved in each array (slots
+    // 0..left_pairs and left_pairs..total, one write per pair, as just checked).
+    unsafe { e.set_len(total, links, has_settings) };
+    e.join_tails(tl, tr, left_pairs);
     // The sorted rows run through the pairs in order: the first row of each pair (in input
     // order, as the sort is stable) is the one used; a new key starts the next pair.
     let mut first_of_pair = vec![false; n];
@@ -282,34 +388,17 @@ pub fn aggregate(rows: &ExposureRows, mut keys: Vec<u64>, want_row_edges: bool) 
 /// so each row's attributes are a cache miss; asked for early, the misses overlap).
 const AHEAD: usize = 12;
 
-/// Fold sorted rows into pairs.
+/// Fold sorted rows into the pairs of a half; returns how many were written.
 fn fold_pairs(
     rows: &ExposureRows,
     (keys, order): (&[u64], &[u32]),
     unpack: &impl Fn(u64) -> (u64, u64),
-    has_settings: bool,
-    cap: usize,
-) -> Edges {
-    // Reserve for the worst case (every row its own pair): untouched capacity costs address
-    // space, not memory, and saves the copies of repeated growth.
-    let mut e = Edges {
-        a: Vec::with_capacity(cap),
-        b: Vec::with_capacity(cap),
-        rows: Vec::with_capacity(cap),
-        a_named_b: Vec::with_capacity(cap),
-        first: Vec::with_capacity(cap),
-        last: Vec::with_capacity(cap),
-        minutes: Vec::with_capacity(cap),
-        ..Edges::default()
-    };
-    if has_settings {
-        e.setting_off.reserve(cap + 1);
-        e.setting_codes.reserve(cap);
-        e.setting_off.push(0);
-    }
+    half: &mut Half,
+) -> usize {
     let mut codes: Vec<u16> = Vec::new();
     let mut spans: Vec<(i32, i32)> = Vec::new();
     let mut i = 0;
+    let mut at = 0;
     while i < keys.len() {
         let key = keys[i];
         let mut j = i;
@@ -322,49 +411,60 @@ fn fold_pairs(
             j += 1;
         }
         let (lo, hi) = unpack(key);
-        pair.push(
-            &mut e,
-            (lo as u32, hi as u32),
-            (j - i) as u32,
-            rows,
-            has_settings,
-        );
+        pair.put(half, at, (lo as u32, hi as u32), (j - i) as u32);
+        at += 1;
         i = j;
     }
-    e
+    at
 }
 
 impl Edges {
-    /// Append the pairs of `other` (all after this one's in pair order).
-    fn append(&mut self, mut other: Edges) {
-        let base = self.setting_codes.len() as u32;
-        let pairs = self.len() as u32;
-        self.a.append(&mut other.a);
-        self.b.append(&mut other.b);
-        self.rows.append(&mut other.rows);
-        self.a_named_b.append(&mut other.a_named_b);
-        self.first.append(&mut other.first);
-        self.last.append(&mut other.last);
-        self.minutes.append(&mut other.minutes);
-        self.links_ab.append(&mut other.links_ab);
-        self.links_ba.append(&mut other.links_ba);
-        self.setting_codes.append(&mut other.setting_codes);
-        if !other.span_off.is_empty() {
-            let spans = self.spans.len() as u32;
-            if self.span_off.is_empty() {
-                self.span_off.push(0);
+    /// Mark the `total` pairs the halves wrote into the reserved room as set.
+    ///
+    /// # Safety
+    /// Every slot `0..total` of each fixed-width array in use (and of the setting ends, after
+    /// the leading 0) must have been written.
+    unsafe fn set_len(&mut self, total: usize, links: bool, settings: bool) {
+        self.a.set_len(total);
+        self.b.set_len(total);
+        self.rows.set_len(total);
+        self.a_named_b.set_len(total);
+        self.first.set_len(total);
+        self.last.set_len(total);
+        self.minutes.set_len(total);
+        if links {
+            self.links_ab.set_len(total);
+            self.links_ba.set_len(total);
+        }
+        if settings {
+            self.setting_off.set_len(total + 1);
+        }
+    }
+
+    /// Take in the two halves' setting codes and date spans: the right half's setting ends
+    /// (after `left_pairs` pairs) and span offsets continue after the left half's.
+    fn join_tails(&mut self, mut left: Tail, right: Tail, left_pairs: usize) {
+        if !self.setting_off.is_empty() {
+            let base = left.setting_codes.len() as u32;
+            for end in &mut self.setting_off[left_pairs + 1..] {
+                *end += base;
             }
-            self.span_pairs
-                .extend(other.span_pairs.iter().map(|p| p + pairs));
-            self.span_off
-                .extend(other.span_off[1..].iter().map(|o| o + spans));
-            self.spans.append(&mut other.spans);
         }
-        if !other.setting_off.is_empty() {
-            // Skip the other half's leading 0: its offsets continue after this half's codes.
-            self.setting_off
-                .extend(other.setting_off[1..].iter().map(|o| o + base));
+        self.setting_codes = left.setting_codes;
+        self.setting_codes.extend_from_slice(&right.setting_codes);
+        if !right.span_off.is_empty() {
+            if left.span_off.is_empty() {
+                left.span_off.push(0);
+            }
+            let spans = left.spans.len() as u32;
+            left.span_off
+                .extend(right.span_off[1..].iter().map(|o| o + spans));
+            left.span_pairs.extend_from_slice(&right.span_pairs);
+            left.spans.extend_from_slice(&right.spans);
         }
+        self.span_pairs = left.span_pairs;
+        self.span_off = left.span_off;
+        self.spans = left.spans;
     }
 }
 
