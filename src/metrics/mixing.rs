@@ -107,11 +107,11 @@ fn within<T: Tally>(
     groups: usize,
     budget: usize,
 ) -> Vec<Stat> {
-    let batch = (budget / (people.max(1) * std::mem::size_of::<T>())).clamp(1, groups.max(1));
+    let per_batch = (budget / (people.max(1) * std::mem::size_of::<T>())).clamp(1, groups.max(1));
     let mut out = Vec::with_capacity(groups);
     let mut first = 0;
     while first < groups {
-        let g = batch.min(groups - first);
+        let g = per_batch.min(groups - first);
         let batch = first..first + g;
         let mut deg = vec![T::default(); people * g];
         each_member(
