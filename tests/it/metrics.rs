@@ -363,6 +363,29 @@ fn articulation_points_on_small_shapes() {
     }
 }
 
+/// The simple graph over `n` people (numbered modulo `n`) of the pairs `raw`: self-pairs
+/// dropped, repeats merged; its pairs as (smaller, larger), sorted, and its adjacency.
+fn simple_graph(n: usize, raw: &[(u32, u32)]) -> (Vec<(u32, u32)>, hubwatch::graph::Adjacency) {
+    let mut edges: Vec<(u32, u32)> = raw
+        .iter()
+        .map(|&(a, b)| (a % n as u32, b % n as u32))
+        .filter(|(a, b)| a != b)
+        .map(|(a, b)| (a.min(b), a.max(b)))
+        .collect();
+    edges.sort_unstable();
+    edges.dedup();
+    let mut list: Vec<(u32, u32, u32)> = edges
+        .iter()
+        .flat_map(|&(a, b)| [(a, b, 0), (b, a, 0)])
+        .collect();
+    list.sort_unstable();
+    let mut g: hubwatch::graph::Adjacency = petgraph::csr::Csr::from_sorted_edges(&list).unwrap();
+    while g.node_count() < n {
+        g.add_node(());
+    }
+    (edges, g)
+}
+
 /// The components that come with the articulation points are those of the plain search, on
 /// small shapes (a real network: `real_data::transmission_pairs_line_list`).
 #[test]
@@ -373,25 +396,7 @@ fn components_from_the_cut_point_search_match_the_plain_search() {
         vec![(0, 1), (1, 2), (2, 0), (2, 3), (6, 7), (7, 8)],
         vec![],
     ] {
-        let n = 10;
-        let mut list: Vec<(u32, u32, ())> = Vec::new();
-        for &(a, b) in &edges {
-            if a != b {
-                list.push((a, b, ()));
-                list.push((b, a, ()));
-            }
-        }
-        list.sort_unstable_by_key(|e| (e.0, e.1));
-        let mut g: hubwatch::graph::Adjacency = petgraph::csr::Csr::from_sorted_edges(
-            &list
-                .iter()
-                .map(|&(a, b, _)| (a, b, 0u32))
-                .collect::<Vec<_>>(),
-        )
-        .unwrap();
-        while g.node_count() < n {
-            g.add_node(());
-        }
+        let (_, g) = simple_graph(10, &edges);
         let (cut, parts) = structure::cut_points_and_components(&g);
         assert_eq!(parts, hubwatch::graph::components(&g));
         assert_eq!(cut, structure::articulation_points(&g));
@@ -488,24 +493,7 @@ fn cut_points_match_removing_each_person_in_turn() {
                 proptest::collection::vec((0u32..30, 0u32..30), 0..60),
             ),
             |(n, raw)| {
-                let mut edges: Vec<(u32, u32)> = raw
-                    .into_iter()
-                    .map(|(a, b)| (a % n as u32, b % n as u32))
-                    .filter(|(a, b)| a != b)
-                    .map(|(a, b)| (a.min(b), a.max(b)))
-                    .collect();
-                edges.sort_unstable();
-                edges.dedup();
-                let mut list: Vec<(u32, u32, u32)> = edges
-                    .iter()
-                    .flat_map(|&(a, b)| [(a, b, 0), (b, a, 0)])
-                    .collect();
-                list.sort_unstable();
-                let mut g: hubwatch::graph::Adjacency =
-                    petgraph::csr::Csr::from_sorted_edges(&list).unwrap();
-                while g.node_count() < n {
-                    g.add_node(());
-                }
+                let (edges, g) = simple_graph(n, &raw);
                 let all = clusters(n, &edges, None);
                 let want: Vec<u32> = (0..n as u32)
                     .filter(|&v| {
@@ -638,24 +626,7 @@ fn core_numbers_match_the_definition() {
                 proptest::collection::vec((0u32..25, 0u32..25), 0..200),
             ),
             |(n, raw)| {
-                let mut edges: Vec<(u32, u32)> = raw
-                    .into_iter()
-                    .map(|(a, b)| (a % n as u32, b % n as u32))
-                    .filter(|(a, b)| a != b)
-                    .map(|(a, b)| (a.min(b), a.max(b)))
-                    .collect();
-                edges.sort_unstable();
-                edges.dedup();
-                let mut list: Vec<(u32, u32, u32)> = edges
-                    .iter()
-                    .flat_map(|&(a, b)| [(a, b, 0), (b, a, 0)])
-                    .collect();
-                list.sort_unstable();
-                let mut g: hubwatch::graph::Adjacency =
-                    petgraph::csr::Csr::from_sorted_edges(&list).unwrap();
-                while g.node_count() < n {
-                    g.add_node(());
-                }
+                let (edges, g) = simple_graph(n, &raw);
                 let deg = hubwatch::graph::degrees(&g);
                 // Who is in the k-core: take off anyone with fewer than k contacts left until
                 // nobody is.
