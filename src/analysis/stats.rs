@@ -324,9 +324,9 @@ mod tests {
 
     /// r within each setting, from the settings' pairs gathered in one pass or from their
     /// degrees held all at once, one setting at a time, two at a time or with 32-bit counts, is
-    /// r over that setting's pairs alone with degrees counted among
-    /// them, as `mixing::assortativity` gives it (the same integer sums; networkx checks the
-    /// values themselves in `tests/crosscheck/networkx_check.py`).
+    /// r over that setting's pairs alone with degrees counted among them, as
+    /// `mixing::assortativity` gives it (the same integer sums; networkx checks the values
+    /// themselves in `tests/crosscheck/networkx_check.py`).
     #[test]
     fn r_by_setting_in_batches_is_r_of_each_setting_alone() {
         use crate::ingest::{dates, table::ReadOptions, LoadOptions};
