@@ -212,15 +212,12 @@ pub fn core_numbers(g: &Adjacency, deg: &[u32]) -> Vec<u32> {
     let mut core = vec![0u32; n];
     let mut left: Vec<u32> = (0..n as u32).collect();
     let mut queue: Vec<u32> = Vec::new();
+    // Everyone left has a degree above the last level: the next level is the least degree
+    // among them (found while the level's people are dropped from `left`).
+    let mut least = deg.iter().copied().min().unwrap_or(0);
     let mut k = 0u32;
     while !left.is_empty() {
-        // Everyone left has a degree above the last level: the next level is the least.
-        k = left
-            .iter()
-            .map(|&v| left_deg[v as usize])
-            .min()
-            .unwrap_or(k)
-            .max(k);
+        k = least.max(k);
         queue.clear();
         for &v in &left {
             if left_deg[v as usize] <= k {
@@ -253,7 +250,12 @@ pub fn core_numbers(g: &Adjacency, deg: &[u32]) -> Vec<u32> {
             }
             i += 1;
         }
-        left.retain(|&v| left_deg[v as usize] != PEELED);
+        least = u32::MAX;
+        left.retain(|&v| {
+            let d = left_deg[v as usize];
+            least = least.min(d);
+            d != PEELED
+        });
     }
     core
 }
