@@ -9,8 +9,9 @@
 //! For each export made by `../shared/bench/gen_export.py` it runs, alternately (A B A B …),
 //! `hubwatch summary --null-replicates 0 --json` and `peers.py --stack polars` as whole
 //! processes, measures each run with the kernel's accounting (wall, user and system CPU, peak
-//! resident memory of the process), and prints medians and the median of the pairwise ratios;
-//! then the dashboard's first frame (`hubwatch-dashbench --first-frame`, whole process). It
+//! resident memory of the process), and prints medians and the median of the pairwise ratios,
+//! with the CPU/wall of hubwatch's load alone (from its `HUBWATCH_STAGES` line); then the
+//! dashboard's first frame (`hubwatch-dashbench --first-frame`, whole process). It
 //! checks that both found the same people, contacts, r and components. Runs by hand, not in CI.
 
 use std::path::{Path, PathBuf};
@@ -55,13 +56,15 @@ struct Run {
     peak_mib: f64,
 }
 
-/// Run a command to completion with its output in `out`; the kernel's figures for it.
+/// Run a command to completion with its output in `out` (its messages in `out` with the
+/// extension `err`); the kernel's figures for it.
 #[allow(clippy::zombie_processes)] // reaped by wait4 below
 fn run(cmd: &mut Command, out: &Path) -> Run {
     let t = Instant::now();
+    let err = std::fs::File::create(out.with_extension("err")).map_or(Stdio::null(), Stdio::from);
     let child = cmd
         .stdout(std::fs::File::create(out).expect("output file"))
-        .stderr(Stdio::null())
+        .stderr(err)
         .spawn()
         .expect("start");
     let mut status = 0;
@@ -94,9 +97,11 @@ fn bin(name: &str) -> PathBuf {
 
 fn hubwatch(dir: &Path) -> Command {
     let mut c = Command::new(bin("hubwatch"));
-    c.arg("summary")
-        .arg(dir)
-        .args(["--null-replicates", "0", "--json"]);
+    c.env("HUBWATCH_STAGES", "1").arg("summary").arg(dir).args([
+        "--null-replicates",
+        "0",
+        "--json",
+    ]);
     for m in MAPPING {
         c.args(["--column", m]);
     }
@@ -108,6 +113,14 @@ fn summarise(name: &str, v: &[Run]) -> String {
     let cpu = median(v.iter().map(|r| (r.user + r.sys) / r.wall).collect());
     let peak = median(v.iter().map(|r| r.peak_mib).collect());
     format!("{name}: {wall:.3} s wall, CPU/wall {cpu:.2}, peak {peak:.0} MiB")
+}
+
+/// The load's CPU/wall from the stage line hubwatch wrote next to its output `out`.
+fn load_cpu_per_wall(out: &Path) -> Option<f64> {
+    let text = std::fs::read_to_string(out.with_extension("err")).ok()?;
+    let line = text.lines().find(|l| l.starts_with("stages:"))?;
+    let after = line.split("CPU/wall ").nth(1)?;
+    after.split(')').next()?.trim().parse().ok()
 }
 
 /// The figures both must agree on, from hubwatch's JSON and the peer's result.json.
@@ -146,9 +159,10 @@ fn one(args: &Args, dir: &Path) {
     // Warm-up of each (page cache, imports), then A B A B ...
     run(&mut hubwatch(dir), &ours);
     run(&mut peer(), &tmp.join("peer.txt"));
-    let (mut a, mut b, mut ratio) = (Vec::new(), Vec::new(), Vec::new());
+    let (mut a, mut b, mut ratio, mut load) = (Vec::new(), Vec::new(), Vec::new(), Vec::new());
     for _ in 0..args.runs {
         let x = run(&mut hubwatch(dir), &ours);
+        load.extend(load_cpu_per_wall(&ours));
         let y = run(&mut peer(), &tmp.join("peer.txt"));
         ratio.push(x.wall / y.wall);
         a.push(x);
@@ -170,6 +184,14 @@ fn one(args: &Args, dir: &Path) {
         "- {}",
         summarise("hubwatch summary --null-replicates 0 --json", &a)
     );
+    if !load.is_empty() {
+        println!(
+            "- hubwatch's load alone: CPU/wall {:.2} (min {:.2}, max {:.2})",
+            median(load.clone()),
+            load.iter().cloned().fold(f64::INFINITY, f64::min),
+            load.iter().cloned().fold(0.0, f64::max)
+        );
+    }
     println!(
         "- {}",
         summarise(&format!("peers.py --stack {}", args.stack), &b)

@@ -49,19 +49,21 @@ pub fn leave<T>(big: T) {
 }
 
 /// With `HUBWATCH_STAGES` set, where a command's time went, on stderr (for benchmarks and
-/// profiling; not part of any output contract).
-pub fn stages(t: &crate::dataset::Timings, load: f64, statistics: f64) {
+/// profiling; not part of any output contract). `load_cpu` is the CPU time of the load (all
+/// threads), shown as a multiple of its wall time.
+pub fn stages(t: &crate::dataset::Timings, (load, load_cpu): (f64, f64), statistics: f64) {
     if std::env::var_os("HUBWATCH_STAGES").is_none() {
         return;
     }
     eprintln!(
         "stages: parse {:.3} s, check+intern {:.3} s, merge pairs {:.3} s, adjacency {:.3} s \
-         (load {load:.3} s), statistics {statistics:.3} s; peak MiB after read, merge, adjacency \
-         and at the end: {:.0?}, {:.0}",
+         (load {load:.3} s, CPU/wall {:.2}), statistics {statistics:.3} s; peak MiB after read, \
+         merge, adjacency and at the end: {:.0?}, {:.0}",
         t.parse,
         t.reconcile,
         t.merge_pairs,
         t.graph,
+        load_cpu / load,
         t.peak_mib,
         crate::ingest::peak_mib()
     );

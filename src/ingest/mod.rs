@@ -135,6 +135,21 @@ pub fn peak_mib() -> f64 {
         .map_or(f64::NAN, |kib| kib / 1024.0)
 }
 
+/// CPU time (user and system) this process has used so far, in seconds, on all its threads
+/// (Unix `getrusage`; NaN elsewhere).
+pub fn cpu_secs() -> f64 {
+    #[cfg(unix)]
+    {
+        // SAFETY: getrusage fills the zeroed struct it is given.
+        let mut u: libc::rusage = unsafe { std::mem::zeroed() };
+        if unsafe { libc::getrusage(libc::RUSAGE_SELF, &mut u) } == 0 {
+            let secs = |tv: libc::timeval| tv.tv_sec as f64 + tv.tv_usec as f64 * 1e-6;
+            return secs(u.ru_utime) + secs(u.ru_stime);
+        }
+    }
+    f64::NAN
+}
+
 fn describe_format(meta: &table::TableMeta) -> String {
     match (meta.kind, meta.separator) {
         (table::FileKind::Text, Some(s)) => format!("delimited text ({})", s.describe()),

@@ -11,7 +11,7 @@ pub fn run(load: &LoadArgs, stats: &StatsArgs, as_json: bool) -> Result<()> {
         metrics: stats.options(),
         ..Parts::default()
     };
-    let t = std::time::Instant::now();
+    let (t, cpu) = (std::time::Instant::now(), crate::ingest::cpu_secs());
     let d = match &load.aggregates {
         Some(dir) => {
             let opts = load.options(false)?;
@@ -24,9 +24,10 @@ pub fn run(load: &LoadArgs, stats: &StatsArgs, as_json: bool) -> Result<()> {
         }
         None => load.load()?,
     };
-    let loaded = t.elapsed().as_secs_f64();
+    let (loaded, load_cpu) = (t.elapsed().as_secs_f64(), crate::ingest::cpu_secs() - cpu);
     let r = Report::build(d, parts)?;
-    crate::cli::stages(&r.d.timings, loaded, t.elapsed().as_secs_f64() - loaded);
+    let statistics = t.elapsed().as_secs_f64() - loaded;
+    crate::cli::stages(&r.d.timings, (loaded, load_cpu), statistics);
     if !as_json {
         emit(&summary::summary_text(&r.summary, &r.stats, &r.d))?;
         leave(r);
