@@ -139,6 +139,20 @@ fn check_run<'c>(
     run
 }
 
+/// Append the pair key and direction of each row whose source and target nodes are `parts`
+/// (two per row, the parts in row order).
+fn append_keys(keys: &mut Vec<u64>, forward: &mut Vec<bool>, parts: [&[u32]; 2]) {
+    let rows = (parts[0].len() + parts[1].len()) / 2;
+    keys.reserve(rows);
+    forward.reserve(rows);
+    for st in parts.iter().flat_map(|p| p.chunks_exact(2)) {
+        let (a, b) = (st[0], st[1]);
+        let (lo, hi) = if a < b { (a, b) } else { (b, a) };
+        keys.push(u64::from(lo) << 32 | u64::from(hi));
+        forward.push(a < b);
+    }
+}
+
 /// Exposure rows kept for aggregation, in input order.
 #[derive(Debug, Default)]
 pub struct ExposureRows {
@@ -228,34 +242,37 @@ impl ExposureRows {
             let shared = (&*new_ids, &*ids);
             check_run(rows, (chunk, cols), (run_ctx, checker.scratch()), shared)
         };
-        let (head, tail) = crate::par::beside(parallel, || run(cut..n), || run(0..cut));
+        let (mut head, mut tail) = crate::par::beside(parallel, || run(cut..n), || run(0..cut));
+        // The IDs no person has, both runs' in row order, numbered; their nodes put in place.
         let offset = head.nodes.len();
-        let mut nodes = head.nodes;
-        nodes.extend_from_slice(&tail.nodes);
-        let mut open = head.open;
-        open.extend(tail.open.into_iter().map(|o| o.moved(offset)));
+        let mut open = std::mem::take(&mut head.open);
+        open.extend(tail.open.drain(..).map(|o| o.moved(offset)));
         let numbered = new_ids.number(ids.len(), &open, open.len() >= PARALLEL_ROWS);
         for (o, v) in open.iter().zip(numbered) {
-            nodes[o.at] = v;
+            match o.at.checked_sub(offset) {
+                None => head.nodes[o.at] = v,
+                Some(at) => tail.nodes[at] = v,
+            }
         }
         drop(open);
-        self.keys.reserve(nodes.len() / 2);
-        self.forward.reserve(nodes.len() / 2);
-        for st in nodes.chunks_exact(2) {
-            let (a, b) = (st[0], st[1]);
-            let (lo, hi) = if a < b { (a, b) } else { (b, a) };
-            self.keys.push(u64::from(lo) << 32 | u64::from(hi));
-            self.forward.push(a < b);
-        }
+        // The runs joined in row order: the pair keys on one core, the fields on the other.
+        let (keys, forward, fields) = (&mut self.keys, &mut self.forward, &mut self.fields);
+        let (problems, ()) = crate::par::beside(
+            parallel,
+            || append_keys(keys, forward, [&head.nodes, &tail.nodes]),
+            || {
+                let mut problems = fields.keep(head.fields, mapped);
+                problems.extend(fields.keep(tail.fields, mapped));
+                problems
+            },
+        );
+        checker.problems.extend(problems);
         let mut usable = head.usable;
         usable.extend_from_slice(&tail.usable);
         ctx.counts.add(&head.counts);
         ctx.counts.add(&tail.counts);
         self.quarantined.extend(head.quarantined);
         self.quarantined.extend(tail.quarantined);
-        for fields in [head.fields, tail.fields] {
-            checker.problems.extend(self.fields.keep(fields, mapped));
-        }
         let (meta, m) = (ctx.meta, ctx.mapping);
         keep_extra_columns(
             &mut self.extras,
