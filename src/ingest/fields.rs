@@ -171,6 +171,22 @@ impl ExposureFields {
         }
     }
 
+    /// Room for `more` rows of the fields that are `mapped` (last, first, minutes, setting).
+    pub(super) fn reserve(&mut self, more: usize, mapped: [bool; 4]) {
+        if mapped[0] {
+            self.last.reserve(more);
+        }
+        if mapped[1] {
+            self.first.reserve(more);
+        }
+        if mapped[2] {
+            self.minutes.reserve(more);
+        }
+        if mapped[3] {
+            self.setting.reserve(more);
+        }
+    }
+
     /// The fields mapped so far (non-empty arrays).
     pub(super) fn mapped(&self) -> [bool; 4] {
         [

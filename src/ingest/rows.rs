@@ -228,6 +228,13 @@ impl ExposureRows {
             minutes: (min_c, cells.column(min_c, &meta.path)?),
         };
         let mapped = optional.mapped();
+        // Room for this chunk's rows and, by estimate, the rows still to come, so that the
+        // arrays are laid out once rather than grown (and moved) chunk by chunk; the estimate
+        // is held to 16 times the rows so far, as in the people table.
+        let ahead = chunk.rows_ahead.min(16 * (self.keys.len() + n));
+        self.keys.reserve(n + ahead);
+        self.forward.reserve(n + ahead);
+        self.fields.reserve(n + ahead, mapped);
         let cols = RunColumns { src, tgt, optional };
         // Two runs of rows on two cores; each counts and checks on its own, then the runs are
         // joined in row order.
