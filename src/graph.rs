@@ -484,14 +484,17 @@ pub fn adjacency(nodes: usize, edges: &Edges) -> Adjacency {
     for i in 0..nodes {
         offset[i + 1] += offset[i];
     }
-    let mut list = vec![(0u32, 0u32, 0u32); offset[nodes]];
     // Two workers, each writing the lists of its own half of the nodes (about half of the
-    // entries each) while reading every pair in order, so each list keeps pair order.
+    // entries each) while reading every pair in order, so each list keeps pair order. The
+    // list is not zeroed first (that was a pass over it on one core): every entry is written
+    // once by the fill.
     let total = offset[nodes];
+    let mut list: Vec<(u32, u32, u32)> = Vec::with_capacity(total);
     let mid = offset.partition_point(|&o| o < total / 2).min(nodes);
-    let (list_lo, list_hi) = list.split_at_mut(offset[mid]);
+    let (list_lo, list_hi) = list.spare_capacity_mut()[..total].split_at_mut(offset[mid]);
     let (next_lo, next_hi) = offset.split_at_mut(mid);
-    let fill = |list: &mut [(u32, u32, u32)], next: &mut [usize], (first, base): (usize, usize)| {
+    type Room = [MaybeUninit<(u32, u32, u32)>];
+    let fill = |list: &mut Room, next: &mut [usize], (first, base): (usize, usize)| {
         let end = first + next.len();
         for (e, (&a, &b)) in edges.a.iter().zip(&edges.b).enumerate() {
             // The second ends come at random: ask for their next slots ahead, and for the
@@ -507,7 +510,7 @@ pub fn adjacency(nodes: usize, edges: &Edges) -> Adjacency {
                 let v = v as usize;
                 if (first..end).contains(&v) {
                     let slot = &mut next[v - first];
-                    list[*slot - base] = (v as u32, w, e as u32);
+                    list[*slot - base].write((v as u32, w, e as u32));
                     *slot += 1;
                 }
             }
@@ -519,6 +522,9 @@ pub fn adjacency(nodes: usize, edges: &Edges) -> Adjacency {
         || fill(list_hi, next_hi, (mid, hi_base)),
         || fill(list_lo, next_lo, (0, 0)),
     );
+    // SAFETY: the counts give each node `degree` slots, together exactly `0..total`, and each
+    // pair wrote one entry into a slot of each of its two nodes: every entry is written.
+    unsafe { list.set_len(total) };
     // Sorted and unique by construction, so this cannot fail; a failure would leave an empty
     // graph, which the tests on every loader path would catch.
     let mut g: Adjacency = Csr::from_sorted_edges(&list).unwrap_or_else(|_| Csr::new());
