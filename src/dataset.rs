@@ -4,7 +4,7 @@
 
 use crate::config::Config;
 use crate::error::Result;
-use crate::graph::{self, Adjacency, Edges};
+use crate::graph::{self, Edges};
 use crate::ids::IdMap;
 use crate::ingest::ledger::{Ledger, Role};
 use crate::ingest::reconcile::Attributes;
@@ -22,8 +22,8 @@ pub struct Dataset {
     pub edges: Edges,
     /// Setting labels (code c is `settings[c - 1]`).
     pub settings: Vec<String>,
-    /// The graph.
-    pub graph: Adjacency,
+    /// The graph (possibly still being built: see [`graph::AdjacencyCell`]).
+    pub graph: graph::AdjacencyCell,
     /// Unmapped columns of the exposures table(s), one value per usable exposure row, in input
     /// order; `edge_of_row[r]` is the pair row r went into (both empty when there are none).
     pub exposure_extras: Attributes,
@@ -52,7 +52,8 @@ pub struct Timings {
     pub reconcile: f64,
     /// Sorting rows by pair and aggregating repeats.
     pub merge_pairs: f64,
-    /// Building the adjacency (petgraph Csr).
+    /// Building the adjacency's neighbour lists (petgraph's `Csr` is then made from them on a
+    /// thread of its own, beside the statistics, when the lists are of a size for it).
     pub graph: f64,
     /// Peak resident memory (MiB) of the process after parse+reconcile, merge and graph
     /// (Linux only; NaN elsewhere). The peak is monotonic, so each figure covers all earlier stages.
@@ -192,8 +193,11 @@ pub fn from_aggregates(
         });
     }
     let rows_in_view: u64 = edges.rows.iter().map(|&r| u64::from(r)).sum();
-    let graph = graph::adjacency(ids.len(), &edges);
-    ledger.warnings.extend(code_like_hubs(&ids, &graph));
+    let lists = graph::lists(ids.len(), &edges);
+    ledger
+        .warnings
+        .extend(code_like_hubs(&ids, lists.degrees()));
+    let graph = graph::AdjacencyCell::new(lists);
     let timings = Timings {
         parse: read_secs,
         reconcile: 0.0,
@@ -288,8 +292,12 @@ pub fn build(loaded: Loaded, view: &View) -> Result<Dataset> {
     drop(rows);
     crate::memory::give_back_freed_memory();
     let t2 = std::time::Instant::now();
-    let graph = graph::adjacency(ids.len(), &edges);
-    ledger.warnings.extend(code_like_hubs(&ids, &graph));
+    // The neighbour lists here; petgraph's adjacency from them beside what comes next.
+    let lists = graph::lists(ids.len(), &edges);
+    ledger
+        .warnings
+        .extend(code_like_hubs(&ids, lists.degrees()));
+    let graph = graph::AdjacencyCell::new(lists);
     crate::memory::give_back_after_load();
     let timings = Timings {
         parse: parse_secs,
@@ -374,12 +382,12 @@ fn rows_by_day(f: &ingest::fields::ExposureFields, keep: Option<&[bool]>) -> Vec
 /// People whose ID reads like a missing-value code and whose number of contacts is far above
 /// everyone else's (more than 10 and more than five times the 99th percentile): most likely
 /// "contact not identified" entered as an ID, which bends every statistic.
-fn code_like_hubs(ids: &IdMap, graph: &Adjacency) -> Option<ingest::ledger::Warning> {
+fn code_like_hubs(ids: &IdMap, degrees: &[u32]) -> Option<ingest::ledger::Warning> {
     let n = ids.len();
     if n == 0 {
         return None;
     }
-    let degree = |i: usize| graph.neighbors_slice(i as u32).len();
+    let degree = |i: usize| degrees[i] as usize;
     let mut degrees: Vec<usize> = (0..n).map(degree).collect();
     let k = (n * 99 / 100).min(n - 1);
     let p99 = *degrees.select_nth_unstable(k).1;

@@ -14,8 +14,10 @@ use petgraph::Undirected;
 
 use crate::ingest::reconcile::NO_DATE;
 use crate::ingest::rows::ExposureRows;
-use crate::prefetch::{prefetch, PAIRS_AHEAD};
 use crate::sort::radix_sort_by_key;
+
+mod csr;
+pub use csr::{adjacency, lists, AdjacencyCell, Lists};
 
 /// The adjacency: node weights unused, edge weight = index into [`Edges`].
 pub type Adjacency = Csr<(), u32, Undirected, u32>;
@@ -466,72 +468,6 @@ impl Edges {
         self.span_off = left.span_off;
         self.spans = left.spans;
     }
-}
-
-/// Build the adjacency over `nodes` people (isolated ones included).
-///
-/// `edges` come sorted by (a, b) with a < b (as [`aggregate`] leaves them). Placing each pair
-/// into both rows with a counting sort then yields every row already sorted: row v first
-/// receives its smaller neighbours (from pairs (x, v), in increasing x) and then its larger ones
-/// (from pairs (v, y), in increasing y). So no second sort is needed.
-pub fn adjacency(nodes: usize, edges: &Edges) -> Adjacency {
-    let mut offset = vec![0usize; nodes + 1];
-    for (e, (&a, &b)) in edges.a.iter().zip(&edges.b).enumerate() {
-        crate::prefetch::second_end_ahead(&offset[1..], &edges.b, e, 1);
-        offset[a as usize + 1] += 1;
-        offset[b as usize + 1] += 1;
-    }
-    for i in 0..nodes {
-        offset[i + 1] += offset[i];
-    }
-    // Two workers, each writing the lists of its own half of the nodes (about half of the
-    // entries each) while reading every pair in order, so each list keeps pair order. The
-    // list is not zeroed first (that was a pass over it on one core): every entry is written
-    // once by the fill.
-    let total = offset[nodes];
-    let mut list: Vec<(u32, u32, u32)> = Vec::with_capacity(total);
-    let mid = offset.partition_point(|&o| o < total / 2).min(nodes);
-    let (list_lo, list_hi) = list.spare_capacity_mut()[..total].split_at_mut(offset[mid]);
-    let (next_lo, next_hi) = offset.split_at_mut(mid);
-    type Room = [MaybeUninit<(u32, u32, u32)>];
-    let fill = |list: &mut Room, next: &mut [usize], (first, base): (usize, usize)| {
-        let end = first + next.len();
-        for (e, (&a, &b)) in edges.a.iter().zip(&edges.b).enumerate() {
-            // The second ends come at random: ask for their next slots ahead, and for the
-            // list entries those slots point at half as far ahead.
-            let ahead = |d: usize| edges.b.get(e + d).map(|&y| y as usize);
-            if let Some(y) = ahead(PAIRS_AHEAD).filter(|y| (first..end).contains(y)) {
-                prefetch(next, y - first);
-            }
-            if let Some(y) = ahead(PAIRS_AHEAD / 2).filter(|y| (first..end).contains(y)) {
-                prefetch(list, next[y - first].wrapping_sub(base));
-            }
-            for (v, w) in [(a, b), (b, a)] {
-                let v = v as usize;
-                if (first..end).contains(&v) {
-                    let slot = &mut next[v - first];
-                    list[*slot - base].write((v as u32, w, e as u32));
-                    *slot += 1;
-                }
-            }
-        }
-    };
-    let hi_base = next_hi.first().copied().unwrap_or(total);
-    crate::par::beside(
-        edges.a.len() >= 100_000,
-        || fill(list_hi, next_hi, (mid, hi_base)),
-        || fill(list_lo, next_lo, (0, 0)),
-    );
-    // SAFETY: the counts give each node `degree` slots, together exactly `0..total`, and each
-    // pair wrote one entry into a slot of each of its two nodes: every entry is written.
-    unsafe { list.set_len(total) };
-    // Sorted and unique by construction, so this cannot fail; a failure would leave an empty
-    // graph, which the tests on every loader path would catch.
-    let mut g: Adjacency = Csr::from_sorted_edges(&list).unwrap_or_else(|_| Csr::new());
-    while g.node_count() < nodes {
-        g.add_node(());
-    }
-    g
 }
 
 /// Degree of every node.

@@ -2,7 +2,6 @@
 //! `hubwatch summary --json`, is `report::json`).
 
 use crate::dataset::Dataset;
-use crate::graph;
 use crate::ingest::reconcile::AttrColumn;
 use crate::metrics::{degree, fits, mixing, neighbours, structure, Stat};
 
@@ -107,11 +106,14 @@ const MIXING_ATTRIBUTES: [&str; 2] = ["area", "age_group"];
 /// Compute every statistic. The independent parts run as tasks on all cores (triangle counting
 /// itself split across them); each result is the same as computed alone.
 pub fn compute(d: &Dataset, opts: &MetricOptions) -> NetworkStats {
-    let degrees = graph::degrees(&d.graph);
+    // The adjacency may still be in the making (see `graph::AdjacencyCell`): the degrees are
+    // known already, and a task that needs the adjacency waits for it on first use.
+    let degrees = d.graph.degrees().to_vec();
     let deg = &degrees[..];
     let g = &d.graph;
     let (mut clustering, mut cores, mut bridges, mut components) = (None, None, None, None);
     let (mut mixing, mut r_set, mut null, mut rest) = (None, None, None, None);
+    let mut near = None;
     // With HUBWATCH_STAGES set, each task says on stderr when it started and ended.
     let t0 = std::time::Instant::now();
     let timed = |what: &'static str, task: &mut dyn FnMut()| {
@@ -125,8 +127,10 @@ pub fn compute(d: &Dataset, opts: &MetricOptions) -> NetworkStats {
     rayon::scope(|s| {
         let (c, k, b, p) = (&mut clustering, &mut cores, &mut bridges, &mut components);
         // The one long sequential task goes first, so that the second core takes it at once
-        // (the first core works from the other end: the short tasks); clustering, whose
-        // triangle count splits across cores, comes next and fills both cores at the end.
+        // (the first core works from the other end: the short tasks, those that need no
+        // adjacency last spawned, so done first while it may still be being built);
+        // clustering, whose triangle count splits across cores, comes next and fills both
+        // cores at the end.
         s.spawn(move |_| {
             timed("cut points", &mut || {
                 let (cut, parts) = structure::cut_points_and_components(g);
@@ -143,6 +147,12 @@ pub fn compute(d: &Dataset, opts: &MetricOptions) -> NetworkStats {
                 *k = Some(structure::core_numbers(g, deg))
             })
         });
+        let nb = &mut near;
+        s.spawn(move |_| {
+            timed("neighbours", &mut || {
+                *nb = Some(neighbours::neighbours(g, deg))
+            })
+        });
         let (m, rs, nm, re) = (&mut mixing, &mut r_set, &mut null, &mut rest);
         s.spawn(move |_| timed("attribute mixing", &mut || *m = Some(attribute_mixing(d))));
         s.spawn(move |_| timed("r by setting", &mut || *rs = Some(r_by_setting(d, deg))));
@@ -155,12 +165,12 @@ pub fn compute(d: &Dataset, opts: &MetricOptions) -> NetworkStats {
         });
         s.spawn(move |_| timed("degree figures", &mut || *re = Some(degree_parts(d, deg))));
     });
-    let (cases, fits, degree, neighbours, r, r_se) = rest.expect("task ran");
+    let (cases, fits, degree, r, r_se) = rest.expect("task ran");
     NetworkStats {
         cases,
         fits,
         degree,
-        neighbours,
+        neighbours: near.expect("task ran"),
         r,
         r_se,
         null: null.expect("task ran"),
@@ -174,13 +184,12 @@ pub fn compute(d: &Dataset, opts: &MetricOptions) -> NetworkStats {
     }
 }
 
-/// The degree-based figures: case statistics, the distribution and its fits, neighbour
-/// degrees, r and its standard error.
+/// The degree-based figures that need no adjacency: case statistics, the distribution and its
+/// fits, r and its standard error.
 type DegreeParts = (
     super::casedata::CaseStats,
     DegreeFits,
     degree::DegreeStats,
-    neighbours::Neighbours,
     Stat,
     Stat,
 );
@@ -197,7 +206,6 @@ fn degree_parts(d: &Dataset, deg: &[u32]) -> DegreeParts {
         super::casedata::case_stats(d),
         fits,
         degree,
-        neighbours::neighbours(&d.graph, deg),
         mixing::assortativity_from_joint(&joint),
         mixing::jackknife_from_joint(&joint),
     )
@@ -359,7 +367,7 @@ mod tests {
             })
             .collect();
         assert!(alone.len() >= 3 && alone.iter().all(|(_, r)| r.is_ok()));
-        let deg = graph::degrees(&d.graph);
+        let deg = d.graph.degrees().to_vec();
         let lists = usize::MAX;
         assert_eq!(r_by_setting_within(&d, &deg, (lists, 0)), alone);
         for (degrees, max) in [(usize::MAX, &deg[..]), (0, &deg), (4 * d.people(), &deg)] {
