@@ -31,9 +31,6 @@ const FREE: Slot = Slot {
     idx: EMPTY,
 };
 
-/// Tables at least this large (bytes) ask for 2 MiB pages.
-const HUGE_TABLE: usize = 256 << 20;
-
 /// Keys up to this long are compared inside the table alone.
 const IN_SLOT: usize = 11;
 
@@ -129,15 +126,11 @@ impl IdMap {
 
     /// Lay the table out anew with `size` slots.
     fn rebuild(&mut self, size: usize) {
-        // Probes land anywhere in the table: at tens of millions of people it is a gigabyte,
-        // and on ordinary pages nearly every probe also misses the address-translation cache,
-        // so a table that large asks for 2 MiB pages. A smaller one does not: at 2 million
-        // people (64 MiB) the fresh 2 MiB pages cost more to fault in than they save (whole
-        // process 0.94x without them, five alternating runs at 10.6M rows).
+        // On ordinary pages: at 20 million people (a 1 GiB table) asking for 2 MiB pages made
+        // the load slower, not faster, once lookups were asked for in batches (check+intern
+        // 20.7-21.3 s against 14.0-16.1 s at 106M rows; fresh 2 MiB pages are slow to fault in
+        // on a virtual machine).
         let mut slots = Vec::with_capacity(size);
-        if size * std::mem::size_of::<Slot>() >= HUGE_TABLE {
-            crate::prefetch::advise_huge_pages(&slots);
-        }
         slots.resize(size, FREE);
         let mask = size - 1;
         let mut start = 0;

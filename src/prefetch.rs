@@ -36,29 +36,3 @@ pub fn second_end_ahead<T>(table: &[T], b: &[u32], e: usize, width: usize) {
         prefetch(table, y as usize * width);
     }
 }
-
-/// Tables at least this large are worth large pages.
-const LARGE: usize = 32 << 20;
-const HUGE_PAGE: usize = 2 << 20;
-
-/// Ask the kernel to back the (not yet written) capacity of `v` with 2 MiB pages, where it
-/// offers them on request (Linux transparent huge pages in `madvise` or `always` mode); only
-/// for tables of at least 32 MiB. Nothing changes but how the pages are backed.
-pub fn advise_huge_pages<T>(v: &Vec<T>) {
-    let bytes = v.capacity() * std::mem::size_of::<T>();
-    if bytes < LARGE {
-        return;
-    }
-    #[cfg(target_os = "linux")]
-    {
-        let start = (v.as_ptr() as usize).next_multiple_of(HUGE_PAGE);
-        let end = (v.as_ptr() as usize + bytes) / HUGE_PAGE * HUGE_PAGE;
-        if end > start {
-            // SAFETY: the range lies inside the vector's own allocation; the advice changes how
-            // the kernel backs the pages, never their contents.
-            unsafe {
-                libc::madvise(start as *mut libc::c_void, end - start, libc::MADV_HUGEPAGE);
-            }
-        }
-    }
-}
