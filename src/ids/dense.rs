@@ -11,6 +11,8 @@
 //! character outside ASCII may fold into the prefix). With IDs compared without case, the
 //! prefix is compared without ASCII case (the map holds it folded).
 
+use std::sync::atomic::{AtomicU32, Ordering};
+
 use super::IdMap;
 
 /// Marks a number no ID of the map has.
@@ -18,6 +20,17 @@ const NONE: u32 = u32::MAX;
 
 /// Most digits read (so that the number fits 32 bits).
 const MAX_DIGITS: usize = 9;
+
+/// From this many people on, the index is built on two cores.
+const PARALLEL_FROM: usize = 200_000;
+
+/// The shape and range of the numbers of a run of IDs.
+struct Shape {
+    same_width: bool,
+    canonical: bool,
+    low: u32,
+    high: u32,
+}
 
 /// The direct index of a map (see the module).
 #[derive(Debug, Clone)]
@@ -58,30 +71,58 @@ impl DenseIds {
             return None;
         }
         let width = first.1.len();
-        let (mut same_width, mut canonical) = (true, true);
-        let (mut low, mut high) = (u32::MAX, 0u32);
-        for i in 0..n as u32 {
-            let (p, d, v) = split(ids.key_of(i).as_bytes())?;
-            if *p != *prefix {
-                return None;
+        // Two passes over the IDs, each on two cores from this many people on: the shape and
+        // range of the numbers, then each number's node.
+        let parallel = n >= PARALLEL_FROM;
+        let halves = [0..n / 2, n / 2..n];
+        let shape_of = |range: std::ops::Range<usize>| -> Option<Shape> {
+            let mut shape = Shape {
+                same_width: true,
+                canonical: true,
+                low: u32::MAX,
+                high: 0,
+            };
+            for i in range {
+                let (p, d, v) = split(ids.key_of(i as u32).as_bytes())?;
+                if *p != *prefix {
+                    return None;
+                }
+                shape.same_width &= d.len() == width;
+                shape.canonical &= d.len() == 1 || d[0] != b'0';
+                if !shape.same_width && !shape.canonical {
+                    return None;
+                }
+                shape.low = shape.low.min(v);
+                shape.high = shape.high.max(v);
             }
-            same_width &= d.len() == width;
-            canonical &= d.len() == 1 || d[0] != b'0';
-            if !same_width && !canonical {
-                return None;
-            }
-            low = low.min(v);
-            high = high.max(v);
+            Some(shape)
+        };
+        let [h0, h1] = halves.clone();
+        let (s0, s1) = crate::par::beside(parallel, || shape_of(h1), || shape_of(h0));
+        let (s0, s1) = (s0?, s1?);
+        let (same_width, canonical) =
+            (s0.same_width && s1.same_width, s0.canonical && s1.canonical);
+        if !same_width && !canonical {
+            return None;
         }
+        let (low, high) = (s0.low.min(s1.low), s0.high.max(s1.high));
         let span = (high - low) as usize + 1;
         if span > 4 * n + 1024 {
             return None;
         }
-        let mut node = vec![NONE; span];
-        for i in 0..n as u32 {
-            let (_, _, v) = split(ids.key_of(i).as_bytes())?;
-            node[(v - low) as usize] = i;
-        }
+        // Under the shape every ID has its own number, so the two halves write different
+        // entries.
+        let node: Vec<AtomicU32> = (0..span).map(|_| AtomicU32::new(NONE)).collect();
+        let place = |range: std::ops::Range<usize>| {
+            for i in range {
+                if let Some((_, _, v)) = split(ids.key_of(i as u32).as_bytes()) {
+                    node[(v - low) as usize].store(i as u32, Ordering::Relaxed);
+                }
+            }
+        };
+        let [h0, h1] = halves;
+        crate::par::beside(parallel, || place(h1), || place(h0));
+        let node: Vec<u32> = node.into_iter().map(AtomicU32::into_inner).collect();
         Some(DenseIds {
             prefix,
             width: same_width.then_some(width),
@@ -210,5 +251,41 @@ mod tests {
         ] {
             assert!(DenseIds::build(&map(ids, true)).is_none(), "{ids:?}");
         }
+    }
+
+    /// Built on two cores (from `PARALLEL_FROM` people on): the same answers, in either
+    /// order of the IDs; and no index when the halves differ in shape (fixed width in one,
+    /// no leading zeros in the other) or one half has an ID of another shape.
+    #[test]
+    fn built_on_two_cores() {
+        let n = PARALLEL_FROM as u32 + 1000;
+        let shuffled = |i: u32| (i * 7919) % n;
+        let ids: Vec<String> = (0..n).map(|i| format!("P{:07}", shuffled(i))).collect();
+        let m = map(&ids.iter().map(String::as_str).collect::<Vec<_>>(), true);
+        agrees(&m, &ASKED);
+        let half = n as usize / 2;
+        let widths: Vec<String> = (0..n as usize)
+            .map(|i| match i < half {
+                true => format!("P{:07}", i + 1_000_000),
+                false => format!("P{}", i + 1_000_000 + half),
+            })
+            .collect();
+        let m = map(&widths.iter().map(String::as_str).collect::<Vec<_>>(), true);
+        agrees(&m, &["P1000000", "P01000000"]);
+        let mut mixed: Vec<String> = (0..n).map(|i| format!("P{:07}", i)).collect();
+        mixed[half + 5] = "P0000000x".into();
+        let m = map(&mixed.iter().map(String::as_str).collect::<Vec<_>>(), true);
+        assert!(DenseIds::build(&m).is_none());
+        let zeros: Vec<String> = (0..n as usize)
+            .map(|i| match i < half {
+                true => format!("P{:08}", i),
+                false => format!("P{}", i),
+            })
+            .collect();
+        let m = map(&zeros.iter().map(String::as_str).collect::<Vec<_>>(), true);
+        assert!(
+            DenseIds::build(&m).is_none(),
+            "fixed width and canonical numbers mixed"
+        );
     }
 }
