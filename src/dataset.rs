@@ -388,9 +388,9 @@ fn code_like_hubs(ids: &IdMap, degrees: &[u32]) -> Option<ingest::ledger::Warnin
         return None;
     }
     let degree = |i: usize| degrees[i] as usize;
-    let mut degrees: Vec<usize> = (0..n).map(degree).collect();
+    let mut ordered: Vec<usize> = (0..n).map(degree).collect();
     let k = (n * 99 / 100).min(n - 1);
-    let p99 = *degrees.select_nth_unstable(k).1;
+    let p99 = *ordered.select_nth_unstable(k).1;
     let bar = (5 * p99).max(10);
     let hits: Vec<String> = (0..n)
         .filter(|&i| degree(i) > bar && ingest::warnings::looks_like_code(ids.name(i as u32)))

@@ -16,8 +16,8 @@ use crate::prefetch::{prefetch, PAIRS_AHEAD};
 /// Neighbour lists of fewer entries are made into the graph at once (a thread costs more).
 /// Larger ones of any size are made into it beside the statistics: the lists and the graph's
 /// growing arrays then share memory with the statistics' first arrays, but at 106M rows the
-/// peak stayed under 10 GiB (9875 and 10091 MiB in two runs, 9883 MiB built at once) and the
-/// whole run took 59.1-61.3 s against 69.5 s.
+/// peak stayed under 10 GiB (9862-10091 MiB in five runs, 9883 MiB built at once) and the
+/// whole run took 57.2-61.3 s against 69.5 s.
 const BESIDE_FROM: usize = 100_000;
 
 /// Every person's neighbour list, sorted, each entry with its pair (what petgraph's adjacency
@@ -59,7 +59,7 @@ pub fn adjacency(nodes: usize, edges: &Edges) -> Adjacency {
 
 /// The neighbour lists of `nodes` people (isolated ones included).
 ///
-/// `edges` come sorted by (a, b) with a < b (as [`aggregate`] leaves them). Placing each pair
+/// `edges` come sorted by (a, b) with a < b (as [`super::aggregate`] leaves them). Placing each pair
 /// into both rows with a counting sort then yields every row already sorted: row v first
 /// receives its smaller neighbours (from pairs (x, v), in increasing x) and then its larger ones
 /// (from pairs (v, y), in increasing y). So no second sort is needed.
