@@ -22,3 +22,18 @@ pub fn beside<M, S: Send>(
         (m, s)
     })
 }
+
+/// [`beside`] on the thread pool's workers (`rayon::join`), for work done many times in a row
+/// (each piece of a table): no thread is made for each call. Only where the pool is otherwise
+/// idle, as while a table is read: with both workers busy, `side` waits and runs after `main`.
+pub fn on_pool<M: Send, S: Send>(
+    parallel: bool,
+    side: impl FnOnce() -> S + Send,
+    main: impl FnOnce() -> M + Send,
+) -> (M, S) {
+    if !parallel {
+        let m = main();
+        return (m, side());
+    }
+    rayon::join(main, side)
+}

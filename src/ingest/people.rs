@@ -135,7 +135,7 @@ impl PeopleBuilder {
             rules: &checker.rules,
         };
         let values = &mut attrs.values;
-        let (nodes, coded) = crate::par::beside(
+        let (nodes, coded) = crate::par::on_pool(
             n >= PARALLEL_ROWS,
             move || code_all(values),
             || interned.rows(columns[id_col], chunk),

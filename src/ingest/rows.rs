@@ -249,7 +249,7 @@ impl ExposureRows {
             let shared = (&*new_ids, &*ids);
             check_run(rows, (chunk, cols), (run_ctx, checker.scratch()), shared)
         };
-        let (mut head, mut tail) = crate::par::beside(parallel, || run(cut..n), || run(0..cut));
+        let (mut head, mut tail) = crate::par::on_pool(parallel, || run(cut..n), || run(0..cut));
         // The IDs no person has, both runs' in row order, numbered; their nodes put in place.
         let offset = head.nodes.len();
         let mut open = std::mem::take(&mut head.open);
@@ -264,7 +264,7 @@ impl ExposureRows {
         drop(open);
         // The runs joined in row order: the pair keys on one core, the fields on the other.
         let (keys, forward, fields) = (&mut self.keys, &mut self.forward, &mut self.fields);
-        let (problems, ()) = crate::par::beside(
+        let (problems, ()) = crate::par::on_pool(
             parallel,
             || append_keys(keys, forward, [&head.nodes, &tail.nodes]),
             || {
