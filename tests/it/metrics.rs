@@ -386,6 +386,34 @@ fn simple_graph(n: usize, raw: &[(u32, u32)]) -> (Vec<(u32, u32)>, hubwatch::gra
     (edges, g)
 }
 
+/// Run `check` on 300 random simple graphs (see [`simple_graph`]) of `people` people (a number
+/// in that range), made from up to `pairs` random pairs of numbers below its end.
+fn on_random_graphs(
+    people: std::ops::Range<usize>,
+    pairs: usize,
+    check: impl Fn(
+        usize,
+        Vec<(u32, u32)>,
+        hubwatch::graph::Adjacency,
+    ) -> Result<(), proptest::test_runner::TestCaseError>,
+) {
+    use proptest::prelude::*;
+    let top = people.end as u32;
+    let mut runner = proptest::test_runner::TestRunner::new(ProptestConfig::with_cases(300));
+    runner
+        .run(
+            &(
+                people,
+                proptest::collection::vec((0..top, 0..top), 0..pairs),
+            ),
+            |(n, raw)| {
+                let (edges, g) = simple_graph(n, &raw);
+                check(n, edges, g)
+            },
+        )
+        .unwrap();
+}
+
 /// The components that come with the articulation points are those of the plain search, on
 /// small shapes (a real network: `real_data::transmission_pairs_line_list`).
 #[test]
@@ -485,29 +513,19 @@ fn cut_points_match_removing_each_person_in_turn() {
             .filter(|&v| Some(v as u32) != without && find(&mut parent, v) == v)
             .count()
     }
-    let mut runner = proptest::test_runner::TestRunner::new(ProptestConfig::with_cases(300));
-    runner
-        .run(
-            &(
-                2usize..30,
-                proptest::collection::vec((0u32..30, 0u32..30), 0..60),
-            ),
-            |(n, raw)| {
-                let (edges, g) = simple_graph(n, &raw);
-                let all = clusters(n, &edges, None);
-                let want: Vec<u32> = (0..n as u32)
-                    .filter(|&v| {
-                        let isolated = !edges.iter().any(|&(a, b)| a == v || b == v);
-                        !isolated && clusters(n, &edges, Some(v)) > all
-                    })
-                    .collect();
-                let (cut, parts) = structure::cut_points_and_components(&g);
-                prop_assert_eq!(cut, want);
-                prop_assert_eq!(parts, hubwatch::graph::components(&g));
-                Ok(())
-            },
-        )
-        .unwrap();
+    on_random_graphs(2..30, 60, |n, edges, g| {
+        let all = clusters(n, &edges, None);
+        let want: Vec<u32> = (0..n as u32)
+            .filter(|&v| {
+                let isolated = !edges.iter().any(|&(a, b)| a == v || b == v);
+                !isolated && clusters(n, &edges, Some(v)) > all
+            })
+            .collect();
+        let (cut, parts) = structure::cut_points_and_components(&g);
+        prop_assert_eq!(cut, want);
+        prop_assert_eq!(parts, hubwatch::graph::components(&g));
+        Ok(())
+    });
 }
 
 /// Mixing by several attributes counted in one pass is each attribute's plain count (the
@@ -618,53 +636,42 @@ fn attribute_mixing_of_several_attributes_in_one_pass() {
 fn core_numbers_match_the_definition() {
     use hubwatch::metrics::structure;
     use proptest::prelude::*;
-    let mut runner = proptest::test_runner::TestRunner::new(ProptestConfig::with_cases(300));
-    runner
-        .run(
-            &(
-                1usize..25,
-                proptest::collection::vec((0u32..25, 0u32..25), 0..200),
-            ),
-            |(n, raw)| {
-                let (edges, g) = simple_graph(n, &raw);
-                let deg = hubwatch::graph::degrees(&g);
-                // Who is in the k-core: take off anyone with fewer than k contacts left until
-                // nobody is.
-                let k_core = |k: u32| {
-                    let mut inside = vec![true; n];
-                    loop {
-                        let left = |v: usize| {
-                            edges
-                                .iter()
-                                .filter(|&&(a, b)| {
-                                    (a as usize == v && inside[b as usize])
-                                        || (b as usize == v && inside[a as usize])
-                                })
-                                .count() as u32
-                        };
-                        let off: Vec<usize> =
-                            (0..n).filter(|&v| inside[v] && left(v) < k).collect();
-                        if off.is_empty() {
-                            return inside;
-                        }
-                        for v in off {
-                            inside[v] = false;
-                        }
-                    }
+    on_random_graphs(1..25, 200, |n, edges, g| {
+        let deg = hubwatch::graph::degrees(&g);
+        // Who is in the k-core: take off anyone with fewer than k contacts left until
+        // nobody is.
+        let k_core = |k: u32| {
+            let mut inside = vec![true; n];
+            loop {
+                let left = |v: usize| {
+                    edges
+                        .iter()
+                        .filter(|&&(a, b)| {
+                            (a as usize == v && inside[b as usize])
+                                || (b as usize == v && inside[a as usize])
+                        })
+                        .count() as u32
                 };
-                let max = deg.iter().copied().max().unwrap_or(0);
-                let cores: Vec<Vec<bool>> = (0..=max + 1).map(k_core).collect();
-                let want: Vec<u32> = (0..n)
-                    .map(|v| {
-                        (0..=max)
-                            .filter(|&k| cores[k as usize][v])
-                            .max()
-                            .unwrap_or(0)
-                    })
-                    .collect();
-                prop_assert_eq!(structure::core_numbers(&g, &deg), want);
-                Ok(())
-            },
-        )
-        .unwrap();
+                let off: Vec<usize> = (0..n).filter(|&v| inside[v] && left(v) < k).collect();
+                if off.is_empty() {
+                    return inside;
+                }
+                for v in off {
+                    inside[v] = false;
+                }
+            }
+        };
+        let max = deg.iter().copied().max().unwrap_or(0);
+        let cores: Vec<Vec<bool>> = (0..=max + 1).map(k_core).collect();
+        let want: Vec<u32> = (0..n)
+            .map(|v| {
+                (0..=max)
+                    .filter(|&k| cores[k as usize][v])
+                    .max()
+                    .unwrap_or(0)
+            })
+            .collect();
+        prop_assert_eq!(structure::core_numbers(&g, &deg), want);
+        Ok(())
+    });
 }
