@@ -389,8 +389,8 @@ pub fn plan_with(
     id_rank: &[u32],
     (t, source): (Option<f64>, TSource),
 ) -> Plan {
-    let degrees = crate::graph::degrees(&d.graph);
-    let p = crate::metrics::degree::degree_stats(&degrees).p();
+    let degrees = d.graph.degrees();
+    let p = crate::metrics::degree::degree_stats(degrees).p();
     let at_t = match t {
         Some(t) => outlook::indicators(&p, t),
         None => {
@@ -417,7 +417,7 @@ pub fn plan_with(
     let strategies = opts
         .strategies
         .iter()
-        .filter_map(|&s| strategy_curve(d, &degrees, s, priority_order.as_deref(), opts, id_rank))
+        .filter_map(|&s| strategy_curve(d, degrees, s, priority_order.as_deref(), opts, id_rank))
         .collect();
     Plan {
         t,

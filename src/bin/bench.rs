@@ -146,7 +146,7 @@ fn one(dir: &Path) -> Result<(), String> {
     let curve = hubwatch::metrics::reach::reach_curve(&d.graph, &order);
     std::hint::black_box(&curve);
     let acquaintance_curve_seconds = t.elapsed().as_secs_f64();
-    let p = hubwatch::metrics::degree::degree_stats(&hubwatch::graph::degrees(&d.graph)).p();
+    let p = hubwatch::metrics::degree::degree_stats(d.graph.degrees()).p();
     let t = Instant::now();
     std::hint::black_box(hubwatch::metrics::outlook::curve(&p, 101));
     let t_curve_seconds = t.elapsed().as_secs_f64();
@@ -425,13 +425,13 @@ fn print_tables(t: Tables) {
 
 /// Seconds for the null model with the default settings.
 fn null_model_seconds(d: &Dataset) -> f64 {
-    let deg = hubwatch::graph::degrees(&d.graph);
+    let deg = d.graph.degrees();
     let o = hubwatch::analysis::stats::MetricOptions::default();
     let t = Instant::now();
     let null = hubwatch::metrics::mixing::null_model(
         &d.edges.a,
         &d.edges.b,
-        &deg,
+        deg,
         o.null_replicates,
         o.null_swaps_per_edge,
         o.seed,

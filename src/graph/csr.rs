@@ -159,12 +159,6 @@ impl AdjacencyCell {
         }
     }
 
-    /// An adjacency already built.
-    pub fn ready(g: Adjacency) -> AdjacencyCell {
-        let degrees = super::degrees(&g);
-        AdjacencyCell::with_degrees(g, degrees)
-    }
-
     fn with_degrees(g: Adjacency, degrees: Vec<u32>) -> AdjacencyCell {
         AdjacencyCell {
             degrees,

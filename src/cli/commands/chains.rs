@@ -30,8 +30,7 @@ pub fn run(direction: &ChainDirection) -> Result<()> {
     lap("loaded");
     let people = People::of(&d);
     lap("people read");
-    let degrees = crate::graph::degrees(&d.graph);
-    let gain = chains::gain(&d, &people, &w, &degrees);
+    let gain = chains::gain(&d, &people, &w, d.graph.degrees());
     lap("gain measured");
     let shown = Ids {
         d: &d,
