@@ -1,9 +1,9 @@
 //! The cells of one chunk of rows, all as text: either a polars frame (Parquet, NDJSON,
 //! spreadsheets, quoted text) or plain delimited text tokenised in place.
 //!
-//! Plain text (no quote character, every line already checked to have the table's number of
-//! fields) needs no copy of its values: one pass records where each field starts, and a cell is
-//! a slice of the text. This reads the same cells as polars does (an empty field is missing, a
+//! Plain text (no quote character, every line a row with the table's number of fields) needs
+//! no copy of its values: one pass checks that it is plain and records where each field
+//! starts, and a cell is a slice of the text. This reads the same cells as polars does (an empty field is missing, a
 //! carriage return before the line end is not part of the last field), without building string
 //! columns first.
 
@@ -19,6 +19,52 @@ pub enum Cells<'a> {
     Text(TextCells<'a>),
 }
 
+/// What makes a line of delimited text a row of data: not blank, not a comment, not over the
+/// length limit (a carriage return before the line end not counted).
+#[derive(Debug, Clone, Copy)]
+pub struct RowLines<'c> {
+    /// Longest line read, in bytes.
+    pub max_line: usize,
+    /// Comment prefix (empty: none).
+    pub comment: &'c [u8],
+}
+
+impl RowLines<'_> {
+    /// Every line that holds something.
+    pub const ANY: RowLines<'static> = RowLines {
+        max_line: usize::MAX,
+        comment: b"",
+    };
+
+    /// True when `line` (without its line end) is a row of data.
+    #[inline]
+    pub fn is_row(&self, line: &[u8]) -> bool {
+        let l = super::sniff::trim_cr(line);
+        !l.is_empty()
+            && l.len() <= self.max_line
+            && !super::sniff::is_comment(l, self.comment)
+            && !super::sniff::is_blank(l)
+    }
+
+    /// [`RowLines::is_row`] for the line `start..end` of `text` whose fields are already
+    /// counted, the quicker way: with two fields or more, split at a separator other than a
+    /// space or a tab, the line cannot be blank (`blank_possible` false), and the comment
+    /// prefix is looked for only where the line starts with its first byte.
+    #[inline(always)]
+    fn is_row_at(&self, text: &[u8], (start, end): (usize, usize), blank_possible: bool) -> bool {
+        use super::sniff::{is_blank, trim_cr};
+        if end - start > self.max_line && trim_cr(&text[start..end]).len() > self.max_line {
+            return false;
+        }
+        if let Some(&c) = self.comment.first() {
+            if text.get(start) == Some(&c) && text[start..end].starts_with(self.comment) {
+                return false;
+            }
+        }
+        !(blank_possible && is_blank(trim_cr(&text[start..end])))
+    }
+}
+
 /// Plain delimited text and where its fields start.
 pub struct TextCells<'a> {
     text: &'a str,
@@ -29,10 +75,16 @@ pub struct TextCells<'a> {
 }
 
 impl<'a> TextCells<'a> {
-    /// Tokenise `piece`: lines of exactly `ncols` fields split at `sep`, no quotes. `None` when
-    /// the piece is not valid UTF-8, too long for 32-bit offsets, or a line has another number
-    /// of fields (the caller then reads it with polars, which reports what it finds).
-    pub fn tokenise(piece: &'a [u8], sep: u8, ncols: usize) -> Option<TextCells<'a>> {
+    /// Tokenise `piece`: lines of exactly `ncols` fields split at `sep`, each a row of data
+    /// by `rows`, no quote character anywhere. `None` when it is not so, or the piece is not
+    /// valid UTF-8 or too long for 32-bit offsets: the caller then reads it with the line scan
+    /// or polars, which report what they find.
+    pub fn tokenise(
+        piece: &'a [u8],
+        sep: u8,
+        ncols: usize,
+        rows: RowLines<'_>,
+    ) -> Option<TextCells<'a>> {
         if ncols == 0 || piece.len() >= u32::MAX as usize {
             return None;
         }
@@ -40,16 +92,25 @@ impl<'a> TextCells<'a> {
         let mut bounds: Vec<u32> = Vec::with_capacity(piece.len() / 6 + 2);
         bounds.push(0);
         let mut row_start = 0usize;
+        let mut line_start = 0usize;
+        let blank_possible = ncols == 1 || sep == b' ' || sep == b'\t';
         for b in super::delims::blocks(piece, sep) {
+            if b.quote != 0 {
+                return None;
+            }
             let mut found = b.sep | b.nl;
             while found != 0 {
                 let i = found.trailing_zeros();
-                bounds.push((b.base + i as usize) as u32 + 1);
+                let at = b.base + i as usize;
+                bounds.push(at as u32 + 1);
                 if b.nl >> i & 1 == 1 {
                     row_start += ncols;
-                    if bounds.len() != row_start + 1 {
+                    if bounds.len() != row_start + 1
+                        || !rows.is_row_at(piece, (line_start, at), blank_possible)
+                    {
                         return None;
                     }
+                    line_start = at + 1;
                 }
                 found &= found - 1;
             }
@@ -58,7 +119,10 @@ impl<'a> TextCells<'a> {
             // A last line without a line end.
             bounds.push(piece.len() as u32 + 1);
             row_start += ncols;
-            if bounds.len() != row_start + 1 {
+            let end = piece.len();
+            if bounds.len() != row_start + 1
+                || !rows.is_row_at(piece, (line_start, end), blank_possible)
+            {
                 return None;
             }
         }
@@ -313,7 +377,7 @@ mod tests {
             if final_newline {
                 text.push_str(end);
             }
-            let mine = TextCells::tokenise(text.as_bytes(), sep, 3).expect("plain text");
+            let mine = TextCells::tokenise(text.as_bytes(), sep, 3, RowLines::ANY).expect("plain text");
             let mine = Cells::Text(mine);
             prop_assert_eq!(table_of(&mine, 3), by_polars(&text, 3, sep));
             for r in 0..mine.height() {
@@ -324,13 +388,26 @@ mod tests {
         }
     }
 
-    /// A line with another number of fields, or text that is not UTF-8, is left to polars.
+    /// A line with another number of fields, text that is not UTF-8, a quote character, and a
+    /// line that is no row of data (blank, a comment, too long) are left to the line scan or
+    /// polars.
     #[test]
     fn refuses_what_it_cannot_read() {
-        assert!(TextCells::tokenise(b"a,b,c\nd,e\n", b',', 3).is_none());
-        assert!(TextCells::tokenise(b"a,b,c\nd,e,f,g\n", b',', 3).is_none());
-        assert!(TextCells::tokenise(b"a,\xff,c\n", b',', 3).is_none());
-        let t = TextCells::tokenise(b"a,,c\nd,e,f", b',', 3).expect("plain");
+        let any = RowLines::ANY;
+        assert!(TextCells::tokenise(b"a,b,c\nd,e\n", b',', 3, any).is_none());
+        assert!(TextCells::tokenise(b"a,b,c\nd,e,f,g\n", b',', 3, any).is_none());
+        assert!(TextCells::tokenise(b"a,\xff,c\n", b',', 3, any).is_none());
+        assert!(TextCells::tokenise(b"a,\"b\",c\n", b',', 3, any).is_none());
+        assert!(TextCells::tokenise(b"a\n \t\r\nc\n", b',', 1, any).is_none());
+        let rows = RowLines {
+            max_line: 6,
+            comment: b"#",
+        };
+        assert!(TextCells::tokenise(b"a,b,c\n#,b,c\n", b',', 3, rows).is_none());
+        assert!(TextCells::tokenise(b"a,b,c\nd,e,fgh\r\n", b',', 3, rows).is_none());
+        assert!(TextCells::tokenise(b"a,b,c\nd,e,fg\r\n", b',', 3, rows).is_some());
+        assert!(TextCells::tokenise(b"a,b,c\nd,e,fgh", b',', 3, rows).is_none());
+        let t = TextCells::tokenise(b"a,,c\nd,e,f", b',', 3, any).expect("plain");
         assert_eq!(t.height(), 2);
         assert_eq!(t.get(0, 1), None);
         assert_eq!(t.get(1, 2), Some("f"));

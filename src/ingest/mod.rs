@@ -16,6 +16,7 @@ pub mod intern;
 pub mod ledger;
 pub mod mapping;
 pub mod people;
+mod pieces;
 pub mod reconcile;
 pub mod roles;
 pub mod rows;

@@ -1,8 +1,10 @@
-//! One scan over the data lines of delimited text: comment and blank lines skipped, lines with
-//! the wrong number of fields or over the length limit set aside with their line, and a clean
-//! copy built only when something had to be left out. The common case (no quotes, every line
-//! good) is checked on two threads and copies nothing.
+//! One scan over the data lines of delimited text, from the first piece that is not plain (see
+//! [`super::pieces`]) to the end: comment and blank lines skipped, lines with the wrong number
+//! of fields or over the length limit set aside with their line, and a clean copy built only
+//! when something had to be left out. Text that turns out to be plain after all (no quotes,
+//! every line good) is checked on two threads and copies nothing.
 
+use super::cells::RowLines;
 use super::sniff::{self, Separator};
 use super::table::Rejected;
 
@@ -25,12 +27,13 @@ pub(super) fn scan_lines(
     region: &[u8],
     first_line: u64,
     ncols: usize,
-    (sep, max_line): (Separator, usize),
-    comment: &[u8],
+    sep: Separator,
+    rows: RowLines<'_>,
 ) -> Scan {
+    let (max_line, comment) = (rows.max_line, rows.comment);
     let needs_rewrite = sep == Separator::Whitespace;
     // The fast check fails on any quote character, so text that passes it has none.
-    if !needs_rewrite && fast_region_is_clean(region, ncols, (sep, max_line), comment) {
+    if !needs_rewrite && fast_region_is_clean(region, ncols, sep, rows) {
         return Scan {
             clean: None,
             lines: None,
@@ -122,23 +125,13 @@ fn record_end(region: &[u8], pos: usize, quoted: bool) -> (usize, u64) {
 /// The fast check for the common case: no quote character anywhere, every line non-blank, not
 /// a comment, with the right number of separators. Runs on two threads over the two halves of
 /// the region.
-fn fast_region_is_clean(
-    region: &[u8],
-    ncols: usize,
-    (sep, max_line): (Separator, usize),
-    comment: &[u8],
-) -> bool {
+fn fast_region_is_clean(region: &[u8], ncols: usize, sep: Separator, rows: RowLines<'_>) -> bool {
     let Separator::Byte(s) = sep else {
         return false;
     };
     let check = |part: &[u8]| -> bool {
         super::delims::count_fields_per_line(part, s, |start, end, seps| {
-            let l = sniff::trim_cr(&part[start..end]);
-            !l.is_empty()
-                && l.len() <= max_line
-                && !sniff::is_comment(l, comment)
-                && seps as usize + 1 == ncols
-                && !sniff::is_blank(l)
+            seps as usize + 1 == ncols && rows.is_row(&part[start..end])
         })
     };
     if region.len() < (4 << 20) {

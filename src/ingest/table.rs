@@ -8,9 +8,8 @@ use std::path::{Path, PathBuf};
 
 use polars::prelude::*;
 
-use super::cells::{Cells, TextCells};
+use super::cells::Cells;
 use super::decode::{self, Bytes, EncodingSetting, EncodingUsed, Limits};
-use super::scan::scan_lines;
 use super::sniff::{self, Separator};
 use crate::config::Config;
 use crate::error::{Error, Result};
@@ -154,24 +153,20 @@ enum Body {
     Frame(DataFrame, LineMap, Vec<Rejected>),
 }
 
-struct TextBody {
-    bytes: Bytes,
+/// Delimited text, opened: its bytes and what is known of their layout.
+pub(super) struct TextBody {
+    pub(super) bytes: Bytes,
     /// Offset of the first data line (after the header, if any).
-    data_start: usize,
+    pub(super) data_start: usize,
     /// 1-based line number of the first data line.
-    data_line: u64,
-    sep: Separator,
-    comment: Vec<u8>,
+    pub(super) data_line: u64,
+    pub(super) sep: Separator,
+    pub(super) comment: Vec<u8>,
     /// Lines set aside while decoding for their length.
-    long_lines: Vec<Rejected>,
+    pub(super) long_lines: Vec<Rejected>,
     /// Lines longer than this are set aside by the line scan.
-    max_line: usize,
+    pub(super) max_line: usize,
 }
-
-/// Most bytes of text read as one piece (bounds peak memory).
-const CHUNK_BYTES: usize = 48 << 20;
-/// Fewest bytes of text read as one piece, unless the file is smaller.
-const MIN_CHUNK_BYTES: usize = 4 << 20;
 
 impl Table {
     /// Open a file and read its header (cheap: the body is parsed by [`Table::read`]).
@@ -249,7 +244,7 @@ impl Table {
                 })?;
                 Ok(rejected)
             }
-            Body::Text(body) => read_text(&self.meta, body, opts, &mut sink),
+            Body::Text(body) => super::pieces::read_text(&self.meta, body, opts, &mut sink),
         }
     }
 }
@@ -435,128 +430,4 @@ pub(super) fn parse_piece(
             path: meta.path.clone(),
             source: e,
         })
-}
-
-/// The cells of one piece of clean delimited text: tokenised in place when it holds no quote
-/// (`plain`), else (or if that fails) parsed by polars.
-fn parse_cells<'a>(
-    meta: &TableMeta,
-    piece: &'a [u8],
-    schema: &SchemaRef,
-    (sep, plain): (Separator, bool),
-) -> Result<Cells<'a>> {
-    let sep_byte = match sep {
-        Separator::Byte(b) => b,
-        Separator::Whitespace => b'\t',
-    };
-    if plain {
-        if let Some(t) = TextCells::tokenise(piece, sep_byte, meta.columns.len()) {
-            return Ok(Cells::Text(t));
-        }
-    }
-    parse_piece(meta, piece, schema, sep).map(|mut f| {
-        f.rechunk_mut_par();
-        Cells::Frame(f)
-    })
-}
-
-fn read_text(
-    meta: &TableMeta,
-    body: TextBody,
-    opts: &ReadOptions,
-    sink: &mut dyn FnMut(Chunk<'_>) -> Result<()>,
-) -> Result<Vec<Rejected>> {
-    let region = &body.bytes[body.data_start.min(body.bytes.len())..];
-    let ncols = meta.columns.len();
-    let mut scan = scan_lines(
-        region,
-        body.data_line,
-        ncols,
-        (body.sep, body.max_line),
-        &body.comment,
-    );
-    if !body.long_lines.is_empty() {
-        scan.rejected.extend(body.long_lines.iter().cloned());
-        scan.rejected.sort_by_key(|r| r.line);
-    }
-    let data: &[u8] = scan.clean.as_deref().unwrap_or(region);
-    let schema: Schema = meta
-        .columns
-        .iter()
-        .map(|c| Field::new(c.as_str().into(), DataType::String))
-        .collect();
-    let schema = Arc::new(schema);
-    let chunk_bytes = if opts.chunk_rows > 0 {
-        opts.chunk_rows * 40
-    } else {
-        // At least eight pieces where the file allows, so that reading the next piece
-        // overlaps checking this one in smaller exports too.
-        (data.len() / 8).clamp(MIN_CHUNK_BYTES, CHUNK_BYTES)
-    };
-    // Cut at a line end after every `chunk_bytes`.
-    let mut cuts = Vec::new();
-    let mut pos = 0usize;
-    while pos < data.len() {
-        let end = if scan.quoted || data.len() - pos <= chunk_bytes {
-            data.len()
-        } else {
-            memchr::memchr(b'\n', &data[pos + chunk_bytes..])
-                .map_or(data.len(), |i| pos + chunk_bytes + i + 1)
-        };
-        cuts.push((pos, end));
-        pos = end;
-    }
-    // The next piece is parsed on a thread of its own while the sink checks this one (at most
-    // one parsed piece waits), so parsing and checking overlap on two cores. Pieces arrive in
-    // order; an error on either side stops both.
-    let (tx, rx) = std::sync::mpsc::sync_channel::<Result<Cells>>(1);
-    let (cut_list, schema_ref, sep, plain) = (&cuts, &schema, body.sep, !scan.quoted);
-    // Owns the sender: when it is done (or the sink has gone), the receiving loop ends.
-    let parse_all = move || {
-        for &(start, end) in cut_list {
-            let parsed = parse_cells(meta, &data[start..end], schema_ref, (sep, plain));
-            let failed = parsed.is_err();
-            if tx.send(parsed).is_err() || failed {
-                break;
-            }
-        }
-    };
-    std::thread::scope(|s| -> Result<()> {
-        // Moved in, so that an early return drops it and a parser waiting to send stops.
-        let rx = rx;
-        s.spawn(parse_all);
-        let mut rows_done = 0usize;
-        for (parsed, &(start, end)) in rx.iter().zip(&cuts) {
-            let cells = parsed?;
-            let n = cells.height();
-            let rows_ahead =
-                ((data.len() - end) as u128 * n as u128 / (end - start).max(1) as u128) as usize;
-            let lines = match &scan.lines {
-                None => LineMap::Contiguous {
-                    first: body.data_line + rows_done as u64,
-                },
-                Some(v) => {
-                    let slice = v.get(rows_done..rows_done + n).ok_or_else(|| {
-                        Error::format(
-                            &meta.path,
-                            "internal error: row count differs from the line scan; please report",
-                        )
-                    })?;
-                    LineMap::Explicit(slice.to_vec())
-                }
-            };
-            rows_done += n;
-            sink(Chunk {
-                cells,
-                lines,
-                rows_ahead,
-            })?;
-            if scan.clean.is_none() {
-                // The chunk is consumed: its mapped pages need not stay resident.
-                body.bytes.release_before(body.data_start + end);
-            }
-        }
-        Ok(())
-    })?;
-    Ok(scan.rejected)
 }
