@@ -238,36 +238,42 @@ pub fn build(loaded: Loaded, view: &View) -> Result<Dataset> {
     } = loaded;
     crate::memory::give_back_freed_memory();
     let t1 = std::time::Instant::now();
-    // The near-duplicate ID check reads only the IDs: it runs beside the merge.
-    let (agg, near_duplicates) = std::thread::scope(|sc| {
-        let near = sc.spawn(|| ingest::warnings::id_collisions(&ids));
-        // With the whole export in view, the rows' keys are not read again: the sort takes
-        // their array instead of a copy.
-        let keys = match view.is_all() {
-            true => std::mem::take(&mut rows.keys),
-            false => rows.keys.clone(),
-        };
-        let agg = graph::aggregate(&rows, keys, !rows.extras.names.is_empty());
-        (
-            agg,
-            near.join().unwrap_or_else(|p| std::panic::resume_unwind(p)),
-        )
-    });
-    ledger.warnings.extend(near_duplicates);
-    let merge_pairs = t1.elapsed().as_secs_f64();
-    let peak_merge = peak_mib();
-    count_used(&mut ledger, &rows.per_file, &agg.first_of_pair);
     let settings: Vec<String> = (0..rows.fields.settings.len() as u32)
         .map(|i| rows.fields.settings.name(i).to_string())
         .collect();
+    let want_row_edges = !rows.extras.names.is_empty();
     let exposure_extras = std::mem::take(&mut rows.extras);
-    let keep = match view.is_all() {
-        true => None,
-        false => Some(view::mask(view, &rows, &settings)?),
+    // With the whole export in view, the rows' keys are not read again: the sort takes their
+    // array instead of a copy.
+    let keys = match view.is_all() {
+        true => std::mem::take(&mut rows.keys),
+        false => rows.keys.clone(),
     };
-    let exposures_by_day = rows_by_day(&rows.fields, keep.as_deref());
+    // Beside the merge, what reads no pair: the near-duplicate ID check (only the IDs), the
+    // view's rows and the rows by day.
+    let (agg, side) = std::thread::scope(|sc| {
+        let side = sc.spawn(|| -> Result<_> {
+            let near = ingest::warnings::id_collisions(&ids);
+            let keep = match view.is_all() {
+                true => None,
+                false => Some(view::mask(view, &rows, &settings)?),
+            };
+            let by_day = rows_by_day(&rows.fields, keep.as_deref());
+            Ok((near, keep, by_day))
+        });
+        let agg = graph::aggregate(&rows, keys, want_row_edges);
+        (
+            agg,
+            side.join().unwrap_or_else(|p| std::panic::resume_unwind(p)),
+        )
+    });
+    let (near_duplicates, keep, exposures_by_day) = side?;
+    ledger.warnings.extend(near_duplicates);
+    let merge_pairs = t1.elapsed().as_secs_f64();
+    let peak_merge = peak_mib();
+    count_used(&mut ledger, &rows.per_file, &agg.used_per_file);
     let (edges, edge_of_row, rows_in_view) = if view.is_all() {
-        (agg.edges, agg.edge_of_row, agg.first_of_pair.len() as u64)
+        (agg.edges, agg.edge_of_row, agg.rows as u64)
     } else {
         // The ledger above counted every row; the network is built from the view's rows only.
         let keep = keep.unwrap_or_default();
@@ -413,17 +419,11 @@ fn code_like_hubs(ids: &IdMap, degrees: &[u32]) -> Option<ingest::ledger::Warnin
 
 /// Exposure rows that were usable are used (the first of their pair) or merged; then the
 /// per-table totals.
-fn count_used(ledger: &mut Ledger, per_file: &[(usize, usize)], first_of_pair: &[bool]) {
-    let mut start = 0;
-    for &(file, n) in per_file {
-        let used = first_of_pair[start..start + n]
-            .iter()
-            .filter(|&&f| f)
-            .count() as u64;
+fn count_used(ledger: &mut Ledger, per_file: &[(usize, usize)], used_per_file: &[u64]) {
+    for (&(file, n), &used) in per_file.iter().zip(used_per_file) {
         let c = &mut ledger.files[file].counts;
         c.used += used;
         c.merged += n as u64 - used;
-        start += n;
     }
     for f in &ledger.files {
         let total = if f.role == Role::People {

@@ -110,8 +110,11 @@ impl Edges {
 pub struct Aggregated {
     /// The pairs.
     pub edges: Edges,
-    /// Per usable row, in input order: true if it created its pair, false if merged.
-    pub first_of_pair: Vec<bool>,
+    /// Per entry of the rows' `per_file`: how many of its rows created their pair (the others
+    /// were merged into a pair already made).
+    pub used_per_file: Vec<u64>,
+    /// Number of usable rows.
+    pub rows: usize,
     /// Per usable row: the pair it went into (filled only when `want_row_edges`).
     pub edge_of_row: Vec<u32>,
 }
@@ -250,6 +253,8 @@ struct Tail {
     span_pairs: Vec<u32>,
     span_off: Vec<u32>,
     spans: Vec<(i32, i32)>,
+    /// Rows used (that made their pair), per file.
+    used: Vec<u64>,
 }
 
 /// One half of the pairs being folded.
@@ -338,13 +343,25 @@ pub fn aggregate(rows: &ExposureRows, mut keys: Vec<u64>, want_row_edges: bool) 
     let total = left_pairs + right_pairs;
     let mut e = Edges::default();
     let [slots_l, slots_r] = halves(&mut e, total, left_pairs, links, has_settings);
+    // Where each file's rows end among the usable rows, for counting the rows used per file.
+    let file_ends: Vec<usize> = rows
+        .per_file
+        .iter()
+        .scan(0, |end, &(_, k)| {
+            *end += k;
+            Some(*end)
+        })
+        .collect();
     let half = |slots, first_pair: usize| Half {
         slots,
-        tail: Tail::default(),
+        tail: Tail {
+            used: vec![0; file_ends.len()],
+            ..Tail::default()
+        },
         first_pair: first_pair as u32,
     };
     let fold = |part: (&[u64], &[u32]), mut h: Half| {
-        let written = fold_pairs(rows, part, &unpack, &mut h);
+        let written = fold_pairs(rows, part, (&unpack, &file_ends), &mut h);
         (written, h.tail)
     };
     let ((wl, tl), (wr, tr)) = crate::par::beside(
@@ -360,28 +377,22 @@ pub fn aggregate(rows: &ExposureRows, mut keys: Vec<u64>, want_row_edges: bool) 
     // SAFETY: the halves wrote every slot of the `total` reserved in each array (slots
     // 0..left_pairs and left_pairs..total, one write per pair, as just checked).
     unsafe { e.set_len(total, links, has_settings) };
+    let used_per_file = tl.used.iter().zip(&tr.used).map(|(l, r)| l + r).collect();
     e.join_tails(tl, tr, left_pairs);
-    // The sorted rows run through the pairs in order: the first row of each pair (in input
-    // order, as the sort is stable) is the one used; a new key starts the next pair.
-    let mut first_of_pair = vec![false; n];
-    let mut edge_of_row = if want_row_edges {
-        vec![0u32; n]
-    } else {
-        Vec::new()
-    };
-    let mut edge = 0u32;
-    for (i, (&key, &r)) in keys.iter().zip(&order).enumerate() {
-        if i == 0 || key != keys[i - 1] {
-            first_of_pair[r as usize] = true;
-            edge += u32::from(i > 0);
-        }
-        if want_row_edges {
+    // The sorted rows run through the pairs in order; a new key starts the next pair.
+    let mut edge_of_row = Vec::new();
+    if want_row_edges {
+        edge_of_row = vec![0u32; n];
+        let mut edge = 0u32;
+        for (i, (&key, &r)) in keys.iter().zip(&order).enumerate() {
+            edge += u32::from(i > 0 && key != keys[i - 1]);
             edge_of_row[r as usize] = edge;
         }
     }
     Aggregated {
         edges: e,
-        first_of_pair,
+        used_per_file,
+        rows: n,
         edge_of_row,
     }
 }
@@ -390,11 +401,13 @@ pub fn aggregate(rows: &ExposureRows, mut keys: Vec<u64>, want_row_edges: bool) 
 /// so each row's attributes are a cache miss; asked for early, the misses overlap).
 const AHEAD: usize = 12;
 
-/// Fold sorted rows into the pairs of a half; returns how many were written.
+/// Fold sorted rows into the pairs of a half, and count the rows used per file (the first of
+/// each pair in input order, as the sort is stable; files end at `file_ends` among the rows)
+/// into the half's tail; returns how many pairs were written.
 fn fold_pairs(
     rows: &ExposureRows,
     (keys, order): (&[u64], &[u32]),
-    unpack: &impl Fn(u64) -> (u64, u64),
+    (unpack, file_ends): (&impl Fn(u64) -> (u64, u64), &[usize]),
     half: &mut Half,
 ) -> usize {
     let mut codes: Vec<u16> = Vec::new();
@@ -405,6 +418,10 @@ fn fold_pairs(
         let key = keys[i];
         let mut j = i;
         let mut pair = Pair::new(&mut codes, &mut spans);
+        if file_ends.len() > 1 {
+            let first = order[i] as usize;
+            half.tail.used[file_ends.partition_point(|&end| end <= first)] += 1;
+        }
         while j < keys.len() && keys[j] == key {
             if let Some(&ahead) = order.get(j + AHEAD) {
                 rows.prefetch(ahead as usize);
@@ -416,6 +433,9 @@ fn fold_pairs(
         pair.put(half, at, (lo as u32, hi as u32), (j - i) as u32);
         at += 1;
         i = j;
+    }
+    if let [_] = file_ends {
+        half.tail.used[0] = at as u64;
     }
     at
 }

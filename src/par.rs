@@ -37,3 +37,32 @@ pub fn on_pool<M: Send, S: Send>(
     }
     rayon::join(main, side)
 }
+
+/// An array that the two halves of a piece of work write through at places of their own (each
+/// index written by one half only), where the places of a half are not one slice: rows moved
+/// to where their keys sort, flags set for rows in sorted order.
+#[derive(Clone, Copy)]
+pub struct Disjoint<T>(*mut T);
+
+// SAFETY: a `Disjoint` is only written through at indices no other thread touches meanwhile
+// (the contract of `Disjoint::write`), so sending or sharing it is sending the places.
+unsafe impl<T: Send> Send for Disjoint<T> {}
+// SAFETY: as above.
+unsafe impl<T: Send> Sync for Disjoint<T> {}
+
+impl<T> Disjoint<T> {
+    /// Writes through `start`, the start of an array that outlives every write.
+    pub fn new(start: *mut T) -> Disjoint<T> {
+        Disjoint(start)
+    }
+
+    /// Write `v` at index `i` (the old value, if any, is not dropped).
+    ///
+    /// # Safety
+    /// `i` is within the array, and no other thread writes or reads index `i` meanwhile.
+    #[inline]
+    pub unsafe fn write(self, i: usize, v: T) {
+        // SAFETY: as the caller promises.
+        unsafe { self.0.add(i).write(v) }
+    }
+}

@@ -77,25 +77,6 @@ fn highest_digit_width(n: usize) -> u32 {
     (usize::BITS - (runs - 1).leading_zeros()).min(DIGIT)
 }
 
-/// A pointer that two threads write through at places of their own.
-#[derive(Clone, Copy)]
-struct Place<T>(*mut T);
-// SAFETY: only used by `split_by_highest_digit`, whose two halves write disjoint indices.
-unsafe impl<T: Send> Send for Place<T> {}
-// SAFETY: as above.
-unsafe impl<T: Send> Sync for Place<T> {}
-
-impl<T> Place<T> {
-    /// Write `v` at index `i`.
-    ///
-    /// # Safety
-    /// `i` is within the allocation, and no other thread writes or reads it meanwhile.
-    unsafe fn write(self, i: usize, v: T) {
-        // SAFETY: as the caller promises.
-        unsafe { self.0.add(i).write(v) }
-    }
-}
-
 /// The stable counting pass on the highest digit (`width` bits at `shift`) into new arrays,
 /// and where each digit's run starts (and the end). With many rows, each core counts and
 /// moves one half: the first half's rows of a digit go before the second half's, so the
@@ -133,7 +114,10 @@ fn split_by_highest_digit(
     starts.push(total);
     let mut key_to: Vec<u64> = Vec::with_capacity(n);
     let mut row_to: Vec<u32> = Vec::with_capacity(n);
-    let (kp, rp) = (Place(key_to.as_mut_ptr()), Place(row_to.as_mut_ptr()));
+    let (kp, rp) = (
+        crate::par::Disjoint::new(key_to.as_mut_ptr()),
+        crate::par::Disjoint::new(row_to.as_mut_ptr()),
+    );
     let fill = |part: (&[u64], &[u32]), mut at: Vec<usize>| {
         for (&k, &r) in part.0.iter().zip(part.1) {
             let d = digit(k);
