@@ -75,6 +75,50 @@ A4,A3,2024-03-06,,community,1e9999
 A4,A3,extra,field,here,1,2
 ";
 
+/// Several exposure files: a row repeating a pair another file made first is merged in its own
+/// file, and each file counts its own used and merged rows (counted by hand below).
+#[test]
+fn used_and_merged_rows_are_counted_in_the_file_they_came_from() {
+    let dir = tempfile::tempdir().unwrap();
+    let header = "source_id,target_id,exposure_date\n";
+    let files = [
+        ("e1.csv", "A1,A2,2024-03-01\nA2,A3,2024-03-01\n"),
+        (
+            "e2.csv",
+            "A2,A1,2024-03-02\nA3,A4,2024-03-02\nA4,A3,2024-03-03\nA5,A5,2024-03-03\n",
+        ),
+        ("e3.csv", "A1,A2,2024-03-04\nA6,A1,2024-03-04\n"),
+    ];
+    let paths: Vec<std::path::PathBuf> = files
+        .iter()
+        .map(|(name, rows)| {
+            let p = dir.path().join(name);
+            fs::write(&p, format!("{header}{rows}")).unwrap();
+            p
+        })
+        .collect();
+    let refs: Vec<&std::path::Path> = paths.iter().map(|p| p.as_path()).collect();
+    let d = load(&refs, &[]);
+    assert_balanced(&d);
+    let counts = |name: &str| {
+        let f = d
+            .ledger
+            .files
+            .iter()
+            .find(|f| f.path.ends_with(name))
+            .unwrap_or_else(|| panic!("no report for {name}"));
+        let c = f.counts;
+        (c.read, c.used, c.merged, c.quarantined)
+    };
+    // e1 makes A1-A2 and A2-A3; e2 repeats A1-A2 (merged), makes A3-A4 and repeats it
+    // (merged), and names A5 twice (quarantined); e3 repeats A1-A2 and makes A1-A6.
+    assert_eq!(counts("e1.csv"), (2, 2, 0, 0));
+    assert_eq!(counts("e2.csv"), (4, 1, 2, 1));
+    assert_eq!(counts("e3.csv"), (2, 1, 1, 0));
+    let x = d.ledger.exposures;
+    assert_eq!((x.read, x.used, x.merged, x.quarantined), (8, 4, 3, 1));
+}
+
 #[test]
 fn every_row_lands_in_one_bucket_with_its_reason() {
     let dir = tempfile::tempdir().unwrap();
