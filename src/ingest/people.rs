@@ -146,7 +146,9 @@ impl PeopleBuilder {
 
     /// The last pass, in row order: a new person's values are kept, a value that differs
     /// from the one kept for the same person is a field problem (the first is kept), and a
-    /// date that could not be kept is one too.
+    /// date that could not be kept is one too. The attribute columns are shared out between
+    /// two cores (the file columns that fill one attribute on the same core); the problems
+    /// are then recorded in row order, and in column order within a row, as one pass would.
     fn keep_values(
         &mut self,
         ctx: &mut FileCtx,
@@ -154,41 +156,47 @@ impl PeopleBuilder {
         (chunk, work): (&Chunk, &[AttrWork]),
         (nodes, coded): (&RowNodes, &[Coded]),
     ) {
-        let mut problems: Vec<_> = coded.iter().map(|c| c.problems.iter().peekable()).collect();
-        for (row, at) in nodes.iter().enumerate() {
-            let Some((node, new)) = *at else {
-                // A row set aside records no problem of its values.
-                for p in problems.iter_mut() {
-                    while p.next_if(|(r, _, _)| *r as usize == row).is_some() {}
+        // The people first seen in this chunk have no value yet.
+        let people = self.ids.len();
+        for v in self.attrs.values.iter_mut() {
+            v.resize(people);
+        }
+        // The work items of the attribute columns before the middle item's on one core, the
+        // others on the other.
+        let mut filled: Vec<usize> = work.iter().map(|w| w.1).collect();
+        filled.sort_unstable();
+        let half = filled.get(filled.len() / 2).copied().unwrap_or(0);
+        let (low, high) = self.attrs.values.split_at_mut(half);
+        let share = |first: usize, columns: &mut [AttrColumn]| {
+            let items: Vec<usize> = (0..work.len())
+                .filter(|&k| (first..first + columns.len()).contains(&work[k].1))
+                .collect();
+            keep_column_values(nodes, (work, &items, coded), (first, columns))
+        };
+        let (notes_high, notes_low) = crate::par::beside(
+            nodes.len() >= PARALLEL_ROWS,
+            || share(half, high),
+            || share(0, low),
+        );
+        let mut notes = notes_low;
+        notes.extend(notes_high);
+        notes.sort_by_key(|n| (n.row, n.item));
+        for note in notes {
+            let line = chunk.lines.line(note.row);
+            let (c, a, _) = work[note.item];
+            match note.what {
+                Noted::Unkept(v, kind) => {
+                    checker.bad(ctx, (line, c, v), kind);
                 }
-                continue;
-            };
-            let line = chunk.lines.line(row);
-            if new {
-                for v in self.attrs.values.iter_mut() {
-                    v.push(None);
-                }
-            }
-            for (k, &(c, a, _)) in work.iter().enumerate() {
-                if let Some((_, v, kind)) = problems[k].next_if(|(r, _, _)| *r as usize == row) {
-                    checker.bad(ctx, (line, c, v), *kind);
-                }
-                let code = coded[k].codes[row];
-                if code == AttrColumn::NONE {
-                    continue;
-                }
-                let column = &mut self.attrs.values[a];
-                let old = column.code(node as usize);
-                if old == AttrColumn::NONE {
-                    column.set_code(node as usize, code);
-                } else if old != code {
+                Noted::Conflict { node, kept, value } => {
+                    let column = &self.attrs.values[a];
                     let (f, l) = self.first_line[node as usize];
                     let at = if f == ctx.file {
                         format!("line {l}")
                     } else {
                         format!("file {} line {l}", f + 1)
                     };
-                    let (kept, value) = (column.text(old), column.text(code));
+                    let (kept, value) = (column.text(kept), column.text(value));
                     let msg = ProblemKind::ConflictingValue.reason(&ReasonFacts {
                         person: self.ids.name(node),
                         kept,
@@ -200,6 +208,69 @@ impl PeopleBuilder {
             }
         }
     }
+}
+
+/// A problem found while keeping values, recorded afterwards in order.
+struct Note<'a> {
+    row: usize,
+    /// The work item (file column) it belongs to.
+    item: usize,
+    what: Noted<'a>,
+}
+
+/// What a [`Note`] says.
+enum Noted<'a> {
+    /// A date that could not be kept, with its problem.
+    Unkept(&'a str, ProblemKind),
+    /// A value other than the one kept for the person (both as codes of the column).
+    Conflict { node: u32, kept: u32, value: u32 },
+}
+
+/// [`PeopleBuilder::keep_values`] for the work `items` whose attributes are `columns`
+/// (attribute `first` onwards), in row order: keeps each person's first value, and notes the
+/// problems.
+fn keep_column_values<'a>(
+    nodes: &RowNodes,
+    (work, items, coded): (&[AttrWork], &[usize], &[Coded<'a>]),
+    (first, columns): (usize, &mut [AttrColumn]),
+) -> Vec<Note<'a>> {
+    let mut notes = Vec::new();
+    let mut problems: Vec<_> = items
+        .iter()
+        .map(|&k| coded[k].problems.iter().peekable())
+        .collect();
+    for (row, at) in nodes.iter().enumerate() {
+        let Some((node, _)) = *at else {
+            // A row set aside records no problem of its values.
+            for p in problems.iter_mut() {
+                while p.next_if(|(r, _, _)| *r as usize == row).is_some() {}
+            }
+            continue;
+        };
+        for (i, &k) in items.iter().enumerate() {
+            if let Some((_, v, kind)) = problems[i].next_if(|(r, _, _)| *r as usize == row) {
+                let what = Noted::Unkept(v, *kind);
+                notes.push(Note { row, item: k, what });
+            }
+            let code = coded[k].codes[row];
+            if code == AttrColumn::NONE {
+                continue;
+            }
+            let column = &mut columns[work[k].1 - first];
+            let kept = column.code(node as usize);
+            if kept == AttrColumn::NONE {
+                column.set_code(node as usize, code);
+            } else if kept != code {
+                let what = Noted::Conflict {
+                    node,
+                    kept,
+                    value: code,
+                };
+                notes.push(Note { row, item: k, what });
+            }
+        }
+    }
+    notes
 }
 
 /// The ID side of a people chunk: what interning needs, borrowed apart from the attributes.
