@@ -133,6 +133,22 @@ impl<'a> TextCells<'a> {
         })
     }
 
+    /// The field starts [`TextCells::tokenise`] found in `piece` (taken apart with
+    /// [`TextCells::into_bounds`]), put back together; `None` if `piece` is not valid UTF-8.
+    pub fn from_bounds(piece: &'a [u8], ncols: usize, bounds: Vec<u32>) -> Option<TextCells<'a>> {
+        let text = simdutf8::basic::from_utf8(piece).ok()?;
+        Some(TextCells {
+            text,
+            ncols,
+            bounds,
+        })
+    }
+
+    /// The field starts, owned (see [`TextCells::from_bounds`]).
+    pub fn into_bounds(self) -> Vec<u32> {
+        self.bounds
+    }
+
     /// Number of rows.
     pub fn height(&self) -> usize {
         (self.bounds.len() - 1) / self.ncols

@@ -200,8 +200,15 @@ pub fn read(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Loa
         in_reconcile: 0.0,
         progress: Progress::new(opts.progress),
     };
-    for p in planned {
-        r.table(p, config, opts)?;
+    // Each table's first piece is tokenised by the reader of the table before it, once that
+    // has parsed its own last piece (see `Table::read`).
+    let mut planned: Vec<Option<Planned>> = planned.into_iter().map(Some).collect();
+    let mut first = None;
+    for i in 0..planned.len() {
+        let (done, rest) = planned.split_at_mut(i + 1);
+        let p = done[i].take().expect("each table is read once");
+        let next = rest.first().and_then(|n| n.as_ref()).map(|n| &n.table);
+        first = r.table(p, (first.take(), next), config, opts)?;
     }
     r.progress.finish();
     let Reading {
@@ -296,7 +303,15 @@ struct Reading {
 
 impl Reading {
     /// Read one table in chunks into the people or the exposure rows, and its ledger entry.
-    fn table(&mut self, planned: Planned, config: &Config, opts: &LoadOptions) -> Result<()> {
+    /// `first` is this table's first piece if tokenised ahead; the next table's is returned
+    /// (see `Table::read`).
+    fn table(
+        &mut self,
+        planned: Planned,
+        (first, next): (Option<table::FirstPiece>, Option<&table::Table>),
+        config: &Config,
+        opts: &LoadOptions,
+    ) -> Result<Option<table::FirstPiece>> {
         let Planned {
             table,
             role,
@@ -323,7 +338,7 @@ impl Reading {
         if role == Role::Exposures && self.people_in_table == 0 {
             self.people_in_table = self.people.ids.len() as u32;
         }
-        let rejected = table.read(&opts.read, |mut chunk| {
+        let (rejected, next_first) = table.read(&opts.read, (first, next), |mut chunk| {
             let t = std::time::Instant::now();
             if !mapping.joined.is_empty() {
                 let names = &meta.columns[..base_columns];
@@ -377,7 +392,7 @@ impl Reading {
             role_by,
             counts: ctx.counts,
         });
-        Ok(())
+        Ok(next_first)
     }
 }
 

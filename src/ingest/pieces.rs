@@ -24,6 +24,38 @@ const CHUNK_BYTES: usize = 48 << 20;
 /// Fewest bytes of text read as one piece, unless the file is smaller.
 const MIN_CHUNK_BYTES: usize = 4 << 20;
 
+/// The first piece of a table's text, tokenised ahead of its read (while the table before it
+/// is read): where it ends in the data lines, and where its fields start.
+pub struct FirstPiece {
+    end: usize,
+    bounds: Vec<u32>,
+}
+
+/// The first piece of `body`, tokenised, if it is plain (see [`FirstPiece`]).
+pub(super) fn first_piece(
+    meta: &TableMeta,
+    body: &TextBody,
+    opts: &ReadOptions,
+) -> Option<FirstPiece> {
+    let Separator::Byte(sep) = body.sep else {
+        return None;
+    };
+    let region = &body.bytes[body.data_start.min(body.bytes.len())..];
+    if region.is_empty() {
+        return None;
+    }
+    let end = cut(region, 0, piece_bytes(opts.chunk_rows, region.len()), false);
+    let rows = RowLines {
+        max_line: body.max_line,
+        comment: &body.comment,
+    };
+    let t = TextCells::tokenise(&region[..end], sep, meta.columns.len(), rows)?;
+    Some(FirstPiece {
+        end,
+        bounds: t.into_bounds(),
+    })
+}
+
 /// One piece, ready for the sink.
 struct Piece<'a> {
     cells: Cells<'a>,
@@ -35,12 +67,19 @@ struct Piece<'a> {
 }
 
 /// Deliver the rows of a delimited text table to `sink` in pieces; return the lines set aside.
-pub(super) fn read_text(
+///
+/// `first` is the first piece if tokenised ahead; `then` runs on the parsing thread once it
+/// has sent the last piece (while the sink checks that), and its result is returned.
+pub(super) fn read_text<T: Send>(
     meta: &TableMeta,
     body: TextBody,
-    opts: &ReadOptions,
+    (opts, first, then): (
+        &ReadOptions,
+        Option<FirstPiece>,
+        Option<impl FnOnce() -> Option<T> + Send>,
+    ),
     sink: &mut dyn FnMut(Chunk<'_>) -> Result<()>,
-) -> Result<Vec<Rejected>> {
+) -> Result<(Vec<Rejected>, Option<T>)> {
     let reader = Reader {
         meta,
         body: &body,
@@ -51,12 +90,18 @@ pub(super) fn read_text(
     // At most one parsed piece waits. Pieces arrive in order; an error on either side stops
     // both.
     let (tx, rx) = std::sync::mpsc::sync_channel::<Result<Piece>>(1);
-    std::thread::scope(|s| -> Result<()> {
+    let ahead = std::thread::scope(|s| -> Result<Option<T>> {
         // Moved in, so that an early return drops it and a parser waiting to send stops.
         let rx = rx;
         let r = &reader;
         // Owns the sender: when it is done, the receiving loop ends.
-        s.spawn(move || r.parse_all(tx));
+        let parser = s.spawn(move || {
+            if r.parse_all(tx, first) {
+                then.and_then(|f| f())
+            } else {
+                None
+            }
+        });
         for piece in rx.iter() {
             let Piece {
                 cells,
@@ -73,7 +118,9 @@ pub(super) fn read_text(
                 body.bytes.release_before(body.data_start + end);
             }
         }
-        Ok(())
+        Ok(parser
+            .join()
+            .unwrap_or_else(|p| std::panic::resume_unwind(p)))
     })?;
     let mut rejected = reader
         .rest
@@ -83,7 +130,7 @@ pub(super) fn read_text(
         rejected.extend(body.long_lines.iter().cloned());
         rejected.sort_by_key(|r| r.line);
     }
-    Ok(rejected)
+    Ok((rejected, ahead))
 }
 
 /// The parsing side of [`read_text`].
@@ -102,19 +149,17 @@ struct Reader<'a> {
 impl<'a> Reader<'a> {
     /// Bytes of text per piece, for `len` bytes of text.
     fn piece_bytes(&self, len: usize) -> usize {
-        if self.chunk_rows > 0 {
-            self.chunk_rows * 40
-        } else {
-            // At least eight pieces where the file allows, so that reading the next piece
-            // overlaps checking this one in smaller exports too.
-            (len / 8).clamp(MIN_CHUNK_BYTES, CHUNK_BYTES)
-        }
+        piece_bytes(self.chunk_rows, len)
     }
 
     /// Send every piece in order: plain pieces straight from the text, then, from the first
     /// that is not plain, the pieces of the line scan's rest. Stops when the receiver has gone
-    /// or at the first error (which is sent).
-    fn parse_all<'s>(&'s self, tx: std::sync::mpsc::SyncSender<Result<Piece<'s>>>) {
+    /// or at the first error (which is sent); returns true when every piece was sent.
+    fn parse_all<'s>(
+        &'s self,
+        tx: std::sync::mpsc::SyncSender<Result<Piece<'s>>>,
+        mut first: Option<FirstPiece>,
+    ) -> bool {
         let ncols = self.meta.columns.len();
         let body = self.body;
         let rows = RowLines {
@@ -126,9 +171,20 @@ impl<'a> Reader<'a> {
         if let Separator::Byte(sep) = body.sep {
             let piece_bytes = self.piece_bytes(self.region.len());
             while pos < self.region.len() {
-                let end = cut(self.region, pos, piece_bytes, false);
-                let Some(t) = TextCells::tokenise(&self.region[pos..end], sep, ncols, rows) else {
-                    break;
+                // The first piece may have been tokenised ahead.
+                let given = first.take().and_then(|f| {
+                    TextCells::from_bounds(&self.region[..f.end], ncols, f.bounds)
+                        .map(|t| (f.end, t))
+                });
+                let (end, t) = match given {
+                    Some(a) => a,
+                    None => {
+                        let end = cut(self.region, pos, piece_bytes, false);
+                        match TextCells::tokenise(&self.region[pos..end], sep, ncols, rows) {
+                            Some(t) => (end, t),
+                            None => break,
+                        }
+                    }
                 };
                 let n = t.height();
                 let piece = Piece {
@@ -140,14 +196,14 @@ impl<'a> Reader<'a> {
                     read_to: Some(end),
                 };
                 if tx.send(Ok(piece)).is_err() {
-                    return;
+                    return false;
                 }
                 rows_done += n as u64;
                 pos = end;
             }
         }
         if pos >= self.region.len() {
-            return;
+            return true;
         }
         let (start, scan) = self.rest.get_or_init(|| {
             let first_line = body.data_line + rows_done;
@@ -194,10 +250,11 @@ impl<'a> Reader<'a> {
                 });
             let failed = piece.is_err();
             if tx.send(piece).is_err() || failed {
-                return;
+                return false;
             }
             at = end;
         }
+        true
     }
 
     /// The cells of one piece of clean delimited text: tokenised in place when it holds no
@@ -224,6 +281,18 @@ impl<'a> Reader<'a> {
             f.rechunk_mut_par();
             Cells::Frame(f)
         })
+    }
+}
+
+/// Bytes of text per piece, for `len` bytes of text and `chunk_rows` rows per piece asked for
+/// (0: by the size of the text).
+fn piece_bytes(chunk_rows: usize, len: usize) -> usize {
+    if chunk_rows > 0 {
+        chunk_rows * 40
+    } else {
+        // At least eight pieces where the file allows, so that reading the next piece
+        // overlaps checking this one in smaller exports too.
+        (len / 8).clamp(MIN_CHUNK_BYTES, CHUNK_BYTES)
     }
 }
 

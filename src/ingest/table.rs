@@ -10,6 +10,7 @@ use polars::prelude::*;
 
 use super::cells::Cells;
 use super::decode::{self, Bytes, EncodingSetting, EncodingUsed, Limits};
+pub use super::pieces::FirstPiece;
 use super::sniff::{self, Separator};
 use crate::config::Config;
 use crate::error::{Error, Result};
@@ -229,12 +230,25 @@ impl Table {
         }
     }
 
-    /// Deliver every row in chunks; return the rows rejected for their shape.
+    /// The first piece of delimited text, tokenised ahead of [`Table::read`] (which is given
+    /// it), when it is plain; `None` otherwise (the read then starts from the text).
+    pub fn first_piece(&self, opts: &ReadOptions) -> Option<FirstPiece> {
+        match &self.body {
+            Body::Text(body) => super::pieces::first_piece(&self.meta, body, opts),
+            Body::Frame(..) => None,
+        }
+    }
+
+    /// Deliver every row in chunks, starting with `first` if it was tokenised ahead (see
+    /// [`Table::first_piece`]); return the rows rejected for their shape, and the `next`
+    /// table's first piece: delimited text is parsed on a thread of its own, which tokenises
+    /// that once it has parsed this table's last piece, while the sink checks it.
     pub fn read(
         self,
         opts: &ReadOptions,
+        (first, next): (Option<FirstPiece>, Option<&Table>),
         mut sink: impl FnMut(Chunk<'_>) -> Result<()>,
-    ) -> Result<Vec<Rejected>> {
+    ) -> Result<(Vec<Rejected>, Option<FirstPiece>)> {
         match self.body {
             Body::Frame(frame, lines, rejected) => {
                 sink(Chunk {
@@ -242,9 +256,12 @@ impl Table {
                     lines,
                     rows_ahead: 0,
                 })?;
-                Ok(rejected)
+                Ok((rejected, None))
             }
-            Body::Text(body) => super::pieces::read_text(&self.meta, body, opts, &mut sink),
+            Body::Text(body) => {
+                let next = next.map(|t| move || t.first_piece(opts));
+                super::pieces::read_text(&self.meta, body, (opts, first, next), &mut sink)
+            }
         }
     }
 }
