@@ -96,9 +96,14 @@ fn open_folder(
     if files.is_empty() {
         return Err(Error::format(p, "the folder holds no table files (.csv, .tsv, .txt, .dat, .parquet, .ndjson, .jsonl, .xlsx, optionally .gz)"));
     }
+    // The files opened on the thread pool's workers, taken in name order.
+    let opened: Vec<Result<Table>> = {
+        use rayon::prelude::*;
+        files.par_iter().map(|f| Table::open(f, config, read)).collect()
+    };
     let mut out = Vec::new();
-    for f in files {
-        match Table::open(&f, config, read) {
+    for (f, table) in files.into_iter().zip(opened) {
+        match table {
             Ok(table) => out.push(Opened {
                 given: configured_role(&f, config),
                 table,
