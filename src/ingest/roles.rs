@@ -99,7 +99,10 @@ fn open_folder(
     // The files opened on the thread pool's workers, taken in name order.
     let opened: Vec<Result<Table>> = {
         use rayon::prelude::*;
-        files.par_iter().map(|f| Table::open(f, config, read)).collect()
+        files
+            .par_iter()
+            .map(|f| Table::open(f, config, read))
+            .collect()
     };
     let mut out = Vec::new();
     for (f, table) in files.into_iter().zip(opened) {

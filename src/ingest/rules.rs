@@ -42,6 +42,9 @@ pub struct Rules {
     /// Bit `n` set when some ASCII code is `n` bytes long (an ASCII value of another length
     /// is no code).
     ascii_lengths: u64,
+    /// Bit `b` set when some ASCII code starts with byte `b` (lower case): an ASCII value
+    /// starting with another byte, in either case, is no code.
+    ascii_firsts: u128,
     /// Day number of the oldest plausible date.
     pub oldest_day: i32,
     /// Largest plausible duration, minutes.
@@ -62,6 +65,10 @@ impl Rules {
                 .iter()
                 .filter(|c| c.is_ascii() && c.len() < 64)
                 .fold(0, |m, c| m | 1 << c.len()),
+            ascii_firsts: missing
+                .iter()
+                .filter(|c| c.is_ascii())
+                .fold(0, |m, c| m | 1 << c.as_bytes()[0]),
             missing,
             oldest_day,
             max_minutes,
@@ -74,7 +81,9 @@ impl Rules {
             return false;
         }
         if v.is_ascii() {
+            let first = v.as_bytes().first().map_or(0, u8::to_ascii_lowercase);
             return (v.len() >= 64 || self.ascii_lengths & (1 << v.len()) != 0)
+                && self.ascii_firsts & (1 << first) != 0
                 && self.missing.iter().any(|c| v.eq_ignore_ascii_case(c));
         }
         let lower = v.to_lowercase();
@@ -119,7 +128,8 @@ mod tests {
     use super::*;
 
     /// Codes match whatever their case and length, ASCII or not, long or short; a value of a
-    /// length no code has is never one. (The reader's own rule: no external source.)
+    /// length no code has, or starting with a letter no code starts with, is never one. (The
+    /// reader's own rule: no external source.)
     #[test]
     fn codes_of_every_length() {
         let long = "x".repeat(70);
@@ -139,6 +149,8 @@ mod tests {
         for v in [
             "n",
             "nan",
+            "MA",
+            "Pnknown",
             "unknow",
             "non renseigne",
             longer.as_str(),
