@@ -281,9 +281,6 @@ fn typed_parquet_columns_read_as_their_values() {
 fn reading_in_many_small_chunks_changes_nothing() {
     // The loader parses text in chunks (about 48 MB each; here forced down to a line or two);
     // line numbers, ledger and graph must not depend on the chunk size.
-    use hubwatch::config::Config;
-    use hubwatch::dataset::load as load_inputs;
-    use hubwatch::ingest::Input;
     let dir = tempfile::tempdir().unwrap();
     let mut text = String::from("# a comment\nsource_id,target_id,exposure_date,duration_min\n");
     // Over 4 KB, so that the pages of consumed chunks are also given back as the read goes.
@@ -303,10 +300,7 @@ fn reading_in_many_small_chunks_changes_nothing() {
         }
     }
     let f = write(dir.path(), "many.csv", text.as_bytes());
-    let run = |chunk_rows: usize| {
-        let opts = chunked(chunk_rows);
-        load_inputs(&[Input::Path(f.clone())], &Config::default(), &opts).unwrap()
-    };
+    let run = |chunk_rows: usize| read_chunked(&f, chunk_rows).unwrap();
     let whole = run(0);
     for chunk_rows in [1, 2, 5] {
         let d = run(chunk_rows);
@@ -340,9 +334,6 @@ fn reading_in_many_small_chunks_changes_nothing() {
 /// scan of the whole file. (This project's own equivalence check: no external source.)
 #[test]
 fn plain_pieces_then_the_line_scan_read_as_one_scan() {
-    use hubwatch::config::Config;
-    use hubwatch::dataset::load as load_inputs;
-    use hubwatch::ingest::Input;
     let dir = tempfile::tempdir().unwrap();
     let mut text = String::from("source_id,target_id,exposure_date,setting,duration_min\n");
     for i in 0..600 {
@@ -365,31 +356,21 @@ fn plain_pieces_then_the_line_scan_read_as_one_scan() {
         text.push('\n');
     }
     let f = write(dir.path(), "late.csv", text.as_bytes());
-    let read = |chunk_rows: usize| {
-        load_inputs(
-            &[Input::Path(f.clone())],
-            &Config::default(),
-            &chunked(chunk_rows),
-        )
-        .unwrap()
-    };
+    let read = |chunk_rows: usize| read_chunked(&f, chunk_rows).unwrap();
     // One piece: the whole file goes through the line scan.
     let whole = read(0);
-    let pairs = |d: &hubwatch::dataset::Dataset| {
-        (0..d.edges.len())
-            .map(|e| {
-                let (a, b) = (d.edges.a[e], d.edges.b[e]);
-                let days = (d.edges.first[e], d.edges.last[e]);
-                let names = (d.ids.name(a).to_string(), d.ids.name(b).to_string());
-                (names, d.edges.rows[e], days, d.edges.settings(e).to_vec())
-            })
-            .collect::<Vec<_>>()
-    };
-    let ledger = |d: &hubwatch::dataset::Dataset| serde_json::to_string(&d.ledger).unwrap();
     for chunk_rows in [1, 7, 100, 290] {
         let d = read(chunk_rows);
-        assert_eq!(pairs(&d), pairs(&whole), "chunk_rows {chunk_rows}");
-        assert_eq!(ledger(&d), ledger(&whole), "chunk_rows {chunk_rows}");
+        assert_eq!(
+            pair_fields(&d),
+            pair_fields(&whole),
+            "chunk_rows {chunk_rows}"
+        );
+        assert_eq!(
+            ledger_json(&d),
+            ledger_json(&whole),
+            "chunk_rows {chunk_rows}"
+        );
     }
     // By hand: the header is line 1, row i is on line i + 2, and row 300 takes two lines, so
     // the self-exposure of row 301 is on line 304 and the line with a field too many on 453.
@@ -410,9 +391,6 @@ fn plain_pieces_then_the_line_scan_read_as_one_scan() {
 /// line scan reads the table. Either way the rows and their lines are those counted by hand.
 #[test]
 fn the_next_table_s_first_piece_read_ahead_or_not() {
-    use hubwatch::config::Config;
-    use hubwatch::dataset::load as load_inputs;
-    use hubwatch::ingest::{ledger::Role, Input};
     let dir = tempfile::tempdir().unwrap();
     let people = write(
         dir.path(),
@@ -425,17 +403,7 @@ fn the_next_table_s_first_piece_read_ahead_or_not() {
     for (text, line) in [(plain, 4), (commented, 5)] {
         let exposures = write(dir.path(), "exposures.csv", text.as_bytes());
         for chunk_rows in [0, 1, 2] {
-            let inputs = [
-                Input::Given {
-                    path: people.clone(),
-                    role: Role::People,
-                },
-                Input::Given {
-                    path: exposures.clone(),
-                    role: Role::Exposures,
-                },
-            ];
-            let d = load_inputs(&inputs, &Config::default(), &chunked(chunk_rows)).unwrap();
+            let d = read_pair_chunked(&people, &exposures, chunk_rows);
             let x = d.ledger.exposures;
             let at = format!("line {line}, chunk_rows {chunk_rows}");
             assert_eq!((x.read, x.used, x.quarantined), (4, 3, 1), "{at}");
@@ -452,9 +420,6 @@ fn the_next_table_s_first_piece_read_ahead_or_not() {
 /// check: no external source.)
 #[test]
 fn people_read_on_two_cores_as_on_one() {
-    use hubwatch::config::Config;
-    use hubwatch::dataset::load as load_inputs;
-    use hubwatch::ingest::{ledger::Role, Input};
     let dir = tempfile::tempdir().unwrap();
     let mut text = String::from("person_id,role,onset_date,area\n");
     for i in 0..60_000u32 {
@@ -481,19 +446,7 @@ fn people_read_on_two_cores_as_on_one() {
         "exposures.csv",
         b"source_id,target_id\nP1,P2\nP3,Q9\n",
     );
-    let run = |chunk_rows: usize| {
-        let inputs = [
-            Input::Given {
-                path: people.clone(),
-                role: Role::People,
-            },
-            Input::Given {
-                path: exposures.clone(),
-                role: Role::Exposures,
-            },
-        ];
-        load_inputs(&inputs, &Config::default(), &chunked(chunk_rows)).unwrap()
-    };
+    let run = |chunk_rows: usize| read_pair_chunked(&people, &exposures, chunk_rows);
     type Seen = (
         Vec<String>,
         Vec<Vec<Option<String>>>,
@@ -547,9 +500,6 @@ fn people_read_on_two_cores_as_on_one() {
 /// external source.)
 #[test]
 fn quarantined_exposure_rows_add_no_field_problem_and_no_setting() {
-    use hubwatch::config::Config;
-    use hubwatch::dataset::load as load_inputs;
-    use hubwatch::ingest::Input;
     let dir = tempfile::tempdir().unwrap();
     let mut text = String::from("source_id,target_id,exposure_date,setting,duration_min\n");
     for i in 0..60_000u32 {
@@ -577,14 +527,7 @@ fn quarantined_exposure_rows_add_no_field_problem_and_no_setting() {
         text.push('\n');
     }
     let f = write(dir.path(), "exposures.csv", text.as_bytes());
-    let read = |chunk_rows: usize| {
-        load_inputs(
-            &[Input::Path(f.clone())],
-            &Config::default(),
-            &chunked(chunk_rows),
-        )
-        .unwrap()
-    };
+    let read = |chunk_rows: usize| read_chunked(&f, chunk_rows).unwrap();
     let whole = read(0);
     for (chunk_rows, d) in [(0, &whole), (1000, &read(1000))] {
         let aside: std::collections::BTreeSet<u64> =
@@ -608,26 +551,16 @@ fn quarantined_exposure_rows_add_no_field_problem_and_no_setting() {
             .map(|i| whole.ids.name(i))
             .collect();
         assert_eq!(people, whole_people, "chunk_rows {chunk_rows}");
-        let pairs = |d: &hubwatch::dataset::Dataset| {
-            (0..d.edges.len())
-                .map(|e| {
-                    let (a, b) = (d.edges.a[e], d.edges.b[e]);
-                    let days = (d.edges.first[e], d.edges.last[e]);
-                    let minutes = format!("{:?}", d.edges.minutes[e]);
-                    (
-                        a,
-                        b,
-                        d.edges.rows[e],
-                        days,
-                        minutes,
-                        d.edges.settings(e).to_vec(),
-                    )
-                })
-                .collect::<Vec<_>>()
-        };
-        assert_eq!(pairs(d), pairs(&whole), "chunk_rows {chunk_rows}");
-        let ledger = |d: &hubwatch::dataset::Dataset| serde_json::to_string(&d.ledger).unwrap();
-        assert_eq!(ledger(d), ledger(&whole), "chunk_rows {chunk_rows}");
+        assert_eq!(
+            pair_fields(d),
+            pair_fields(&whole),
+            "chunk_rows {chunk_rows}"
+        );
+        assert_eq!(
+            ledger_json(d),
+            ledger_json(&whole),
+            "chunk_rows {chunk_rows}"
+        );
     }
 }
 
@@ -635,9 +568,6 @@ fn quarantined_exposure_rows_add_no_field_problem_and_no_setting() {
 /// on the reader's own thread: the error comes back and nothing waits for ever.
 #[test]
 fn an_error_in_an_early_piece_stops_the_parser_thread_too() {
-    use hubwatch::config::Config;
-    use hubwatch::dataset::load as load_inputs;
-    use hubwatch::ingest::Input;
     let dir = tempfile::tempdir().unwrap();
     let mut text = String::from("source_id,target_id,exposure_date\n");
     for i in 0..2000 {
@@ -645,8 +575,7 @@ fn an_error_in_an_early_piece_stops_the_parser_thread_too() {
     }
     let f = write(dir.path(), "dmy.csv", text.as_bytes());
     for chunk_rows in [1, 3, 0] {
-        let opts = chunked(chunk_rows);
-        let e = load_inputs(&[Input::Path(f.clone())], &Config::default(), &opts)
+        let e = read_chunked(&f, chunk_rows)
             .err()
             .unwrap_or_else(|| panic!("chunk_rows {chunk_rows}: the load should stop"));
         assert!(
@@ -654,6 +583,74 @@ fn an_error_in_an_early_piece_stops_the_parser_thread_too() {
             "chunk_rows {chunk_rows}: {e}"
         );
     }
+}
+
+/// One file, its role decided by its columns, read in pieces of about `chunk_rows` rows (0:
+/// whole).
+fn read_chunked(
+    f: &Path,
+    chunk_rows: usize,
+) -> hubwatch::error::Result<hubwatch::dataset::Dataset> {
+    use hubwatch::ingest::Input;
+    let inputs = [Input::Path(f.to_path_buf())];
+    hubwatch::dataset::load(
+        &inputs,
+        &hubwatch::config::Config::default(),
+        &chunked(chunk_rows),
+    )
+}
+
+/// A people file and an exposures file, given as such, read in pieces of about `chunk_rows`
+/// rows (0: whole).
+fn read_pair_chunked(
+    people: &Path,
+    exposures: &Path,
+    chunk_rows: usize,
+) -> hubwatch::dataset::Dataset {
+    use hubwatch::ingest::{ledger::Role, Input};
+    let inputs = [
+        Input::Given {
+            path: people.to_path_buf(),
+            role: Role::People,
+        },
+        Input::Given {
+            path: exposures.to_path_buf(),
+            role: Role::Exposures,
+        },
+    ];
+    hubwatch::dataset::load(
+        &inputs,
+        &hubwatch::config::Config::default(),
+        &chunked(chunk_rows),
+    )
+    .unwrap()
+}
+
+/// Each pair in order: its two people, rows, first and last day, minutes and settings.
+type PairFields = ((String, String), u32, (i32, i32), String, Vec<u16>);
+
+/// The pairs of `d` with what each holds (see [`PairFields`]).
+fn pair_fields(d: &hubwatch::dataset::Dataset) -> Vec<PairFields> {
+    (0..d.edges.len())
+        .map(|e| {
+            let (a, b) = (d.edges.a[e], d.edges.b[e]);
+            let names = (d.ids.name(a).to_string(), d.ids.name(b).to_string());
+            let days = (d.edges.first[e], d.edges.last[e]);
+            let minutes = format!("{:?}", d.edges.minutes[e]);
+            (
+                names,
+                d.edges.rows[e],
+                days,
+                minutes,
+                d.edges.settings(e).to_vec(),
+            )
+        })
+        .collect()
+}
+
+/// The ledger of `d` as JSON, to compare two loads to the last line and reason.
+fn ledger_json(d: &hubwatch::dataset::Dataset) -> String {
+    serde_json::to_string(&d.ledger).unwrap()
 }
 
 /// Load options reading delimited text in pieces of about `chunk_rows` rows (0: whole), dates
