@@ -36,22 +36,13 @@ impl RowLines<'_> {
         comment: b"",
     };
 
-    /// True when `line` (without its line end) is a row of data.
-    #[inline]
-    pub fn is_row(&self, line: &[u8]) -> bool {
-        let l = super::sniff::trim_cr(line);
-        !l.is_empty()
-            && l.len() <= self.max_line
-            && !super::sniff::is_comment(l, self.comment)
-            && !super::sniff::is_blank(l)
-    }
-
-    /// [`RowLines::is_row`] for the line `start..end` of `text` whose fields are already
-    /// counted, the quicker way: with two fields or more, split at a separator other than a
-    /// space or a tab, the line cannot be blank (`blank_possible` false), and the comment
-    /// prefix is looked for only where the line starts with its first byte.
+    /// True when the line `start..end` of `text` (without its line end), whose fields are
+    /// already counted as the table's, is a row of data. With two fields or more, split at a
+    /// separator other than a space or a tab, the line cannot be blank or empty
+    /// (`blank_possible` false: see [`RowLines::blank_possible`]); the comment prefix is
+    /// looked for only where the line starts with its first byte.
     #[inline(always)]
-    fn is_row_at(&self, text: &[u8], (start, end): (usize, usize), blank_possible: bool) -> bool {
+    pub fn is_row(&self, text: &[u8], (start, end): (usize, usize), blank_possible: bool) -> bool {
         use super::sniff::{is_blank, trim_cr};
         if end - start > self.max_line && trim_cr(&text[start..end]).len() > self.max_line {
             return false;
@@ -62,6 +53,11 @@ impl RowLines<'_> {
             }
         }
         !(blank_possible && is_blank(trim_cr(&text[start..end])))
+    }
+
+    /// Whether a line of `ncols` fields split at `sep` can be blank (see [`RowLines::is_row`]).
+    pub fn blank_possible(ncols: usize, sep: u8) -> bool {
+        ncols == 1 || sep == b' ' || sep == b'\t'
     }
 }
 
@@ -93,7 +89,7 @@ impl<'a> TextCells<'a> {
         bounds.push(0);
         let mut row_start = 0usize;
         let mut line_start = 0usize;
-        let blank_possible = ncols == 1 || sep == b' ' || sep == b'\t';
+        let blank_possible = RowLines::blank_possible(ncols, sep);
         for b in super::delims::blocks(piece, sep) {
             if b.quote != 0 {
                 return None;
@@ -106,7 +102,7 @@ impl<'a> TextCells<'a> {
                 if b.nl >> i & 1 == 1 {
                     row_start += ncols;
                     if bounds.len() != row_start + 1
-                        || !rows.is_row_at(piece, (line_start, at), blank_possible)
+                        || !rows.is_row(piece, (line_start, at), blank_possible)
                     {
                         return None;
                     }
@@ -121,7 +117,7 @@ impl<'a> TextCells<'a> {
             row_start += ncols;
             let end = piece.len();
             if bounds.len() != row_start + 1
-                || !rows.is_row_at(piece, (line_start, end), blank_possible)
+                || !rows.is_row(piece, (line_start, end), blank_possible)
             {
                 return None;
             }

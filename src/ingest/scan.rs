@@ -129,9 +129,10 @@ fn fast_region_is_clean(region: &[u8], ncols: usize, sep: Separator, rows: RowLi
     let Separator::Byte(s) = sep else {
         return false;
     };
+    let blank_possible = RowLines::blank_possible(ncols, s);
     let check = |part: &[u8]| -> bool {
         super::delims::count_fields_per_line(part, s, |start, end, seps| {
-            seps as usize + 1 == ncols && rows.is_row(&part[start..end])
+            seps as usize + 1 == ncols && rows.is_row(part, (start, end), blank_possible)
         })
     };
     if region.len() < (4 << 20) {
