@@ -37,19 +37,7 @@ pub(super) fn first_piece(
     body: &TextBody,
     opts: &ReadOptions,
 ) -> Option<FirstPiece> {
-    let Separator::Byte(sep) = body.sep else {
-        return None;
-    };
-    let region = &body.bytes[body.data_start.min(body.bytes.len())..];
-    if region.is_empty() {
-        return None;
-    }
-    let end = cut(region, 0, piece_bytes(opts.chunk_rows, region.len()), false);
-    let rows = RowLines {
-        max_line: body.max_line,
-        comment: &body.comment,
-    };
-    let t = TextCells::tokenise(&region[..end], sep, meta.columns.len(), rows)?;
+    let (end, t) = Reader::new(meta, body, opts).plain_piece(0)?;
     Some(FirstPiece {
         end,
         bounds: t.into_bounds(),
@@ -80,13 +68,7 @@ pub(super) fn read_text<T: Send>(
     ),
     sink: &mut dyn FnMut(Chunk<'_>) -> Result<()>,
 ) -> Result<(Vec<Rejected>, Option<T>)> {
-    let reader = Reader {
-        meta,
-        body: &body,
-        region: &body.bytes[body.data_start.min(body.bytes.len())..],
-        chunk_rows: opts.chunk_rows,
-        rest: OnceLock::new(),
-    };
+    let reader = Reader::new(meta, &body, opts);
     // At most one parsed piece waits. Pieces arrive in order; an error on either side stops
     // both.
     let (tx, rx) = std::sync::mpsc::sync_channel::<Result<Piece>>(1);
@@ -147,9 +129,42 @@ struct Reader<'a> {
 }
 
 impl<'a> Reader<'a> {
+    fn new(meta: &'a TableMeta, body: &'a TextBody, opts: &ReadOptions) -> Reader<'a> {
+        Reader {
+            meta,
+            body,
+            region: &body.bytes[body.data_start.min(body.bytes.len())..],
+            chunk_rows: opts.chunk_rows,
+            rest: OnceLock::new(),
+        }
+    }
+
     /// Bytes of text per piece, for `len` bytes of text.
     fn piece_bytes(&self, len: usize) -> usize {
         piece_bytes(self.chunk_rows, len)
+    }
+
+    /// What makes a line of this text a row.
+    fn rows(&self) -> RowLines<'a> {
+        RowLines {
+            max_line: self.body.max_line,
+            comment: &self.body.comment,
+        }
+    }
+
+    /// The piece of the data lines starting at `pos`, tokenised, and where it ends, when the
+    /// separator is a byte and the piece is plain; `None` otherwise (and at the end).
+    fn plain_piece(&self, pos: usize) -> Option<(usize, TextCells<'a>)> {
+        let Separator::Byte(sep) = self.body.sep else {
+            return None;
+        };
+        if pos >= self.region.len() {
+            return None;
+        }
+        let end = cut(self.region, pos, self.piece_bytes(self.region.len()), false);
+        let ncols = self.meta.columns.len();
+        let t = TextCells::tokenise(&self.region[pos..end], sep, ncols, self.rows())?;
+        Some((end, t))
     }
 
     /// Send every piece in order: plain pieces straight from the text, then, from the first
@@ -162,45 +177,31 @@ impl<'a> Reader<'a> {
     ) -> bool {
         let ncols = self.meta.columns.len();
         let body = self.body;
-        let rows = RowLines {
-            max_line: body.max_line,
-            comment: &body.comment,
-        };
+        let rows = self.rows();
         let mut pos = 0usize;
         let mut rows_done = 0u64;
-        if let Separator::Byte(sep) = body.sep {
-            let piece_bytes = self.piece_bytes(self.region.len());
-            while pos < self.region.len() {
-                // The first piece may have been tokenised ahead.
-                let given = first.take().and_then(|f| {
-                    TextCells::from_bounds(&self.region[..f.end], ncols, f.bounds)
-                        .map(|t| (f.end, t))
-                });
-                let (end, t) = match given {
-                    Some(a) => a,
-                    None => {
-                        let end = cut(self.region, pos, piece_bytes, false);
-                        match TextCells::tokenise(&self.region[pos..end], sep, ncols, rows) {
-                            Some(t) => (end, t),
-                            None => break,
-                        }
-                    }
-                };
-                let n = t.height();
-                let piece = Piece {
-                    cells: Cells::Text(t),
-                    lines: LineMap::Contiguous {
-                        first: body.data_line + rows_done,
-                    },
-                    rows_ahead: ahead(self.region.len() - end, n, end - pos),
-                    read_to: Some(end),
-                };
-                if tx.send(Ok(piece)).is_err() {
-                    return false;
-                }
-                rows_done += n as u64;
-                pos = end;
+        loop {
+            // The first piece may have been tokenised ahead.
+            let given = first.take().and_then(|f| {
+                TextCells::from_bounds(&self.region[..f.end], ncols, f.bounds).map(|t| (f.end, t))
+            });
+            let Some((end, t)) = given.or_else(|| self.plain_piece(pos)) else {
+                break;
+            };
+            let n = t.height();
+            let piece = Piece {
+                cells: Cells::Text(t),
+                lines: LineMap::Contiguous {
+                    first: body.data_line + rows_done,
+                },
+                rows_ahead: ahead(self.region.len() - end, n, end - pos),
+                read_to: Some(end),
+            };
+            if tx.send(Ok(piece)).is_err() {
+                return false;
             }
+            rows_done += n as u64;
+            pos = end;
         }
         if pos >= self.region.len() {
             return true;
