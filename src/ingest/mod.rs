@@ -170,12 +170,9 @@ pub fn read(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Loa
         let mut ignored = Vec::new();
         roles::open_input(input, config, &opts.read, &mut ignored).map(|t| (t, ignored))
     };
-    let opened: Vec<Result<_>> = match inputs.len() {
-        0 | 1 => inputs.iter().map(open).collect(),
-        _ => {
-            use rayon::prelude::*;
-            inputs.par_iter().map(open).collect()
-        }
+    let opened: Vec<Result<_>> = {
+        use rayon::prelude::*;
+        inputs.par_iter().map(open).collect()
     };
     let mut tables = Vec::new();
     let mut ignored = Vec::new();
