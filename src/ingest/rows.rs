@@ -1,7 +1,8 @@
-//! Chunks -> the usable exposure rows, checked and in input order. Each core takes a run of
-//! a chunk's rows and, row by row, decides whether the row can form an exposure, looks its IDs
-//! up (see `intern`) and checks its dates, minutes and setting (see `fields`); the runs are
-//! then joined in row order, the IDs no person had numbered, and unmapped columns kept per row.
+//! Chunks -> the usable exposure rows, checked and in input order. The pool's workers take
+//! runs of a chunk's rows and, row by row, decide whether each row can form an exposure, look
+//! its IDs up (see `intern`) and check its dates, minutes and setting (see `fields`); the runs
+//! are then joined in row order, the IDs no person had numbered, and unmapped columns kept per
+//! row.
 
 use std::ops::Range;
 
@@ -17,6 +18,19 @@ use crate::ids::IdMap;
 
 /// Below this many rows in a chunk, a second thread costs more than it saves.
 const PARALLEL_ROWS: usize = 50_000;
+
+/// Rows per run of a chunk checked on the pool (about; see [`run_bounds`]).
+const RUN_ROWS: usize = 16_384;
+
+/// The runs of a chunk of `n` rows: one below [`PARALLEL_ROWS`], else runs of about
+/// [`RUN_ROWS`] rows, at least two.
+fn run_bounds(n: usize) -> Vec<Range<usize>> {
+    if n < PARALLEL_ROWS {
+        return vec![0..n];
+    }
+    let k = n.div_ceil(RUN_ROWS).max(2);
+    (0..k).map(|i| i * n / k..(i + 1) * n / k).collect()
+}
 
 /// IDs looked up per batch (see `intern::Lookup`): the batch's memory is asked for before any
 /// of it is read.
@@ -141,8 +155,8 @@ fn check_run<'c>(
 
 /// Append the pair key and direction of each row whose source and target nodes are `parts`
 /// (two per row, the parts in row order).
-fn append_keys(keys: &mut Vec<u64>, forward: &mut Vec<bool>, parts: [&[u32]; 2]) {
-    let rows = (parts[0].len() + parts[1].len()) / 2;
+fn append_keys(keys: &mut Vec<u64>, forward: &mut Vec<bool>, parts: &[&[u32]]) {
+    let rows = parts.iter().map(|p| p.len()).sum::<usize>() / 2;
     keys.reserve(rows);
     forward.reserve(rows);
     for st in parts.iter().flat_map(|p| p.chunks_exact(2)) {
@@ -236,10 +250,11 @@ impl ExposureRows {
         self.forward.reserve(n + ahead);
         self.fields.reserve(n + ahead, mapped);
         let cols = RunColumns { src, tgt, optional };
-        // Two runs of rows on two cores; each counts and checks on its own, then the runs are
-        // joined in row order.
-        let parallel = n >= PARALLEL_ROWS;
-        let cut = if parallel { n / 2 } else { n };
+        // Runs of rows on the pool's workers, each counting and checking on its own; the
+        // runs are then joined in row order. Several runs per worker, so that a worker held
+        // up (by the thread reading the next piece) leaves its share to the other.
+        let runs = run_bounds(n);
+        let parallel = runs.len() > 1;
         let new_ids = self.new_ids.get_or_insert_with(|| NewIds::new(ids));
         let run = |rows: Range<usize>| {
             let run_ctx = FileCtx {
@@ -249,37 +264,50 @@ impl ExposureRows {
             let shared = (&*new_ids, &*ids);
             check_run(rows, (chunk, cols), (run_ctx, checker.scratch()), shared)
         };
-        let (mut head, mut tail) = crate::par::on_pool(parallel, || run(cut..n), || run(0..cut));
-        // The IDs no person has, both runs' in row order, numbered; their nodes put in place.
-        let offset = head.nodes.len();
-        let mut open = std::mem::take(&mut head.open);
-        open.extend(tail.open.drain(..).map(|o| o.moved(offset)));
+        let mut runs: Vec<Run> = if parallel {
+            use rayon::prelude::*;
+            runs.into_par_iter().map(run).collect()
+        } else {
+            runs.into_iter().map(run).collect()
+        };
+        // The IDs no person has, every run's in row order, numbered; their nodes put in place.
+        let mut starts = Vec::with_capacity(runs.len());
+        let mut open = Vec::new();
+        for r in runs.iter_mut() {
+            let start = starts.last().map_or(0, |&(s, len)| s + len);
+            starts.push((start, r.nodes.len()));
+            open.extend(r.open.drain(..).map(|o| o.moved(start)));
+        }
         let numbered = new_ids.number(ids.len(), &open, open.len() >= PARALLEL_ROWS);
         for (o, v) in open.iter().zip(numbered) {
-            match o.at.checked_sub(offset) {
-                None => head.nodes[o.at] = v,
-                Some(at) => tail.nodes[at] = v,
-            }
+            let k = starts.partition_point(|&(s, _)| s <= o.at) - 1;
+            runs[k].nodes[o.at - starts[k].0] = v;
         }
         drop(open);
         // The runs joined in row order: the pair keys on one core, the fields on the other.
+        let mut usable = Vec::with_capacity(runs.iter().map(|r| r.usable.len()).sum());
+        let (mut nodes, mut run_fields) = (Vec::new(), Vec::new());
+        for r in runs {
+            usable.extend_from_slice(&r.usable);
+            ctx.counts.add(&r.counts);
+            self.quarantined.extend(r.quarantined);
+            nodes.push(r.nodes);
+            run_fields.push(r.fields);
+        }
+        let parts: Vec<&[u32]> = nodes.iter().map(Vec::as_slice).collect();
         let (keys, forward, fields) = (&mut self.keys, &mut self.forward, &mut self.fields);
         let (problems, ()) = crate::par::on_pool(
             parallel,
-            || append_keys(keys, forward, [&head.nodes, &tail.nodes]),
+            || append_keys(keys, forward, &parts),
             || {
-                let mut problems = fields.keep(head.fields, mapped);
-                problems.extend(fields.keep(tail.fields, mapped));
+                let mut problems = Vec::new();
+                for f in run_fields {
+                    problems.extend(fields.keep(f, mapped));
+                }
                 problems
             },
         );
         checker.problems.extend(problems);
-        let mut usable = head.usable;
-        usable.extend_from_slice(&tail.usable);
-        ctx.counts.add(&head.counts);
-        ctx.counts.add(&tail.counts);
-        self.quarantined.extend(head.quarantined);
-        self.quarantined.extend(tail.quarantined);
         let (meta, m) = (ctx.meta, ctx.mapping);
         keep_extra_columns(
             &mut self.extras,

@@ -492,7 +492,7 @@ fn people_read_on_two_cores_as_on_one() {
 
 /// Exposure fields are checked for the usable rows only: a quarantined row (same person
 /// twice, or no source) reports no field problem and brings no setting label. Read whole (each
-/// chunk's rows in two runs on two cores, the IDs no person has numbered on two cores) or in
+/// chunk's rows in four runs on two cores, the IDs no person has numbered on two cores) or in
 /// small pieces (one run each), everything is the same: people and their order, pairs and
 /// their fields, setting labels and their numbering (one spelled in two ways, one first seen
 /// in the second run), and the ledger to the last line and reason. (The reader's rule that a
