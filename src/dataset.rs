@@ -90,14 +90,7 @@ pub fn load(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Dat
     if crate::memory::input_bytes(paths) <= crate::memory::KEEP_UP_TO {
         crate::memory::keep_freed_memory();
     }
-    // Run on a worker of the pool, so that the pieces' work shared out with `rayon::join`
-    // starts from inside the pool: the worker keeps its core and the other steals its share.
-    // From outside, each call woke a worker and put the caller to sleep, and the scheduler
-    // now and then queued the woken worker behind a busy core while the other stood idle
-    // (traced here for up to 4 ms, a scheduler tick). Load CPU/wall in alternating runs: at
-    // 1.05M rows 1.80 against 1.785 (12 runs), at 10.6M rows 1.84 against 1.76 (3 runs; the
-    // latter also counting the exposures' runs of rows, see `ingest::rows`).
-    rayon::scope(|_| build(ingest::read(inputs, config, opts)?, &opts.view))
+    build(ingest::read(inputs, config, opts)?, &opts.view)
 }
 
 /// Aggregate tables hold the network their SQL was made for: a view asked of them is an error.
