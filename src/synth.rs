@@ -90,11 +90,11 @@ const SETTINGS: [&str; 5] = [
 ];
 const AREAS: [&str; 6] = [
     "Brackenford",
-    "Hollins Cross",
+    "Gorrins Cross",
     "Saltmere",
     "Wyndle Green",
     "Corran Heights",
-    "Mossbank",
+    "Pellmoss",
 ];
 const AGES: [&str; 5] = ["0-4", "5-17", "18-34", "35-59", "60+"];
 const WEEKS: i32 = 6;
