@@ -1,10 +1,11 @@
 //! People-table chunks -> people (IDs interned in row order, so the people table fixes the
 //! first node indices) and their attributes, each distinct value stored once.
 //!
-//! A large chunk is worked on two cores: one interns the IDs, the other turns every attribute
-//! column into value codes (dates checked and written as ISO 8601). A last pass in row order
-//! then keeps each person's first value and records the problems, in the order reading the
-//! rows one by one would record them.
+//! A large chunk is worked on two cores: one interns the IDs, the other turns the attribute
+//! columns into value codes (dates checked and written as ISO 8601), each attribute a task of
+//! the pool, so the core done with the IDs takes the attributes still to do. A last pass in row
+//! order then keeps each person's first value and records the problems, in the order reading
+//! the rows one by one would record them.
 
 use super::cells::CellColumn;
 use super::dates;
@@ -120,12 +121,36 @@ impl PeopleBuilder {
             quarantined,
         } = self;
         let checker_ref = &*checker;
-        let code_all = |values: &mut [AttrColumn]| -> Vec<Coded> {
-            work.iter()
-                .map(|&(c, a, is_date)| {
-                    code_column(columns[c], &mut values[a], is_date, checker_ref)
-                })
-                .collect()
+        // Each attribute's distinct values (coded on one side) apart from its codes per
+        // person (grown on the other once the people are known).
+        let (mut distinct, codes): (Vec<&mut IdMap>, Vec<&mut Vec<u32>>) =
+            attrs.values.iter_mut().map(AttrColumn::parts_mut).unzip();
+        // The attributes coded apart from each other (the file columns that fill the same
+        // attribute in order, one after the other), as tasks of the pool: the worker done
+        // with the IDs takes the attributes still to do.
+        let code_all = || -> Vec<Coded> {
+            let mut groups: Vec<(&mut IdMap, Vec<usize>)> = Vec::new();
+            for (a, d) in distinct.iter_mut().enumerate() {
+                let items: Vec<usize> = (0..work.len()).filter(|&k| work[k].1 == a).collect();
+                if !items.is_empty() {
+                    groups.push((&mut **d, items));
+                }
+            }
+            let code_group = |(d, items): (&mut IdMap, Vec<usize>)| -> Vec<(usize, Coded)> {
+                let coded = items.into_iter().map(|k| {
+                    let (c, _, is_date) = work[k];
+                    (k, code_column(columns[c], &mut *d, is_date, checker_ref))
+                });
+                coded.collect()
+            };
+            let mut coded: Vec<(usize, Coded)> = if n >= PARALLEL_ROWS {
+                use rayon::prelude::*;
+                groups.into_par_iter().flat_map_iter(code_group).collect()
+            } else {
+                groups.into_iter().flat_map(code_group).collect()
+            };
+            coded.sort_by_key(|(k, _)| *k);
+            coded.into_iter().map(|(_, c)| c).collect()
         };
         let mut interned = Interning {
             ids,
@@ -134,12 +159,15 @@ impl PeopleBuilder {
             ctx: &mut *ctx,
             rules: &checker.rules,
         };
-        let values = &mut attrs.values;
-        let (nodes, coded) = crate::par::on_pool(
-            n >= PARALLEL_ROWS,
-            move || code_all(values),
-            || interned.rows(columns[id_col], chunk),
-        );
+        let (nodes, coded) = crate::par::on_pool(n >= PARALLEL_ROWS, code_all, || {
+            let nodes = interned.rows(columns[id_col], chunk);
+            // The people first seen in this chunk have no value yet.
+            let people = interned.ids.len();
+            for c in codes {
+                c.resize(people, AttrColumn::NONE);
+            }
+            nodes
+        });
         self.keep_values(ctx, checker, (chunk, &work), (&nodes, &coded));
         Ok(())
     }
@@ -156,11 +184,6 @@ impl PeopleBuilder {
         (chunk, work): (&Chunk, &[AttrWork]),
         (nodes, coded): (&RowNodes, &[Coded]),
     ) {
-        // The people first seen in this chunk have no value yet.
-        let people = self.ids.len();
-        for v in self.attrs.values.iter_mut() {
-            v.resize(people);
-        }
         // The work items of the attribute columns before the middle item's on one core, the
         // others on the other.
         let mut filled: Vec<usize> = work.iter().map(|w| w.1).collect();
@@ -351,7 +374,7 @@ impl Interning<'_, '_> {
 /// in row order, if its row is used).
 fn code_column<'c>(
     values: CellColumn<'c, '_>,
-    column: &mut AttrColumn,
+    column: &mut IdMap,
     is_date: bool,
     checker: &FieldChecker,
 ) -> Coded<'c> {
@@ -367,13 +390,13 @@ fn code_column<'c>(
             Some(v) if is_date => match checker.classify_date(v) {
                 Ok(d) => *day_codes
                     .entry(d)
-                    .or_insert_with(|| column.code_of(&dates::iso(d))),
+                    .or_insert_with(|| column.intern(&dates::iso(d)).0),
                 Err(kind) => {
                     coded.problems.push((row as u32, v, kind));
                     AttrColumn::NONE
                 }
             },
-            Some(v) => column.code_of(v),
+            Some(v) => column.intern(v).0,
         };
         coded.codes.push(code);
     }

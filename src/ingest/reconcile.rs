@@ -98,9 +98,10 @@ impl AttrColumn {
         self.codes.push(c);
     }
 
-    /// The code of a value (its index among the distinct values), added if new.
-    pub(super) fn code_of(&mut self, value: &str) -> u32 {
-        self.distinct.intern(value).0
+    /// The distinct values (a value's code is its index, see [`IdMap::intern`]) and each
+    /// node's code, borrowed apart.
+    pub(super) fn parts_mut(&mut self) -> (&mut IdMap, &mut Vec<u32>) {
+        (&mut self.distinct, &mut self.codes)
     }
 
     /// The code of node `i`'s value, [`AttrColumn::NONE`] if it has none.

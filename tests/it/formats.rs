@@ -414,8 +414,8 @@ fn the_next_table_s_first_piece_read_ahead_or_not() {
     }
 }
 
-/// A people table large enough to be read on two cores (IDs on one, attribute values on the
-/// other) gives the people, values, quarantined rows and problems, in the same order, as the
+/// A people table large enough to be read on two cores (IDs on one, the attributes' values
+/// shared out between both) gives the people, values, quarantined rows and problems, in the same order, as the
 /// same table read in pieces small enough to be read on one. (This project's own equivalence
 /// check: no external source.)
 #[test]
