@@ -179,7 +179,7 @@ pub fn from_aggregates(
     }
     ledger
         .warnings
-        .extend(ingest::warnings::id_collisions(&ids));
+        .extend(ingest::warnings::id_collisions(&ids, false));
     if asked_as_of != as_of {
         ledger.warnings.push(ingest::ledger::Warning {
             code: "aggregates_as_of",
@@ -253,7 +253,7 @@ pub fn build(loaded: Loaded, view: &View) -> Result<Dataset> {
     // view's rows and the rows by day.
     let (agg, side) = std::thread::scope(|sc| {
         let side = sc.spawn(|| -> Result<_> {
-            let near = ingest::warnings::id_collisions(&ids);
+            let near = ingest::warnings::id_collisions(&ids, true);
             let keep = match view.is_all() {
                 true => None,
                 false => Some(view::mask(view, &rows, &settings)?),

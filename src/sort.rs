@@ -18,6 +18,25 @@ use rayon::prelude::*;
 /// enough to stay in cache, is then sorted on the remaining digits on its own, the runs spread
 /// over the cores.
 pub fn radix_sort_by_key(keys: &mut Vec<u64>, rows: &mut Vec<u32>) {
+    radix_sort_on(keys, rows, Cores::Two);
+}
+
+/// [`radix_sort_by_key`] on this thread alone, for a sort that runs beside other work on the
+/// other core (a second core's share would only crowd that work).
+pub fn radix_sort_by_key_here(keys: &mut Vec<u64>, rows: &mut Vec<u32>) {
+    radix_sort_on(keys, rows, Cores::This);
+}
+
+/// Where a sort runs.
+#[derive(Clone, Copy, PartialEq)]
+enum Cores {
+    /// On two cores where there are many rows.
+    Two,
+    /// On this thread only.
+    This,
+}
+
+fn radix_sort_on(keys: &mut Vec<u64>, rows: &mut Vec<u32>, cores: Cores) {
     assert_eq!(keys.len(), rows.len(), "one payload per key");
     if keys.len() < 2 {
         return;
@@ -29,7 +48,9 @@ pub fn radix_sort_by_key(keys: &mut Vec<u64>, rows: &mut Vec<u32>) {
     }
     let width = bits.min(highest_digit_width(keys.len()));
     let shift = bits - width;
-    let (mut key_to, mut row_to, starts) = split_by_highest_digit(keys, rows, shift, width);
+    let parallel = cores == Cores::Two && keys.len() >= PARALLEL_ROWS;
+    let (mut key_to, mut row_to, starts) =
+        split_by_highest_digit(keys, rows, (shift, width), parallel);
     std::mem::swap(keys, &mut key_to);
     std::mem::swap(rows, &mut row_to);
     drop((key_to, row_to));
@@ -49,10 +70,18 @@ pub fn radix_sort_by_key(keys: &mut Vec<u64>, rows: &mut Vec<u32>) {
         }
     }
     // Each worker keeps its scratch arrays from run to run.
-    runs.into_par_iter().for_each_init(
-        || (Vec::new(), Vec::new()),
-        |scratch, (k, r)| lsd_sort(k, r, shift, scratch),
-    );
+    match cores {
+        Cores::Two => runs.into_par_iter().for_each_init(
+            || (Vec::new(), Vec::new()),
+            |scratch, (k, r)| lsd_sort(k, r, shift, scratch),
+        ),
+        Cores::This => {
+            let mut scratch = (Vec::new(), Vec::new());
+            for (k, r) in runs {
+                lsd_sort(k, r, shift, &mut scratch);
+            }
+        }
+    }
 }
 
 /// Digits of at most 11 bits: 2048 buckets keep the scatter within cache and TLB reach,
@@ -84,14 +113,13 @@ fn highest_digit_width(n: usize) -> u32 {
 fn split_by_highest_digit(
     keys: &[u64],
     rows: &[u32],
-    shift: u32,
-    width: u32,
+    (shift, width): (u32, u32),
+    parallel: bool,
 ) -> (Vec<u64>, Vec<u32>, Vec<usize>) {
     let n = keys.len();
     let mask = (1u64 << width) - 1;
     let digit = |k: u64| ((k >> shift) & mask) as usize;
     let buckets = 1usize << width;
-    let parallel = n >= PARALLEL_ROWS;
     let mid = if parallel { n / 2 } else { n };
     let count = |part: &[u64]| {
         let mut c = vec![0usize; buckets];
@@ -272,18 +300,21 @@ mod tests {
     use super::*;
     use proptest::prelude::*;
 
-    /// The radix sort of (key, row) pairs against the standard library's stable sort.
+    /// The radix sort of (key, row) pairs, on two cores and on one, against the standard
+    /// library's stable sort.
     fn same_as_stable_sort(v: Vec<(u64, u32)>) -> Result<(), TestCaseError> {
-        let (mut keys, mut rows): (Vec<u64>, Vec<u32>) = v.iter().copied().unzip();
-        radix_sort_by_key(&mut keys, &mut rows);
-        let mut b = v;
+        let mut b = v.clone();
         b.sort_by_key(|p| p.0);
-        let a: Vec<(u64, u32)> = keys.into_iter().zip(rows).collect();
-        prop_assert_eq!(a, b);
+        for sort in [radix_sort_by_key, radix_sort_by_key_here] {
+            let (mut keys, mut rows): (Vec<u64>, Vec<u32>) = v.iter().copied().unzip();
+            sort(&mut keys, &mut rows);
+            let a: Vec<(u64, u32)> = keys.into_iter().zip(rows).collect();
+            prop_assert_eq!(&a, &b);
+        }
         Ok(())
     }
 
-    /// Enough rows for the highest digit's pass on two cores, keys drawn from a few thousand
+    /// Enough rows for the highest digit's pass on two cores (and the same on one), keys drawn from a few thousand
     /// values (many equal keys, whose rows must keep their order) and from a wide range.
     #[test]
     fn matches_a_stable_comparison_sort_on_two_cores() {

@@ -50,7 +50,9 @@ fn fold_hash(id: &str, state: &foldhash::fast::FixedState) -> u64 {
 }
 
 /// IDs that are different people to hubwatch but differ only by case, width or spaces.
-pub fn id_collisions(ids: &IdMap) -> Option<Warning> {
+/// `beside` when it runs beside other work that keeps both cores busy (the merge of pairs):
+/// it then sorts on this thread alone.
+pub fn id_collisions(ids: &IdMap, beside: bool) -> Option<Warning> {
     let state = foldhash::fast::FixedState::with_seed(7);
     // The IDs sorted by folded hash (a stable radix sort, so in ID order where the hashes are
     // equal): IDs with equal hashes sit together, and equal hashes are confirmed on the folded
@@ -61,7 +63,10 @@ pub fn id_collisions(ids: &IdMap) -> Option<Warning> {
         .map(|i| fold_hash(ids.name(i), &state))
         .collect();
     let mut order: Vec<u32> = (0..ids.len() as u32).collect();
-    crate::sort::radix_sort_by_key(&mut hashes, &mut order);
+    match beside {
+        true => crate::sort::radix_sort_by_key_here(&mut hashes, &mut order),
+        false => crate::sort::radix_sort_by_key(&mut hashes, &mut order),
+    }
     // (index of the second member, first member, the others), ordered by when the group
     // would be noticed reading IDs in order.
     let mut found: Vec<(u32, u32, Vec<u32>)> = Vec::new();
@@ -168,7 +173,7 @@ mod tests {
         for s in ["P01", "p01", "Q 7", "Q7", "ＡＢ", "AB", "Z"] {
             ids.intern(s);
         }
-        let w = id_collisions(&ids).unwrap();
+        let w = id_collisions(&ids, false).unwrap();
         assert_eq!(w.count, 3, "{}", w.message);
         assert!(w.message.contains("\"P01\" / \"p01\""), "{}", w.message);
     }
