@@ -26,7 +26,7 @@ const RUN_ROWS: usize = 16_384;
 /// [`RUN_ROWS`] rows, at least two.
 fn run_bounds(n: usize) -> Vec<Range<usize>> {
     if n < PARALLEL_ROWS {
-        return vec![0..n];
+        return std::iter::once(0..n).collect();
     }
     let k = n.div_ceil(RUN_ROWS).max(2);
     (0..k).map(|i| i * n / k..(i + 1) * n / k).collect()
