@@ -40,7 +40,7 @@ pub fn on_pool<M: Send, S: Send>(
 
 /// An array that the two halves of a piece of work write through at places of their own (each
 /// index written by one half only), where the places of a half are not one slice: rows moved
-/// to where their keys sort, flags set for rows in sorted order.
+/// to where their keys sort.
 #[derive(Clone, Copy)]
 pub struct Disjoint<T>(*mut T);
 

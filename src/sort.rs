@@ -314,8 +314,9 @@ mod tests {
         Ok(())
     }
 
-    /// Enough rows for the highest digit's pass on two cores (and the same on one), keys drawn from a few thousand
-    /// values (many equal keys, whose rows must keep their order) and from a wide range.
+    /// Enough rows for the highest digit's pass on two cores (and the same on one), keys drawn
+    /// from a few thousand values (many equal keys, whose rows must keep their order) and from
+    /// a wide range.
     #[test]
     fn matches_a_stable_comparison_sort_on_two_cores() {
         let mut x: u64 = 0x9E37_79B9_7F4A_7C15;

@@ -199,12 +199,10 @@ pub fn read(inputs: &[Input], config: &Config, opts: &LoadOptions) -> Result<Loa
     };
     // Each table's first piece is tokenised by the reader of the table before it, once that
     // has parsed its own last piece (see `Table::read`).
-    let mut planned: Vec<Option<Planned>> = planned.into_iter().map(Some).collect();
+    let mut planned = planned.into_iter().peekable();
     let mut first = None;
-    for i in 0..planned.len() {
-        let (done, rest) = planned.split_at_mut(i + 1);
-        let p = done[i].take().expect("each table is read once");
-        let next = rest.first().and_then(|n| n.as_ref()).map(|n| &n.table);
+    while let Some(p) = planned.next() {
+        let next = planned.peek().map(|n| &n.table);
         first = r.table(p, (first.take(), next), config, opts)?;
     }
     r.progress.finish();

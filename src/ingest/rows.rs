@@ -271,17 +271,16 @@ impl ExposureRows {
             runs.into_iter().map(run).collect()
         };
         // The IDs no person has, every run's in row order, numbered; their nodes put in place.
-        let mut starts = Vec::with_capacity(runs.len());
-        let mut open = Vec::new();
+        let (mut starts, mut open, mut start) = (Vec::with_capacity(runs.len()), Vec::new(), 0);
         for r in runs.iter_mut() {
-            let start = starts.last().map_or(0, |&(s, len)| s + len);
-            starts.push((start, r.nodes.len()));
+            starts.push(start);
             open.extend(r.open.drain(..).map(|o| o.moved(start)));
+            start += r.nodes.len();
         }
         let numbered = new_ids.number(ids.len(), &open, open.len() >= PARALLEL_ROWS);
         for (o, v) in open.iter().zip(numbered) {
-            let k = starts.partition_point(|&(s, _)| s <= o.at) - 1;
-            runs[k].nodes[o.at - starts[k].0] = v;
+            let k = starts.partition_point(|&s| s <= o.at) - 1;
+            runs[k].nodes[o.at - starts[k]] = v;
         }
         drop(open);
         // The runs joined in row order: the pair keys on one core, the fields on the other.

@@ -71,13 +71,9 @@ pub fn id_collisions(ids: &IdMap, beside: bool) -> Option<Warning> {
     // would be noticed reading IDs in order.
     let mut found: Vec<(u32, u32, Vec<u32>)> = Vec::new();
     let mut start = 0;
-    while start < hashes.len() {
-        let mut end = start + 1;
-        while end < hashes.len() && hashes[end] == hashes[start] {
-            end += 1;
-        }
-        let run = &order[start..end];
-        start = end;
+    for same in hashes.chunk_by(|a, b| a == b) {
+        let run = &order[start..start + same.len()];
+        start += same.len();
         if run.len() < 2 {
             continue;
         }
