@@ -6,7 +6,6 @@
 //! networks. The open-data check against networkx is `tests/crosscheck/chains_check.py`.
 
 use std::collections::HashMap;
-use std::path::Path;
 
 use hubwatch::analysis::chains::{self, ChainRequest, Listed, People, Windows};
 use hubwatch::analysis::priority::PriorityConfig;
@@ -16,13 +15,7 @@ use hubwatch::ingest::reconcile::NO_DATE;
 use hubwatch::metrics::chains::{forward, forward_many, Rules, Seed};
 use proptest::prelude::*;
 
-use crate::common::{hubwatch, load};
-
-fn write(dir: &Path, name: &str, text: &str) -> std::path::PathBuf {
-    let p = dir.join(name);
-    std::fs::write(&p, text).unwrap();
-    p
-}
+use crate::common::{hubwatch, load, write};
 
 fn windows(req: ChainRequest) -> Windows {
     Windows::settle(&PriorityConfig::load(None).unwrap(), &req).unwrap()
@@ -477,7 +470,7 @@ fn the_command_prints_json_and_writes_a_private_formula_safe_file() {
     let e = write(
         dir.path(),
         "exposures.csv",
-        &format!("{EXPOSURES}B,=SUM(1),2026-03-05\n"),
+        format!("{EXPOSURES}B,=SUM(1),2026-03-05\n"),
     );
     let out = dir.path().join("fwd.csv");
     let (code, stdout, stderr) = hubwatch(&[

@@ -6,7 +6,7 @@ use std::fs;
 use std::io::Write;
 use std::path::{Path, PathBuf};
 
-use common::{edge_set, load};
+use common::{edge_set, load, quarantined, write};
 use polars::prelude::*;
 
 /// The rows of the test export: source, target, date, setting.
@@ -61,33 +61,27 @@ fn frame() -> DataFrame {
     .unwrap()
 }
 
-fn write(dir: &Path, name: &str, bytes: &[u8]) -> PathBuf {
-    let p = dir.join(name);
-    fs::write(&p, bytes).unwrap();
-    p
-}
-
 fn variants(dir: &Path) -> Vec<PathBuf> {
     let mut v = vec![
-        write(dir, "comma.csv", &delimited(",", "\n", false, false, false)),
+        write(dir, "comma.csv", delimited(",", "\n", false, false, false)),
         write(
             dir,
             "semicolon.csv",
-            &delimited(";", "\n", false, false, false),
+            delimited(";", "\n", false, false, false),
         ),
-        write(dir, "tab.tsv", &delimited("\t", "\n", false, false, false)),
-        write(dir, "pipe.txt", &delimited("|", "\n", false, false, false)),
+        write(dir, "tab.tsv", delimited("\t", "\n", false, false, false)),
+        write(dir, "pipe.txt", delimited("|", "\n", false, false, false)),
         write(
             dir,
             "bom_crlf.csv",
-            &delimited(",", "\r\n", true, false, false),
+            delimited(",", "\r\n", true, false, false),
         ),
         write(
             dir,
             "comments.csv",
-            &delimited(",", "\n", false, true, false),
+            delimited(",", "\n", false, true, false),
         ),
-        write(dir, "quoted.csv", &delimited(",", "\r\n", true, true, true)),
+        write(dir, "quoted.csv", delimited(",", "\r\n", true, true, true)),
     ];
     // Whitespace runs: the setting has a space inside, so quote-free layout needs a token
     // without spaces; use a separate file where settings are single words.
@@ -103,7 +97,7 @@ fn variants(dir: &Path) -> Vec<PathBuf> {
     let mut gz = flate2::write::GzEncoder::new(Vec::new(), flate2::Compression::default());
     gz.write_all(&delimited(",", "\n", false, false, false))
         .unwrap();
-    v.push(write(dir, "comma.csv.gz", &gz.finish().unwrap()));
+    v.push(write(dir, "comma.csv.gz", gz.finish().unwrap()));
     // Parquet and NDJSON through polars.
     let pq = dir.join("table.parquet");
     ParquetWriter::new(fs::File::create(&pq).unwrap())
@@ -374,12 +368,7 @@ fn plain_pieces_then_the_line_scan_read_as_one_scan() {
     }
     // By hand: the header is line 1, row i is on line i + 2, and row 300 takes two lines, so
     // the self-exposure of row 301 is on line 304 and the line with a field too many on 453.
-    let aside: Vec<(u64, &str)> = whole
-        .ledger
-        .quarantined
-        .iter()
-        .map(|q| (q.line, q.reason.code()))
-        .collect();
+    let aside = quarantined(&whole);
     assert!(aside.contains(&(304, "self_exposure")), "{aside:?}");
     assert!(aside.iter().any(|&(l, _)| l == 453), "{aside:?}");
     assert_eq!(aside.len(), 2, "{aside:?}");

@@ -5,21 +5,14 @@
 //! contact logs (utah-middle-school-contact-logs/SOURCE.md) for missing-value codes.
 
 use std::io::Write;
-use std::path::{Path, PathBuf};
 
 use hubwatch::config::Config;
 use hubwatch::ingest::ledger::Role;
 use hubwatch::ingest::{dates, mapping, Input, LoadOptions};
 
-use crate::common::{self, assert_balanced, hubwatch, load, load_with};
+use crate::common::{self, assert_balanced, hubwatch, load, load_with, write};
 
 const TEXT: &str = "source_id,target_id,setting\nA,B,crèche\nB,C,café\nC,D,crèche\n";
-
-fn write(dir: &Path, name: &str, bytes: &[u8]) -> PathBuf {
-    let p = dir.join(name);
-    std::fs::write(&p, bytes).unwrap();
-    p
-}
 
 /// windows-1252: every character of TEXT is one byte; é = 0xE9, è = 0xE8 (WHATWG index).
 fn cp1252(s: &str) -> Vec<u8> {
@@ -80,7 +73,7 @@ fn spreadsheet_encodings_are_read_and_named() {
         assert!(enc.starts_with(expect), "{name}: {enc}");
     }
     // ISO-8859-1 when named: the same bytes, read as Latin-1.
-    let p = write(dir.path(), "latin1.csv", &cp1252(TEXT));
+    let p = write(dir.path(), "latin1.csv", cp1252(TEXT));
     let mut c = Config::default();
     c.input.encoding = "iso-8859-1".into();
     let d = load_with(&[&p], &[], &c).unwrap();
@@ -636,7 +629,7 @@ fn broken_files_get_a_clear_error_with_status_4() {
     let binary = write(
         dir.path(),
         "bin.csv",
-        &[&[0u8, 1, 2, 0, 255, 254][..], &noise].concat(),
+        [&[0u8, 1, 2, 0, 255, 254][..], &noise].concat(),
     );
     let empty = write(dir.path(), "empty.csv", b"");
     for (p, expect) in [

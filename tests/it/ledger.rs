@@ -139,12 +139,7 @@ fn every_row_lands_in_one_bucket_with_its_reason() {
     let xc = d.ledger.exposures;
     assert_eq!((xc.read, xc.used, xc.merged, xc.quarantined), (10, 4, 2, 4));
 
-    let reasons: Vec<(u64, &str)> = d
-        .ledger
-        .quarantined
-        .iter()
-        .map(|q| (q.line, q.reason.code()))
-        .collect();
+    let reasons = crate::common::quarantined(&d);
     assert!(reasons.contains(&(5, "missing_id")), "{reasons:?}"); // people line 5: blank person_id
     assert!(reasons.contains(&(6, "self_exposure")), "{reasons:?}");
     assert!(reasons.contains(&(7, "missing_id")), "{reasons:?}");

@@ -7,6 +7,22 @@ use hubwatch::config::Config;
 use hubwatch::dataset::{self, Dataset};
 use hubwatch::ingest::{dates, mapping, table::ReadOptions, Input, LoadOptions};
 
+/// Write `contents` to the file `name` in `dir`; its path.
+pub fn write(dir: &Path, name: &str, contents: impl AsRef<[u8]>) -> PathBuf {
+    let p = dir.join(name);
+    std::fs::write(&p, contents).unwrap();
+    p
+}
+
+/// The quarantined rows of a load: (line, reason code), in the ledger's order.
+pub fn quarantined(d: &Dataset) -> Vec<(u64, &'static str)> {
+    d.ledger
+        .quarantined
+        .iter()
+        .map(|q| (q.line, q.reason.code()))
+        .collect()
+}
+
 /// The shared reference folder beside the checkout, if present.
 pub fn shared() -> Option<PathBuf> {
     let p = Path::new(env!("CARGO_MANIFEST_DIR")).join("../shared");
